@@ -1,0 +1,56 @@
+//! Command-line definitions (clap derive). Each subcommand lives in its own file, turns its flags into the
+//! library's config structs, runs, prints, and returns the exit code.
+
+use clap::{Parser, Subcommand};
+
+pub mod compare;
+pub mod convert;
+pub mod inspect;
+pub mod locate;
+pub mod simulate;
+pub mod trace;
+
+/// Locate, rank and explain faults in cryogenic RF coax lines from network-analyzer sweeps.
+#[derive(Debug, Parser)]
+#[command(name = "coldtrace", version, about, long_about = None)]
+pub struct Cli {
+    #[command(subcommand)]
+    pub command: Command,
+}
+
+#[derive(Debug, Subcommand)]
+pub enum Command {
+    /// Describe Touchstone files: version, ports, points, grid, parameter, format, reference, warnings.
+    Inspect(inspect::Args),
+    /// Rewrite a Touchstone file as S-parameters in another version, format or unit.
+    Convert(convert::Args),
+    /// Time-domain trace of a reflection sweep: band-pass, low-pass impulse or step, impedance profile.
+    Trace(trace::Args),
+    /// List the discontinuities one sweep shows, mapped onto the line as built.
+    Locate(locate::Args),
+    /// Make a realistic sweep of a line, warm or cold, with or without faults.
+    Simulate(simulate::Args),
+    /// Compare a baseline and a current sweep of one line: where it changed, how badly, and why.
+    Compare(compare::Args),
+}
+
+/// Run one parsed command line; returns the process exit code.
+pub fn run(cli: Cli) -> coldtrace::Result<u8> {
+    match cli.command {
+        Command::Inspect(a) => inspect::run(a),
+        Command::Convert(a) => convert::run(a),
+        Command::Trace(a) => trace::run(a),
+        Command::Locate(a) => locate::run(a),
+        Command::Simulate(a) => simulate::run(a),
+        Command::Compare(a) => compare::run(a),
+    }
+}
+
+/// Write `text` to standard output, treating a closed pipe as the end of output.
+pub fn print(text: &str) -> coldtrace::Result<()> {
+    use std::io::Write;
+    let mut out = std::io::stdout().lock();
+    out.write_all(text.as_bytes())
+        .and_then(|_| out.flush())
+        .map_err(|e| coldtrace::Error::io("<stdout>", e))
+}

@@ -1,0 +1,10 @@
+//! `coldtrace trace` (placeholder until its issue lands).
+
+#[derive(Debug, clap::Args)]
+pub struct Args {}
+
+pub fn run(_args: Args) -> coldtrace::Result<u8> {
+    Err(coldtrace::Error::Usage(
+        "'trace' is not available in this build yet".into(),
+    ))
+}

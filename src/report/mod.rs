@@ -1,0 +1,8 @@
+//! Placeholder: filled in by its issue.
+
+/// Errors of this layer.
+#[derive(Debug, thiserror::Error)]
+pub enum ReportError {
+    #[error("{0}")]
+    Invalid(String),
+}

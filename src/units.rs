@@ -1,0 +1,192 @@
+//! Quantities written by people on the command line and in line files: `0.5GHz`, `1mm`, `0m..3m`, `30fF`.
+//!
+//! Every parser returns SI base units (Hz, m, s, ohm, F, H). A bare number takes the family's base unit.
+//! SI prefixes: f p n u (or µ) m c k M G T; unit symbols are case-insensitive except that `M` (mega) and
+//! `m` (milli) are told apart by case when a prefix is followed by a unit symbol.
+
+use thiserror::Error;
+
+/// A quantity that could not be understood.
+#[derive(Debug, Error, PartialEq)]
+#[error("cannot read {what} from '{text}': {reason}; write it like {example}")]
+pub struct UnitError {
+    pub what: &'static str,
+    pub text: String,
+    pub reason: String,
+    pub example: &'static str,
+}
+
+/// A family of units sharing one SI base unit.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Family {
+    Frequency,
+    Length,
+    Time,
+    Resistance,
+    Capacitance,
+    Inductance,
+}
+
+impl Family {
+    fn symbols(self) -> &'static [&'static str] {
+        match self {
+            Family::Frequency => &["hz"],
+            Family::Length => &["m"],
+            Family::Time => &["s"],
+            Family::Resistance => &["ohm", "ohms", "Ω"],
+            Family::Capacitance => &["f"],
+            Family::Inductance => &["h"],
+        }
+    }
+
+    fn what(self) -> &'static str {
+        match self {
+            Family::Frequency => "a frequency",
+            Family::Length => "a length",
+            Family::Time => "a time",
+            Family::Resistance => "a resistance",
+            Family::Capacitance => "a capacitance",
+            Family::Inductance => "an inductance",
+        }
+    }
+
+    fn example(self) -> &'static str {
+        match self {
+            Family::Frequency => "'0.5GHz', '500MHz' or '5e8' (Hz)",
+            Family::Length => "'1mm', '0.3m', '30cm' or '0.3' (m)",
+            Family::Time => "'2ns', '150ps' or '2e-9' (s)",
+            Family::Resistance => "'2ohm', '50' or '1.5kohm'",
+            Family::Capacitance => "'30fF', '0.2pF' or '3e-14' (F)",
+            Family::Inductance => "'0.5nH', '200pH' or '5e-10' (H)",
+        }
+    }
+}
+
+fn prefix_factor(p: &str) -> Option<f64> {
+    Some(match p {
+        "" => 1.0,
+        "f" => 1e-15,
+        "p" => 1e-12,
+        "n" => 1e-9,
+        "u" | "µ" | "μ" => 1e-6,
+        "m" => 1e-3,
+        "c" => 1e-2,
+        "k" | "K" => 1e3,
+        "M" => 1e6,
+        "G" | "g" => 1e9,
+        "T" | "t" => 1e12,
+        _ => return None,
+    })
+}
+
+/// Parse one quantity of `family` into SI base units.
+pub fn parse(text: &str, family: Family) -> Result<f64, UnitError> {
+    let err = |reason: String| UnitError {
+        what: family.what(),
+        text: text.to_string(),
+        reason,
+        example: family.example(),
+    };
+    let t = text.trim();
+    let split = t
+        .char_indices()
+        .find(|&(i, c)| {
+            !(c.is_ascii_digit()
+                || c == '.'
+                || c == '+'
+                || c == '-'
+                || ((c == 'e' || c == 'E')
+                    && t[i + 1..]
+                        .chars()
+                        .next()
+                        .is_some_and(|d| d.is_ascii_digit() || d == '-' || d == '+')))
+        })
+        .map(|(i, _)| i)
+        .unwrap_or(t.len());
+    let (num, suffix) = t.split_at(split);
+    let value: f64 = num
+        .parse()
+        .map_err(|_| err(format!("'{num}' is not a number")))?;
+    if !value.is_finite() {
+        return Err(err("the number is not finite".into()));
+    }
+    let suffix = suffix.trim();
+    if suffix.is_empty() {
+        return Ok(value);
+    }
+    let lower = suffix.to_lowercase();
+    for sym in family.symbols() {
+        if lower.ends_with(sym) {
+            let prefix = &suffix[..suffix.len() - sym.len()];
+            // Frequencies are commonly written GHZ/MHZ/KHZ in any case: accept those prefixes case-blind.
+            let prefix = if family == Family::Frequency {
+                match prefix.to_lowercase().as_str() {
+                    "m" => "M",
+                    "g" => "G",
+                    "k" => "k",
+                    "t" => "T",
+                    "" => "",
+                    _ => prefix,
+                }
+            } else {
+                prefix
+            };
+            return prefix_factor(prefix)
+                .map(|f| value * f)
+                .ok_or_else(|| err(format!("unknown prefix '{prefix}'")));
+        }
+    }
+    Err(err(format!("unknown unit '{suffix}'")))
+}
+
+/// Parse a range written `a..b` (both ends in `family`), returning `(a, b)` with `a < b`.
+pub fn parse_range(text: &str, family: Family) -> Result<(f64, f64), UnitError> {
+    let (a, b) = text.split_once("..").ok_or_else(|| UnitError {
+        what: "a range",
+        text: text.to_string(),
+        reason: "no '..' between the two ends".into(),
+        example: "'0m..3m' or '0.9m..1.1m'",
+    })?;
+    let (a, b) = (parse(a, family)?, parse(b, family)?);
+    if a >= b {
+        return Err(UnitError {
+            what: "a range",
+            text: text.to_string(),
+            reason: "the first end must be below the second".into(),
+            example: "'0m..3m' or '0.9m..1.1m'",
+        });
+    }
+    Ok((a, b))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn frequencies() {
+        assert_eq!(parse("0.5GHz", Family::Frequency).unwrap(), 0.5e9);
+        assert_eq!(parse("500 MHZ", Family::Frequency).unwrap(), 500e6);
+        assert_eq!(parse("10khz", Family::Frequency).unwrap(), 1e4);
+        assert_eq!(parse("5e8", Family::Frequency).unwrap(), 5e8);
+        assert!(parse("5 furlongs", Family::Frequency).is_err());
+    }
+
+    #[test]
+    fn lengths_and_parts() {
+        assert!((parse("1mm", Family::Length).unwrap() - 1e-3).abs() < 1e-15);
+        assert!((parse("30cm", Family::Length).unwrap() - 0.3).abs() < 1e-15);
+        assert!((parse("30fF", Family::Capacitance).unwrap() - 30e-15).abs() < 1e-27);
+        assert_eq!(parse("2ohm", Family::Resistance).unwrap(), 2.0);
+        assert_eq!(parse("1.5kohm", Family::Resistance).unwrap(), 1500.0);
+        assert!((parse("0.5nH", Family::Inductance).unwrap() - 0.5e-9).abs() < 1e-21);
+        assert!((parse("1.2e-3m", Family::Length).unwrap() - 1.2e-3).abs() < 1e-15);
+    }
+
+    #[test]
+    fn ranges() {
+        assert_eq!(parse_range("0m..3m", Family::Length).unwrap(), (0.0, 3.0));
+        assert!(parse_range("3m..1m", Family::Length).is_err());
+        assert!(parse_range("3m", Family::Length).is_err());
+    }
+}
