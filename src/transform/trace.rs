@@ -1,0 +1,245 @@
+//! Running a [`TracePlan`] on a sweep: the [`Trace`] result and the reusable [`TraceEngine`].
+
+use super::bandpass::BandPassSpectrum;
+use super::czt::FftCache;
+use super::lowpass::LowPassSpectrum;
+use super::plan::{Mode, PlanCheck, TracePlan};
+use super::window::WindowInfo;
+use super::{DistanceMap, TransformError};
+use crate::Warning;
+use num_complex::Complex64;
+use serde::Serialize;
+
+/// Largest |rho| used in the impedance profile; beyond it Z0 (1 + rho)/(1 - rho) is clamped (an open reads
+/// about 2e6 Z0 instead of infinity).
+pub const IMPEDANCE_RHO_LIMIT: f64 = 0.999_999;
+
+/// A time-domain trace. Its JSON (keys as named here) is a contract.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Trace {
+    pub mode: Mode,
+    /// One-way distance of each point, m.
+    pub axis_m: Vec<f64>,
+    /// Round-trip time of each point, s.
+    pub time_s: Vec<f64>,
+    /// dB (band-pass |h|), rho (impulse, step) or ohm (impedance).
+    pub values: Vec<f64>,
+    pub unit: &'static str,
+    pub resolution_m: f64,
+    pub alias_free_range_m: f64,
+    pub window: WindowInfo,
+    pub distance_map: String,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub velocity_factor: Option<f64>,
+    pub reference_ohm: f64,
+    pub warnings: Vec<Warning>,
+    /// Linear value of each point: |h| for band-pass, rho (signed) for impulse and step, the step's rho for
+    /// impedance.
+    #[serde(skip)]
+    pub linear: Vec<f64>,
+    /// Complex band-pass response h(t) (empty for low-pass modes).
+    #[serde(skip)]
+    pub complex: Vec<Complex64>,
+}
+
+/// Prepared spectrum for a plan (window, DC, resampling applied); evaluates at any time.
+#[derive(Debug, Clone)]
+pub enum Spectrum {
+    BandPass(BandPassSpectrum),
+    LowPass(LowPassSpectrum),
+}
+
+impl Spectrum {
+    /// Prepare `values` on `freqs` for `plan` (checked by `check`).
+    pub fn new(
+        values: &[Complex64],
+        plan: &TracePlan,
+        check: &PlanCheck,
+    ) -> Result<Self, TransformError> {
+        Ok(match check.harmonics {
+            None => Spectrum::BandPass(BandPassSpectrum::new(&check.grid, values, &plan.window)),
+            Some(k) => Spectrum::LowPass(LowPassSpectrum::new(
+                &check.grid,
+                values,
+                k,
+                check.resampled,
+                plan.dc,
+                &plan.window,
+            )?),
+        })
+    }
+
+    /// The linear value of `mode` at round-trip time `t` by direct summation.
+    pub fn eval(&self, mode: Mode, t: f64) -> f64 {
+        match (self, mode) {
+            (Spectrum::BandPass(b), _) => b.eval(t).norm(),
+            (Spectrum::LowPass(l), Mode::LowPassImpulse) => l.eval_impulse(t),
+            (Spectrum::LowPass(l), _) => l.eval_step(t),
+        }
+    }
+}
+
+/// Holds FFT and chirp-z plans; reuse one engine for every sweep on the same grid.
+#[derive(Debug, Default)]
+pub struct TraceEngine {
+    cache: FftCache,
+}
+
+impl TraceEngine {
+    pub fn new() -> Self {
+        Self::default()
+    }
+
+    /// The FFT cache (shared with gating).
+    pub fn cache(&mut self) -> &mut FftCache {
+        &mut self.cache
+    }
+
+    /// Run `plan` on the sweep (`freqs` in Hz, `values` = S11), with distances from `map`.
+    pub fn trace(
+        &mut self,
+        freqs: &[f64],
+        values: &[Complex64],
+        plan: &TracePlan,
+        map: &dyn DistanceMap,
+    ) -> Result<Trace, TransformError> {
+        if freqs.len() != values.len() {
+            return Err(TransformError::LengthMismatch {
+                freqs: freqs.len(),
+                values: values.len(),
+            });
+        }
+        if let Some(index) = values.iter().position(|v| !(v.re.is_finite() && v.im.is_finite())) {
+            return Err(TransformError::NonFinite { index });
+        }
+        let check = plan.check(freqs, map)?;
+        let mut warnings = check.warnings.clone();
+        let spectrum = Spectrum::new(values, plan, &check)?;
+        let axis = &check.axis;
+        let time_s: Vec<f64> = (0..axis.points)
+            .map(|m| axis.start_s + m as f64 * axis.step_s)
+            .collect();
+        let axis_m: Vec<f64> = time_s.iter().map(|&t| map.distance_m(t)).collect();
+        let (linear, complex) = match &spectrum {
+            Spectrum::BandPass(b) => {
+                let mut h = b.on_axis(axis, &mut self.cache);
+                h.truncate(axis.points);
+                (h.iter().map(|z| z.norm()).collect(), h)
+            }
+            Spectrum::LowPass(l) => {
+                let v = match plan.mode {
+                    Mode::LowPassImpulse => l.impulse_on_axis(axis, &mut self.cache),
+                    _ => l.step_on_axis(axis, &mut self.cache),
+                };
+                (v, Vec::new())
+            }
+        };
+        let values_out = match plan.mode {
+            Mode::BandPass => linear.iter().map(|&a| to_db(a)).collect(),
+            Mode::LowPassImpulse | Mode::LowPassStep => linear.clone(),
+            Mode::Impedance => {
+                let mut clamped = 0usize;
+                let z: Vec<f64> = linear
+                    .iter()
+                    .map(|&r| {
+                        if r.abs() > IMPEDANCE_RHO_LIMIT {
+                            clamped += 1;
+                        }
+                        impedance_from_rho(r, plan.reference_ohm)
+                    })
+                    .collect();
+                if clamped > 0 {
+                    warnings.push(Warning::new(
+                        "impedance-clamped",
+                        format!(
+                            "{clamped} point(s) have |rho| near 1 (an open or short); their impedance is \
+                             clamped at |rho| = {IMPEDANCE_RHO_LIMIT}"
+                        ),
+                        "read those points as open (high) or short (low), or view --mode low-pass-step",
+                    ));
+                }
+                z
+            }
+        };
+        Ok(Trace {
+            mode: plan.mode,
+            axis_m,
+            time_s,
+            values: values_out,
+            unit: plan.mode.unit(),
+            resolution_m: check.resolution_m,
+            alias_free_range_m: check.alias_free_range_m,
+            window: plan.window.info(),
+            distance_map: map.describe(),
+            velocity_factor: map.velocity_factor(),
+            reference_ohm: plan.reference_ohm,
+            warnings,
+            linear,
+            complex,
+        })
+    }
+}
+
+/// Run `plan` once with a fresh engine. Prefer a [`TraceEngine`] for several sweeps on one grid.
+pub fn trace(
+    freqs: &[f64],
+    values: &[Complex64],
+    plan: &TracePlan,
+    map: &dyn DistanceMap,
+) -> Result<Trace, TransformError> {
+    TraceEngine::new().trace(freqs, values, plan, map)
+}
+
+/// Floor for dB conversion of a zero magnitude.
+pub const DB_FLOOR: f64 = -400.0;
+
+/// 20 log10 |a|, floored at [`DB_FLOOR`].
+pub fn to_db(a: f64) -> f64 {
+    (20.0 * a.abs().log10()).max(DB_FLOOR)
+}
+
+/// Z0 (1 + rho) / (1 - rho), with |rho| clamped at [`IMPEDANCE_RHO_LIMIT`].
+pub fn impedance_from_rho(rho: f64, z0: f64) -> f64 {
+    let r = rho.clamp(-IMPEDANCE_RHO_LIMIT, IMPEDANCE_RHO_LIMIT);
+    z0 * (1.0 + r) / (1.0 - r)
+}
+
+/// What a feature of the low-pass step means.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum StepFeature {
+    /// The step rises and stays up: the line beyond is of higher impedance (or a series resistance; a series
+    /// capacitance, e.g. a gap, rises towards +1 with tau = 2 Z0 C).
+    HigherImpedance,
+    /// The step falls and stays down: lower impedance beyond (or a shunt resistance).
+    LowerImpedance,
+    /// A bump up that returns: series inductance (or a short high-impedance section), inductive.
+    Inductive,
+    /// A dip that returns: shunt capacitance (or a short low-impedance section), capacitive.
+    Capacitive,
+}
+
+/// Classify a step feature from the step level before it, its largest excursion from that level (signed,
+/// rho) and the level after it. A lasting change larger than `threshold` (rho) is a step in impedance;
+/// otherwise the sign of the excursion tells inductive (up) from capacitive (down). Signatures from the
+/// reflection of series and shunt elements between matched lines, Gamma = Z/(2 Z0 + Z) and
+/// Gamma = -Y Z0/(2 + Y Z0) (circuit theory; e.g. Pozar, Microwave Engineering, 4th ed., ch. 4). `None`
+/// when nothing exceeds the threshold.
+pub fn classify_step(before: f64, excursion: f64, after: f64, threshold: f64) -> Option<StepFeature> {
+    let lasting = after - before;
+    if lasting.abs() > threshold {
+        Some(if lasting > 0.0 {
+            StepFeature::HigherImpedance
+        } else {
+            StepFeature::LowerImpedance
+        })
+    } else if excursion.abs() > threshold {
+        Some(if excursion > 0.0 {
+            StepFeature::Inductive
+        } else {
+            StepFeature::Capacitive
+        })
+    } else {
+        None
+    }
+}
