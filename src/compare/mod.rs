@@ -1,20 +1,32 @@
 //! The comparator: align a baseline and a current sweep of one line, detect what changed, rank it by what it
-//! costs, and explain it with a lumped model.
+//! costs, and explain it with a lumped model; and, for a single sweep, list and explain every event.
 //!
-//! Submodules: [`align`] (per-segment delay scale and loss change from landmarks), [`detect`] (noise floor,
-//! sidelobe masks, ghosts), [`lumped`] (models of one discontinuity and their fit), [`severity`] (mismatch
-//! loss, power drop, the severity scale).
+//! Submodules: [`chain`] (the line as the comparator sees it), [`analysis`] (one sweep: trace, noise, events,
+//! local reflections), [`align`] (per-segment delay scale and loss change from landmarks), [`detect`] (noise
+//! floor, sidelobe masks, ghosts), [`lumped`] (models of one discontinuity and their fit), [`severity`]
+//! (mismatch loss, power drop, the severity scale), [`run`] (the procedure), [`report`] (the results).
 
 pub mod align;
+pub mod analysis;
+pub mod chain;
 pub mod detect;
 pub mod lumped;
+pub mod report;
+pub mod run;
 pub mod severity;
 
+pub use chain::{ChainView, LossModel, Segment, SegmentKind};
+pub use report::{CompareReport, FaultKind, Finding, LocateReport};
+pub use run::{compare, locate, AnalysisConfig, Sweep};
 pub use severity::Severity;
 
 /// Errors of the comparator.
 #[derive(Debug, thiserror::Error)]
 pub enum CompareError {
+    /// A request that cannot be honoured, with the fix in the message.
     #[error("{0}")]
     Invalid(String),
+    /// The time-domain stage refused a sweep.
+    #[error(transparent)]
+    Transform(#[from] crate::transform::TransformError),
 }

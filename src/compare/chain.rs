@@ -1,0 +1,313 @@
+//! What the comparator needs to know of the line, as plain data: the segments in order with their as-built
+//! extent, their round-trip delay and loss in each of the two sweeps' states, and which of them reflection
+//! cannot see past.
+//!
+//! A [`ChainView`] is built either from a line file's model (`from_line`, see the `line` module) or, for a
+//! line of unknown construction, as one uniform segment with a velocity factor ([`ChainView::uniform`]).
+//! Conventions: positions are as-built (warm) metres from the reference plane; delays are round-trip
+//! seconds; losses are round-trip dB at frequency f modelled as `a_sqrt sqrt(f / 1 GHz) + a_lin f / 1 GHz +
+//! a_flat` (conductor, dielectric and flat attenuator parts).
+
+use crate::transform::{DistanceMap, C0_M_PER_S};
+use serde::Serialize;
+
+/// The kind of a segment, as the comparator treats it.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum SegmentKind {
+    Cable,
+    Connector,
+    Attenuator,
+    /// A part reflection cannot see through (isolator, amplifier) or the far end.
+    Device,
+    /// A stretch of a line of unknown construction.
+    Uniform,
+}
+
+/// Round-trip loss model of a segment, dB: `a_sqrt sqrt(f/1GHz) + a_lin (f/1GHz) + a_flat`.
+#[derive(Debug, Clone, Copy, PartialEq, Default, Serialize)]
+pub struct LossModel {
+    pub a_sqrt: f64,
+    pub a_lin: f64,
+    pub a_flat: f64,
+}
+
+impl LossModel {
+    /// Round-trip loss at `f` Hz, dB.
+    pub fn db(&self, f: f64) -> f64 {
+        let g = f / 1e9;
+        self.a_sqrt * g.max(0.0).sqrt() + self.a_lin * g + self.a_flat
+    }
+
+    /// Fit the model through round-trip losses `l1`, `l2` (dB) at `f1`, `f2` and a flat part `flat`.
+    pub fn through(f1: f64, l1: f64, f2: f64, l2: f64, flat: f64) -> Self {
+        let (g1, g2) = (f1 / 1e9, f2 / 1e9);
+        let (y1, y2) = (l1 - flat, l2 - flat);
+        // Solve [sqrt(g1) g1; sqrt(g2) g2] [a b]^T = [y1 y2]^T.
+        let det = g1.sqrt() * g2 - g2.sqrt() * g1;
+        if det.abs() < 1e-12 {
+            return LossModel {
+                a_sqrt: y1 / g1.sqrt().max(1e-12),
+                a_lin: 0.0,
+                a_flat: flat,
+            };
+        }
+        LossModel {
+            a_sqrt: (y1 * g2 - y2 * g1) / det,
+            a_lin: (g1.sqrt() * y2 - g2.sqrt() * y1) / det,
+            a_flat: flat,
+        }
+    }
+}
+
+/// One segment of the chain.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Segment {
+    pub name: String,
+    pub kind: SegmentKind,
+    /// As-built start and end, m from the reference plane.
+    pub start_m: f64,
+    pub end_m: f64,
+    /// Round-trip delay through the segment in the baseline and the current sweep's state, s.
+    pub delay_s: [f64; 2],
+    /// Round-trip loss in the baseline and current state.
+    pub loss: [LossModel; 2],
+    /// Centre-conductor radius at the segment's joints, m (for the axial-gap estimate).
+    pub pin_radius_m: f64,
+    /// Relative permittivity of the dielectric round the pin.
+    pub eps_r: f64,
+    /// A short description of where the segment is (stage names), for sentences.
+    pub place: String,
+}
+
+/// The chain, as the comparator sees it.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ChainView {
+    pub name: String,
+    pub impedance_ohm: f64,
+    pub segments: Vec<Segment>,
+    /// True when built from a line file; false for a uniform line of unknown construction.
+    pub as_built: bool,
+}
+
+/// Which sweep a quantity belongs to.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Which {
+    Baseline = 0,
+    Current = 1,
+}
+
+/// Pin radius assumed for a line of unknown construction: the 0.086-in class, 0.2555 mm (from memory).
+pub const DEFAULT_PIN_RADIUS_M: f64 = 0.2555e-3;
+/// Relative permittivity assumed round the pin of a line of unknown construction: solid PTFE, 2.03 (from
+/// memory; 2.02-2.10 at room temperature).
+pub const DEFAULT_EPS_R: f64 = 2.03;
+
+impl ChainView {
+    /// A line of unknown construction: one uniform segment of `length_m` with velocity factor `vf`, lossless.
+    pub fn uniform(name: &str, vf: f64, length_m: f64, impedance_ohm: f64) -> Self {
+        let delay = 2.0 * length_m / (C0_M_PER_S * vf);
+        ChainView {
+            name: name.to_string(),
+            impedance_ohm,
+            segments: vec![Segment {
+                name: "line".into(),
+                kind: SegmentKind::Uniform,
+                start_m: 0.0,
+                end_m: length_m,
+                delay_s: [delay, delay],
+                loss: [LossModel::default(); 2],
+                pin_radius_m: DEFAULT_PIN_RADIUS_M,
+                eps_r: DEFAULT_EPS_R,
+                place: String::new(),
+            }],
+            as_built: false,
+        }
+    }
+
+    /// As-built length up to the far end, m.
+    pub fn length_m(&self) -> f64 {
+        self.segments.last().map_or(0.0, |s| s.end_m)
+    }
+
+    /// Index of the first segment reflection cannot see past, if any.
+    pub fn first_blocking(&self) -> Option<usize> {
+        self.segments
+            .iter()
+            .position(|s| s.kind == SegmentKind::Device)
+    }
+
+    /// As-built distance where reflection stops seeing: the start of the first device, or the far end.
+    pub fn visible_end_m(&self) -> f64 {
+        self.first_blocking()
+            .map_or(self.length_m(), |i| self.segments[i].start_m)
+    }
+
+    /// The segment containing `x` (the last one for positions beyond the end) and the offset inside it.
+    pub fn segment_at(&self, x: f64) -> Option<(usize, f64)> {
+        let i = self
+            .segments
+            .iter()
+            .position(|s| x < s.end_m)
+            .unwrap_or(self.segments.len().checked_sub(1)?);
+        Some((i, x - self.segments[i].start_m))
+    }
+
+    /// Fraction of each segment lying before `x`.
+    pub fn cover(&self, x: f64) -> Vec<f64> {
+        self.segments
+            .iter()
+            .map(|s| {
+                let len = s.end_m - s.start_m;
+                if len <= 0.0 {
+                    if x >= s.end_m {
+                        1.0
+                    } else {
+                        0.0
+                    }
+                } else {
+                    ((x - s.start_m) / len).clamp(0.0, 1.0)
+                }
+            })
+            .collect()
+    }
+
+    /// Round-trip delay to `x` in sweep `which`, with per-segment scales (1 = the model's).
+    pub fn delay_to(&self, x: f64, which: Which, scale: Option<&[f64]>) -> f64 {
+        let mut d = 0.0;
+        for (j, (s, c)) in self.segments.iter().zip(self.cover(x)).enumerate() {
+            d += c * s.delay_s[which as usize] * scale.map_or(1.0, |v| v[j]);
+        }
+        // Beyond the far end, continue at the last segment's speed.
+        if let Some(last) = self.segments.last() {
+            if x > last.end_m && last.end_m > last.start_m {
+                let per_m = last.delay_s[which as usize] / (last.end_m - last.start_m);
+                d += (x - last.end_m) * per_m * scale.map_or(1.0, |v| v[v.len() - 1]);
+            }
+        }
+        d
+    }
+
+    /// As-built position of round-trip delay `t` in sweep `which` (inverse of [`Self::delay_to`]).
+    pub fn position_of(&self, t: f64, which: Which, scale: Option<&[f64]>) -> f64 {
+        let mut acc = 0.0;
+        for (j, s) in self.segments.iter().enumerate() {
+            let d = s.delay_s[which as usize] * scale.map_or(1.0, |v| v[j]);
+            if t <= acc + d && d > 0.0 {
+                return s.start_m + (s.end_m - s.start_m) * (t - acc) / d;
+            }
+            acc += d;
+        }
+        let last = match self.segments.last() {
+            Some(l) => l,
+            None => return 0.0,
+        };
+        let len = last.end_m - last.start_m;
+        let d = last.delay_s[which as usize] * scale.map_or(1.0, |v| v[v.len() - 1]);
+        if d > 0.0 && len > 0.0 {
+            last.end_m + (t - acc) * len / d
+        } else {
+            last.end_m
+        }
+    }
+
+    /// Round-trip loss from the reference plane to `x` at `f` Hz in sweep `which`, dB.
+    pub fn loss_to_db(&self, x: f64, f: f64, which: Which) -> f64 {
+        self.segments
+            .iter()
+            .zip(self.cover(x))
+            .map(|(s, c)| {
+                let l = s.loss[which as usize];
+                // The flat part of an attenuator counts once the echo is past its middle.
+                c * (l.a_sqrt * (f / 1e9).sqrt() + l.a_lin * f / 1e9)
+                    + if c >= 0.5 { l.a_flat } else { 0.0 }
+            })
+            .sum()
+    }
+
+    /// The nearest connector to `x` and its distance from `x`, m.
+    pub fn nearest_connector(&self, x: f64) -> Option<(&Segment, f64)> {
+        self.segments
+            .iter()
+            .filter(|s| s.kind == SegmentKind::Connector)
+            .map(|s| (s, (0.5 * (s.start_m + s.end_m) - x).abs()))
+            .min_by(|a, b| a.1.total_cmp(&b.1))
+    }
+
+    /// A [`DistanceMap`] for sweep `which` with per-segment scales.
+    pub fn map(&self, which: Which, scale: Option<Vec<f64>>) -> ChainMap<'_> {
+        ChainMap {
+            chain: self,
+            which,
+            scale,
+        }
+    }
+}
+
+/// A chain seen as a distance map in one sweep's state.
+#[derive(Debug, Clone)]
+pub struct ChainMap<'a> {
+    pub chain: &'a ChainView,
+    pub which: Which,
+    pub scale: Option<Vec<f64>>,
+}
+
+impl DistanceMap for ChainMap<'_> {
+    fn distance_m(&self, round_trip_s: f64) -> f64 {
+        self.chain
+            .position_of(round_trip_s, self.which, self.scale.as_deref())
+    }
+    fn round_trip_s(&self, distance_m: f64) -> f64 {
+        self.chain
+            .delay_to(distance_m, self.which, self.scale.as_deref())
+    }
+    fn describe(&self) -> String {
+        if self.chain.as_built {
+            format!(
+                "line '{}' as built ({} segments)",
+                self.chain.name,
+                self.chain.segments.len()
+            )
+        } else {
+            let s = &self.chain.segments[0];
+            let vf = 2.0 * (s.end_m - s.start_m) / (C0_M_PER_S * s.delay_s[self.which as usize]);
+            format!("uniform line, vf {vf:.3}")
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn two_segments() -> ChainView {
+        let mut c = ChainView::uniform("t", 0.7, 1.0, 50.0);
+        let mut s2 = c.segments[0].clone();
+        s2.name = "second".into();
+        s2.start_m = 1.0;
+        s2.end_m = 1.5;
+        s2.delay_s = [2.0 * 0.5 / (C0_M_PER_S * 0.8); 2];
+        c.segments.push(s2);
+        c
+    }
+
+    #[test]
+    fn delay_and_position_are_inverse_across_segments() {
+        let c = two_segments();
+        for &x in &[0.0, 0.3, 1.0, 1.2, 1.5, 1.9] {
+            let t = c.delay_to(x, Which::Baseline, None);
+            let back = c.position_of(t, Which::Baseline, None);
+            assert!((back - x).abs() < 1e-12, "{x} -> {t} -> {back}");
+        }
+        // 1 m at vf 0.7 plus 0.2 m at vf 0.8, round trip.
+        let t = c.delay_to(1.2, Which::Current, None);
+        let want = 2.0 * (1.0 / 0.7 + 0.2 / 0.8) / C0_M_PER_S;
+        assert!((t - want).abs() < 1e-18);
+    }
+
+    #[test]
+    fn loss_model_through_two_points() {
+        let m = LossModel::through(1e9, 1.0, 9e9, 3.0 + 0.5 * 9.0, 0.0);
+        assert!((m.db(1e9) - 1.0).abs() < 1e-12 && (m.db(9e9) - 7.5).abs() < 1e-12);
+    }
+}

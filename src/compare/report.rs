@@ -1,0 +1,189 @@
+//! The comparator's results. Their JSON (the keys as named here) is a contract, documented in
+//! docs/output.md; text tables are made from the same structs.
+
+use super::align::SegmentAlignment;
+use super::lumped::ModelType;
+use super::severity::Severity;
+use crate::Warning;
+use serde::Serialize;
+
+/// What a finding most likely is.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum FaultKind {
+    PinGap,
+    Contact,
+    Crush,
+    ImpedanceStep,
+    Open,
+    Short,
+    Unknown,
+}
+
+impl FaultKind {
+    pub fn name(self) -> &'static str {
+        match self {
+            FaultKind::PinGap => "pin-gap",
+            FaultKind::Contact => "contact",
+            FaultKind::Crush => "crush",
+            FaultKind::ImpedanceStep => "impedance-step",
+            FaultKind::Open => "open",
+            FaultKind::Short => "short",
+            FaultKind::Unknown => "unknown",
+        }
+    }
+}
+
+/// The best lumped model of a finding or event. JSON: `model` {`type`, `value`, `unit`, `fit_error`}.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ModelSummary {
+    #[serde(rename = "type")]
+    pub model: ModelType,
+    /// The model's value in SI units (`unit`): F, ohm or H; 0 for open and short.
+    pub value: f64,
+    pub unit: &'static str,
+    /// RMS misfit relative to the measured local reflection (0 perfect, 1 no better than nothing).
+    pub fit_error: f64,
+    /// For a series capacitance: the equivalent axial gap between the centre-conductor ends, m.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub gap_m: Option<f64>,
+}
+
+/// Where on the line something is.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Place {
+    /// As-built metres from the reference plane.
+    pub distance_m: f64,
+    /// The element it lies in (the line file's name, or `line` for a line of unknown construction).
+    pub element: String,
+    /// Offset inside that element, m.
+    pub offset_m: f64,
+    /// The nearest named connector, if the line has any.
+    pub nearest_connector: Option<String>,
+}
+
+/// One located change between the two sweeps. Ordered by `rank` in the report.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Finding {
+    /// 1 = the change that costs the line most.
+    pub rank: usize,
+    #[serde(flatten)]
+    pub place: Place,
+    pub kind: FaultKind,
+    pub severity: Severity,
+    /// Reflection of the event in the current sweep, loss-compensated with the line model, dB (20 log10|rho|).
+    pub reflection_db: f64,
+    /// Change of the event's reflection, current over baseline, dB (positive: stronger now).
+    pub change_db: f64,
+    /// Change of the reflection's phase, current against baseline, degrees (meaningful when both sweeps are in
+    /// the same state).
+    pub phase_change_deg: f64,
+    /// Mismatch loss the event adds, averaged over the swept band, dB.
+    pub mismatch_loss_db: f64,
+    /// Predicted drop of transmitted power past the event at the reference frequency, dB (from the model;
+    /// net of what the baseline already had there).
+    pub power_drop_db: f64,
+    /// Half-width of the position's 95 % interval, m.
+    pub uncertainty_m: f64,
+    /// 0..1: how sure the finding is (signal-to-noise of the change and fit quality).
+    pub confidence: f64,
+    pub model: ModelSummary,
+    /// Set when the event sits where a multiple reflection of stronger events would land.
+    pub likely_ghost: bool,
+    /// One plain sentence.
+    pub explanation: String,
+}
+
+/// One discontinuity seen in a single sweep (`locate`).
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Event {
+    #[serde(flatten)]
+    pub place: Place,
+    pub kind: FaultKind,
+    pub severity: Severity,
+    /// Loss-compensated reflection, dB.
+    pub reflection_db: f64,
+    pub mismatch_loss_db: f64,
+    pub power_drop_db: f64,
+    pub uncertainty_m: f64,
+    pub confidence: f64,
+    pub model: ModelSummary,
+    pub likely_ghost: bool,
+    /// False when the event lies where reflection cannot honestly see (behind a device, past the alias-free
+    /// range, or where compensation would need more than its cap).
+    pub visible: bool,
+    pub explanation: String,
+}
+
+/// An element reflection cannot see, and why.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct NotVisible {
+    pub element: String,
+    pub reason: String,
+}
+
+/// How the two sweeps were aligned. JSON: `alignment` {`residual_m`, `segments`, ...}.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Alignment {
+    /// RMS misalignment of the landmarks after the fit, as-built metres (includes each landmark's own
+    /// position uncertainty).
+    pub residual_m: f64,
+    pub segments: Vec<SegmentAlignment>,
+    /// Landmarks used: as-built metres in the baseline.
+    pub landmarks_m: Vec<f64>,
+    /// Change of the round-trip delay to the farthest landmark, current over baseline minus one.
+    pub electrical_length_change: f64,
+}
+
+/// Loss the findings explain against the loss observed.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct PowerCheck {
+    /// Observed drop of transmitted power, dB, and where it came from (`s21` or `given`).
+    pub observed_drop_db: f64,
+    pub source: &'static str,
+    /// Sum of the findings' predicted drops, dB.
+    pub explained_drop_db: f64,
+    pub unexplained_db: f64,
+}
+
+/// The state a sweep was taken in, as used by the report.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct StateReport {
+    pub baseline: &'static str,
+    pub current: &'static str,
+    /// True when coldtrace inferred the states rather than being told.
+    pub inferred: bool,
+    pub basis: String,
+}
+
+/// `compare`'s result.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct CompareReport {
+    pub line: String,
+    pub baseline: String,
+    pub current: String,
+    pub states: StateReport,
+    /// Two-event resolution of the coarser sweep, m.
+    pub resolution_m: f64,
+    /// Frequency at which power drops are quoted, Hz.
+    pub reference_hz: f64,
+    pub alignment: Alignment,
+    pub findings: Vec<Finding>,
+    pub not_visible: Vec<NotVisible>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub power: Option<PowerCheck>,
+    pub warnings: Vec<Warning>,
+}
+
+/// `locate`'s result.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct LocateReport {
+    pub line: String,
+    pub sweep: String,
+    pub state: &'static str,
+    pub resolution_m: f64,
+    pub reference_hz: f64,
+    pub events: Vec<Event>,
+    pub not_visible: Vec<NotVisible>,
+    pub warnings: Vec<Warning>,
+}

@@ -1,0 +1,114 @@
+//! The comparator on sweeps built to first order (each discontinuity's own reflection, delayed; no multiple
+//! reflections) from the lumped formulas, so the expected answer is known exactly.
+
+use coldtrace::compare::lumped::ModelType;
+use coldtrace::compare::report::StateReport;
+use coldtrace::compare::{compare, locate, AnalysisConfig, ChainView, FaultKind, Severity, Sweep};
+use coldtrace::transform::C0_M_PER_S;
+use coldtrace::Network;
+use num_complex::Complex64;
+use std::f64::consts::PI;
+
+const VF: f64 = 0.7;
+
+fn sweep(parts: &[(f64, ModelType, f64)], scale_after: Option<(f64, f64)>) -> Network {
+    let freqs: Vec<f64> = (0..2001).map(|k| 0.5e9 + k as f64 * 4.75e6).collect();
+    let s11 = freqs
+        .iter()
+        .map(|&f| {
+            let mut g = Complex64::new(0.0, 0.0);
+            for &(x, m, v) in parts {
+                let mut t = 2.0 * x / (C0_M_PER_S * VF);
+                if let Some((x0, s)) = scale_after {
+                    if x > x0 {
+                        let t0 = 2.0 * x0 / (C0_M_PER_S * VF);
+                        t = t0 + (t - t0) * s;
+                    }
+                }
+                g += m.gamma(v, f, 50.0) * Complex64::from_polar(1.0, -2.0 * PI * f * t);
+            }
+            g
+        })
+        .collect();
+    Network::one_port(freqs, s11, 50.0)
+}
+
+fn states() -> StateReport {
+    StateReport {
+        baseline: "warm",
+        current: "cold",
+        inferred: false,
+        basis: "given".into(),
+    }
+}
+
+#[test]
+fn pin_gap_at_a_mid_line_joint_is_found_and_explained() {
+    let joints = |gap: Option<f64>| {
+        let mut v = vec![
+            (0.30, ModelType::ImpedanceStep, 52.0),
+            (0.60, ModelType::ImpedanceStep, 51.5),
+            (0.90, ModelType::ImpedanceStep, 52.5),
+            (1.20, ModelType::Open, 0.0),
+        ];
+        if let Some(c) = gap {
+            v.push((0.60, ModelType::SeriesCapacitance, c));
+        }
+        v
+    };
+    let base = sweep(&joints(None), None);
+    let cur = sweep(&joints(Some(60e-15)), Some((0.3, 0.997)));
+    let chain = ChainView::uniform("test", VF, 2.0, 50.0);
+    let r = compare(
+        Sweep {
+            name: "b",
+            network: &base,
+            state: "warm",
+        },
+        Sweep {
+            name: "c",
+            network: &cur,
+            state: "cold",
+        },
+        &chain,
+        &AnalysisConfig::default(),
+        states(),
+    )
+    .unwrap();
+    eprintln!("{}", serde_json::to_string_pretty(&r).unwrap());
+    let top = &r.findings[0];
+    assert!((top.place.distance_m - 0.60).abs() < 0.005, "{top:?}");
+    assert_eq!(top.kind, FaultKind::PinGap, "{top:?}");
+    assert!(top.severity >= Severity::Minor);
+    assert!(r.alignment.residual_m < 1e-3, "{:?}", r.alignment);
+}
+
+#[test]
+fn locate_lists_the_joints() {
+    let parts = vec![
+        (0.30, ModelType::ImpedanceStep, 55.0),
+        (0.90, ModelType::Short, 0.0),
+    ];
+    let n = sweep(&parts, None);
+    let chain = ChainView::uniform("test", VF, 2.0, 50.0);
+    let r = locate(
+        Sweep {
+            name: "s",
+            network: &n,
+            state: "warm",
+        },
+        &chain,
+        &AnalysisConfig::default(),
+    )
+    .unwrap();
+    eprintln!("{}", serde_json::to_string_pretty(&r.events).unwrap());
+    let main: Vec<_> = r
+        .events
+        .iter()
+        .filter(|e| !e.likely_ghost && e.reflection_db > -60.0)
+        .collect();
+    assert!(main.len() >= 2);
+    assert!((main[0].place.distance_m - 0.30).abs() < 0.003);
+    assert!((main[1].place.distance_m - 0.90).abs() < 0.003);
+    assert_eq!(main[1].kind, FaultKind::Short);
+}
