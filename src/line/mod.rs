@@ -1,8 +1,60 @@
-//! Placeholder: filled in by its issue.
+//! The line as built: a chain of cables, connectors, attenuators and a far-end device across the stages
+//! of a cryostat, its cryogenic physics (materials, propagation, warm -> cold change) and an exact forward
+//! simulator.
+//!
+//! How the parts fit: [`file`] reads a TOML line file and resolves it once into a [`Line`] ([`chain`]),
+//! whose cables come from the [`catalogue`] or the file. [`materials`] gives material data against
+//! temperature, [`physics`] turns a section of line at a temperature into its propagation constant and
+//! characteristic impedance, [`abcd`] holds the 2x2 chain-matrix algebra, [`position`] maps delay to
+//! as-built position, [`thermal`] reports the expected warm -> cold change, [`fault`] parses and models
+//! faults, and [`simulate`](mod@simulate) cascades it all into a [`Network`](crate::Network).
+//!
+//! Conventions used throughout this layer:
+//! - Time dependence e^{+j omega t}; a section of length l multiplies a forward wave by e^{-gamma l},
+//!   gamma = alpha + j beta with alpha, beta >= 0 for a passive line.
+//! - SI units: Hz, s, m, ohm, K, F, H; attenuation in nepers inside, dB only at the edges (file keys
+//!   ending in `_db`, reports).
+//! - Positions are one-way, in as-built (room-temperature) metres from the reference plane, which is the
+//!   start of the first element. A cold line keeps its as-built positions; only its delays change.
+//! - Delays are one-way group delays at a reference frequency ([`position::REFERENCE_FREQUENCY_HZ`]
+//!   unless stated); round-trip times are twice the one-way delay.
+
+pub mod abcd;
+pub mod catalogue;
+pub mod chain;
+pub mod fault;
+pub mod file;
+pub mod materials;
+pub mod physics;
+pub mod position;
+pub mod rng;
+pub mod simulate;
+pub mod thermal;
+
+pub use chain::{Element, ElementKind, Line, Load, Stage, State};
+pub use fault::{Fault, FaultKind, FaultTarget};
+pub use position::{LineMap, Place};
+pub use simulate::{simulate, SimConfig};
+pub use thermal::{PullBack, ThermalChange};
+
+use std::path::PathBuf;
 
 /// Errors of this layer.
 #[derive(Debug, thiserror::Error)]
 pub enum LineError {
+    /// A line file that cannot be used; `line`/`column` are 1-based, 0 when unknown.
+    #[error("{}:{line}:{column}: {}{message}", path.display(), key.as_ref().map(|k| format!("key '{k}': ")).unwrap_or_default())]
+    File {
+        path: PathBuf,
+        line: usize,
+        column: usize,
+        key: Option<String>,
+        message: String,
+    },
+    /// A fault specification that cannot be understood or placed.
+    #[error("fault '{spec}': {message}\n  grammar: {}", fault::GRAMMAR)]
+    Fault { spec: String, message: String },
+    /// A request the line model cannot honour (the message says what fixes it).
     #[error("{0}")]
     Invalid(String),
 }

@@ -1,0 +1,682 @@
+//! The TOML line file (format in docs/line-file.md) and its resolution into a [`Line`].
+//!
+//! Every error names the file, the 1-based line and column and the key, and says what is allowed. The
+//! file is read once, resolved once; nothing later looks at the TOML again.
+
+use super::catalogue::{self, CableKind};
+use super::chain::{Element, ElementKind, Line, Load, Stage, ROOM_STAGE};
+use super::materials::{Material, PtfeModel, ROOM_K};
+use super::LineError;
+use serde::de::{self, Deserializer, Visitor};
+use serde::Deserialize;
+use std::collections::BTreeMap;
+use std::ops::Range;
+use std::path::{Path, PathBuf};
+use toml::Spanned;
+
+/// Default as-built length of a connector pair, m (common practice, no source: an SMA pair is ~8 mm).
+pub const CONNECTOR_LENGTH_M: f64 = 8e-3;
+/// Default impedance of a connector section, ohm: slightly off 50 ohm so a connector shows as a small
+/// echo, as real ones do (common practice, no source; |Gamma| of the step ~0.01).
+pub const CONNECTOR_IMPEDANCE_OHM: f64 = 51.0;
+/// Default as-built length of an attenuator body, m (common practice, no source: SMA attenuators are
+/// ~2 cm).
+pub const ATTENUATOR_LENGTH_M: f64 = 0.02;
+/// Relative permittivity of an attenuator body for its delay (PTFE-like; common practice, no source).
+pub const ATTENUATOR_ER: f64 = 2.03;
+
+/// A number written as an integer or a float.
+#[derive(Debug, Clone, Copy, PartialEq)]
+struct Num(f64);
+
+impl<'de> Deserialize<'de> for Num {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Num, D::Error> {
+        struct V;
+        impl Visitor<'_> for V {
+            type Value = Num;
+            fn expecting(&self, f: &mut std::fmt::Formatter) -> std::fmt::Result {
+                f.write_str("a number")
+            }
+            fn visit_f64<E: de::Error>(self, v: f64) -> Result<Num, E> {
+                Ok(Num(v))
+            }
+            fn visit_i64<E: de::Error>(self, v: i64) -> Result<Num, E> {
+                Ok(Num(v as f64))
+            }
+            fn visit_u64<E: de::Error>(self, v: u64) -> Result<Num, E> {
+                Ok(Num(v as f64))
+            }
+        }
+        d.deserialize_any(V)
+    }
+}
+
+/// `load = "open"` or `load = 75.0`.
+#[derive(Debug, Clone, PartialEq, Deserialize)]
+#[serde(untagged)]
+enum RawLoad {
+    Word(String),
+    Ohms(f64),
+    Int(i64),
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawFile {
+    name: Spanned<String>,
+    impedance_ohm: Option<Spanned<Num>>,
+    ptfe_model: Option<Spanned<String>>,
+    #[serde(default)]
+    stages: Option<Spanned<BTreeMap<String, Spanned<Num>>>>,
+    #[serde(default, rename = "element")]
+    elements: Vec<Spanned<RawElement>>,
+    #[serde(default)]
+    cables: BTreeMap<String, Spanned<RawCable>>,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawElement {
+    kind: Spanned<String>,
+    name: Spanned<String>,
+    cable: Option<Spanned<String>>,
+    length_m: Option<Spanned<Num>>,
+    from: Option<Spanned<String>>,
+    to: Option<Spanned<String>>,
+    stage: Option<Spanned<String>>,
+    impedance_ohm: Option<Spanned<Num>>,
+    loss_db: Option<Spanned<Num>>,
+    load: Option<Spanned<RawLoad>>,
+    return_loss_db: Option<Spanned<Num>>,
+    pin_radius_m: Option<Spanned<Num>>,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawCable {
+    velocity_factor: Option<Spanned<Num>>,
+    loss_db_per_m_1ghz: Option<Spanned<Num>>,
+    loss_tangent: Option<Spanned<Num>>,
+    conductor: Option<Spanned<String>>,
+    inner_conductor: Option<Spanned<String>>,
+    outer_conductor: Option<Spanned<String>>,
+    dielectric: Option<Spanned<String>>,
+    impedance_ohm: Option<Spanned<Num>>,
+    inner_radius_m: Option<Spanned<Num>>,
+    outer_radius_m: Option<Spanned<Num>>,
+}
+
+struct Ctx<'a> {
+    path: &'a Path,
+    text: &'a str,
+}
+
+impl Ctx<'_> {
+    fn line_col(&self, pos: usize) -> (usize, usize) {
+        let pos = pos.min(self.text.len());
+        let before = &self.text[..pos];
+        let line = before.matches('\n').count() + 1;
+        let col = before
+            .rsplit('\n')
+            .next()
+            .map(|s| s.chars().count())
+            .unwrap_or(0)
+            + 1;
+        (line, col)
+    }
+
+    fn err(&self, span: Range<usize>, key: Option<&str>, message: impl Into<String>) -> LineError {
+        let (line, column) = self.line_col(span.start);
+        LineError::File {
+            path: self.path.to_path_buf(),
+            line,
+            column,
+            key: key.map(str::to_string),
+            message: message.into(),
+        }
+    }
+}
+
+/// Read and resolve a line file.
+pub fn read_file(path: &Path) -> crate::Result<Line> {
+    let text = std::fs::read_to_string(path).map_err(|e| crate::Error::io(path, e))?;
+    Ok(parse(&text, path)?)
+}
+
+/// Parse and resolve line-file text; `path` names it in errors.
+pub fn parse(text: &str, path: &Path) -> Result<Line, LineError> {
+    let ctx = Ctx { path, text };
+    let raw: RawFile = toml::from_str(text).map_err(|e| {
+        let span = e.span().unwrap_or(0..0);
+        let msg = e.message().to_string();
+        let key = msg
+            .split('`')
+            .nth(1)
+            .filter(|_| msg.starts_with("unknown field") || msg.starts_with("missing field"))
+            .map(str::to_string);
+        let hint = if msg.starts_with("unknown field") {
+            "; see docs/line-file.md for the keys each table takes"
+        } else {
+            ""
+        };
+        ctx.err(span, key.as_deref(), format!("{msg}{hint}"))
+    })?;
+    resolve(&ctx, raw)
+}
+
+fn positive(ctx: &Ctx, v: &Spanned<Num>, key: &str, allow_zero: bool) -> Result<f64, LineError> {
+    let x = v.get_ref().0;
+    let ok = x.is_finite() && if allow_zero { x >= 0.0 } else { x > 0.0 };
+    if ok {
+        Ok(x)
+    } else {
+        Err(ctx.err(
+            v.span(),
+            Some(key),
+            format!(
+                "{x} is not allowed: give a {} number",
+                if allow_zero {
+                    "non-negative"
+                } else {
+                    "positive"
+                }
+            ),
+        ))
+    }
+}
+
+fn material(ctx: &Ctx, v: &Spanned<String>, key: &str) -> Result<Material, LineError> {
+    Material::parse(v.get_ref()).ok_or_else(|| {
+        ctx.err(
+            v.span(),
+            Some(key),
+            format!(
+                "unknown material '{}'; known: {}",
+                v.get_ref(),
+                Material::NAMES.join(", ")
+            ),
+        )
+    })
+}
+
+fn user_cable(
+    ctx: &Ctx,
+    name: &str,
+    raw: &Spanned<RawCable>,
+    z_line: f64,
+) -> Result<CableKind, LineError> {
+    let r = raw.get_ref();
+    if catalogue::built_in(name).is_some() {
+        return Err(ctx.err(
+            raw.span(),
+            Some(&format!("cables.{name}")),
+            format!("'{name}' is a built-in cable kind; give your kind another name"),
+        ));
+    }
+    let er = match &r.velocity_factor {
+        Some(v) => {
+            let vf = positive(ctx, v, "velocity_factor", false)?;
+            if vf > 1.0 {
+                return Err(ctx.err(
+                    v.span(),
+                    Some("velocity_factor"),
+                    format!("{vf} is above 1: a velocity factor lies in (0, 1]"),
+                ));
+            }
+            1.0 / (vf * vf)
+        }
+        None => {
+            return Err(ctx.err(
+                raw.span(),
+                Some("velocity_factor"),
+                format!("cable kind '{name}' needs velocity_factor (e.g. 0.70)"),
+            ))
+        }
+    };
+    let both = match &r.conductor {
+        Some(c) => material(ctx, c, "conductor")?,
+        None => Material::Copper,
+    };
+    let inner = match &r.inner_conductor {
+        Some(c) => material(ctx, c, "inner_conductor")?,
+        None => both,
+    };
+    let outer = match &r.outer_conductor {
+        Some(c) => material(ctx, c, "outer_conductor")?,
+        None => both,
+    };
+    for (m, v, key) in [
+        (inner, &r.inner_conductor, "inner_conductor"),
+        (outer, &r.outer_conductor, "outer_conductor"),
+    ] {
+        if m.conductor().is_none() {
+            let span = v.as_ref().map(|s| s.span()).unwrap_or(raw.span());
+            return Err(ctx.err(span, Some(key), "a dielectric cannot be a conductor"));
+        }
+    }
+    let dielectric = match &r.dielectric {
+        Some(d) => {
+            let m = material(ctx, d, "dielectric")?;
+            if !matches!(m, Material::Ptfe | Material::Polyethylene) {
+                return Err(ctx.err(
+                    d.span(),
+                    Some("dielectric"),
+                    "the dielectric must be 'ptfe' or 'polyethylene'",
+                ));
+            }
+            m
+        }
+        None => Material::Ptfe,
+    };
+    let a = match &r.inner_radius_m {
+        Some(v) => positive(ctx, v, "inner_radius_m", false)?,
+        None => catalogue::A_086,
+    };
+    let b = match (&r.outer_radius_m, &r.impedance_ohm) {
+        (Some(_), Some(z)) => {
+            return Err(ctx.err(
+                z.span(),
+                Some("impedance_ohm"),
+                "give outer_radius_m or impedance_ohm, not both",
+            ))
+        }
+        (Some(v), None) => {
+            let b = positive(ctx, v, "outer_radius_m", false)?;
+            if b <= a {
+                return Err(ctx.err(
+                    v.span(),
+                    Some("outer_radius_m"),
+                    "outer_radius_m must exceed inner_radius_m",
+                ));
+            }
+            b
+        }
+        (None, z) => {
+            let z0 = match z {
+                Some(z) => positive(ctx, z, "impedance_ohm", false)?,
+                None => z_line,
+            };
+            a * (z0 * er.sqrt() / catalogue::ETA0_OVER_2PI).exp()
+        }
+    };
+    Ok(CableKind {
+        name: name.to_string(),
+        inner_radius_m: a,
+        outer_radius_m: b,
+        er,
+        dielectric,
+        inner,
+        outer,
+        loss_tangent: match &r.loss_tangent {
+            Some(v) => positive(ctx, v, "loss_tangent", true)?,
+            None => catalogue::PTFE_TAN_D,
+        },
+        loss_db_per_m_1ghz: match &r.loss_db_per_m_1ghz {
+            Some(v) => Some(positive(ctx, v, "loss_db_per_m_1ghz", false)?),
+            None => None,
+        },
+    })
+}
+
+const KEYS: &[(&str, &[&str])] = &[
+    (
+        "cable",
+        &[
+            "kind",
+            "name",
+            "cable",
+            "length_m",
+            "from",
+            "to",
+            "impedance_ohm",
+        ],
+    ),
+    (
+        "connector",
+        &[
+            "kind",
+            "name",
+            "stage",
+            "length_m",
+            "impedance_ohm",
+            "pin_radius_m",
+        ],
+    ),
+    (
+        "attenuator",
+        &[
+            "kind",
+            "name",
+            "stage",
+            "loss_db",
+            "length_m",
+            "impedance_ohm",
+        ],
+    ),
+    (
+        "device",
+        &["kind", "name", "stage", "load", "return_loss_db"],
+    ),
+];
+
+fn resolve(ctx: &Ctx, raw: RawFile) -> Result<Line, LineError> {
+    let z_line = match &raw.impedance_ohm {
+        Some(v) => positive(ctx, v, "impedance_ohm", false)?,
+        None => 50.0,
+    };
+    if raw.name.get_ref().trim().is_empty() {
+        return Err(ctx.err(
+            raw.name.span(),
+            Some("name"),
+            "the line needs a name, e.g. \"north-fridge/in-07\"",
+        ));
+    }
+    let ptfe_model = match &raw.ptfe_model {
+        None => PtfeModel::Gapped,
+        Some(v) => match v.get_ref().as_str() {
+            "free" => PtfeModel::Free,
+            "filled" => PtfeModel::Filled,
+            "gapped" => PtfeModel::Gapped,
+            other => {
+                return Err(ctx.err(
+                    v.span(),
+                    Some("ptfe_model"),
+                    format!("unknown PTFE model '{other}'; use free, filled or gapped"),
+                ))
+            }
+        },
+    };
+    let mut stages = vec![Stage {
+        name: ROOM_STAGE.to_string(),
+        kelvin: ROOM_K,
+    }];
+    if let Some(st) = &raw.stages {
+        for (name, t) in st.get_ref() {
+            if name == ROOM_STAGE {
+                return Err(ctx.err(
+                    t.span(),
+                    Some(&format!("stages.{name}")),
+                    "'room' is built in (295 K); remove it from [stages]",
+                ));
+            }
+            let k = positive(ctx, t, &format!("stages.{name}"), true)?;
+            if k > 400.0 {
+                return Err(ctx.err(
+                    t.span(),
+                    Some(&format!("stages.{name}")),
+                    format!("{k} K is not a cryostat stage: give kelvin between 0 and 400"),
+                ));
+            }
+            stages.push(Stage {
+                name: name.clone(),
+                kelvin: k,
+            });
+        }
+    }
+    stages[1..].sort_by(|a, b| b.kelvin.total_cmp(&a.kelvin));
+    let stage_k = |v: &Spanned<String>, key: &str| -> Result<(String, f64), LineError> {
+        stages
+            .iter()
+            .find(|s| &s.name == v.get_ref())
+            .map(|s| (s.name.clone(), s.kelvin))
+            .ok_or_else(|| {
+                ctx.err(
+                    v.span(),
+                    Some(key),
+                    format!(
+                        "unknown stage '{}'; known: {} (define more under [stages])",
+                        v.get_ref(),
+                        stages
+                            .iter()
+                            .map(|s| s.name.as_str())
+                            .collect::<Vec<_>>()
+                            .join(", ")
+                    ),
+                )
+            })
+    };
+    let mut kinds: BTreeMap<String, CableKind> = BTreeMap::new();
+    for (name, c) in &raw.cables {
+        kinds.insert(name.clone(), user_cable(ctx, name, c, z_line)?);
+    }
+    let known_kinds = || {
+        let mut v: Vec<String> = catalogue::BUILT_IN.iter().map(|s| s.to_string()).collect();
+        v.extend(kinds.keys().cloned());
+        v.join(", ")
+    };
+    let mut elements: Vec<Element> = Vec::new();
+    let mut seen: BTreeMap<String, usize> = BTreeMap::new();
+    let mut last_stage = (ROOM_STAGE.to_string(), ROOM_K);
+    for sel in &raw.elements {
+        let el = sel.get_ref();
+        let (line_no, _) = ctx.line_col(sel.span().start);
+        let kind = el.kind.get_ref().as_str();
+        let allowed = KEYS
+            .iter()
+            .find(|(k, _)| *k == kind)
+            .map(|(_, a)| *a)
+            .ok_or_else(|| {
+                ctx.err(
+                    el.kind.span(),
+                    Some("kind"),
+                    format!(
+                        "unknown element kind '{kind}'; use cable, connector, attenuator or device"
+                    ),
+                )
+            })?;
+        let present: [(&str, Option<Range<usize>>); 10] = [
+            ("cable", el.cable.as_ref().map(|v| v.span())),
+            ("length_m", el.length_m.as_ref().map(|v| v.span())),
+            ("from", el.from.as_ref().map(|v| v.span())),
+            ("to", el.to.as_ref().map(|v| v.span())),
+            ("stage", el.stage.as_ref().map(|v| v.span())),
+            ("impedance_ohm", el.impedance_ohm.as_ref().map(|v| v.span())),
+            ("loss_db", el.loss_db.as_ref().map(|v| v.span())),
+            ("load", el.load.as_ref().map(|v| v.span())),
+            (
+                "return_loss_db",
+                el.return_loss_db.as_ref().map(|v| v.span()),
+            ),
+            ("pin_radius_m", el.pin_radius_m.as_ref().map(|v| v.span())),
+        ];
+        for (key, span) in present {
+            if let Some(span) = span {
+                if !allowed.contains(&key) {
+                    return Err(ctx.err(
+                        span,
+                        Some(key),
+                        format!(
+                            "a {kind} does not take '{key}'; it takes: {}",
+                            allowed.join(", ")
+                        ),
+                    ));
+                }
+            }
+        }
+        let name = el.name.get_ref().trim().to_string();
+        if name.is_empty() {
+            return Err(ctx.err(el.name.span(), Some("name"), "every element needs a name"));
+        }
+        if name.contains(':') || name.contains('@') {
+            return Err(ctx.err(
+                el.name.span(),
+                Some("name"),
+                "names may not contain ':' or '@' (they separate parts of a fault spec)",
+            ));
+        }
+        if let Some(first) = seen.get(&name) {
+            return Err(ctx.err(
+                el.name.span(),
+                Some("name"),
+                format!("duplicate element name '{name}' (first used on line {first}); names must be unique"),
+            ));
+        }
+        seen.insert(name.clone(), line_no);
+        let at_stage = |v: &Option<Spanned<String>>| -> Result<(String, f64), LineError> {
+            match v {
+                Some(s) => stage_k(s, "stage"),
+                None => Ok(last_stage.clone()),
+            }
+        };
+        let length = |default: Option<f64>| -> Result<f64, LineError> {
+            match (&el.length_m, default) {
+                (Some(v), _) => positive(ctx, v, "length_m", default.is_some()),
+                (None, Some(d)) => Ok(d),
+                (None, None) => Err(ctx.err(
+                    sel.span(),
+                    Some("length_m"),
+                    format!("cable '{name}' needs length_m (as-built metres)"),
+                )),
+            }
+        };
+        let z_el = match &el.impedance_ohm {
+            Some(v) => Some(positive(ctx, v, "impedance_ohm", false)?),
+            None => None,
+        };
+        let (kind_v, length_m, from, to) = match kind {
+            "cable" => {
+                let c = el.cable.as_ref().ok_or_else(|| {
+                    ctx.err(
+                        sel.span(),
+                        Some("cable"),
+                        format!(
+                            "cable '{name}' needs cable = KIND; known kinds: {}",
+                            known_kinds()
+                        ),
+                    )
+                })?;
+                let mut k = kinds
+                    .get(c.get_ref())
+                    .cloned()
+                    .or_else(|| catalogue::built_in(c.get_ref()))
+                    .ok_or_else(|| {
+                        ctx.err(
+                            c.span(),
+                            Some("cable"),
+                            format!("unknown cable kind '{}'; known kinds: {} (or define one under [cables.NAME])", c.get_ref(), known_kinds()),
+                        )
+                    })?;
+                if let Some(z) = z_el {
+                    k = k.with_impedance(z);
+                }
+                let need =
+                    |v: &Option<Spanned<String>>, key: &str| -> Result<(String, f64), LineError> {
+                        match v {
+                            Some(s) => stage_k(s, key),
+                            None => Err(ctx.err(
+                                sel.span(),
+                                Some(key),
+                                format!("cable '{name}' needs '{key}' (a stage name)"),
+                            )),
+                        }
+                    };
+                let from = need(&el.from, "from")?;
+                let to = need(&el.to, "to")?;
+                (ElementKind::Cable { cable: k }, length(None)?, from, to)
+            }
+            "connector" => {
+                let st = at_stage(&el.stage)?;
+                let pin = match &el.pin_radius_m {
+                    Some(v) => positive(ctx, v, "pin_radius_m", false)?,
+                    None => elements
+                        .iter()
+                        .rev()
+                        .find_map(|e| match &e.kind {
+                            ElementKind::Cable { cable } => Some(cable.inner_radius_m),
+                            _ => None,
+                        })
+                        .unwrap_or(catalogue::A_086),
+                };
+                let section = CableKind {
+                    name: format!("connector {name}"),
+                    inner: Material::BerylliumCopper,
+                    outer: Material::Brass,
+                    ..catalogue::built_in("cu-086").expect("built-in cu-086")
+                }
+                .with_impedance(z_el.unwrap_or(CONNECTOR_IMPEDANCE_OHM));
+                (
+                    ElementKind::Connector {
+                        section,
+                        pin_radius_m: pin,
+                    },
+                    length(Some(CONNECTOR_LENGTH_M))?,
+                    st.clone(),
+                    st,
+                )
+            }
+            "attenuator" => {
+                let st = at_stage(&el.stage)?;
+                let loss_db = match &el.loss_db {
+                    Some(v) => positive(ctx, v, "loss_db", true)?,
+                    None => {
+                        return Err(ctx.err(
+                            sel.span(),
+                            Some("loss_db"),
+                            format!("attenuator '{name}' needs loss_db (e.g. 20.0)"),
+                        ))
+                    }
+                };
+                (
+                    ElementKind::Attenuator {
+                        loss_db,
+                        impedance_ohm: z_el.unwrap_or(z_line),
+                        er: ATTENUATOR_ER,
+                    },
+                    length(Some(ATTENUATOR_LENGTH_M))?,
+                    st.clone(),
+                    st,
+                )
+            }
+            _ => {
+                let st = at_stage(&el.stage)?;
+                let load = match (&el.load, &el.return_loss_db) {
+                    (Some(l), Some(_)) => {
+                        return Err(ctx.err(l.span(), Some("load"), "give load or return_loss_db, not both"))
+                    }
+                    (Some(l), None) => match l.get_ref() {
+                        RawLoad::Word(w) => match w.to_ascii_lowercase().as_str() {
+                            "match" | "matched" => Load::Match,
+                            "open" => Load::Open,
+                            "short" => Load::Short,
+                            other => {
+                                return Err(ctx.err(l.span(), Some("load"), format!("unknown load '{other}'; use \"match\", \"open\", \"short\" or a resistance in ohm")))
+                            }
+                        },
+                        RawLoad::Ohms(r) if *r > 0.0 => Load::Ohms(*r),
+                        RawLoad::Int(r) if *r > 0 => Load::Ohms(*r as f64),
+                        _ => return Err(ctx.err(l.span(), Some("load"), "a load resistance must be positive")),
+                    },
+                    (None, Some(rl)) => {
+                        let db = positive(ctx, rl, "return_loss_db", true)?;
+                        Load::Reflection(10f64.powf(-db / 20.0))
+                    }
+                    (None, None) => Load::Match,
+                };
+                (ElementKind::Device { load }, 0.0, st.clone(), st)
+            }
+        };
+        last_stage = to.clone();
+        elements.push(Element {
+            name,
+            kind: kind_v,
+            length_m,
+            start_m: 0.0,
+            from_stage: from.0,
+            to_stage: to.0,
+            cold_from_k: from.1,
+            cold_to_k: to.1,
+            line_no,
+        });
+    }
+    if elements.is_empty() {
+        return Err(ctx.err(
+            0..0,
+            Some("element"),
+            "the line has no [[element]] entries; add at least one",
+        ));
+    }
+    let mut line = Line::new(raw.name.get_ref().trim(), z_line, stages, elements);
+    line.ptfe_model = ptfe_model;
+    line.source = Some(PathBuf::from(ctx.path));
+    Ok(line)
+}

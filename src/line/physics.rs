@@ -1,0 +1,166 @@
+//! Propagation constant and characteristic impedance of a coax section at a frequency and temperature,
+//! from the telegrapher's equations.
+//!
+//! Conventions: e^{+j omega t}; gamma = sqrt((R' + j omega L' + j X') (G' + j omega C')) with Re gamma >= 0,
+//! a section of physical length l multiplies a forward wave by e^{-gamma l}; Z0 = sqrt(z / y) with
+//! Re Z0 > 0. Per-metre quantities are per physical (cold, contracted) metre. The series impedance carries
+//! the conductors' surface impedance Zs = R_s + j X_s per unit perimeter (classically X_s = R_s, so the
+//! loss brings its own internal-inductance phase, which a causal model needs: Pozar, Microwave Engineering,
+//! 4th ed., sec. 2.7; Hall and Heck, Advanced Signal Integrity, Wiley 2009); L' is the external inductance
+//! (mu0 / 2 pi) ln(b/a), C' = 2 pi eps0 er / ln(b/a), G' = omega C' tan(delta).
+
+use super::catalogue::CableKind;
+use super::materials::{self, Material, PtfeModel, EPS0, MU0, ROOM_K};
+use num_complex::Complex64;
+use serde::Serialize;
+use std::f64::consts::PI;
+
+/// A coax cross-section at one temperature: everything that does not depend on frequency.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct SectionState {
+    pub t_k: f64,
+    /// Physical length per as-built metre (1 - contraction of the outer conductor).
+    pub length_scale: f64,
+    /// Contracted radii, m.
+    pub inner_radius_m: f64,
+    pub outer_radius_m: f64,
+    /// Effective relative permittivity (the dielectric and any vacuum gap together).
+    pub er_eff: f64,
+    pub loss_tangent: f64,
+    /// Multiplier on the computed conductor loss (1 unless the kind states a measured loss).
+    pub conductor_scale: f64,
+    pub inner: Material,
+    pub outer: Material,
+}
+
+impl SectionState {
+    /// The state of `kind` at `t_k`, with the given PTFE model.
+    pub fn new(kind: &CableKind, t_k: f64, ptfe: PtfeModel) -> SectionState {
+        let c_in = kind.inner.contraction(t_k) - kind.inner.contraction(ROOM_K);
+        let c_out = kind.outer.contraction(t_k) - kind.outer.contraction(ROOM_K);
+        let c_d = kind.dielectric.contraction(t_k) - kind.dielectric.contraction(ROOM_K);
+        let (a, b) = (kind.inner_radius_m, kind.outer_radius_m);
+        let a1 = a * (1.0 - c_in);
+        let b1 = b * (1.0 - c_out);
+        let ln_ba = (b1 / a1).ln();
+        let er_eff = match ptfe {
+            PtfeModel::Free => materials::clausius_mossotti(kind.er, (1.0 - c_d).powi(-3)),
+            PtfeModel::Filled => {
+                // Density follows the cavity: area (b1^2 - a1^2) times length (1 - c_out).
+                let vol = (b1 * b1 - a1 * a1) / (b * b - a * a) * (1.0 - c_out);
+                materials::clausius_mossotti(kind.er, 1.0 / vol)
+            }
+            PtfeModel::Gapped => {
+                // Free-contraction density; axial length held to the outer conductor, so the cross-section
+                // area is A0 (1 - c_d)^3 / (1 - c_out); inner surface on the (contracted) inner conductor.
+                let er_p = materials::clausius_mossotti(kind.er, (1.0 - c_d).powi(-3));
+                let area = PI * (b * b - a * a) * (1.0 - c_d).powi(3) / (1.0 - c_out);
+                let rp = (a1 * a1 + area / PI).sqrt().min(b1);
+                // Series capacitances of the dielectric layer and the vacuum gap.
+                ln_ba / ((rp / a1).ln() / er_p + (b1 / rp).ln())
+            }
+        };
+        let conductor_scale = match kind.loss_db_per_m_1ghz {
+            Some(db) => {
+                let computed = conductor_alpha_room_1ghz(kind);
+                (db / NEPER_DB) / computed
+            }
+            None => 1.0,
+        };
+        SectionState {
+            t_k,
+            length_scale: 1.0 - c_out,
+            inner_radius_m: a1,
+            outer_radius_m: b1,
+            er_eff,
+            loss_tangent: kind.loss_tangent
+                * if kind.dielectric == Material::Ptfe {
+                    materials::ptfe_loss_tangent_ratio(t_k)
+                } else {
+                    1.0
+                },
+            conductor_scale,
+            inner: kind.inner,
+            outer: kind.outer,
+        }
+    }
+
+    /// Per-metre series impedance z = R' + j(omega L' + X') and shunt admittance y = G' + j omega C'.
+    pub fn zy(&self, f_hz: f64) -> (Complex64, Complex64) {
+        let w = 2.0 * PI * f_hz;
+        let ln_ba = (self.outer_radius_m / self.inner_radius_m).ln();
+        let l = MU0 / (2.0 * PI) * ln_ba;
+        let c = 2.0 * PI * EPS0 * self.er_eff / ln_ba;
+        let (ri, xi) = self.inner.surface_impedance(f_hz, self.t_k);
+        let (ro, xo) = self.outer.surface_impedance(f_hz, self.t_k);
+        let r = self.conductor_scale
+            * (ri / (2.0 * PI * self.inner_radius_m) + ro / (2.0 * PI * self.outer_radius_m));
+        let x = self.conductor_scale
+            * (xi / (2.0 * PI * self.inner_radius_m) + xo / (2.0 * PI * self.outer_radius_m));
+        let z = Complex64::new(r, w * l + x);
+        let y = Complex64::new(w * c * self.loss_tangent, w * c);
+        (z, y)
+    }
+
+    /// Propagation constant per physical metre and characteristic impedance at `f_hz`.
+    pub fn gamma_z0(&self, f_hz: f64) -> (Complex64, Complex64) {
+        if f_hz <= 0.0 {
+            // DC: the lossless limit (the conductor resistance is negligible for reflection at DC here).
+            let ln_ba = (self.outer_radius_m / self.inner_radius_m).ln();
+            let z0 = super::catalogue::ETA0_OVER_2PI / self.er_eff.sqrt() * ln_ba;
+            return (Complex64::new(0.0, 0.0), Complex64::new(z0, 0.0));
+        }
+        let (z, y) = self.zy(f_hz);
+        propagation(z, y)
+    }
+
+    /// One-way group delay per as-built metre at `f_hz`, s/m (central difference of beta).
+    pub fn group_delay_per_m(&self, f_hz: f64) -> f64 {
+        let df = (f_hz * 1e-4).max(1e3);
+        let (f1, f2) = ((f_hz - df).max(1.0), f_hz + df);
+        let b1 = self.gamma_z0(f1).0.im;
+        let b2 = self.gamma_z0(f2).0.im;
+        self.length_scale * (b2 - b1) / (2.0 * PI * (f2 - f1))
+    }
+
+    /// Attenuation per as-built metre at `f_hz`, Np/m.
+    pub fn alpha_per_m(&self, f_hz: f64) -> f64 {
+        self.length_scale * self.gamma_z0(f_hz).0.re
+    }
+}
+
+/// 1 Np = 20 / ln(10) dB.
+pub const NEPER_DB: f64 = 8.685_889_638_065_035;
+
+/// gamma = sqrt(z y) with Re >= 0 and Z0 = sqrt(z / y) with Re >= 0.
+pub fn propagation(z: Complex64, y: Complex64) -> (Complex64, Complex64) {
+    let mut g = (z * y).sqrt();
+    if g.re < 0.0 {
+        g = -g;
+    }
+    let mut z0 = (z / y).sqrt();
+    if z0.re < 0.0 {
+        z0 = -z0;
+    }
+    (g, z0)
+}
+
+/// Conductor attenuation of a kind at 1 GHz, room temperature, from its materials alone, Np/m.
+fn conductor_alpha_room_1ghz(kind: &CableKind) -> f64 {
+    let mut k = kind.clone();
+    k.loss_db_per_m_1ghz = None;
+    k.loss_tangent = 0.0;
+    let s = SectionState::new(&k, ROOM_K, PtfeModel::Free);
+    s.gamma_z0(1e9).0.re
+}
+
+/// Pozar's closed form for coax loss (Microwave Engineering, 4th ed., sec. 2.7 and Example 2.6 style):
+/// alpha_c = Rs (1/a + 1/b) / (2 eta ln(b/a)), alpha_d = pi f sqrt(er) tan(delta) / c0; returns
+/// (alpha_c, alpha_d) in Np/m for conductors of resistivity `rho` (classical skin effect).
+pub fn pozar_coax_loss(f_hz: f64, a: f64, b: f64, er: f64, tan_d: f64, rho: f64) -> (f64, f64) {
+    let rs = (PI * f_hz * MU0 * rho).sqrt();
+    let eta = (MU0 / (EPS0 * er)).sqrt();
+    let ac = rs * (1.0 / a + 1.0 / b) / (2.0 * eta * (b / a).ln());
+    let ad = PI * f_hz * er.sqrt() * tan_d / materials::C0;
+    (ac, ad)
+}
