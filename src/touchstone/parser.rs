@@ -895,7 +895,7 @@ impl<'a> Parser<'a> {
         }
         if self.pending.is_empty() {
             let prev = self.freqs.last().copied();
-            if n == 2 && vals.len() == NOISE_VALUES && prev.is_some_and(|p| vals[0] <= p) {
+            if n == 2 && vals.len() != rl && prev.is_some_and(|p| vals[0] <= p) {
                 // Touchstone 1.1, "Noise Parameter Data": noise starts at a frequency <= the last one.
                 self.section = Section::Noise;
                 return self.v1_noise_line(vals, cols, line);
