@@ -513,3 +513,15 @@ fn singular_conversion_is_reported() {
         "check the values",
     );
 }
+
+#[test]
+fn absurd_port_count_in_the_extension_is_an_error_not_an_overflow() {
+    expect(
+        "# Hz S RI\n1 0 0\n",
+        "a.s99999999999p",
+        ErrorKind::BadPortCount,
+        1,
+        None,
+        "rename the file",
+    );
+}

@@ -137,7 +137,7 @@ pub(crate) fn parse(text: &str, path: &Path) -> Res<Touchstone> {
                 p.start_v2(body, line.number)?;
                 continue;
             }
-            p.ports = ports_from_extension(path);
+            p.ports = ports_from_extension(path).filter(|&n| n <= MAX_PORTS);
             if p.ports.is_none() {
                 return Err(p.err(
                     line.number,
