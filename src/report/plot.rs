@@ -44,6 +44,9 @@ pub struct Figure {
     /// Fixed y range; `None` = fitted to the data.
     pub y_range: Option<(f64, f64)>,
     pub size: (u32, u32),
+    /// When a series has many more points than pixel columns, keep only each column's maximum (for
+    /// magnitude plots, where deep nulls carry no information) instead of its minimum and maximum.
+    pub max_envelope: bool,
 }
 
 impl Figure {
@@ -56,6 +59,7 @@ impl Figure {
             markers: Vec::new(),
             y_range: None,
             size: DEFAULT_SIZE,
+            max_envelope: false,
         }
     }
 }
@@ -197,6 +201,7 @@ where
             .filter(|(a, b)| a.is_finite() && b.is_finite())
             .map(|(&a, &b)| (a, b.clamp(y0, y1)))
             .collect();
+        let points = envelope(points, (x0, x1), fig.size.0 as usize, fig.max_envelope);
         chart
             .draw_series(LineSeries::new(points, colour.stroke_width(2)))
             .map_err(e)?
@@ -215,6 +220,52 @@ where
     }
     root.present().map_err(e)?;
     Ok(())
+}
+
+/// Thin a long series to the minimum and maximum in each of about `columns` x buckets (kept in x order),
+/// so a 100 000-point trace draws as its true envelope instead of a smear of overlapping segments.
+fn envelope(
+    points: Vec<(f64, f64)>,
+    (x0, x1): (f64, f64),
+    columns: usize,
+    max_only: bool,
+) -> Vec<(f64, f64)> {
+    if points.len() <= 4 * columns || columns == 0 {
+        return points;
+    }
+    let width = (x1 - x0) / columns as f64;
+    let mut out = Vec::with_capacity(2 * columns + 2);
+    let mut bucket = usize::MAX;
+    let (mut lo, mut hi) = ((0.0, f64::INFINITY), (0.0, f64::NEG_INFINITY));
+    let flush = |out: &mut Vec<(f64, f64)>, lo: (f64, f64), hi: (f64, f64)| {
+        if lo.1.is_finite() {
+            if max_only {
+                out.push(hi);
+            } else if lo.0 <= hi.0 {
+                out.extend([lo, hi]);
+            } else {
+                out.extend([hi, lo]);
+            }
+        }
+    };
+    for p in points {
+        let b = ((p.0 - x0) / width).floor().max(0.0) as usize;
+        if b != bucket {
+            flush(&mut out, lo, hi);
+            bucket = b;
+            lo = p;
+            hi = p;
+        } else {
+            if p.1 < lo.1 {
+                lo = p;
+            }
+            if p.1 > hi.1 {
+                hi = p;
+            }
+        }
+    }
+    flush(&mut out, lo, hi);
+    out
 }
 
 /// Draw `fig` as an SVG document.

@@ -170,6 +170,7 @@ impl Trace {
             let top = self.values.iter().cloned().fold(f64::NEG_INFINITY, f64::max);
             if top.is_finite() {
                 fig.y_range = Some((top - 100.0, top + 5.0));
+                fig.max_envelope = true;
             }
         }
         fig
