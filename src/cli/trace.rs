@@ -1,10 +1,155 @@
-//! `coldtrace trace` (placeholder until its issue lands).
+//! `coldtrace trace FILE [--mode M] [--window W] [--span A..B] [--step S] [--vf V] [--gate A..B --out F]
+//! [--csv F] [--json] [--plot F.svg|F.png] [--resample] [--padding N] [--force]`: time-domain trace of S11.
+//! Flags become a `coldtrace::transform::TraceConfig`; the work is `coldtrace::transform::run_trace`.
+
+use coldtrace::report::write_plot;
+use coldtrace::touchstone::{read_file, write_file, WriteOptions};
+use coldtrace::transform::{
+    run_trace, Mode, TraceConfig, TraceEngine, TracePlan, UniformLine, Window,
+    DEFAULT_VELOCITY_FACTOR,
+};
+use coldtrace::units::{self, Family};
+use coldtrace::{Error, Network, Warning};
+use std::path::PathBuf;
 
 #[derive(Debug, clap::Args)]
-pub struct Args {}
+pub struct Args {
+    /// The Touchstone sweep (1-port; for a 2-port file S11 is used).
+    #[arg(value_name = "FILE")]
+    pub input: PathBuf,
+    /// band-pass (any uniform grid, |h| in dB), low-pass-impulse or low-pass-step (rho with sign; harmonic
+    /// grid f = k*df), or impedance (ohm, from the step).
+    #[arg(long, default_value = "band-pass", value_name = "MODE")]
+    pub mode: String,
+    /// Window: rect, hann, hamming, blackman-harris or kaiser:BETA.
+    #[arg(long, default_value = "kaiser:6", value_name = "WINDOW")]
+    pub window: String,
+    /// Distance span, e.g. 0m..3m (chirp-z zoom); default: the whole alias-free range by FFT.
+    #[arg(long, value_name = "A..B")]
+    pub span: Option<String>,
+    /// Output step with --span, e.g. 1mm; default: a tenth of the resolution.
+    #[arg(long, value_name = "LENGTH")]
+    pub step: Option<String>,
+    /// Velocity factor of the line (default 0.695: solid PTFE, er about 2.07).
+    #[arg(long, default_value_t = DEFAULT_VELOCITY_FACTOR, value_name = "VF")]
+    pub vf: f64,
+    /// Time gate in distance, e.g. 0.9m..1.1m; the gated sweep is written to --out.
+    #[arg(long, value_name = "A..B", requires = "out")]
+    pub gate: Option<String>,
+    /// Where to write the gated sweep (Touchstone v1 .s1p).
+    #[arg(long, value_name = "FILE", requires = "gate")]
+    pub out: Option<PathBuf>,
+    /// Write the trace as CSV (distance_m,value).
+    #[arg(long, value_name = "FILE")]
+    pub csv: Option<PathBuf>,
+    /// Print the trace as JSON instead of the text summary.
+    #[arg(long)]
+    pub json: bool,
+    /// Draw the trace to an .svg or .png file.
+    #[arg(long, value_name = "FILE")]
+    pub plot: Option<PathBuf>,
+    /// Low-pass modes: interpolate a non-harmonic grid onto a harmonic one (with a warning).
+    #[arg(long)]
+    pub resample: bool,
+    /// Zero-padding factor for the whole-range FFT (1 to 64).
+    #[arg(long, default_value_t = 8, value_name = "N")]
+    pub padding: usize,
+    /// Replace output files that exist (inputs are never replaced).
+    #[arg(long)]
+    pub force: bool,
+}
 
-pub fn run(_args: Args) -> coldtrace::Result<u8> {
-    Err(coldtrace::Error::Usage(
-        "'trace' is not available in this build yet".into(),
-    ))
+pub fn run(args: Args) -> coldtrace::Result<u8> {
+    let in_file = |e: coldtrace::transform::TransformError| {
+        Error::Usage(format!("{}: {e}", args.input.display()))
+    };
+    let mode = Mode::parse(&args.mode).map_err(|e| Error::Usage(format!("--mode: {e}")))?;
+    let window = Window::parse(&args.window).map_err(|e| Error::Usage(format!("--window: {e}")))?;
+    let span_m = args
+        .span
+        .as_deref()
+        .map(|s| units::parse_range(s, Family::Length))
+        .transpose()?;
+    let step_m = args
+        .step
+        .as_deref()
+        .map(|s| units::parse(s, Family::Length))
+        .transpose()?;
+    if step_m.is_some() && span_m.is_none() {
+        return Err(Error::Usage(
+            "--step needs --span (the whole-range FFT sets its own step); add e.g. --span 0m..3m".into(),
+        ));
+    }
+    let gate_m = args
+        .gate
+        .as_deref()
+        .map(|s| units::parse_range(s, Family::Length))
+        .transpose()?;
+    let map = UniformLine::new(args.vf).map_err(|e| Error::Usage(format!("--vf: {e}")))?;
+
+    let ts = read_file(&args.input)?;
+    let net = &ts.network;
+    let mut extra = Vec::new();
+    if net.ports > 1 {
+        extra.push(Warning::new(
+            "port-s11",
+            format!("{}-port file: the trace uses S11", net.ports),
+            "convert the path you want into a 1-port file to trace another parameter",
+        ));
+    }
+    let values = net.s11();
+    let reference_ohm = net.reference_ohm.first().copied().unwrap_or(50.0);
+    let config = TraceConfig {
+        plan: TracePlan {
+            mode,
+            window,
+            span_m,
+            step_m,
+            padding: args.padding,
+            resample: args.resample,
+            reference_ohm,
+            ..TracePlan::default()
+        },
+        gate_m,
+        ..TraceConfig::default()
+    };
+    let mut engine = TraceEngine::new();
+    let mut outcome = run_trace(&mut engine, &net.freqs_hz, &values, &config, &map).map_err(in_file)?;
+    let mut warnings = ts.warnings.clone();
+    warnings.extend(extra);
+    warnings.append(&mut outcome.trace.warnings);
+    outcome.trace.warnings = warnings;
+
+    let inputs = [args.input.as_path()];
+    if let (Some(out), Some(g)) = (&args.out, &outcome.gated) {
+        let gated = Network::one_port(net.freqs_hz.clone(), g.values.clone(), reference_ohm);
+        let mut opts = WriteOptions::default();
+        opts.comments.push(format!(
+            "S11 of {} gated to {} (window {})",
+            args.input.display(),
+            args.gate.as_deref().unwrap_or(""),
+            config.gate_shape.label()
+        ));
+        write_file(out, &gated, &opts, args.force, &inputs)?;
+    }
+    if let Some(csv) = &args.csv {
+        coldtrace::output::write_output(csv, outcome.trace.csv().as_bytes(), args.force, &inputs)?;
+    }
+    if let Some(plot) = &args.plot {
+        let title = format!(
+            "{} - {}",
+            args.input.file_name().map(|s| s.to_string_lossy()).unwrap_or_default(),
+            mode.name()
+        );
+        write_plot(plot, &outcome.trace.figure(&title), args.force, &inputs)?;
+    }
+    let text = if args.json {
+        serde_json::to_string_pretty(&outcome.trace)
+            .map_err(|e| Error::Usage(format!("cannot encode JSON: {e}")))?
+            + "\n"
+    } else {
+        format!("{}\n{}", args.input.display(), outcome.trace.summary())
+    };
+    super::print(&text)?;
+    Ok(coldtrace::exit::OK)
 }

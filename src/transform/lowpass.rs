@@ -17,9 +17,11 @@
 //! there); the even-polynomial form follows from the symmetry. Missing low points k >= 1 after resampling are
 //! filled with the same model, Im G = c f + d f^3 (odd).
 //!
-//! Resampling (only when asked): real and imaginary parts interpolated linearly onto f_k = k df', with
-//! df' = f_max / round(f_max / df). Linear interpolation is accurate while the phase turns little between
-//! points (echo delay well inside the alias-free range); a warning is always attached.
+//! Resampling (only when asked): each point of f_k = k df', df' = f_max / round(f_max / df), is interpolated
+//! between its two measured neighbours in polar form: magnitude linearly, phase along the shorter arc
+//! (exact for one echo whose phase turns less than pi per measured step, i.e. inside half the alias-free
+//! range; close for a dominant echo). Points below the first measured frequency use the low-end model
+//! above. A warning is always attached.
 
 use super::czt::{cis_cycles, FftCache};
 use super::plan::{DcMethod, Grid, TimeAxis};
@@ -77,7 +79,7 @@ impl LowPassSpectrum {
                         ((f - grid.start_hz) / grid.step_hz).clamp(0.0, (grid.points - 1) as f64);
                     let i = (x.floor() as usize).min(grid.points - 2);
                     let u = x - i as f64;
-                    *gk = values[i] * (1.0 - u) + values[i + 1] * u;
+                    *gk = interpolate_polar(values[i], values[i + 1], u);
                 }
             }
             (df, g, false)
@@ -186,6 +188,16 @@ impl LowPassSpectrum {
             .map(|(m, z)| slope * (axis.start_s + m as f64 * axis.step_s) + 2.0 * z.re - off)
             .collect()
     }
+}
+
+/// Between `a` and `b` at fraction `u`: magnitude linearly, phase along the shorter arc from `a` to `b`.
+/// Exact for a single echo whose phase turns less than pi per step.
+pub fn interpolate_polar(a: Complex64, b: Complex64, u: f64) -> Complex64 {
+    if a.norm() == 0.0 || b.norm() == 0.0 {
+        return a * (1.0 - u) + b * u;
+    }
+    let turn = (b / a).arg();
+    Complex64::from_polar(a.norm() * (1.0 - u) + b.norm() * u, a.arg() + u * turn)
 }
 
 fn direct(c: &[Complex64], df: f64, t: f64) -> Complex64 {

@@ -20,6 +20,7 @@ pub mod distance;
 pub mod error;
 pub mod gate;
 pub mod lowpass;
+pub mod outcome;
 pub mod peak;
 pub mod plan;
 pub mod trace;
@@ -29,6 +30,7 @@ pub use czt::{ChirpZ, FftCache};
 pub use distance::{DistanceMap, UniformLine, C0_M_PER_S, DEFAULT_VELOCITY_FACTOR};
 pub use error::TransformError;
 pub use gate::{gate, gate_with, GatePlan, Gated};
+pub use outcome::{run_trace, TraceConfig, TraceOutcome};
 pub use peak::{find_peaks, refine_peak, Peak};
 pub use plan::{uniform_grid, DcMethod, Grid, Mode, PlanCheck, TimeAxis, TracePlan};
 pub use trace::{

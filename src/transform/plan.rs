@@ -236,7 +236,7 @@ impl TracePlan {
                 warnings.push(Warning::new(
                     "resampled-grid",
                     format!(
-                        "the sweep ({} points from {} Hz, step {} Hz) was interpolated linearly onto a harmonic \
+                        "the sweep ({} points from {} Hz, step {} Hz) was interpolated (polar, between neighbours) onto a harmonic \
                          grid of {k} points, step {df} Hz; {} low point(s) were extrapolated",
                         grid.points,
                         grid.start_hz,

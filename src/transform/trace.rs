@@ -4,6 +4,7 @@ use super::bandpass::BandPassSpectrum;
 use super::czt::FftCache;
 use super::lowpass::LowPassSpectrum;
 use super::plan::{Mode, PlanCheck, TracePlan};
+use super::peak::Peak;
 use super::window::WindowInfo;
 use super::{DistanceMap, TransformError};
 use crate::Warning;
@@ -33,6 +34,9 @@ pub struct Trace {
     pub velocity_factor: Option<f64>,
     pub reference_ohm: f64,
     pub warnings: Vec<Warning>,
+    /// Strongest peaks (filled by [`super::outcome::run_trace`]; empty from [`TraceEngine::trace`]).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub peaks: Vec<Peak>,
     /// Linear value of each point: |h| for band-pass, rho (signed) for impulse and step, the step's rho for
     /// impedance.
     #[serde(skip)]
@@ -177,6 +181,7 @@ impl TraceEngine {
             velocity_factor: map.velocity_factor(),
             reference_ohm: plan.reference_ohm,
             warnings,
+            peaks: Vec::new(),
             linear,
             complex,
         })
