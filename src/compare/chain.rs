@@ -8,7 +8,9 @@
 //! seconds; losses are round-trip dB at frequency f modelled as `a_sqrt sqrt(f / 1 GHz) + a_lin f / 1 GHz +
 //! a_flat` (conductor, dielectric and flat attenuator parts).
 
+use crate::line::physics::NEPER_DB;
 use crate::transform::{DistanceMap, C0_M_PER_S};
+use num_complex::Complex64;
 use serde::Serialize;
 
 /// The kind of a segment, as the comparator treats it.
@@ -88,6 +90,8 @@ pub struct ChainView {
     pub segments: Vec<Segment>,
     /// True when built from a line file; false for a uniform line of unknown construction.
     pub as_built: bool,
+    /// Frequency at which the segments' delays are group delays, Hz.
+    pub delay_reference_hz: f64,
 }
 
 /// Which sweep a quantity belongs to.
@@ -122,6 +126,7 @@ impl ChainView {
                 place: String::new(),
             }],
             as_built: false,
+            delay_reference_hz: 5e9,
         }
     }
 
@@ -211,18 +216,41 @@ impl ChainView {
         }
     }
 
+    /// Round-trip loss model from the reference plane to `x` in sweep `which` (the flat part of an
+    /// attenuator counts once `x` is past its middle).
+    pub fn loss_model_to(&self, x: f64, which: Which) -> LossModel {
+        let mut m = LossModel::default();
+        for (s, c) in self.segments.iter().zip(self.cover(x)) {
+            let l = s.loss[which as usize];
+            m.a_sqrt += c * l.a_sqrt;
+            m.a_lin += c * l.a_lin;
+            if c >= 0.5 {
+                m.a_flat += l.a_flat;
+            }
+        }
+        m
+    }
+
     /// Round-trip loss from the reference plane to `x` at `f` Hz in sweep `which`, dB.
     pub fn loss_to_db(&self, x: f64, f: f64, which: Which) -> f64 {
-        self.segments
-            .iter()
-            .zip(self.cover(x))
-            .map(|(s, c)| {
-                let l = s.loss[which as usize];
-                // The flat part of an attenuator counts once the echo is past its middle.
-                c * (l.a_sqrt * (f / 1e9).sqrt() + l.a_lin * f / 1e9)
-                    + if c >= 0.5 { l.a_flat } else { 0.0 }
-            })
-            .sum()
+        self.loss_model_to(x, which).db(f)
+    }
+
+    /// The factor that undoes the modelled round trip to `x` at `f`: amplitude 10^{L/20} (at most
+    /// `max_gain`) and the skin effect's excess phase. A conductor whose surface impedance is (1 + j) Rs
+    /// adds as many radians of phase lag as it adds nepers of loss (e.g. Hall and Heck, Advanced Signal
+    /// Integrity for High-Speed Digital Designs, Wiley 2009, on causal loss models), so the sqrt(f) part of
+    /// the loss, A sqrt(f) nepers, lags the phase by A sqrt(f) rad. The part of that lag linear in f about
+    /// the delay reference frequency is already in the segments' group delays, so only the rest is undone.
+    pub fn compensation(&self, x: f64, which: Which, f: f64, max_gain: f64) -> Complex64 {
+        let m = self.loss_model_to(x, which);
+        let gain = 10f64.powf(m.db(f) / 20.0).min(max_gain);
+        let a_np = m.a_sqrt / NEPER_DB;
+        let g = (f / 1e9).max(0.0);
+        let g_ref = (self.delay_reference_hz / 1e9).max(1e-9);
+        // phi(g) = A sqrt(g); its tangent at g_ref has slope A / (2 sqrt(g_ref)).
+        let phase = a_np * (g.sqrt() - g / (2.0 * g_ref.sqrt()));
+        Complex64::from_polar(gain, phase)
     }
 
     /// The nearest connector to `x` and its distance from `x`, m.

@@ -40,7 +40,7 @@ pub fn noise_sigma(mag: &[f64]) -> f64 {
 /// What the detector needs to know of the window.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct LobeShape {
-    /// Half-width of the main lobe, null to peak, in round-trip seconds.
+    /// Half-width of the main lobe round a peak inside which no second event is claimed, round-trip s.
     pub main_lobe_half_s: f64,
     /// Highest sidelobe relative to the peak, dB (negative).
     pub sidelobe_db: f64,
@@ -63,8 +63,31 @@ pub struct Peak {
 
 /// Find events in `mag` sampled at delays `t0 + i dt`: local maxima above `NOISE_SIGMAS` noise RMS and above
 /// the sidelobe masks of every stronger accepted event. Returned in order of delay.
-pub fn find_events(mag: &[f64], t0: f64, dt: f64, lobe: LobeShape, sigma: f64) -> Vec<Peak> {
+///
+/// `gain[i]` is the amplitude gain loss compensation applied at bin `i` (all ones for an uncompensated
+/// trace); thresholds are compared in the uncompensated domain, `mag[i] / gain[i]`, where the noise
+/// (`sigma`, uncompensated) is the same everywhere and a neighbour's sidelobes keep their raw level.
+pub fn find_events(
+    mag: &[f64],
+    gain: &[f64],
+    t0: f64,
+    dt: f64,
+    lobe: LobeShape,
+    sigma: f64,
+) -> Vec<Peak> {
+    assert_eq!(
+        mag.len(),
+        gain.len(),
+        "find_events: {} values but {} gains",
+        mag.len(),
+        gain.len()
+    );
     let floor = NOISE_SIGMAS * sigma;
+    let raw: Vec<f64> = mag
+        .iter()
+        .zip(gain)
+        .map(|(m, g)| m / g.max(1e-300))
+        .collect();
     let mut cands: Vec<usize> = (0..mag.len())
         .filter(|&i| {
             let left = if i == 0 {
@@ -77,32 +100,34 @@ pub fn find_events(mag: &[f64], t0: f64, dt: f64, lobe: LobeShape, sigma: f64) -
             } else {
                 mag[i + 1]
             };
-            mag[i] > floor && mag[i] >= left && mag[i] > right
+            raw[i] > floor && mag[i] >= left && mag[i] > right
         })
         .collect();
     cands.sort_by(|&a, &b| mag[b].total_cmp(&mag[a]));
     let side = 10f64.powf((lobe.sidelobe_db + SIDELOBE_MARGIN_DB) / 20.0);
     let mut accepted: Vec<Peak> = Vec::new();
+    let mut accepted_raw: Vec<f64> = Vec::new();
     for i in cands {
         let (delay, m) = refine(mag, i, t0, dt);
+        let m_raw = m / gain[i].max(1e-300);
         let mut threshold = floor;
         let mut masked = false;
-        for p in &accepted {
-            let sep = (delay - p.delay_s).abs();
-            if sep < lobe.main_lobe_half_s {
+        for (p, &p_raw) in accepted.iter().zip(&accepted_raw) {
+            if (delay - p.delay_s).abs() < lobe.main_lobe_half_s {
                 masked = true;
                 break;
             }
-            threshold = threshold.max(p.magnitude * side);
+            threshold = threshold.max(p_raw * side);
         }
-        if !masked && m > threshold {
+        if !masked && m_raw > threshold {
             accepted.push(Peak {
                 index: i,
                 delay_s: delay,
                 magnitude: m,
-                threshold,
+                threshold: threshold * gain[i],
                 ghost_of: None,
             });
+            accepted_raw.push(m_raw);
         }
     }
     accepted.sort_by(|a, b| a.delay_s.total_cmp(&b.delay_s));
@@ -211,7 +236,7 @@ mod tests {
             sidelobe_db: -44.0,
         };
         let sigma = noise_sigma(&m);
-        let ev = find_events(&m, 0.0, 1.0, lobe, sigma);
+        let ev = find_events(&m, &vec![1.0; m.len()], 0.0, 1.0, lobe, sigma);
         assert_eq!(ev.len(), 2, "{ev:?}");
         assert!((ev[0].delay_s - 1000.0).abs() < 0.2 && (ev[1].delay_s - 1400.0).abs() < 0.2);
     }
@@ -228,7 +253,7 @@ mod tests {
             m[c - 1] = a * 0.5;
             m[c + 1] = a * 0.5;
         }
-        let ev = find_events(&m, 0.0, 1.0, lobe, 1e-6);
+        let ev = find_events(&m, &vec![1.0; m.len()], 0.0, 1.0, lobe, 1e-6);
         assert_eq!(ev.len(), 3);
         assert_eq!(ev[2].ghost_of, Some((0, 1)));
         assert_eq!(ev[0].ghost_of, None);

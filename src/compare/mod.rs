@@ -10,6 +10,7 @@ pub mod align;
 pub mod analysis;
 pub mod chain;
 pub mod detect;
+pub mod from_line;
 pub mod lumped;
 pub mod report;
 pub mod run;

@@ -254,8 +254,8 @@ fn fit_alignment(
     let sig: Vec<f64> = pairs
         .iter()
         .map(|&(i, j)| {
-            let sb = b.resolution_s / (2.0 * b.snr(b.events[i].magnitude));
-            let sc = c.resolution_s / (2.0 * c.snr(c.events[j].magnitude));
+            let sb = b.resolution_s / (2.0 * b.snr(b.events[i].magnitude, b.events[i].delay_s));
+            let sc = c.resolution_s / (2.0 * c.snr(c.events[j].magnitude, c.events[j].delay_s));
             (sb * sb + sc * sc).sqrt()
         })
         .collect();
@@ -598,6 +598,8 @@ pub fn compare(
         &sb,
         &cfg.window,
         t_max(&chain, Which::Baseline, res0),
+        &chain,
+        Which::Baseline,
         &mut engine,
     )?;
     let c = SweepAnalysis::new(
@@ -605,6 +607,8 @@ pub fn compare(
         &sc,
         &cfg.window,
         t_max(&chain, Which::Current, res0),
+        &chain,
+        Which::Current,
         &mut engine,
     )?;
     let f_ref = cfg.reference_hz.unwrap_or_else(|| band_centre(fc));
@@ -618,7 +622,7 @@ pub fn compare(
     }
 
     // Landmarks: strong events, near where the model puts them, not much changed.
-    let strong = |e: &Peak, a: &SweepAnalysis| a.snr(e.magnitude) >= LANDMARK_SNR;
+    let strong = |e: &Peak, a: &SweepAnalysis| a.snr(e.magnitude, e.delay_s) >= LANDMARK_SNR;
     let tol0 = |p: f64| MAX_LENGTH_CHANGE * p + 2.0 * b.resolution_s.max(c.resolution_s);
     let predict0 = |d: f64| {
         chain.delay_to(
@@ -674,11 +678,6 @@ pub fn compare(
         |_, _| true,
     );
     let f_c = band_centre(fc);
-    let comp = |x: f64, which: Which| {
-        10f64
-            .powf(chain.loss_to_db(x, f_c, which) / 20.0)
-            .min(MAX_COMPENSATION)
-    };
     let visible_end = chain.visible_end_m();
     let mut findings: Vec<Finding> = Vec::new();
     let mut behind = 0usize;
@@ -696,17 +695,19 @@ pub fn compare(
             behind += 1;
             return Ok(());
         }
-        let refl = mag_c * comp(x, Which::Current);
+        let refl = mag_c;
         let (change_db, phase_deg, base_refl) = match base {
             Some((mag_b, gamma_b)) => {
-                let rb = mag_b * comp(x, Which::Baseline);
+                let rb = mag_b;
                 let ph = (gamma_c / gamma_b).arg().to_degrees();
                 (db(refl) - db(rb), ph, rb)
             }
             None => {
                 let d_b = fit.chain.delay_to(x, Which::Baseline, None);
-                let level = b.h(d_b).norm().max(super::detect::NOISE_SIGMAS * b.sigma);
-                let rb = level * comp(x, Which::Baseline);
+                let rb = b
+                    .h(d_b)
+                    .norm()
+                    .max(super::detect::NOISE_SIGMAS * b.sigma_at(d_b));
                 (db(refl) - db(rb), 0.0, rb)
             }
         };
@@ -714,11 +715,11 @@ pub fn compare(
             || (same_state
                 && base.is_some()
                 && phase_deg.abs() >= PHASE_CHANGE_DEG
-                && c.snr(mag_c) > 10.0);
+                && c.snr(mag_c, d_c) > 10.0);
         if !changed {
             return Ok(());
         }
-        let snr = c.snr(mag_c);
+        let snr = c.snr(mag_c, d_c);
         let fits = c.fit_event(d_c, x, &chain, Which::Current, engine)?;
         let (fl, gl) = c.local_reflection(d_c, x, &chain, Which::Current, engine)?;
         // The model's residual delay moves the event to where the model puts it.
@@ -819,7 +820,7 @@ pub fn compare(
         let x = to_x_b(eb.delay_s);
         let d_c = fit.chain.delay_to(x, Which::Current, None);
         let hc = c.h(d_c);
-        let mag_c = hc.norm().max(super::detect::NOISE_SIGMAS * c.sigma);
+        let mag_c = hc.norm().max(super::detect::NOISE_SIGMAS * c.sigma_at(d_c));
         consider(
             x,
             d_c,
@@ -914,6 +915,8 @@ pub fn locate(
         &s,
         &cfg.window,
         t_max(&chain, Which::Current, res0),
+        &chain,
+        Which::Current,
         &mut engine,
     )?;
     let f_ref = cfg.reference_hz.unwrap_or_else(|| band_centre(f));
@@ -925,7 +928,7 @@ pub fn locate(
         let x = chain.position_of(e.delay_s, Which::Current, None);
         let speed = speed_at(&chain, x, Which::Current);
         let res_m = a.resolution_s * speed;
-        let snr = a.snr(e.magnitude);
+        let snr = a.snr(e.magnitude, e.delay_s);
         let comp = 10f64.powf(chain.loss_to_db(x, f_c, Which::Current) / 20.0);
         let visible = !(chain.as_built && x > visible_end + res_m) && comp <= MAX_COMPENSATION;
         let fits = a.fit_event(e.delay_s, x, &chain, Which::Current, &mut engine)?;
@@ -966,7 +969,7 @@ pub fn locate(
             place: p,
             kind,
             severity,
-            reflection_db: db(e.magnitude * comp.min(MAX_COMPENSATION)),
+            reflection_db: db(e.magnitude),
             mismatch_loss_db: ml,
             power_drop_db: drop,
             uncertainty_m: 2.0 * sigma_x,

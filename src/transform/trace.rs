@@ -3,8 +3,8 @@
 use super::bandpass::BandPassSpectrum;
 use super::czt::FftCache;
 use super::lowpass::LowPassSpectrum;
-use super::plan::{Mode, PlanCheck, TracePlan};
 use super::peak::Peak;
+use super::plan::{Mode, PlanCheck, TracePlan};
 use super::window::WindowInfo;
 use super::{DistanceMap, TransformError};
 use crate::Warning;

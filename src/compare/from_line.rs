@@ -1,0 +1,123 @@
+//! Building the comparator's [`ChainView`] from a line file's model, for the two sweeps' states.
+//!
+//! Each element's round-trip delay is twice the difference of the model's one-way group delay profile
+//! (`line::position::DelayProfile`) across it; its round-trip loss is twice the attenuation integrated over
+//! its temperature slices, evaluated at two frequencies of the sweep and fitted as a sqrt(f) plus f law
+//! (conductor plus dielectric), with an attenuator's own loss as the flat part.
+
+use super::chain::{ChainView, LossModel, Segment, SegmentKind};
+use crate::line::physics::{SectionState, NEPER_DB};
+
+use crate::line::position::{slices, DelayProfile};
+use crate::line::{Element, ElementKind, Line, State};
+
+/// Round-trip loss of element `e` in `state` at `f` Hz, dB, without an attenuator's flat part.
+fn element_loss_db(line: &Line, e: &Element, state: State, f: f64) -> f64 {
+    let kind = match &e.kind {
+        ElementKind::Cable { cable } => cable,
+        ElementKind::Connector { section, .. } => section,
+        _ => return 0.0,
+    };
+    let np: f64 = slices(e, state, 0.0, e.length_m)
+        .iter()
+        .map(|s| SectionState::new(kind, s.t_k, line.ptfe_model).alpha_per_m(f) * s.length_m)
+        .sum();
+    2.0 * np * NEPER_DB
+}
+
+fn stage_text(e: &Element) -> String {
+    let pretty = |s: &str| -> String {
+        match s {
+            "room" => "room temperature".into(),
+            other => other.to_string(),
+        }
+    };
+    if e.from_stage == e.to_stage || e.to_stage.is_empty() {
+        if e.from_stage.is_empty() {
+            String::new()
+        } else {
+            format!("{} stage", pretty(&e.from_stage))
+        }
+    } else {
+        format!("{} to {}", pretty(&e.from_stage), pretty(&e.to_stage))
+    }
+}
+
+impl ChainView {
+    /// The chain of `line` as seen by a baseline sweep in `baseline` state and a current sweep in `current`
+    /// state, with losses fitted between `f_lo` and `f_hi` Hz and delays at `f_ref` Hz.
+    pub fn from_line(
+        line: &Line,
+        baseline: State,
+        current: State,
+        f_lo: f64,
+        f_hi: f64,
+        f_ref: f64,
+    ) -> Self {
+        let profiles = [
+            DelayProfile::new(line, baseline, f_ref),
+            DelayProfile::new(line, current, f_ref),
+        ];
+        let states = [baseline, current];
+        let (f1, f2) = (f_lo.max(1e6), f_hi.max(f_lo.max(1e6) * 1.5));
+        let segments = line
+            .elements
+            .iter()
+            .map(|e| {
+                let delay = |k: usize| {
+                    2.0 * (profiles[k].delay_s(e.end_m()) - profiles[k].delay_s(e.start_m))
+                };
+                let flat = match &e.kind {
+                    ElementKind::Attenuator { loss_db, .. } => 2.0 * loss_db,
+                    _ => 0.0,
+                };
+                let loss = |k: usize| {
+                    LossModel::through(
+                        f1,
+                        element_loss_db(line, e, states[k], f1) + flat,
+                        f2,
+                        element_loss_db(line, e, states[k], f2) + flat,
+                        flat,
+                    )
+                };
+                let (kind, pin, eps) = match &e.kind {
+                    ElementKind::Cable { cable } => {
+                        (SegmentKind::Cable, cable.inner_radius_m, cable.er)
+                    }
+                    ElementKind::Connector {
+                        section,
+                        pin_radius_m,
+                    } => (SegmentKind::Connector, *pin_radius_m, section.er),
+                    ElementKind::Attenuator { er, .. } => (
+                        SegmentKind::Attenuator,
+                        super::chain::DEFAULT_PIN_RADIUS_M,
+                        *er,
+                    ),
+                    ElementKind::Device { .. } => (
+                        SegmentKind::Device,
+                        super::chain::DEFAULT_PIN_RADIUS_M,
+                        super::chain::DEFAULT_EPS_R,
+                    ),
+                };
+                Segment {
+                    name: e.name.clone(),
+                    kind,
+                    start_m: e.start_m,
+                    end_m: e.end_m(),
+                    delay_s: [delay(0), delay(1)],
+                    loss: [loss(0), loss(1)],
+                    pin_radius_m: pin,
+                    eps_r: eps,
+                    place: stage_text(e),
+                }
+            })
+            .collect();
+        ChainView {
+            name: line.name.clone(),
+            impedance_ohm: line.impedance_ohm,
+            segments,
+            as_built: true,
+            delay_reference_hz: f_ref,
+        }
+    }
+}
