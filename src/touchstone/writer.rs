@@ -96,7 +96,7 @@ pub fn write(network: &Network, options: &WriteOptions) -> Result<String, Touchs
         if !same_ref {
             out.push_str("[Reference]");
             for r in &network.reference_ohm {
-                let _ = write!(out, " {}", fmt_num(*r));
+                let _ = write!(out, " {r}");
             }
             out.push('\n');
         }
