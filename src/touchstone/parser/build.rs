@@ -145,11 +145,10 @@ impl<'a> Parser<'a> {
                     s.extend_from_slice(&m);
                 }
                 Some(kind) => {
-                    // Version 1: values are normalised to R already; version 2: ohms and siemens.
+                    // Version 1: values are normalised to R already (with one R per port, a
+                    // deviation, each to its port's R as in `convert`); version 2: ohms and siemens.
                     if self.v2 {
                         convert::normalise(kind, &mut m, &reference);
-                    } else if o.reference.len() > 1 {
-                        // Per-port R in version 1 (a deviation): values taken as normalised per port.
                     }
                     let sm = convert::to_s(kind, &m, n).ok_or_else(|| {
                         self.err(
