@@ -133,3 +133,26 @@ proptest! {
         let _ = read_bytes(&bytes, Path::new(name));
     }
 }
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(100))]
+
+    /// Lines with a trailing comment take the general path, plain lines the fast one: both must agree.
+    #[test]
+    fn fast_and_general_line_paths_agree(net in network_strategy(), v2 in any::<bool>()) {
+        let version = if v2 || net.reference_ohm.iter().any(|&r| r != net.reference_ohm[0]) {
+            WriteVersion::V2
+        } else {
+            WriteVersion::V1
+        };
+        let text = write(&net, &WriteOptions { version, ..Default::default() }).unwrap();
+        let commented: String = text
+            .lines()
+            .map(|l| if l.starts_with('[') { format!("{l}\n") } else { format!("{l} ! c\n") })
+            .collect();
+        let name = format!("p.s{}p", net.ports);
+        let a = read_str(&text, Path::new(&name)).unwrap();
+        let b = read_str(&commented, Path::new(&name)).unwrap_or_else(|e| panic!("{e}\n{commented}"));
+        prop_assert_eq!(a.network, b.network);
+    }
+}

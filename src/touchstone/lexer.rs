@@ -41,7 +41,7 @@ impl<'a> Iterator for Lines<'a> {
         }
         self.number += 1;
         let bytes = self.rest.as_bytes();
-        match bytes.iter().position(|&b| b == b'\n' || b == b'\r') {
+        match memchr::memchr2(b'\n', b'\r', bytes) {
             Some(i) => {
                 let text = &self.rest[..i];
                 let skip = if bytes[i] == b'\r' && bytes.get(i + 1) == Some(&b'\n') {
@@ -132,7 +132,16 @@ const MAX_EXACT_MANTISSA: u64 = 1 << 53;
 /// allow.
 #[inline]
 pub(crate) fn parse_number(token: &str) -> Option<f64> {
-    let b = token.as_bytes();
+    match parse_number_prefix(token.as_bytes()) {
+        Some((v, len)) if len == token.len() => Some(v),
+        _ => None,
+    }
+}
+
+/// Parse the longest number at the start of `b`: its value and how many bytes it took. `None` when `b`
+/// does not start with a number (or an exponent marker has no digits).
+#[inline]
+pub(crate) fn parse_number_prefix(b: &[u8]) -> Option<(f64, usize)> {
     let mut i = 0;
     let negative = match b.first() {
         Some(b'-') => {
@@ -198,9 +207,6 @@ pub(crate) fn parse_number(token: &str) -> Option<f64> {
         }
         exp10 += if eneg { -e } else { e };
     }
-    if i != b.len() {
-        return None;
-    }
     if !overflow && mantissa <= MAX_EXACT_MANTISSA && exp10.abs() <= 22 {
         let m = mantissa as f64;
         let v = if exp10 >= 0 {
@@ -208,10 +214,46 @@ pub(crate) fn parse_number(token: &str) -> Option<f64> {
         } else {
             m / POW10[(-exp10) as usize]
         };
-        return Some(if negative { -v } else { v });
+        return Some((if negative { -v } else { v }, i));
     }
-    // Slow path: the grammar is already checked, and std accepts all of it.
-    token.parse::<f64>().ok().filter(|v| v.is_finite())
+    // Slow path: the grammar is already checked (ASCII only), and std accepts all of it.
+    let text = std::str::from_utf8(&b[..i]).ok()?;
+    let v = text.parse::<f64>().ok().filter(|v| v.is_finite())?;
+    Some((v, i))
+}
+
+/// The fast path for a data line: numbers separated by spaces or tabs, up to the end of the line. Fills
+/// `vals` and `cols` (1-based byte columns) and returns true when the line is exactly that (no comment)
+/// and holds at least one number; false sends the line to the general path, which also produces the precise error.
+#[inline]
+pub(crate) fn lex_data_line(b: &[u8], vals: &mut Vec<f64>, cols: &mut Vec<u32>) -> bool {
+    vals.clear();
+    cols.clear();
+    let mut i = 0;
+    loop {
+        while i < b.len() && is_space(b[i]) {
+            i += 1;
+        }
+        if i == b.len() {
+            return !vals.is_empty();
+        }
+        if b[i] == b'!' {
+            // Comments go through the general path, which also checks them for control characters.
+            return false;
+        }
+        match parse_number_prefix(&b[i..]) {
+            Some((v, len)) => {
+                let j = i + len;
+                if j < b.len() && !is_space(b[j]) && b[j] != b'!' {
+                    return false;
+                }
+                vals.push(v);
+                cols.push((i + 1) as u32);
+                i = j;
+            }
+            None => return false,
+        }
+    }
 }
 
 #[inline]
@@ -311,6 +353,28 @@ mod tests {
                     "{t}"
                 );
             }
+        }
+    }
+
+    #[test]
+    fn data_line_fast_path() {
+        let (mut v, mut c) = (Vec::new(), Vec::new());
+        assert!(lex_data_line(b"  1.5\t-2e3 +.5  ", &mut v, &mut c));
+        assert_eq!(
+            (v.as_slice(), c.as_slice()),
+            (&[1.5, -2e3, 0.5][..], &[3, 7, 12][..])
+        );
+        for other in [
+            &b"1 2x"[..],
+            b"1 2 ! note",
+            b"",
+            b"  ! only",
+            b"# GHz",
+            b"1 \x00",
+            b"[End]",
+            b"1e",
+        ] {
+            assert!(!lex_data_line(other, &mut v, &mut c), "{other:?}");
         }
     }
 

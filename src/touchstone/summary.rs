@@ -137,3 +137,42 @@ impl std::fmt::Display for Summary {
         Ok(())
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::touchstone::read_str;
+
+    fn grid(freqs: &[f64]) -> Summary {
+        let mut text = String::from("# Hz S RI R 50\n");
+        for f in freqs {
+            text.push_str(&format!("{f} 0.1 0\n"));
+        }
+        let ts = read_str(&text, Path::new("g.s1p")).unwrap();
+        summarize(&ts, Path::new("g.s1p"))
+    }
+
+    #[test]
+    fn uniform_and_harmonic_grids() {
+        let s = grid(&[0.0, 1e6, 2e6, 3e6]);
+        assert!(s.uniform && s.harmonic);
+        assert_eq!(s.f_step_hz, Some(1e6));
+        let s = grid(&[1e6, 2e6, 3e6]);
+        assert!(s.uniform && s.harmonic);
+        let s = grid(&[1.5e6, 2.5e6, 3.5e6]);
+        assert!(s.uniform && !s.harmonic);
+        let s = grid(&[1e6, 2e6, 4e6]);
+        assert!(!s.uniform && !s.harmonic);
+        let s = grid(&[5e6]);
+        assert!(s.uniform && !s.harmonic && s.f_step_hz.is_none());
+    }
+
+    #[test]
+    fn tolerance_is_relative_to_the_step() {
+        // A step off by 0.5e-6 df passes, by 2e-6 df fails (GRID_TOLERANCE = 1e-6).
+        assert!(grid(&[1e6, 2e6 + 0.5, 3e6]).uniform);
+        assert!(!grid(&[1e6, 2e6 + 2.0, 3e6]).uniform);
+        assert!(grid(&[1e6 + 0.5, 2e6 + 0.5, 3e6 + 0.5]).harmonic);
+        assert!(!grid(&[1e6 + 2.0, 2e6 + 2.0, 3e6 + 2.0]).harmonic);
+    }
+}

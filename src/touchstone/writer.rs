@@ -79,10 +79,9 @@ pub fn write(network: &Network, options: &WriteOptions) -> Result<String, Touchs
     }
     let _ = writeln!(
         out,
-        "# {} S {} R {}",
+        "# {} S {} R {r0}",
         options.unit.as_str(),
         options.format.as_str(),
-        fmt_num(r0)
     );
     if v2 {
         let _ = writeln!(out, "[Number of Ports] {n}");
@@ -96,15 +95,22 @@ pub fn write(network: &Network, options: &WriteOptions) -> Result<String, Touchs
         if !same_ref {
             out.push_str("[Reference]");
             for r in &network.reference_ohm {
-                let _ = write!(out, " {}", fmt_num(*r));
+                let _ = write!(out, " {r}");
             }
             out.push('\n');
         }
         out.push_str("[Network Data]\n");
     }
     let scale = options.unit.hz();
-    for k in 0..network.len() {
-        out.push_str(&fmt_num(network.freqs_hz[k] / scale));
+    let freqs: Vec<f64> = network.freqs_hz.iter().map(|f| f / scale).collect();
+    if freqs.windows(2).any(|w| w[1] <= w[0]) {
+        return Err(TouchstoneError::Invalid(format!(
+            "two frequencies become equal when written in {}; choose a smaller unit (e.g. --unit Hz)",
+            options.unit.as_str()
+        )));
+    }
+    for (k, f) in freqs.iter().enumerate() {
+        out.push_str(&fmt_num(*f));
         if n <= 2 {
             let order: &[(usize, usize)] = if n == 1 {
                 &[(0, 0)]
@@ -192,7 +198,11 @@ fn check(network: &Network) -> Result<(), TouchstoneError> {
             network.reference_ohm
         ));
     }
-    if let Some(w) = network.freqs_hz.windows(2).position(|w| !(w[1] > w[0])) {
+    if let Some(w) = network
+        .freqs_hz
+        .windows(2)
+        .position(|w| w[1] <= w[0] || w[1].is_nan())
+    {
         return bad(format!(
             "frequencies must increase: point {} ({} Hz) is not above the one before",
             w + 1,
