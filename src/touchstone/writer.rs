@@ -79,10 +79,9 @@ pub fn write(network: &Network, options: &WriteOptions) -> Result<String, Touchs
     }
     let _ = writeln!(
         out,
-        "# {} S {} R {}",
+        "# {} S {} R {r0}",
         options.unit.as_str(),
         options.format.as_str(),
-        fmt_num(r0)
     );
     if v2 {
         let _ = writeln!(out, "[Number of Ports] {n}");
@@ -96,7 +95,7 @@ pub fn write(network: &Network, options: &WriteOptions) -> Result<String, Touchs
         if !same_ref {
             out.push_str("[Reference]");
             for r in &network.reference_ohm {
-                let _ = write!(out, " {}", fmt_num(*r));
+                let _ = write!(out, " {r}");
             }
             out.push('\n');
         }
@@ -192,7 +191,7 @@ fn check(network: &Network) -> Result<(), TouchstoneError> {
             network.reference_ohm
         ));
     }
-    if let Some(w) = network.freqs_hz.windows(2).position(|w| !(w[1] > w[0])) {
+    if let Some(w) = network.freqs_hz.windows(2).position(|w| w[1] <= w[0] || w[1].is_nan()) {
         return bad(format!(
             "frequencies must increase: point {} ({} Hz) is not above the one before",
             w + 1,
