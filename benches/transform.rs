@@ -66,9 +66,10 @@ fn bench(c: &mut Criterion) {
         ..TracePlan::default()
     };
     engine.trace(&freqs, &values, &span_plan, &map).unwrap();
-    c.bench_function("band-pass trace with span, 10001 points -> 4096 bins (chirp-z)", |b| {
-        b.iter(|| black_box(engine.trace(&freqs, &values, &span_plan, &map).unwrap()))
-    });
+    c.bench_function(
+        "band-pass trace with span, 10001 points -> 4096 bins (chirp-z)",
+        |b| b.iter(|| black_box(engine.trace(&freqs, &values, &span_plan, &map).unwrap())),
+    );
     let few: Vec<f64> = (0..64).map(|k| t0 + k as f64 * dt).collect();
     c.bench_function("direct DFT sum, 10001 points -> 64 bins", |b| {
         b.iter(|| black_box(direct(&freqs, &wg, &few)))

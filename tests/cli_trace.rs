@@ -31,17 +31,38 @@ fn text_summary_names_the_load_distance() {
     assert!(text.contains("band-pass trace, window kaiser"), "{text}");
     assert!(text.contains("resolution"), "{text}");
     // The strongest peak: 1.5000 m at 20 log10(30/70) = -7.36 dB.
-    let first = text.lines().find(|l| l.trim_start().starts_with("1 ")).expect(&text);
-    assert!(first.contains("1.5000 m") && first.contains("-7.36 dB"), "{first}");
+    let first = text
+        .lines()
+        .find(|l| l.trim_start().starts_with("1 "))
+        .expect(&text);
+    assert!(
+        first.contains("1.5000 m") && first.contains("-7.36 dB"),
+        "{first}"
+    );
 }
 
 #[test]
 fn json_is_the_trace_contract() {
     let f = fixture();
-    let o = run(&[f.to_str().unwrap(), "--json", "--span", "1m..2m", "--step", "1mm"]);
+    let o = run(&[
+        f.to_str().unwrap(),
+        "--json",
+        "--span",
+        "1m..2m",
+        "--step",
+        "1mm",
+    ]);
     assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
     let v: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
-    for key in ["axis_m", "values", "unit", "resolution_m", "alias_free_range_m", "window", "warnings"] {
+    for key in [
+        "axis_m",
+        "values",
+        "unit",
+        "resolution_m",
+        "alias_free_range_m",
+        "window",
+        "warnings",
+    ] {
         assert!(v.get(key).is_some(), "missing {key}");
     }
     assert_eq!(v["unit"], "dB");
@@ -82,7 +103,12 @@ fn impedance_mode_reads_the_20_ohm_load() {
         })
         .collect();
     assert_eq!(rows.len(), 251);
-    let at = |x: f64| rows.iter().min_by(|a, b| (a.0 - x).abs().total_cmp(&(b.0 - x).abs())).unwrap().1;
+    let at = |x: f64| {
+        rows.iter()
+            .min_by(|a, b| (a.0 - x).abs().total_cmp(&(b.0 - x).abs()))
+            .unwrap()
+            .1
+    };
     assert!((at(0.8) - 50.0).abs() < 1.0, "line: {}", at(0.8));
     // DC extrapolated from 10 and 20 MHz; the load reads 20 ohm within 1 ohm.
     assert!((at(2.2) - 20.0).abs() < 1.0, "load: {}", at(2.2));
@@ -110,7 +136,10 @@ fn outputs_gate_plot_and_force() {
     let o = run(&a.iter().map(String::as_str).collect::<Vec<_>>());
     assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
     let text = std::fs::read_to_string(&svg).unwrap();
-    assert!(text.starts_with("<svg") && text.contains("distance (m)"), "svg");
+    assert!(
+        text.starts_with("<svg") && text.contains("distance (m)"),
+        "svg"
+    );
     let ts = coldtrace::touchstone::read_file(&gated).unwrap();
     assert_eq!(ts.network.freqs_hz.len(), 300);
     // The only echo sits inside the gate: the gated sweep is the input, to 1 % inside the band.
@@ -141,7 +170,11 @@ fn bad_flags_give_exit_2_and_the_fix() {
     assert!(stderr(&o).contains("allowed: rect, hann"), "{}", stderr(&o));
     let o = run(&[f, "--mode", "fast"]);
     assert_eq!(o.status.code(), Some(2));
-    assert!(stderr(&o).contains("band-pass, low-pass-impulse"), "{}", stderr(&o));
+    assert!(
+        stderr(&o).contains("band-pass, low-pass-impulse"),
+        "{}",
+        stderr(&o)
+    );
     let o = run(&[f, "--plot", "/tmp/never-written.gif"]);
     assert_eq!(o.status.code(), Some(2));
     assert!(stderr(&o).contains(".svg or .png"), "{}", stderr(&o));
@@ -168,7 +201,10 @@ fn non_harmonic_low_pass_is_refused_then_resampled() {
     let o = run(&[p.to_str().unwrap(), "--mode", "low-pass-step"]);
     assert_eq!(o.status.code(), Some(2));
     let e = stderr(&o);
-    assert!(e.contains("offset.s1p") && e.contains("--resample") && e.contains("band-pass"), "{e}");
+    assert!(
+        e.contains("offset.s1p") && e.contains("--resample") && e.contains("band-pass"),
+        "{e}"
+    );
     let o = run(&[p.to_str().unwrap(), "--mode", "low-pass-step", "--resample"]);
     assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
     assert!(stdout(&o).contains("interpolated"), "{}", stdout(&o));

@@ -1,8 +1,6 @@
 //! Fast paths against the naive DFT sum over many sizes and seeded random sweeps.
 
-use coldtrace::transform::{
-    trace, ChirpZ, FftCache, Mode, TracePlan, UniformLine, Window,
-};
+use coldtrace::transform::{trace, ChirpZ, FftCache, Mode, TracePlan, UniformLine, Window};
 use num_complex::Complex64;
 use std::f64::consts::PI;
 
@@ -64,7 +62,10 @@ fn chirp_z_equals_direct_sum_over_random_sizes() {
         let fast = ChirpZ::new(&mut planner, n, m, df_t0, df_dt).process(&x);
         let slow = naive(&x, m, df_t0, df_dt);
         let err = max_rel_err(&fast, &slow, scale);
-        assert!(err < 1e-9, "n {n} m {m} df_dt {df_dt} df_t0 {df_t0}: error {err}");
+        assert!(
+            err < 1e-9,
+            "n {n} m {m} df_dt {df_dt} df_t0 {df_t0}: error {err}"
+        );
     }
 }
 
@@ -96,7 +97,11 @@ fn band_pass_trace_equals_naive_sum() {
         let df = 1e6 + rng.uniform() * 5e7;
         let freqs: Vec<f64> = (0..n).map(|i| f0 + i as f64 * df).collect();
         let values: Vec<Complex64> = (0..n).map(|_| rng.complex()).collect();
-        let window = [Window::Rectangular, Window::Hann, Window::Kaiser { beta: 6.0 }][case % 3];
+        let window = [
+            Window::Rectangular,
+            Window::Hann,
+            Window::Kaiser { beta: 6.0 },
+        ][case % 3];
         let w = window.coefficients(n);
         let wsum: f64 = w.iter().sum();
         let span = if case % 2 == 0 {
@@ -115,7 +120,12 @@ fn band_pass_trace_equals_naive_sum() {
         };
         let tr = trace(&freqs, &values, &plan, &map).unwrap();
         assert_eq!(tr.complex.len(), tr.time_s.len());
-        let scale: f64 = values.iter().zip(&w).map(|(v, wn)| v.norm() * wn).sum::<f64>() / wsum;
+        let scale: f64 = values
+            .iter()
+            .zip(&w)
+            .map(|(v, wn)| v.norm() * wn)
+            .sum::<f64>()
+            / wsum;
         for k in (0..tr.time_s.len()).step_by(7) {
             let t = tr.time_s[k];
             let want: Complex64 = freqs
@@ -130,7 +140,9 @@ fn band_pass_trace_equals_naive_sum() {
                 / wsum;
             let err = (tr.complex[k] - want).norm() / scale;
             assert!(err < 1e-9, "case {case} n {n} bin {k}: error {err}");
-            assert!((tr.values[k] - 20.0 * want.norm().log10()).abs() < 1e-6 || want.norm() < 1e-12);
+            assert!(
+                (tr.values[k] - 20.0 * want.norm().log10()).abs() < 1e-6 || want.norm() < 1e-12
+            );
         }
     }
 }

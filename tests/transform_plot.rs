@@ -4,17 +4,35 @@ use coldtrace::report::{render_png, render_svg, write_plot, Figure, Marker, Seri
 
 fn figure(points: usize) -> Figure {
     let mut fig = Figure::new("in-07 warm", "distance (m)", "|h| (dB)");
-    let x: Vec<f64> = (0..points).map(|i| i as f64 * 3.0 / points as f64).collect();
-    let y: Vec<f64> = x.iter().map(|v| -60.0 + 50.0 * (-((v - 1.5) * 20.0).powi(2)).exp()).collect();
-    fig.series.push(Series { name: "band-pass".into(), x, y });
-    fig.markers.push(Marker { x: 1.5, label: "SMA at 1.5 m".into() });
+    let x: Vec<f64> = (0..points)
+        .map(|i| i as f64 * 3.0 / points as f64)
+        .collect();
+    let y: Vec<f64> = x
+        .iter()
+        .map(|v| -60.0 + 50.0 * (-((v - 1.5) * 20.0).powi(2)).exp())
+        .collect();
+    fig.series.push(Series {
+        name: "band-pass".into(),
+        x,
+        y,
+    });
+    fig.markers.push(Marker {
+        x: 1.5,
+        label: "SMA at 1.5 m".into(),
+    });
     fig
 }
 
 #[test]
 fn svg_has_title_axes_and_marker() {
     let svg = render_svg(&figure(500)).unwrap();
-    for text in ["in-07 warm", "distance (m)", "|h| (dB)", "SMA at 1.5 m", "band-pass"] {
+    for text in [
+        "in-07 warm",
+        "distance (m)",
+        "|h| (dB)",
+        "SMA at 1.5 m",
+        "band-pass",
+    ] {
         assert!(svg.contains(text), "missing '{text}'");
     }
 }

@@ -76,8 +76,16 @@ fn single_reflection_peak_is_rho_for_every_window_and_padding() {
             let check = plan.check(&freqs, &map()).unwrap();
             let spec = Spectrum::new(&g, &plan, &check).unwrap();
             let p = refine_peak(&tr, &spec, &peaks[0], &|t| map().distance_m(t));
-            assert!((p.value - 0.3).abs() < 1e-9, "{window:?} x{padding}: peak {}", p.value);
-            assert!((p.distance_m - x).abs() < 1e-6, "{window:?} x{padding}: at {}", p.distance_m);
+            assert!(
+                (p.value - 0.3).abs() < 1e-9,
+                "{window:?} x{padding}: peak {}",
+                p.value
+            );
+            assert!(
+                (p.distance_m - x).abs() < 1e-6,
+                "{window:?} x{padding}: at {}",
+                p.distance_m
+            );
         }
         // A span whose grid lands on x: exact without refinement.
         let plan = TracePlan {
@@ -87,9 +95,16 @@ fn single_reflection_peak_is_rho_for_every_window_and_padding() {
             ..TracePlan::default()
         };
         let tr = trace(&freqs, &g, &plan, &map()).unwrap();
-        assert!((tr.linear[50] - 0.3).abs() < 1e-9, "{window:?}: span value {}", tr.linear[50]);
+        assert!(
+            (tr.linear[50] - 0.3).abs() < 1e-9,
+            "{window:?}: span value {}",
+            tr.linear[50]
+        );
         assert!((tr.axis_m[50] - x).abs() < 1e-9);
-        assert!((tr.complex[50] - rho).norm() < 1e-9, "complex value keeps the phase");
+        assert!(
+            (tr.complex[50] - rho).norm() < 1e-9,
+            "complex value keeps the phase"
+        );
         assert!((tr.values[50] - 20.0 * 0.3f64.log10()).abs() < 1e-7);
     }
 }
@@ -103,7 +118,11 @@ fn low_pass_impulse_is_signed_rho() {
         .iter()
         .map(|&f| Complex64::from_polar(-0.25, -2.0 * PI * f * tau))
         .collect();
-    for window in [Window::Rectangular, Window::Hann, Window::Kaiser { beta: 9.0 }] {
+    for window in [
+        Window::Rectangular,
+        Window::Hann,
+        Window::Kaiser { beta: 9.0 },
+    ] {
         for padding in [1, 4] {
             let plan = TracePlan {
                 mode: Mode::LowPassImpulse,
@@ -133,19 +152,32 @@ fn open_and_short_read_plus_and_minus_one_on_the_step() {
         step_m: Some(0.005),
         ..TracePlan::default()
     };
-    for (zl, want) in [(Complex64::new(1e12, 0.0), 1.0), (Complex64::new(0.0, 0.0), -1.0)] {
+    for (zl, want) in [
+        (Complex64::new(1e12, 0.0), 1.0),
+        (Complex64::new(0.0, 0.0), -1.0),
+    ] {
         let tr = trace(&freqs, &load_at(&freqs, zl, 1.0), &plan, &map()).unwrap();
         let at = |x: f64| tr.linear[(x / 0.005).round() as usize];
         assert!(at(0.5).abs() < 0.01, "before the load: {}", at(0.5));
         // The DC estimate from 10 and 20 MHz is good to about 2 % here (cos of 0.1 and 0.2 cycles).
-        assert!((at(1.3) - want).abs() < 0.03, "after the load: {} (want {want})", at(1.3));
+        assert!(
+            (at(1.3) - want).abs() < 0.03,
+            "after the load: {} (want {want})",
+            at(1.3)
+        );
     }
     // With the DC value known, the step settles to +1 far more closely.
     let plan_dc = TracePlan {
         dc: DcMethod::Fixed(1.0),
         ..plan.clone()
     };
-    let tr = trace(&freqs, &load_at(&freqs, Complex64::new(1e12, 0.0), 1.0), &plan_dc, &map()).unwrap();
+    let tr = trace(
+        &freqs,
+        &load_at(&freqs, Complex64::new(1e12, 0.0), 1.0),
+        &plan_dc,
+        &map(),
+    )
+    .unwrap();
     let v = tr.linear[(1.3f64 / 0.005).round() as usize];
     assert!((v - 1.0).abs() < 0.003, "{v}");
 }
@@ -188,12 +220,24 @@ fn load_distance_found_to_a_tenth_of_resolution() {
     let tr = trace(&freqs, &g, &plan, &map()).unwrap();
     let peaks = find_peaks(&tr, 30.0, 5);
     let coarse = peaks[0];
-    assert!((coarse.distance_m - x).abs() < tr.resolution_m / 10.0, "parabolic: {}", coarse.distance_m);
+    assert!(
+        (coarse.distance_m - x).abs() < tr.resolution_m / 10.0,
+        "parabolic: {}",
+        coarse.distance_m
+    );
     let check = plan.check(&freqs, &map()).unwrap();
     let spec = Spectrum::new(&g, &plan, &check).unwrap();
     let p = refine_peak(&tr, &spec, &coarse, &|t| map().distance_m(t));
-    assert!((p.distance_m - x).abs() < 1e-4, "refined: {} vs {x}", p.distance_m);
-    assert!((p.value - 30.0 / 70.0).abs() < 1e-6, "|Gamma_L| = 30/70: {}", p.value);
+    assert!(
+        (p.distance_m - x).abs() < 1e-4,
+        "refined: {} vs {x}",
+        p.distance_m
+    );
+    assert!(
+        (p.value - 30.0 / 70.0).abs() < 1e-6,
+        "|Gamma_L| = 30/70: {}",
+        p.value
+    );
 }
 
 /// Domain check value (calc from c0 and the formulas): 0.5-10 GHz with 201 points at vf 0.698 reaches
@@ -212,7 +256,12 @@ fn resolution_and_alias_free_range() {
     assert!((c.resolution_m - 0.0214).abs() < 2e-4, "{}", c.resolution_m);
     // Low-pass to 10 GHz: k6 / (2 f_max).
     let lp = harmonic(5e7, 1, 200);
-    let c = TracePlan { mode: Mode::LowPassImpulse, ..TracePlan::default() }.check(&lp, &m).unwrap();
+    let c = TracePlan {
+        mode: Mode::LowPassImpulse,
+        ..TracePlan::default()
+    }
+    .check(&lp, &m)
+    .unwrap();
     assert!((c.resolution_m - C0_M_PER_S * 0.698 / 2.0 * k6 / 2e10).abs() < 1e-12);
     assert!((c.resolution_m - 0.0102).abs() < 1e-4);
 }
@@ -235,7 +284,10 @@ fn warnings_for_span_and_step() {
         ..TracePlan::default()
     };
     let c = fine.check(&freqs, &map()).unwrap();
-    assert!(c.warnings.iter().any(|w| w.kind == "step-finer-than-needed"));
+    assert!(c
+        .warnings
+        .iter()
+        .any(|w| w.kind == "step-finer-than-needed"));
     let ok = TracePlan {
         span_m: Some((0.0, 2.0)),
         ..TracePlan::default()
@@ -248,19 +300,42 @@ fn bad_grids_are_refused_with_the_fix() {
     let m = map();
     let uneven = vec![1e9, 2e9, 3.5e9];
     let e = TracePlan::default().check(&uneven, &m).unwrap_err();
-    assert!(matches!(e, TransformError::NonUniformGrid { index: 0, .. }), "{e}");
+    assert!(
+        matches!(e, TransformError::NonUniformGrid { index: 0, .. }),
+        "{e}"
+    );
     assert!(e.to_string().contains("resample"));
     let offset: Vec<f64> = (0..100).map(|i| 0.5e9 + i as f64 * 1e7).collect();
-    let lp = TracePlan { mode: Mode::LowPassStep, ..TracePlan::default() };
+    let lp = TracePlan {
+        mode: Mode::LowPassStep,
+        ..TracePlan::default()
+    };
     let e = lp.check(&offset, &m).unwrap_err();
     assert!(matches!(e, TransformError::NotHarmonic { .. }), "{e}");
     assert!(e.to_string().contains("--mode band-pass") && e.to_string().contains("--resample"));
     // Even with --resample, 50 missing low points cannot be extrapolated.
-    let e = TracePlan { resample: true, ..lp.clone() }.check(&offset, &m).unwrap_err();
+    let e = TracePlan {
+        resample: true,
+        ..lp.clone()
+    }
+    .check(&offset, &m)
+    .unwrap_err();
     assert!(e.to_string().contains("band-pass"), "{e}");
-    let e = trace(&[1e9], &[Complex64::new(0.0, 0.0)], &TracePlan::default(), &m).unwrap_err();
+    let e = trace(
+        &[1e9],
+        &[Complex64::new(0.0, 0.0)],
+        &TracePlan::default(),
+        &m,
+    )
+    .unwrap_err();
     assert!(matches!(e, TransformError::TooFewPoints { .. }));
-    let e = trace(&[1e9, 2e9], &[Complex64::new(f64::NAN, 0.0); 2], &TracePlan::default(), &m).unwrap_err();
+    let e = trace(
+        &[1e9, 2e9],
+        &[Complex64::new(f64::NAN, 0.0); 2],
+        &TracePlan::default(),
+        &m,
+    )
+    .unwrap_err();
     assert!(matches!(e, TransformError::NonFinite { index: 0 }));
 }
 
@@ -305,7 +380,10 @@ fn series_inductance_and_shunt_capacitance_are_told_apart() {
             -y * Z0 / (2.0 + y * Z0) * delay(f)
         })
         .collect();
-    let series_r: Vec<Complex64> = freqs.iter().map(|&f| Complex64::new(10.0 / 110.0, 0.0) * delay(f)).collect();
+    let series_r: Vec<Complex64> = freqs
+        .iter()
+        .map(|&f| Complex64::new(10.0 / 110.0, 0.0) * delay(f))
+        .collect();
     let plan = TracePlan {
         mode: Mode::LowPassStep,
         span_m: Some((0.0, 2.0)),

@@ -71,10 +71,25 @@ fn assert_close(got: &[f64], want: &[f64], tol: f64, what: &str) {
 #[test]
 fn coefficients_match_scipy() {
     let tol = 1e-13;
-    assert_close(&Window::Kaiser { beta: 6.0 }.coefficients(11), &SCIPY_KAISER_11_6, tol, "kaiser(11,6)");
-    assert_close(&Window::Kaiser { beta: 9.0 }.coefficients(8), &SCIPY_KAISER_8_9, tol, "kaiser(8,9)");
+    assert_close(
+        &Window::Kaiser { beta: 6.0 }.coefficients(11),
+        &SCIPY_KAISER_11_6,
+        tol,
+        "kaiser(11,6)",
+    );
+    assert_close(
+        &Window::Kaiser { beta: 9.0 }.coefficients(8),
+        &SCIPY_KAISER_8_9,
+        tol,
+        "kaiser(8,9)",
+    );
     assert_close(&Window::Hann.coefficients(9), &SCIPY_HANN_9, tol, "hann(9)");
-    assert_close(&Window::Hamming.coefficients(9), &SCIPY_HAMMING_9, tol, "hamming(9)");
+    assert_close(
+        &Window::Hamming.coefficients(9),
+        &SCIPY_HAMMING_9,
+        tol,
+        "hamming(9)",
+    );
     assert_close(
         &Window::BlackmanHarris4.coefficients(9),
         &SCIPY_BLACKMANHARRIS_9,
@@ -93,17 +108,37 @@ const SCIPY_FIGURES: [(Window, f64, f64); 7] = [
     (Window::Hann, 1.9987874672606034, -31.468461563922055),
     (Window::Hamming, 1.8135597764119142, -42.674902732049574),
     (Window::BlackmanHarris4, 2.6646118483911, -92.01387665404565),
-    (Window::Kaiser { beta: 6.0 }, 1.9530744783480944, -43.807237170498816),
-    (Window::Kaiser { beta: 9.0 }, 2.337762125770843, -66.29881890820793),
-    (Window::Kaiser { beta: 13.0 }, 2.773499776291621, -97.91676867497256),
+    (
+        Window::Kaiser { beta: 6.0 },
+        1.9530744783480944,
+        -43.807237170498816,
+    ),
+    (
+        Window::Kaiser { beta: 9.0 },
+        2.337762125770843,
+        -66.29881890820793,
+    ),
+    (
+        Window::Kaiser { beta: 13.0 },
+        2.773499776291621,
+        -97.91676867497256,
+    ),
 ];
 
 #[test]
 fn figures_match_scipy_measurement() {
     for (w, width, sidelobe) in SCIPY_FIGURES {
         let f = w.figures();
-        assert!((f.mainlobe_6db_bins - width).abs() < 1e-6, "{w:?}: width {} vs {width}", f.mainlobe_6db_bins);
-        assert!((f.highest_sidelobe_db - sidelobe).abs() < 1e-3, "{w:?}: sidelobe {} vs {sidelobe}", f.highest_sidelobe_db);
+        assert!(
+            (f.mainlobe_6db_bins - width).abs() < 1e-6,
+            "{w:?}: width {} vs {width}",
+            f.mainlobe_6db_bins
+        );
+        assert!(
+            (f.highest_sidelobe_db - sidelobe).abs() < 1e-3,
+            "{w:?}: sidelobe {} vs {sidelobe}",
+            f.highest_sidelobe_db
+        );
     }
 }
 
@@ -122,23 +157,43 @@ const HARRIS_TABLE_1: [(Window, f64, f64); 4] = [
 fn figures_match_harris_table_1() {
     for (w, width, sidelobe) in HARRIS_TABLE_1 {
         let f = w.figures();
-        assert!((f.mainlobe_6db_bins - width).abs() < 0.07, "{w:?}: width {}", f.mainlobe_6db_bins);
-        assert!((f.highest_sidelobe_db - sidelobe).abs() < 1.0, "{w:?}: sidelobe {}", f.highest_sidelobe_db);
+        assert!(
+            (f.mainlobe_6db_bins - width).abs() < 0.07,
+            "{w:?}: width {}",
+            f.mainlobe_6db_bins
+        );
+        assert!(
+            (f.highest_sidelobe_db - sidelobe).abs() < 1.0,
+            "{w:?}: sidelobe {}",
+            f.highest_sidelobe_db
+        );
     }
 }
 
 #[test]
 fn parse_names_and_errors() {
-    assert_eq!(Window::parse("kaiser:6").unwrap(), Window::Kaiser { beta: 6.0 });
+    assert_eq!(
+        Window::parse("kaiser:6").unwrap(),
+        Window::Kaiser { beta: 6.0 }
+    );
     assert_eq!(Window::parse("Hann").unwrap(), Window::Hann);
     assert_eq!(Window::parse("hamming").unwrap(), Window::Hamming);
-    assert_eq!(Window::parse("blackman-harris").unwrap(), Window::BlackmanHarris4);
+    assert_eq!(
+        Window::parse("blackman-harris").unwrap(),
+        Window::BlackmanHarris4
+    );
     assert_eq!(Window::parse("rect").unwrap(), Window::Rectangular);
     for bad in ["kaiser", "kaiser:x", "kaiser:-1", "gauss", ""] {
         let msg = Window::parse(bad).unwrap_err().to_string();
-        assert!(msg.contains("allowed: rect, hann, hamming, blackman-harris, kaiser:BETA"), "{msg}");
+        assert!(
+            msg.contains("allowed: rect, hann, hamming, blackman-harris, kaiser:BETA"),
+            "{msg}"
+        );
     }
-    assert_eq!(Window::parse(&Window::Kaiser { beta: 7.5 }.label()).unwrap(), Window::Kaiser { beta: 7.5 });
+    assert_eq!(
+        Window::parse(&Window::Kaiser { beta: 7.5 }.label()).unwrap(),
+        Window::Kaiser { beta: 7.5 }
+    );
 }
 
 /// I0 against scipy.special.i0e (scipy 1.17.1, computed offline): e^{-1} I0(1) = 0.46575960759364043,

@@ -77,7 +77,8 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
         .transpose()?;
     if step_m.is_some() && span_m.is_none() {
         return Err(Error::Usage(
-            "--step needs --span (the whole-range FFT sets its own step); add e.g. --span 0m..3m".into(),
+            "--step needs --span (the whole-range FFT sets its own step); add e.g. --span 0m..3m"
+                .into(),
         ));
     }
     let gate_m = args
@@ -114,7 +115,8 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
         ..TraceConfig::default()
     };
     let mut engine = TraceEngine::new();
-    let mut outcome = run_trace(&mut engine, &net.freqs_hz, &values, &config, &map).map_err(in_file)?;
+    let mut outcome =
+        run_trace(&mut engine, &net.freqs_hz, &values, &config, &map).map_err(in_file)?;
     let mut warnings = ts.warnings.clone();
     warnings.extend(extra);
     warnings.append(&mut outcome.trace.warnings);
@@ -138,7 +140,10 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
     if let Some(plot) = &args.plot {
         let title = format!(
             "{} - {}",
-            args.input.file_name().map(|s| s.to_string_lossy()).unwrap_or_default(),
+            args.input
+                .file_name()
+                .map(|s| s.to_string_lossy())
+                .unwrap_or_default(),
             mode.name()
         );
         write_plot(plot, &outcome.trace.figure(&title), args.force, &inputs)?;

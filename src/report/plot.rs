@@ -50,7 +50,11 @@ pub struct Figure {
 }
 
 impl Figure {
-    pub fn new(title: impl Into<String>, x_label: impl Into<String>, y_label: impl Into<String>) -> Self {
+    pub fn new(
+        title: impl Into<String>,
+        x_label: impl Into<String>,
+        y_label: impl Into<String>,
+    ) -> Self {
         Figure {
             title: title.into(),
             x_label: x_label.into(),
@@ -109,7 +113,10 @@ const PALETTE: [RGBColor; 6] = [
     RGBColor(180, 30, 60),
 ];
 
-fn ranges(fig: &Figure) -> Result<((f64, f64), (f64, f64)), ReportError> {
+/// (x range, y range) of a figure.
+type Ranges = ((f64, f64), (f64, f64));
+
+fn ranges(fig: &Figure) -> Result<Ranges, ReportError> {
     let mut x = (f64::INFINITY, f64::NEG_INFINITY);
     let mut y = (f64::INFINITY, f64::NEG_INFINITY);
     for s in &fig.series {
@@ -153,7 +160,10 @@ fn ranges(fig: &Figure) -> Result<((f64, f64), (f64, f64)), ReportError> {
     Ok((x, y))
 }
 
-fn draw<DB: DrawingBackend>(root: DrawingArea<DB, plotters::coord::Shift>, fig: &Figure) -> Result<(), ReportError>
+fn draw<DB: DrawingBackend>(
+    root: DrawingArea<DB, plotters::coord::Shift>,
+    fig: &Figure,
+) -> Result<(), ReportError>
 where
     DB::ErrorType: 'static,
 {
@@ -194,19 +204,20 @@ where
     }
     for (i, s) in fig.series.iter().enumerate() {
         let colour = PALETTE[i % PALETTE.len()];
-        let points: Vec<(f64, f64)> = s
-            .x
-            .iter()
-            .zip(&s.y)
-            .filter(|(a, b)| a.is_finite() && b.is_finite())
-            .map(|(&a, &b)| (a, b.clamp(y0, y1)))
-            .collect();
+        let points: Vec<(f64, f64)> =
+            s.x.iter()
+                .zip(&s.y)
+                .filter(|(a, b)| a.is_finite() && b.is_finite())
+                .map(|(&a, &b)| (a, b.clamp(y0, y1)))
+                .collect();
         let points = envelope(points, (x0, x1), fig.size.0 as usize, fig.max_envelope);
         chart
             .draw_series(LineSeries::new(points, colour.stroke_width(2)))
             .map_err(e)?
             .label(s.name.clone())
-            .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 18, y)], colour.stroke_width(2)));
+            .legend(move |(x, y)| {
+                PathElement::new(vec![(x, y), (x + 18, y)], colour.stroke_width(2))
+            });
     }
     if fig.series.len() > 1 || fig.series.iter().any(|s| !s.name.is_empty()) {
         chart
@@ -305,7 +316,12 @@ pub fn render_png(fig: &Figure) -> Result<Vec<u8>, ReportError> {
 
 /// Write `fig` to `path` as SVG or PNG (by extension) through [`write_output`]: an existing file is
 /// replaced only with `overwrite`, an input never.
-pub fn write_plot(path: &Path, fig: &Figure, overwrite: bool, inputs: &[&Path]) -> crate::Result<()> {
+pub fn write_plot(
+    path: &Path,
+    fig: &Figure,
+    overwrite: bool,
+    inputs: &[&Path],
+) -> crate::Result<()> {
     let bytes = match PlotFormat::from_path(path)? {
         PlotFormat::Svg => render_svg(fig)?.into_bytes(),
         PlotFormat::Png => render_png(fig)?,

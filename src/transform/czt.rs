@@ -55,7 +55,10 @@ pub struct ChirpZ {
 impl ChirpZ {
     /// Prepare for `n` inputs, `m` outputs, with `df_t0 = df * t0` and `df_dt = df * dt` (both in cycles).
     pub fn new(planner: &mut FftPlanner<f64>, n: usize, m: usize, df_t0: f64, df_dt: f64) -> Self {
-        assert!(n > 0 && m > 0, "ChirpZ::new: n = {n} and m = {m} must be positive");
+        assert!(
+            n > 0 && m > 0,
+            "ChirpZ::new: n = {n} and m = {m} must be positive"
+        );
         let len = fast_len(n + m - 1);
         let fwd = planner.plan_fft_forward(len);
         let inv = planner.plan_fft_inverse(len);

@@ -133,10 +133,6 @@ pub fn gate_with(
 }
 
 /// Gate `values` on `freqs` with `plan` (fresh FFT plans).
-pub fn gate(
-    freqs: &[f64],
-    values: &[Complex64],
-    plan: &GatePlan,
-) -> Result<Gated, TransformError> {
+pub fn gate(freqs: &[f64], values: &[Complex64], plan: &GatePlan) -> Result<Gated, TransformError> {
     gate_with(freqs, values, plan, &mut FftCache::new())
 }

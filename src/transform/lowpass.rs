@@ -75,7 +75,8 @@ impl LowPassSpectrum {
             for (k, gk) in g.iter_mut().enumerate().skip(1) {
                 let f = k as f64 * df;
                 if f >= grid.start_hz * (1.0 - 1e-12) {
-                    let x = ((f - grid.start_hz) / grid.step_hz).clamp(0.0, (grid.points - 1) as f64);
+                    let x =
+                        ((f - grid.start_hz) / grid.step_hz).clamp(0.0, (grid.points - 1) as f64);
                     let i = (x.floor() as usize).min(grid.points - 2);
                     let u = x - i as f64;
                     *gk = interpolate_polar(values[i], values[i + 1], u);

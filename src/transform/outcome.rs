@@ -66,7 +66,7 @@ pub fn run_trace(
     let gated = match config.gate_m {
         None => None,
         Some((x0, x1)) => {
-            if !(x1 > x0) {
+            if x1.partial_cmp(&x0) != Some(std::cmp::Ordering::Greater) {
                 return Err(TransformError::Invalid(format!(
                     "gate {x0} m..{x1} m is empty; give START..STOP with STOP > START, e.g. 0.9m..1.1m"
                 )));
@@ -122,7 +122,13 @@ impl Trace {
             let _ = writeln!(s, "{what}:");
             for (i, p) in self.peaks.iter().enumerate() {
                 let _ = match self.mode {
-                    Mode::BandPass => writeln!(s, "  {:>2}  {:>10.4} m  {:>8.2} dB", i + 1, p.distance_m, p.db),
+                    Mode::BandPass => writeln!(
+                        s,
+                        "  {:>2}  {:>10.4} m  {:>8.2} dB",
+                        i + 1,
+                        p.distance_m,
+                        p.db
+                    ),
                     Mode::LowPassImpulse => writeln!(
                         s,
                         "  {:>2}  {:>10.4} m  rho {:+.4} ({:.2} dB)",
@@ -131,7 +137,13 @@ impl Trace {
                         p.value,
                         p.db
                     ),
-                    _ => writeln!(s, "  {:>2}  {:>10.4} m  {:.4} /m", i + 1, p.distance_m, p.value),
+                    _ => writeln!(
+                        s,
+                        "  {:>2}  {:>10.4} m  {:.4} /m",
+                        i + 1,
+                        p.distance_m,
+                        p.value
+                    ),
                 };
             }
         }
@@ -167,7 +179,11 @@ impl Trace {
         });
         if self.mode == Mode::BandPass {
             // Show 100 dB below the strongest point, the useful range of a -92 dB window.
-            let top = self.values.iter().cloned().fold(f64::NEG_INFINITY, f64::max);
+            let top = self
+                .values
+                .iter()
+                .cloned()
+                .fold(f64::NEG_INFINITY, f64::max);
             if top.is_finite() {
                 fig.y_range = Some((top - 100.0, top + 5.0));
                 fig.max_envelope = true;

@@ -69,7 +69,13 @@ pub fn find_peaks(trace: &Trace, below_max_db: f64, max_count: usize) -> Vec<Pea
             } else {
                 0.0
             };
-            let lerp = |v: &[f64]| v[i] + p * if p >= 0.0 { v[i + 1] - v[i] } else { v[i] - v[i - 1] };
+            let lerp = |v: &[f64]| {
+                v[i] + p * if p >= 0.0 {
+                    v[i + 1] - v[i]
+                } else {
+                    v[i] - v[i - 1]
+                }
+            };
             let value = match trace.mode {
                 Mode::LowPassImpulse => trace.linear[i],
                 _ => f[i],

@@ -3,8 +3,8 @@
 use super::bandpass::BandPassSpectrum;
 use super::czt::FftCache;
 use super::lowpass::LowPassSpectrum;
-use super::plan::{Mode, PlanCheck, TracePlan};
 use super::peak::Peak;
+use super::plan::{Mode, PlanCheck, TracePlan};
 use super::window::WindowInfo;
 use super::{DistanceMap, TransformError};
 use crate::Warning;
@@ -113,7 +113,10 @@ impl TraceEngine {
                 values: values.len(),
             });
         }
-        if let Some(index) = values.iter().position(|v| !(v.re.is_finite() && v.im.is_finite())) {
+        if let Some(index) = values
+            .iter()
+            .position(|v| !(v.re.is_finite() && v.im.is_finite()))
+        {
             return Err(TransformError::NonFinite { index });
         }
         let check = plan.check(freqs, map)?;
@@ -230,7 +233,12 @@ pub enum StepFeature {
 /// reflection of series and shunt elements between matched lines, Gamma = Z/(2 Z0 + Z) and
 /// Gamma = -Y Z0/(2 + Y Z0) (circuit theory; e.g. Pozar, Microwave Engineering, 4th ed., ch. 4). `None`
 /// when nothing exceeds the threshold.
-pub fn classify_step(before: f64, excursion: f64, after: f64, threshold: f64) -> Option<StepFeature> {
+pub fn classify_step(
+    before: f64,
+    excursion: f64,
+    after: f64,
+    threshold: f64,
+) -> Option<StepFeature> {
     let lasting = after - before;
     if lasting.abs() > threshold {
         Some(if lasting > 0.0 {
