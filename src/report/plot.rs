@@ -113,7 +113,10 @@ const PALETTE: [RGBColor; 6] = [
     RGBColor(180, 30, 60),
 ];
 
-fn ranges(fig: &Figure) -> Result<((f64, f64), (f64, f64)), ReportError> {
+/// (x range, y range) of a figure.
+type Ranges = ((f64, f64), (f64, f64));
+
+fn ranges(fig: &Figure) -> Result<Ranges, ReportError> {
     let mut x = (f64::INFINITY, f64::NEG_INFINITY);
     let mut y = (f64::INFINITY, f64::NEG_INFINITY);
     for s in &fig.series {

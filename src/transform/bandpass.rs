@@ -70,9 +70,15 @@ impl BandPassSpectrum {
                 )
                 .process(&self.weighted),
         };
+        // Carrier e^{+j 2 pi f0 t_m} by recurrence, re-anchored every 64 points (saves a sin/cos per point).
+        let rot = cis_cycles(self.start_hz * axis.step_s);
+        let mut carrier = Complex64::new(1.0, 0.0);
         for (m, v) in out.iter_mut().enumerate() {
-            let t = axis.start_s + m as f64 * axis.step_s;
-            *v *= cis_cycles(self.start_hz * t);
+            if m % 64 == 0 {
+                carrier = cis_cycles(self.start_hz * (axis.start_s + m as f64 * axis.step_s));
+            }
+            *v *= carrier;
+            carrier *= rot;
         }
         out
     }

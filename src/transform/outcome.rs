@@ -66,7 +66,7 @@ pub fn run_trace(
     let gated = match config.gate_m {
         None => None,
         Some((x0, x1)) => {
-            if !(x1 > x0) {
+            if x1.partial_cmp(&x0) != Some(std::cmp::Ordering::Greater) {
                 return Err(TransformError::Invalid(format!(
                     "gate {x0} m..{x1} m is empty; give START..STOP with STOP > START, e.g. 0.9m..1.1m"
                 )));

@@ -153,7 +153,7 @@ pub fn uniform_grid(freqs: &[f64]) -> Result<Grid, TransformError> {
     let step = (freqs[n - 1] - freqs[0]) / (n - 1) as f64;
     for (index, w) in freqs.windows(2).enumerate() {
         let d = w[1] - w[0];
-        if !(step > 0.0) || (d - step).abs() > UNIFORM_TOLERANCE * step {
+        if step.is_nan() || step <= 0.0 || (d - step).abs() > UNIFORM_TOLERANCE * step {
             return Err(TransformError::NonUniformGrid {
                 index,
                 expected_hz: step,

@@ -18,6 +18,7 @@ use super::TransformError;
 use num_complex::Complex64;
 use serde::Serialize;
 use std::f64::consts::PI;
+use std::sync::Mutex;
 
 /// Harris (1978) 4-term Blackman-Harris coefficients (the -92 dB design).
 pub const BLACKMAN_HARRIS_4: [f64; 4] = [0.35875, 0.48829, 0.14128, 0.01168];
@@ -123,9 +124,19 @@ impl Window {
 
     /// `n` symmetric coefficients.
     pub fn coefficients(&self, n: usize) -> Vec<f64> {
-        match n {
-            0 => Vec::new(),
-            1 => vec![1.0],
+        match (n, *self) {
+            (0, _) => Vec::new(),
+            (1, _) => vec![1.0],
+            (_, Window::Kaiser { beta }) => {
+                // Same formula as `value`, with I0(beta) computed once.
+                let norm = 1.0 / bessel_i0(beta);
+                (0..n)
+                    .map(|i| {
+                        let r = 2.0 * i as f64 / (n - 1) as f64 - 1.0;
+                        bessel_i0(beta * (1.0 - r * r).max(0.0).sqrt()) * norm
+                    })
+                    .collect()
+            }
             _ => (0..n)
                 .map(|i| self.value(i as f64 / (n - 1) as f64))
                 .collect(),
@@ -134,8 +145,16 @@ impl Window {
 
     /// Main-lobe width (-6 dB, bins) and highest sidelobe (dB), measured from a zero-padded FFT of
     /// [`FIGURES_LENGTH`] coefficients.
+    /// Measured once per window and remembered (a 64k-point FFT each).
     pub fn figures(&self) -> WindowFigures {
-        measure_figures(&self.coefficients(FIGURES_LENGTH), FIGURES_PADDING)
+        static MEMO: Mutex<Vec<(Window, WindowFigures)>> = Mutex::new(Vec::new());
+        let mut memo = MEMO.lock().unwrap_or_else(|e| e.into_inner());
+        if let Some((_, f)) = memo.iter().find(|(w, _)| w == self) {
+            return *f;
+        }
+        let f = measure_figures(&self.coefficients(FIGURES_LENGTH), FIGURES_PADDING);
+        memo.push((*self, f));
+        f
     }
 
     /// Name, beta and figures, for results.
