@@ -1,10 +1,88 @@
-//! `coldtrace convert` (placeholder until its issue lands).
+//! `coldtrace convert FILE -o OUT [--version 1|2] [--format RI|MA|DB] [--unit GHZ] [--force]`: rewrite a
+//! Touchstone file as S-parameters (Y, Z, H, G are converted) at the file's reference impedances.
+//! Unset choices keep the input's: its major version, format and frequency unit.
+
+use coldtrace::touchstone::{read_file, write_file, Format, FreqUnit, WriteOptions, WriteVersion};
+use std::path::PathBuf;
 
 #[derive(Debug, clap::Args)]
-pub struct Args {}
+pub struct Args {
+    /// The Touchstone file to read.
+    #[arg(value_name = "FILE")]
+    pub input: PathBuf,
+    /// Where to write the S-parameter file.
+    #[arg(short = 'o', long = "output", value_name = "OUT")]
+    pub output: PathBuf,
+    /// Touchstone major version to write: 1 or 2 (2 writes [Version] 2.0). Default: the input's.
+    #[arg(long, value_name = "1|2")]
+    pub version: Option<String>,
+    /// Number format: RI, MA or DB. Default: the input's.
+    #[arg(long, value_name = "RI|MA|DB")]
+    pub format: Option<String>,
+    /// Frequency unit: Hz, kHz, MHz or GHz (any case). Default: the input's.
+    #[arg(long, value_name = "UNIT")]
+    pub unit: Option<String>,
+    /// Replace OUT if it exists (the input is never replaced).
+    #[arg(long)]
+    pub force: bool,
+}
 
-pub fn run(_args: Args) -> coldtrace::Result<u8> {
-    Err(coldtrace::Error::Usage(
-        "'convert' is not available in this build yet".into(),
-    ))
+pub fn run(args: Args) -> coldtrace::Result<u8> {
+    let usage = coldtrace::Error::Usage;
+    let version = match args.version.as_deref() {
+        None => None,
+        Some("1") => Some(WriteVersion::V1),
+        Some("2") => Some(WriteVersion::V2),
+        Some(v) => {
+            return Err(usage(format!(
+                "--version {v}: expected 1 or 2; write --version 1 or --version 2"
+            )))
+        }
+    };
+    let format = match args.format.as_deref() {
+        None => None,
+        Some(f) => Some(Format::from_name(f).ok_or_else(|| {
+            usage(format!(
+                "--format {f}: expected RI, MA or DB; write e.g. --format RI"
+            ))
+        })?),
+    };
+    let unit = match args.unit.as_deref() {
+        None => None,
+        Some(u) => Some(FreqUnit::from_name(u).ok_or_else(|| {
+            usage(format!(
+                "--unit {u}: expected Hz, kHz, MHz or GHz; write e.g. --unit GHz"
+            ))
+        })?),
+    };
+    let ts = read_file(&args.input)?;
+    for w in &ts.warnings {
+        eprintln!("coldtrace: warning: {w}");
+    }
+    let options = WriteOptions {
+        version: version.unwrap_or(if ts.info.version.is_v2() {
+            WriteVersion::V2
+        } else {
+            WriteVersion::V1
+        }),
+        format: format.unwrap_or(ts.info.format),
+        unit: unit.unwrap_or(ts.info.unit),
+        comments: vec![format!(
+            "converted by coldtrace from {} (Touchstone {}, {} parameters)",
+            args.input
+                .file_name()
+                .map(|n| n.to_string_lossy().into_owned())
+                .unwrap_or_default(),
+            ts.info.version.as_str(),
+            ts.info.parameter.as_str()
+        )],
+    };
+    write_file(
+        &args.output,
+        &ts.network,
+        &options,
+        args.force,
+        &[args.input.as_path()],
+    )?;
+    Ok(coldtrace::exit::OK)
 }

@@ -1,8 +1,249 @@
-//! Placeholder: filled in by its issue.
+//! Touchstone files (IBIS Open Forum Touchstone File Format Specification: version 1.1 (EIA/IBIS Open Forum,
+//! 2002) describing version 1 files, version 2.0 (ratified 2009) and 2.1 (ratified 2024)): reading every
+//! version into a [`Network`] of S-parameters, and writing version 1 and 2 files.
+//!
+//! Conventions: after reading, frequencies are in Hz and every parameter set (S, Y, Z, H, G) has been
+//! converted to complex S-parameters at the file's per-port reference resistances (see `convert`); the
+//! original parameter, format and unit are kept in [`FileInfo`]. Angles in files are degrees. Harmless
+//! deviations real instruments produce are accepted with a [`Warning`]; everything else is a
+//! [`TouchstoneError`] naming path, line, column and the fix. `docs/touchstone.md` lists both.
 
-/// Errors of this layer.
-#[derive(Debug, thiserror::Error)]
-pub enum TouchstoneError {
-    #[error("{0}")]
-    Invalid(String),
+mod convert;
+mod error;
+mod keywords;
+mod lexer;
+mod options;
+mod parser;
+mod summary;
+mod writer;
+
+pub use error::{ErrorKind, TouchstoneError};
+pub use options::DEFAULT_REFERENCE_OHM;
+pub use summary::{summarize, Summary, GRID_TOLERANCE};
+pub use writer::{write, write_file, WriteOptions, WriteVersion};
+
+use crate::{Network, Warning};
+use serde::Serialize;
+use std::path::Path;
+
+/// A file that was read: the network as S-parameters, what the file said about itself, and warnings.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Touchstone {
+    pub network: Network,
+    pub info: FileInfo,
+    pub warnings: Vec<Warning>,
+}
+
+/// What the file declared (before conversion to S, Hz).
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct FileInfo {
+    pub version: Version,
+    /// The parameter stored in the file (the network holds S regardless).
+    pub parameter: Parameter,
+    pub format: Format,
+    pub unit: FreqUnit,
+    /// Per-port reference resistances, ohm (option line `R`, or `[Reference]` in version 2).
+    pub reference_ohm: Vec<f64>,
+    /// Whether the option line was present (defaults apply when it was not).
+    pub option_line: bool,
+    /// `[Two-Port Data Order]` (version 2, 2-ports); version 1 2-ports are always `21_12`.
+    pub two_port_order: Option<TwoPortOrder>,
+    /// `[Matrix Format]` (version 2); `Full` for version 1.
+    pub matrix_format: MatrixFormat,
+    /// `[Mixed-Mode Order]` as written (version 2), kept but not interpreted.
+    pub mixed_mode_order: Option<String>,
+    /// The lines between `[Begin Information]` and `[End Information]` (version 2), comments removed.
+    pub information: Vec<String>,
+    /// Comment texts (after `!`) before the first data line, in order: vendor headers and the like.
+    pub header_comments: Vec<String>,
+}
+
+/// File format version.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+pub enum Version {
+    /// A file without `[Version]` and without version 1.1 features.
+    #[serde(rename = "1.0")]
+    V1_0,
+    /// A file without `[Version]` that uses a version 1.1 feature (one R per port on the option line).
+    #[serde(rename = "1.1")]
+    V1_1,
+    #[serde(rename = "2.0")]
+    V2_0,
+    #[serde(rename = "2.1")]
+    V2_1,
+}
+
+impl Version {
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Version::V1_0 => "1.0",
+            Version::V1_1 => "1.1",
+            Version::V2_0 => "2.0",
+            Version::V2_1 => "2.1",
+        }
+    }
+
+    /// Version 2.0 or 2.1 (keyword-based files).
+    pub fn is_v2(self) -> bool {
+        matches!(self, Version::V2_0 | Version::V2_1)
+    }
+}
+
+/// Which parameters a file holds.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+pub enum Parameter {
+    S,
+    Y,
+    Z,
+    H,
+    G,
+}
+
+impl Parameter {
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Parameter::S => "S",
+            Parameter::Y => "Y",
+            Parameter::Z => "Z",
+            Parameter::H => "H",
+            Parameter::G => "G",
+        }
+    }
+}
+
+/// How each complex value is written: real/imaginary, magnitude/angle (degrees), dB/angle (degrees).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+pub enum Format {
+    RI,
+    MA,
+    DB,
+}
+
+impl Format {
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Format::RI => "RI",
+            Format::MA => "MA",
+            Format::DB => "DB",
+        }
+    }
+
+    /// Parse `RI`, `MA` or `DB` in any letter case.
+    pub fn from_name(name: &str) -> Option<Format> {
+        match name.to_ascii_lowercase().as_str() {
+            "ri" => Some(Format::RI),
+            "ma" => Some(Format::MA),
+            "db" => Some(Format::DB),
+            _ => None,
+        }
+    }
+}
+
+/// Frequency unit of a file.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+pub enum FreqUnit {
+    Hz,
+    #[serde(rename = "kHz")]
+    KHz,
+    #[serde(rename = "MHz")]
+    MHz,
+    #[serde(rename = "GHz")]
+    GHz,
+}
+
+impl FreqUnit {
+    /// Hz per unit.
+    pub fn hz(self) -> f64 {
+        match self {
+            FreqUnit::Hz => 1.0,
+            FreqUnit::KHz => 1e3,
+            FreqUnit::MHz => 1e6,
+            FreqUnit::GHz => 1e9,
+        }
+    }
+
+    pub fn as_str(self) -> &'static str {
+        match self {
+            FreqUnit::Hz => "Hz",
+            FreqUnit::KHz => "kHz",
+            FreqUnit::MHz => "MHz",
+            FreqUnit::GHz => "GHz",
+        }
+    }
+
+    /// Parse `Hz`, `kHz`, `MHz` or `GHz` in any letter case.
+    pub fn from_name(name: &str) -> Option<FreqUnit> {
+        match name.to_ascii_lowercase().as_str() {
+            "hz" => Some(FreqUnit::Hz),
+            "khz" => Some(FreqUnit::KHz),
+            "mhz" => Some(FreqUnit::MHz),
+            "ghz" => Some(FreqUnit::GHz),
+            _ => None,
+        }
+    }
+}
+
+/// `[Two-Port Data Order]`: `21_12` is N11 N21 N12 N22 (the version 1 order), `12_21` is N11 N12 N21 N22.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+pub enum TwoPortOrder {
+    #[serde(rename = "21_12")]
+    O21_12,
+    #[serde(rename = "12_21")]
+    O12_21,
+}
+
+/// `[Matrix Format]`: the whole matrix, or only its lower or upper triangle (row by row, mirrored).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+pub enum MatrixFormat {
+    Full,
+    Lower,
+    Upper,
+}
+
+/// Read a Touchstone file. The port count comes from `[Number of Ports]` (version 2) or the `.sNp`
+/// extension (version 1).
+pub fn read_file(path: &Path) -> Result<Touchstone, TouchstoneError> {
+    let bytes = std::fs::read(path).map_err(|source| TouchstoneError::Io {
+        path: path.to_path_buf(),
+        source,
+    })?;
+    read_bytes(&bytes, path)
+}
+
+/// Read Touchstone text; `path` names it in messages and gives the `.sNp` extension.
+pub fn read_str(text: &str, path: &Path) -> Result<Touchstone, TouchstoneError> {
+    parser::parse(text, path)
+}
+
+/// Read raw bytes (checked to be text first); `path` as in [`read_str`].
+pub fn read_bytes(bytes: &[u8], path: &Path) -> Result<Touchstone, TouchstoneError> {
+    match std::str::from_utf8(bytes) {
+        Ok(text) => read_str(text, path),
+        Err(e) => {
+            let good = &bytes[..e.valid_up_to()];
+            let line = 1 + good.iter().filter(|&&b| b == b'\n').count();
+            let col = 1 + good.iter().rev().take_while(|&&b| b != b'\n').count();
+            Err(TouchstoneError::Parse {
+                path: path.to_path_buf(),
+                line,
+                col,
+                kind: ErrorKind::NotText,
+                found: format!("byte 0x{:02x}", bytes[e.valid_up_to()]),
+                expected: "printable ASCII text".into(),
+                fix:
+                    "save the file as plain ASCII text; Touchstone files hold only ASCII characters"
+                        .into(),
+            })
+        }
+    }
+}
+
+/// The port count a `.sNp` file name gives (`a.s2p` -> 2), if any.
+pub fn ports_from_extension(path: &Path) -> Option<usize> {
+    let ext = path.extension()?.to_str()?.to_ascii_lowercase();
+    let digits = ext.strip_prefix('s')?.strip_suffix('p')?;
+    if digits.is_empty() || !digits.bytes().all(|b| b.is_ascii_digit()) {
+        return None;
+    }
+    digits.parse().ok().filter(|&n: &usize| n >= 1)
 }
