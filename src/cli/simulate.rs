@@ -1,10 +1,112 @@
-//! `coldtrace simulate` (placeholder until its issue lands).
+//! `coldtrace simulate LINE --state warm|cold --start 0.5GHz --stop 10GHz --points 1601 [--noise-db -90]
+//! [--seed N] [--fault SPEC]... [--s21] -o out.s1p [--force]`: a realistic sweep of a line from its model.
+
+use coldtrace::line::{file, simulate, Fault, SimConfig, State};
+use coldtrace::touchstone::{write_file, WriteOptions};
+use coldtrace::units::{self, Family};
+use std::path::PathBuf;
 
 #[derive(Debug, clap::Args)]
-pub struct Args {}
+pub struct Args {
+    /// The line file (TOML, see docs/line-file.md).
+    #[arg(value_name = "LINE")]
+    pub line: PathBuf,
+    /// warm (everything at 295 K) or cold (every stage at its temperature).
+    #[arg(long, default_value = "warm")]
+    pub state: String,
+    /// First frequency, e.g. 0.5GHz.
+    #[arg(long, default_value = "0.5GHz")]
+    pub start: String,
+    /// Last frequency, e.g. 10GHz.
+    #[arg(long, default_value = "10GHz")]
+    pub stop: String,
+    /// Number of points, linearly spaced.
+    #[arg(long, default_value_t = 1601)]
+    pub points: usize,
+    /// Complex Gaussian noise power per point relative to |S| = 1, dB (e.g. -90).
+    #[arg(long, allow_negative_numbers = true)]
+    pub noise_db: Option<f64>,
+    /// Seed for the noise.
+    #[arg(long, default_value_t = 1)]
+    pub seed: u64,
+    /// A fault, e.g. "J2:gap=30fF", "room to 50K@0.12m:crush=40ohm,8mm", "J3:contact=2ohm" (repeatable).
+    #[arg(long = "fault", value_name = "SPEC")]
+    pub faults: Vec<String>,
+    /// Write a 2-port (.s2p) with S21 through the chain; the device end becomes a matched port 2.
+    #[arg(long)]
+    pub s21: bool,
+    /// Output Touchstone file (.s1p, or .s2p with --s21).
+    #[arg(short = 'o', long = "output", value_name = "FILE")]
+    pub output: PathBuf,
+    /// Replace the output file if it exists.
+    #[arg(long)]
+    pub force: bool,
+}
 
-pub fn run(_args: Args) -> coldtrace::Result<u8> {
-    Err(coldtrace::Error::Usage(
-        "'simulate' is not available in this build yet".into(),
-    ))
+pub fn run(args: Args) -> coldtrace::Result<u8> {
+    let state: State = args
+        .state
+        .parse()
+        .map_err(|e: String| coldtrace::Error::Usage(format!("--state: {e}")))?;
+    let start = units::parse(&args.start, Family::Frequency)?;
+    let stop = units::parse(&args.stop, Family::Frequency)?;
+    if args.points == 0 {
+        return Err(coldtrace::Error::Usage("--points must be at least 1".into()));
+    }
+    if args.points > 1 && stop <= start {
+        return Err(coldtrace::Error::Usage(format!(
+            "--stop ({stop} Hz) must be above --start ({start} Hz)"
+        )));
+    }
+    let want_ext = if args.s21 { "s2p" } else { "s1p" };
+    let ext = args
+        .output
+        .extension()
+        .map(|e| e.to_string_lossy().to_ascii_lowercase());
+    if ext.as_deref() != Some(want_ext) {
+        return Err(coldtrace::Error::Usage(format!(
+            "{}: the output needs the extension .{want_ext}{}",
+            args.output.display(),
+            if args.s21 { " (2-port with --s21)" } else { " (or pass --s21 for a .s2p)" }
+        )));
+    }
+    let line = file::read_file(&args.line)?;
+    let mut config = SimConfig::linear(state, start, stop, args.points);
+    config.noise_db = args.noise_db;
+    config.seed = args.seed;
+    config.two_port = args.s21;
+    for spec in &args.faults {
+        config.faults.push(Fault::parse(spec)?);
+    }
+    let network = simulate(&line, &config)?;
+    let mut options = WriteOptions::default();
+    options.comments.push(format!(
+        "simulated by coldtrace: line '{}' ({}), state {}",
+        line.name,
+        args.line.display(),
+        args.state.to_ascii_lowercase()
+    ));
+    for spec in &args.faults {
+        options.comments.push(format!("fault {spec}"));
+    }
+    if let Some(db) = args.noise_db {
+        options
+            .comments
+            .push(format!("noise {db} dB per point, seed {}", args.seed));
+    }
+    write_file(
+        &args.output,
+        &network,
+        &options,
+        args.force,
+        &[args.line.as_path()],
+    )?;
+    super::print(&format!(
+        "wrote {} ({} points, {}-port, {})\n",
+        args.output.display(),
+        network.len(),
+        network.ports,
+        args.state.to_ascii_lowercase()
+    ))?;
+    Ok(coldtrace::exit::OK)
 }

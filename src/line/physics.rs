@@ -51,10 +51,16 @@ impl SectionState {
                 materials::clausius_mossotti(kind.er, 1.0 / vol)
             }
             PtfeModel::Gapped => {
-                // Free-contraction density; axial length held to the outer conductor, so the cross-section
-                // area is A0 (1 - c_d)^3 / (1 - c_out); inner surface on the (contracted) inner conductor.
-                let er_p = materials::clausius_mossotti(kind.er, (1.0 - c_d).powi(-3));
-                let area = PI * (b * b - a * a) * (1.0 - c_d).powi(3) / (1.0 - c_out);
+                // Held axially at the outer conductor's length, the dielectric is stretched by
+                // e = (c_d - c_out) / (1 - c_d) against its free length; as a uniaxially strained
+                // elastic solid its volume grows by (1 - 2 nu) e (lateral strain -nu e), so its density
+                // is the free-contraction density / (1 + (1 - 2 nu) e), and its cross-section is
+                // A0 (1 - c_d)^2 (1 - nu e)^2. Inner surface on the (contracted) inner conductor.
+                let nu = kind.dielectric.poisson_ratio();
+                let e = ((c_d - c_out) / (1.0 - c_d)).max(0.0);
+                let density = (1.0 - c_d).powi(-3) / (1.0 + (1.0 - 2.0 * nu) * e);
+                let er_p = materials::clausius_mossotti(kind.er, density);
+                let area = PI * (b * b - a * a) * ((1.0 - c_d) * (1.0 - nu * e)).powi(2);
                 let rp = (a1 * a1 + area / PI).sqrt().min(b1);
                 // Series capacitances of the dielectric layer and the vacuum gap.
                 ln_ba / ((rp / a1).ln() / er_p + (b1 / rp).ln())
