@@ -32,6 +32,11 @@ pub struct SegmentAlignment {
     pub delay_scale: f64,
     /// Change of the segment's round-trip loss, current minus baseline, dB (negative: less loss now).
     pub loss_change_db: f64,
+    /// As-built extent of the segment, m.
+    pub start_m: f64,
+    pub end_m: f64,
+    /// Round-trip delay through the segment in the baseline sweep, s.
+    pub baseline_delay_s: f64,
     /// True when at least one landmark constrains the segment; false when the value is the model's.
     pub constrained: bool,
 }
@@ -156,8 +161,9 @@ pub fn least_squares(n: usize, rows: &[(Vec<f64>, f64)]) -> Option<Vec<f64>> {
             if r != col {
                 let factor = a[r][col] / a[col][col];
                 if factor != 0.0 {
-                    for c in col..=n {
-                        a[r][c] -= factor * a[col][c];
+                    let pivot_row = a[col].clone();
+                    for (x, p) in a[r][col..=n].iter_mut().zip(&pivot_row[col..=n]) {
+                        *x -= factor * p;
                     }
                 }
             }
@@ -203,21 +209,13 @@ mod tests {
             sigma_db: 0.1,
         };
         let s = p.solve();
-        for j in 0..3 {
-            assert!(
-                (s.scale[j] - truth[j]).abs() < 2e-5,
-                "segment {j}: {}",
-                s.scale[j]
-            );
+        for (got, want) in s.scale.iter().zip(truth) {
+            assert!((got - want).abs() < 2e-5, "scale {got} vs {want}");
         }
         // Amplitudes rose by 0.5, 1.5, 2.0 dB: losses fell by 0.5, 1.0, 0.5 dB.
         let want = [-0.5, -1.0, -0.5];
-        for j in 0..3 {
-            assert!(
-                (s.loss_change_db[j] - want[j]).abs() < 0.05,
-                "segment {j}: {}",
-                s.loss_change_db[j]
-            );
+        for (got, w) in s.loss_change_db.iter().zip(want) {
+            assert!((got - w).abs() < 0.05, "loss change {got} vs {w}");
         }
         assert!(s.residual_rms_s < 1e-14);
         assert!(s.constrained.iter().all(|&c| c));

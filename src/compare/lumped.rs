@@ -12,8 +12,7 @@ use num_complex::Complex64;
 use serde::Serialize;
 use std::f64::consts::PI;
 
-/// Vacuum permittivity, F/m (CODATA 2018, exact to the digits given).
-pub const EPSILON_0: f64 = 8.854_187_8128e-12;
+pub use crate::line::fault::gap_capacitance;
 
 /// The lumped models a finding can be explained by.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Hash)]
@@ -146,8 +145,8 @@ pub struct ModelFit {
 /// Fit every model to `gamma` measured at `freqs` (Hz) on a line of impedance `z0`, allowing a residual delay
 /// of at most `max_delta_s`. Returns the fits sorted best first.
 ///
-/// The residual delay is searched on a grid fine enough that the phase error at the top frequency stays
-/// under 0.1 rad, then refined by golden section; each model's value by golden section on a log scale.
+/// The residual delay is searched on a grid of 0.5 rad of phase at the top frequency, then refined by golden
+/// section; each model's value on a log grid, then by golden section.
 pub fn fit_all(freqs: &[f64], gamma: &[Complex64], z0: f64, max_delta_s: f64) -> Vec<ModelFit> {
     assert_eq!(
         freqs.len(),
@@ -167,7 +166,7 @@ pub fn fit_all(freqs: &[f64], gamma: &[Complex64], z0: f64, max_delta_s: f64) ->
 }
 
 /// Most frequency points a fit uses; longer sweeps are decimated evenly (the models are smooth in f).
-pub const MAX_FIT_POINTS: usize = 256;
+pub const MAX_FIT_POINTS: usize = 128;
 
 fn decimate(freqs: &[f64], gamma: &[Complex64], max: usize) -> (Vec<f64>, Vec<Complex64>) {
     if freqs.len() <= max {
@@ -201,15 +200,15 @@ fn fit_one(
     norm: f64,
 ) -> ModelFit {
     let fmax = f.iter().cloned().fold(0.0, f64::max).max(1.0);
-    // Delay grid: 0.1 rad of phase at fmax per step.
-    let step = 0.1 / (2.0 * PI * fmax);
+    // Delay grid: 0.5 rad of phase at fmax per step, refined by golden section round the best.
+    let step = 0.5 / (2.0 * PI * fmax);
     let n = ((max_delta / step).ceil() as usize).clamp(0, 400);
     let best_value = |delta: f64| -> (f64, f64) {
         match m.range(z0) {
             None => (0.0, residual(m, 0.0, delta, f, g, z0)),
             Some((lo, hi)) => {
                 // Coarse log grid, then golden section around the best cell.
-                let cells = 48;
+                let cells = 24;
                 let (llo, lhi) = (lo.ln(), hi.ln());
                 let at = |i: usize| llo + (lhi - llo) * i as f64 / cells as f64;
                 let mut bi = 0;
@@ -223,7 +222,7 @@ fn fit_one(
                 }
                 let a = at(bi.saturating_sub(1));
                 let b = at((bi + 1).min(cells));
-                let x = golden(a, b, 40, |x| residual(m, x.exp(), delta, f, g, z0));
+                let x = golden(a, b, 30, |x| residual(m, x.exp(), delta, f, g, z0));
                 let r = residual(m, x.exp(), delta, f, g, z0);
                 if r < br {
                     (x.exp(), r)
@@ -286,28 +285,18 @@ fn golden(mut a: f64, mut b: f64, iters: usize, f: impl Fn(f64) -> f64) -> f64 {
     (a + b) / 2.0
 }
 
-/// Capacitance of an axial gap `gap_m` between two coaxial centre-conductor ends of radius `pin_radius_m`
-/// in a dielectric of relative permittivity `eps_r`: parallel plate plus Kirchhoff's fringing term for a
-/// circular disc capacitor, C = eps [pi a^2 / g + a (ln(16 pi a / g) - 1)] (G. Kirchhoff, 1877, as given in
-/// e.g. J. D. Jackson-style capacitor treatments; from memory). Within about 6 % of a full field solution
-/// for g < 0.4 a.
-pub fn gap_capacitance(gap_m: f64, pin_radius_m: f64, eps_r: f64) -> f64 {
-    let a = pin_radius_m;
-    let eps = EPSILON_0 * eps_r;
-    eps * (PI * a * a / gap_m + a * ((16.0 * PI * a / gap_m).ln() - 1.0))
-}
-
-/// The axial gap whose capacitance (by [`gap_capacitance`]) is `c`, found by bisection on a log scale.
+/// The axial gap whose capacitance (by [`gap_capacitance`], the parallel-plate-plus-fringing estimate) is
+/// `c`, found by bisection on a log scale.
 /// Returns `None` when `c` is below what the formula gives for a gap of one pin radius (the formula's range
 /// ends there; such a joint reads as an open).
 pub fn gap_from_capacitance(c: f64, pin_radius_m: f64, eps_r: f64) -> Option<f64> {
     let (mut lo, mut hi) = (1e-9_f64, pin_radius_m);
-    if !(c.is_finite() && c > 0.0) || gap_capacitance(hi, pin_radius_m, eps_r) > c {
+    if !(c.is_finite() && c > 0.0) || gap_capacitance(pin_radius_m, hi, eps_r) > c {
         return None;
     }
     for _ in 0..200 {
         let mid = (lo * hi).sqrt();
-        if gap_capacitance(mid, pin_radius_m, eps_r) > c {
+        if gap_capacitance(pin_radius_m, mid, eps_r) > c {
             lo = mid;
         } else {
             hi = mid;
@@ -370,7 +359,7 @@ mod tests {
             // one reflection they are the same fit, told apart only by where they are (see `classify`).
             let best = fits.iter().find(|x| x.model == m).unwrap();
             assert!(
-                best.fit_error <= fits[0].fit_error + 1e-9,
+                best.fit_error <= fits[0].fit_error + 1e-4,
                 "{m:?}: {:?}",
                 fits[0]
             );
@@ -391,7 +380,7 @@ mod tests {
         // project domain notes, calc): 414 fF at 10 um, 101 fF at 50 um. The formula claims about 6 %.
         let a = 0.2555e-3;
         for &(g, c_ref) in &[(10e-6, 414e-15), (50e-6, 101e-15)] {
-            let c = gap_capacitance(g, a, 2.03);
+            let c = gap_capacitance(a, g, 2.03);
             // "About 6 %": 4 % at 10 um, 6.3 % at 50 um here.
             assert!((c - c_ref).abs() / c_ref < 0.07, "gap {g}: {c} vs {c_ref}");
             let back = gap_from_capacitance(c, a, 2.03).unwrap();

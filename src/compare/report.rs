@@ -135,6 +135,28 @@ pub struct Alignment {
     pub electrical_length_change: f64,
 }
 
+impl Alignment {
+    /// Relative change of the round-trip delay between as-built positions `x0` and `x1` (current over
+    /// baseline, minus one), from the fitted per-segment scales.
+    pub fn delay_change_between(&self, x0: f64, x1: f64) -> f64 {
+        let (mut base, mut cur) = (0.0, 0.0);
+        for s in &self.segments {
+            let len = s.end_m - s.start_m;
+            if len <= 0.0 {
+                continue;
+            }
+            let overlap = (s.end_m.min(x1) - s.start_m.max(x0)).max(0.0) / len;
+            base += overlap * s.baseline_delay_s;
+            cur += overlap * s.baseline_delay_s * s.delay_scale;
+        }
+        if base > 0.0 {
+            cur / base - 1.0
+        } else {
+            0.0
+        }
+    }
+}
+
 /// Loss the findings explain against the loss observed.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct PowerCheck {

@@ -13,7 +13,6 @@
 use super::align::{AlignProblem, SegmentAlignment};
 use super::analysis::{SweepAnalysis, MAX_COMPENSATION};
 use super::chain::{ChainView, SegmentKind, Which};
-use super::detect::Peak;
 use super::lumped::{gap_from_capacitance, ModelFit, ModelType};
 use super::report::*;
 use super::severity::{drop_db, mismatch_loss_db, Severity};
@@ -26,6 +25,15 @@ use num_complex::Complex64;
 pub const LANDMARK_SNR: f64 = 31.6;
 /// Largest amplitude change a landmark may show, dB; a larger one is a change, not a landmark.
 pub const LANDMARK_MAX_CHANGE_DB: f64 = 3.0;
+/// On a line of unknown loss, a constant real reflection at least this strong is read as an open or short
+/// whose value is the apparent |Gamma| (the rest is the line's loss).
+pub const UNCOMPENSATED_TERMINATION: f64 = 0.3;
+/// Landmarks used for the first, coarse match (the strongest).
+pub const FIRST_PASS_LANDMARKS: usize = 6;
+/// Most landmarks used in all.
+pub const MAX_LANDMARKS: usize = 24;
+/// Least separation of two landmarks, in resolution cells: closer ones disturb each other's peaks.
+pub const LANDMARK_SEPARATION_CELLS: f64 = 4.0;
 /// Change of reflection that counts as a change, dB. Cold connectors' own reflections move by a dB or two
 /// as their parts contract (common practice, no source).
 pub const CHANGE_DB: f64 = 3.0;
@@ -172,14 +180,14 @@ fn match_events(
     c: &SweepAnalysis,
     predict: impl Fn(f64) -> f64,
     tol: impl Fn(f64) -> f64,
-    accept: impl Fn(&Peak, &Peak) -> bool,
+    accept: impl Fn(usize, usize) -> bool,
 ) -> Pairs {
     let mut cand: Vec<(f64, usize, usize)> = Vec::new();
     for (i, eb) in b.events.iter().enumerate() {
         let p = predict(eb.delay_s);
         for (j, ec) in c.events.iter().enumerate() {
             let miss = (ec.delay_s - p).abs();
-            if miss <= tol(p) && accept(eb, ec) {
+            if miss <= tol(p) && accept(i, j) {
                 cand.push((miss, i, j));
             }
         }
@@ -202,6 +210,85 @@ fn match_events(
     }
     pairs.sort();
     pairs
+}
+
+/// The largest subset of landmark pairs, in order, in which every stretch between consecutive landmarks
+/// (and from the reference plane to the first) changes its delay by no more than [`MAX_LENGTH_CHANGE`]
+/// against the model's prediction, plus what the landmarks' own uncertainty `sigma_s` allows: a
+/// longest-chain search over the pairs (dynamic programming), so one wrong pairing cannot bend the fit.
+fn consistent(
+    pairs: &Pairs,
+    b: &SweepAnalysis,
+    c: &SweepAnalysis,
+    predict: impl Fn(f64) -> f64,
+    sigma_s: f64,
+) -> Pairs {
+    let n = pairs.len();
+    let db_ = |k: usize| {
+        if k == 0 {
+            0.0
+        } else {
+            b.events[pairs[k - 1].0].delay_s
+        }
+    };
+    let dc_ = |k: usize| {
+        if k == 0 {
+            0.0
+        } else {
+            c.events[pairs[k - 1].1].delay_s
+        }
+    };
+    let ok = |j: usize, k: usize| {
+        let (tb, tc) = (db_(k) - db_(j), dc_(k) - dc_(j));
+        let tp = predict(db_(k)) - predict(db_(j));
+        tb > 0.0 && tp > 0.0 && ((tc - tp) / tp).abs() <= MAX_LENGTH_CHANGE + 3.0 * sigma_s / tp
+    };
+    // best[k]: most landmarks in a consistent chain ending at k (0 = the reference plane).
+    let mut best = vec![0usize; n + 1];
+    let mut prev = vec![usize::MAX; n + 1];
+    for k in 1..=n {
+        best[k] = 0;
+        for j in 0..k {
+            if (j == 0 || best[j] > 0) && ok(j, k) && best[j] + 1 > best[k] {
+                best[k] = best[j] + 1;
+                prev[k] = j;
+            }
+        }
+    }
+    let mut end = (1..=n).max_by_key(|&k| (best[k], k)).unwrap_or(0);
+    let mut out = Vec::new();
+    while end > 0 && best[end] > 0 {
+        out.push(pairs[end - 1]);
+        end = prev[end];
+    }
+    out.reverse();
+    out
+}
+
+/// Baseline events fit to be landmarks: at least [`LANDMARK_SNR`] above the noise, and, strongest first,
+/// at least `min_sep` (round-trip s) from every stronger one chosen; at most `max` of them.
+fn candidates(b: &SweepAnalysis, min_sep: f64, max: usize) -> Vec<bool> {
+    let mut order: Vec<usize> = (0..b.events.len())
+        .filter(|&i| b.snr(b.events[i].magnitude, b.events[i].delay_s) >= LANDMARK_SNR)
+        .collect();
+    order.sort_by(|&x, &y| b.events[y].magnitude.total_cmp(&b.events[x].magnitude));
+    let mut chosen: Vec<usize> = Vec::new();
+    for i in order {
+        if chosen.len() >= max {
+            break;
+        }
+        if chosen
+            .iter()
+            .all(|&k| (b.events[k].delay_s - b.events[i].delay_s).abs() >= min_sep)
+        {
+            chosen.push(i);
+        }
+    }
+    let mut set = vec![false; b.events.len()];
+    for i in chosen {
+        set[i] = true;
+    }
+    set
 }
 
 fn db(a: f64) -> f64 {
@@ -324,6 +411,9 @@ fn fit_alignment(
             element: s.name.clone(),
             delay_scale: sol.scale[j],
             loss_change_db: sol.loss_change_db[j],
+            start_m: s.start_m,
+            end_m: s.end_m,
+            baseline_delay_s: s.delay_s[0],
             constrained: sol.constrained[j],
         })
         .collect();
@@ -403,6 +493,33 @@ fn classify(
         .nearest_connector(x)
         .is_some_and(|(_, d)| d <= near_tol_m)
         || seg.is_some_and(|s| s.kind == SegmentKind::Connector);
+    // Seen through a line of unknown loss, an open or a short reads as a strong constant real reflection
+    // below 1: take a strong one for the termination it most likely is (a step of coax impedance that far,
+    // to 93 or 27 ohm, is rare; common practice, no source).
+    if !chain.as_built
+        && matches!(
+            best.model,
+            ModelType::ImpedanceStep | ModelType::SeriesResistance
+        )
+    {
+        let g = best.model.gamma(best.value, 1e9, chain.impedance_ohm).re;
+        if g.abs() >= UNCOMPENSATED_TERMINATION {
+            let model = if g > 0.0 {
+                ModelType::Open
+            } else {
+                ModelType::Short
+            };
+            summary.model = model;
+            summary.value = g.abs();
+            summary.unit = "";
+            let kind = if g > 0.0 {
+                FaultKind::Open
+            } else {
+                FaultKind::Short
+            };
+            return (kind, summary, None);
+        }
+    }
     let kind = match best.model {
         ModelType::SeriesCapacitance => {
             summary.gap_m = gap_from_capacitance(best.value, pin, eps);
@@ -621,9 +738,24 @@ pub fn compare(
         ));
     }
 
-    // Landmarks: strong events, near where the model puts them, not much changed.
-    let strong = |e: &Peak, a: &SweepAnalysis| a.snr(e.magnitude, e.delay_s) >= LANDMARK_SNR;
-    let tol0 = |p: f64| MAX_LENGTH_CHANGE * p + 2.0 * b.resolution_s.max(c.resolution_s);
+    // Landmarks: strong, well separated events, near where the model puts them, not much changed.
+    let res_max = b.resolution_s.max(c.resolution_s);
+    let first = candidates(
+        &b,
+        LANDMARK_SEPARATION_CELLS * res_max,
+        FIRST_PASS_LANDMARKS,
+    );
+    let all = candidates(&b, LANDMARK_SEPARATION_CELLS * res_max, MAX_LANDMARKS);
+    let steady = |set: &[bool]| {
+        let set = set.to_vec();
+        let (b, c) = (&b, &c);
+        move |i: usize, j: usize| {
+            let (eb, ec) = (&b.events[i], &c.events[j]);
+            set[i]
+                && c.snr(ec.magnitude, ec.delay_s) >= LANDMARK_SNR
+                && (db(ec.magnitude) - db(eb.magnitude)).abs() < LANDMARK_MAX_CHANGE_DB
+        }
+    };
     let predict0 = |d: f64| {
         chain.delay_to(
             chain.position_of(d, Which::Baseline, None),
@@ -631,14 +763,17 @@ pub fn compare(
             None,
         )
     };
-    let steady = |eb: &Peak, ec: &Peak| {
-        strong(eb, &b)
-            && strong(ec, &c)
-            && (db(ec.magnitude) - db(eb.magnitude)).abs() < LANDMARK_MAX_CHANGE_DB
-    };
-    let mut pairs = match_events(&b, &c, predict0, tol0, steady);
+    let tol0 = |p: f64| MAX_LENGTH_CHANGE * p + 2.0 * res_max;
+    let sigma_pair = 0.1 * res_max;
+    let mut pairs = consistent(
+        &match_events(&b, &c, predict0, tol0, steady(&first)),
+        &b,
+        &c,
+        predict0,
+        sigma_pair,
+    );
     let mut fitted = fit_alignment(&chain, &b, &c, &pairs, f_ref);
-    // Second pass, with the fitted map and a tight tolerance.
+    // Second pass: every candidate, predicted with the first fit, within half a resolution cell.
     {
         let fit = &fitted;
         let predict = |d: f64| {
@@ -648,8 +783,13 @@ pub fn compare(
                 None,
             )
         };
-        let tol = |_p: f64| 1.5 * b.resolution_s.max(c.resolution_s);
-        let again = match_events(&b, &c, predict, tol, steady);
+        let again = consistent(
+            &match_events(&b, &c, predict, |_| 0.5 * res_max, steady(&all)),
+            &b,
+            &c,
+            predict0,
+            sigma_pair,
+        );
         if again.len() >= pairs.len() {
             pairs = again;
         }
@@ -740,13 +880,24 @@ pub fn compare(
         let (mut kind, model, best) = classify(&fits, &chain, x, (2.0 * sigma_x).max(res_m));
         let (drop_c, ml) = costs(best, &fl, &gl, chain.impedance_ohm, f_ref);
         let drop_b = mismatch_loss_db(base_refl.min(0.999));
-        let net_drop = if change_db > 0.0 {
+        let mut net_drop = if change_db > 0.0 {
             (drop_c - drop_b).max(0.0)
         } else {
             0.0
         };
+        // Both sweeps in one state: the reflection's complex change is comparable, and what appeared is
+        // the difference, Gamma_c - Gamma_b (an open that became a short changes by 2 |Gamma|).
+        if same_state {
+            let added = match base {
+                Some((_, gamma_b)) => (gamma_c - gamma_b).norm(),
+                None => (refl - base_refl).max(0.0),
+            };
+            net_drop = net_drop.max(mismatch_loss_db(added.min(0.999)));
+        }
         let mut severity = Severity::from_drop_db(net_drop);
-        if change_db > 0.0 && matches!(kind, FaultKind::Open | FaultKind::Short) {
+        if (change_db > 0.0 || (same_state && phase_deg.abs() >= PHASE_CHANGE_DEG))
+            && matches!(kind, FaultKind::Open | FaultKind::Short)
+        {
             severity = Severity::Critical;
         }
         if change_db < 0.0 {
