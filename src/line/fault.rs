@@ -120,12 +120,18 @@ impl Fault {
         let kind = match word.as_str() {
             "gap" => {
                 let v = need(value)?;
+                if !v.chars().any(|c| c.is_alphabetic()) {
+                    return Err(err(
+                        spec,
+                        "gap needs a unit: a capacitance (30fF) or a length (40um)",
+                    ));
+                }
                 match units::parse(&v, Family::Capacitance) {
                     Ok(c) => FaultKind::Gap {
                         farad: positive(c, "the gap capacitance")?,
                     },
                     Err(ec) => match units::parse(&v, Family::Length) {
-                        Ok(g) if v.chars().any(|c| c.is_ascii_alphabetic()) => {
+                        Ok(g) => {
                             gap_length_m = Some(positive(g, "the gap length")?);
                             FaultKind::Gap { farad: f64::NAN }
                         }
