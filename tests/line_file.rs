@@ -5,7 +5,12 @@ use coldtrace::line::{ElementKind, LineError, Load};
 use std::path::Path;
 
 fn demo(name: &str) -> coldtrace::line::Line {
-    coldtrace::line::file::read_file(&Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/line").join(name)).unwrap()
+    coldtrace::line::file::read_file(
+        &Path::new(env!("CARGO_MANIFEST_DIR"))
+            .join("tests/data/line")
+            .join(name),
+    )
+    .unwrap()
 }
 
 #[test]
@@ -17,10 +22,15 @@ fn demo_files_resolve() {
     let (_, j2) = l.element("J2").unwrap();
     // As-built position: 1.50 + 0.008 + 0.30 m.
     assert!((j2.start_m - 1.808).abs() < 1e-12);
-    assert!(matches!(l.elements.last().unwrap().kind, ElementKind::Device { load: Load::Open }));
+    assert!(matches!(
+        l.elements.last().unwrap().kind,
+        ElementKind::Device { load: Load::Open }
+    ));
     let o = demo("north-fridge-out-03.toml");
     match o.elements.last().unwrap().kind {
-        ElementKind::Device { load: Load::Reflection(g) } => assert!((g - 10f64.powf(-0.6)).abs() < 1e-12),
+        ElementKind::Device {
+            load: Load::Reflection(g),
+        } => assert!((g - 10f64.powf(-0.6)).abs() < 1e-12),
         ref k => panic!("{k:?}"),
     }
     match &o.elements[0].kind {
@@ -31,7 +41,13 @@ fn demo_files_resolve() {
 
 fn err(text: &str) -> (usize, usize, Option<String>, String) {
     match parse(text, Path::new("in-07.toml")) {
-        Err(LineError::File { path, line, column, key, message }) => {
+        Err(LineError::File {
+            path,
+            line,
+            column,
+            key,
+            message,
+        }) => {
             assert_eq!(path, Path::new("in-07.toml"));
             (line, column, key, message)
         }
@@ -47,7 +63,10 @@ fn unknown_cable_kind_lists_the_known_ones() {
     let (line, col, key, msg) = err(&text);
     assert_eq!((line, col), (7, 9));
     assert_eq!(key.as_deref(), Some("cable"));
-    assert!(msg.contains("ss-087") && msg.contains("ss-086") && msg.contains("nbti-086"), "{msg}");
+    assert!(
+        msg.contains("ss-087") && msg.contains("ss-086") && msg.contains("nbti-086"),
+        "{msg}"
+    );
 }
 
 #[test]
@@ -58,12 +77,19 @@ fn unknown_stage_negative_length_duplicate_name() {
     let (line, _, key, msg) = err(&format!("{HEAD}{}", cable("k40", "0.3", "a")));
     assert_eq!(line, 9);
     assert_eq!(key.as_deref(), Some("from"));
-    assert!(msg.contains("k40") && msg.contains("room") && msg.contains("k4"), "{msg}");
+    assert!(
+        msg.contains("k40") && msg.contains("room") && msg.contains("k4"),
+        "{msg}"
+    );
     let (line, _, key, msg) = err(&format!("{HEAD}{}", cable("room", "-0.3", "a")));
     assert_eq!(line, 8);
     assert_eq!(key.as_deref(), Some("length_m"));
     assert!(msg.contains("positive"), "{msg}");
-    let (line, _, key, msg) = err(&format!("{HEAD}{}{}", cable("room", "0.3", "a"), cable("room", "0.3", "a")));
+    let (line, _, key, msg) = err(&format!(
+        "{HEAD}{}{}",
+        cable("room", "0.3", "a"),
+        cable("room", "0.3", "a")
+    ));
     assert_eq!(line, 13);
     assert_eq!(key.as_deref(), Some("name"));
     assert!(msg.contains("duplicate") && msg.contains("line 4"), "{msg}");
@@ -84,7 +110,10 @@ fn key_of_another_kind_is_refused() {
     let (line, _, key, msg) = err(&text);
     assert_eq!(line, 7);
     assert_eq!(key.as_deref(), Some("loss_db"));
-    assert!(msg.contains("connector") && msg.contains("pin_radius_m"), "{msg}");
+    assert!(
+        msg.contains("connector") && msg.contains("pin_radius_m"),
+        "{msg}"
+    );
 }
 
 #[test]
@@ -102,4 +131,27 @@ fn integers_are_numbers_and_display_names_the_file() {
     let e = parse("name = 3\n", Path::new("dir/a.toml")).unwrap_err();
     let s = e.to_string();
     assert!(s.starts_with("dir/a.toml:1:"), "{s}");
+}
+
+mod props {
+    use proptest::prelude::*;
+    use std::path::Path;
+
+    proptest! {
+        #[test]
+        fn line_parser_never_panics(text in "\\PC{0,300}") {
+            let _ = coldtrace::line::file::parse(&text, Path::new("p.toml"));
+        }
+
+        #[test]
+        fn line_parser_never_panics_on_near_valid_files(len in -2.0f64..2.0, kind in "(cable|connector|device|attenuator|x)", st in "(room|k4|mxc)") {
+            let text = format!("name = \"x\"\n[stages]\nk4 = 3.5\n[[element]]\nkind = \"{kind}\"\nname = \"e\"\ncable = \"ss-086\"\nlength_m = {len}\nfrom = \"{st}\"\nto = \"k4\"\n");
+            let _ = coldtrace::line::file::parse(&text, Path::new("p.toml"));
+        }
+
+        #[test]
+        fn fault_parser_never_panics(spec in "\\PC{0,60}") {
+            let _ = coldtrace::line::Fault::parse(&spec);
+        }
+    }
 }

@@ -27,9 +27,9 @@ fn abcd_cascade_matches_the_terminated_line_formula() {
         let zl = c(10.0 + 7.0 * k as f64, -30.0 + 2.5 * k as f64);
         let gamma = c(0.0, 1.0);
         let parts = [0.2, 0.5, 0.3];
-        let m = parts
-            .iter()
-            .fold(Abcd::IDENTITY, |m, p| m.then(&Abcd::line(c(z0, 0.0), gamma, bl * p)));
+        let m = parts.iter().fold(Abcd::IDENTITY, |m, p| {
+            m.then(&Abcd::line(c(z0, 0.0), gamma, bl * p))
+        });
         let zin = m.input_impedance(zl);
         let want = zin_lossless(z0, zl, bl);
         assert!((zin - want).norm() < 1e-9 * want.norm(), "{zin} vs {want}");
@@ -112,7 +112,11 @@ fn skin_effect_brings_its_own_phase() {
     let lossless = 2.0 * PI * f * st.er_eff.sqrt() / C0;
     let ad = PI * f * st.er_eff.sqrt() * st.loss_tangent / C0;
     let ac = g.re - ad;
-    assert!(((g.im - lossless) - ac).abs() < 0.02 * ac, "{} vs {ac}", g.im - lossless);
+    assert!(
+        ((g.im - lossless) - ac).abs() < 0.02 * ac,
+        "{} vs {ac}",
+        g.im - lossless
+    );
 }
 
 #[test]
@@ -138,7 +142,10 @@ fn contraction_against_ekin_table() {
     ];
     for (m, c4, c77) in cases {
         assert!((m.contraction(4.0) * 100.0 - c4).abs() < 0.002, "{m:?} 4 K");
-        assert!((m.contraction(77.0) * 100.0 - c77).abs() < 0.002, "{m:?} 77 K");
+        assert!(
+            (m.contraction(77.0) * 100.0 - c77).abs() < 0.002,
+            "{m:?} 77 K"
+        );
         // Monotonic on cooling.
         let mut last = -1.0;
         for t in (4..=293).rev().step_by(7) {
@@ -154,17 +161,20 @@ fn anomalous_skin_effect_limits_the_cold_gain() {
     // Copper Rs(293 K) / Rs(4 K) only about 4-7 at 1-10 GHz (Reuter-Sondheimer; Chambers 1952), and in the
     // extreme anomalous regime X / R -> sqrt(3), R ~ f^(2/3).
     for (f, lo, hi) in [(1e9, 4.0, 7.0), (10e9, 3.5, 7.0)] {
-        let r = Material::Copper.surface_impedance(f, 293.0).0 / Material::Copper.surface_impedance(f, 4.0).0;
+        let r = Material::Copper.surface_impedance(f, 293.0).0
+            / Material::Copper.surface_impedance(f, 4.0).0;
         assert!(r > lo && r < hi, "{f}: ratio {r}");
     }
     let (r1, x1) = Material::Copper.surface_impedance(10e9, 4.0);
     // RRR 30 at 10 GHz sits between the regimes: 1 < X/R < sqrt(3).
     assert!(x1 / r1 > 1.3 && x1 / r1 < 3f64.sqrt(), "{}", x1 / r1);
     // Stainless barely changes: resistivity 7.2e-7 -> 5.0e-7 gives Rs ratio sqrt(0.694) = 0.833.
-    let s = Material::Stainless304.surface_impedance(5e9, 4.0).0 / Material::Stainless304.surface_impedance(5e9, 293.0).0;
+    let s = Material::Stainless304.surface_impedance(5e9, 4.0).0
+        / Material::Stainless304.surface_impedance(5e9, 293.0).0;
     assert!((s - 0.833).abs() < 0.005, "{s}");
     // NbTi below Tc: dielectric-limited line; far lower than its normal state.
-    let n = Material::Nbti.surface_impedance(5e9, 4.0).0 / Material::Nbti.surface_impedance(5e9, 10.0).0;
+    let n = Material::Nbti.surface_impedance(5e9, 4.0).0
+        / Material::Nbti.surface_impedance(5e9, 10.0).0;
     assert!(n < 0.1, "{n}");
 }
 
@@ -183,7 +193,11 @@ fn gap_capacitance_against_field_solution_values() {
 fn ptfe_models_bracket_each_other() {
     let k = catalogue::built_in("cu-086").unwrap();
     let er = |m| SectionState::new(&k, 4.0, m).er_eff;
-    let (free, filled, gapped) = (er(PtfeModel::Free), er(PtfeModel::Filled), er(PtfeModel::Gapped));
+    let (free, filled, gapped) = (
+        er(PtfeModel::Free),
+        er(PtfeModel::Filled),
+        er(PtfeModel::Gapped),
+    );
     assert!(free > gapped && gapped > filled, "{free} {gapped} {filled}");
     // Free contraction raises er by about 4-5 % (Clausius-Mossotti, 2.13 % linear contraction).
     assert!((free / k.er - 1.0 - 0.044).abs() < 0.005, "{}", free / k.er);

@@ -27,7 +27,10 @@ fn read_s1p(path: &Path) -> (Vec<f64>, Vec<Complex64>) {
         if line.is_empty() || line.starts_with('#') {
             continue;
         }
-        let v: Vec<f64> = line.split_whitespace().map(|x| x.parse().unwrap()).collect();
+        let v: Vec<f64> = line
+            .split_whitespace()
+            .map(|x| x.parse().unwrap())
+            .collect();
         f.push(v[0] * 1e9);
         s.push(Complex64::new(v[1], v[2]));
     }
@@ -75,33 +78,37 @@ fn peak(f: &[f64], s: &[Complex64], t0: f64, t1: f64) -> f64 {
     let fine = 0.1e-12;
     let ts: Vec<f64> = (-30..=30).map(|i| best + i as f64 * fine).collect();
     let hs: Vec<f64> = ts.iter().map(|t| response(f, &ws, *t)).collect();
-    let i = (1..hs.len() - 1).max_by(|a, b| hs[*a].total_cmp(&hs[*b])).unwrap();
+    let i = (1..hs.len() - 1)
+        .max_by(|a, b| hs[*a].total_cmp(&hs[*b]))
+        .unwrap();
     let (y0, y1, y2) = (hs[i - 1].ln(), hs[i].ln(), hs[i + 1].ln());
     ts[i] + 0.5 * (y0 - y2) / (y0 - 2.0 * y1 + y2) * fine
 }
 
-
 fn data(t: &str, name: &str) -> (Vec<f64>, Vec<Complex64>) {
-    read_s1p(&Path::new(env!("CARGO_MANIFEST_DIR")).join(format!("tests/data/real/cryostat-a/{t}/{name}.s1p")))
+    read_s1p(
+        &Path::new(env!("CARGO_MANIFEST_DIR"))
+            .join(format!("tests/data/real/cryostat-a/{t}/{name}.s1p")),
+    )
 }
-
 
 /// The model of the path: a room-temperature lead (placing the feedthrough where the sweeps show it), the
 /// feedthrough as a connector at room temperature, one stainless 0.086-in PTFE cable from room to the 3 K
 /// stage with a linear temperature profile, the switch's input connector and a short switch-board path at
 /// 3 K, and the short. Lengths come from the warm sweep's landmark times only.
 fn model(cable: &str, ptfe: PtfeModel) -> Line {
-    let el = |name: &str, kind: ElementKind, len: f64, from: (&str, f64), to: (&str, f64)| Element {
-        name: name.into(),
-        kind,
-        length_m: len,
-        start_m: 0.0,
-        from_stage: from.0.into(),
-        to_stage: to.0.into(),
-        cold_from_k: from.1,
-        cold_to_k: to.1,
-        line_no: 0,
-    };
+    let el =
+        |name: &str, kind: ElementKind, len: f64, from: (&str, f64), to: (&str, f64)| Element {
+            name: name.into(),
+            kind,
+            length_m: len,
+            start_m: 0.0,
+            from_stage: from.0.into(),
+            to_stage: to.0.into(),
+            cold_from_k: from.1,
+            cold_to_k: to.1,
+            line_no: 0,
+        };
     let room = ("room", 295.0);
     let k3 = ("k3", 3.0);
     let lead = catalogue::built_in("cu-141").unwrap();
@@ -110,16 +117,68 @@ fn model(cable: &str, ptfe: PtfeModel) -> Line {
         "cryostat-a model",
         50.0,
         vec![
-            Stage { name: "room".into(), kelvin: 295.0 },
-            Stage { name: "k3".into(), kelvin: 3.0 },
+            Stage {
+                name: "room".into(),
+                kelvin: 295.0,
+            },
+            Stage {
+                name: "k3".into(),
+                kelvin: 3.0,
+            },
         ],
         vec![
-            el("lead", ElementKind::Cable { cable: lead }, 0.415, room, room),
-            el("feedthrough", ElementKind::Connector { section: conn(58.0), pin_radius_m: 0.2555e-3 }, 0.01, room, room),
-            el("cryostat coax", ElementKind::Cable { cable: catalogue::built_in(cable).unwrap() }, 0.742, room, k3),
-            el("switch input", ElementKind::Connector { section: conn(58.0), pin_radius_m: 0.2555e-3 }, 0.01, k3, k3),
-            el("switch board", ElementKind::Cable { cable: catalogue::built_in("cu-086").unwrap() }, 0.056, k3, k3),
-            el("switch", ElementKind::Device { load: Load::Short }, 0.0, k3, k3),
+            el(
+                "lead",
+                ElementKind::Cable { cable: lead },
+                0.415,
+                room,
+                room,
+            ),
+            el(
+                "feedthrough",
+                ElementKind::Connector {
+                    section: conn(58.0),
+                    pin_radius_m: 0.2555e-3,
+                },
+                0.01,
+                room,
+                room,
+            ),
+            el(
+                "cryostat coax",
+                ElementKind::Cable {
+                    cable: catalogue::built_in(cable).unwrap(),
+                },
+                0.742,
+                room,
+                k3,
+            ),
+            el(
+                "switch input",
+                ElementKind::Connector {
+                    section: conn(58.0),
+                    pin_radius_m: 0.2555e-3,
+                },
+                0.01,
+                k3,
+                k3,
+            ),
+            el(
+                "switch board",
+                ElementKind::Cable {
+                    cable: catalogue::built_in("cu-086").unwrap(),
+                },
+                0.056,
+                k3,
+                k3,
+            ),
+            el(
+                "switch",
+                ElementKind::Device { load: Load::Short },
+                0.0,
+                k3,
+                k3,
+            ),
         ],
     );
     line.ptfe_model = ptfe;
@@ -132,8 +191,20 @@ const SWITCH_IN: (f64, f64) = (11.10e-9, 11.25e-9);
 const TERM: (f64, f64) = (11.70e-9, 11.90e-9);
 
 /// (warm delay, fraction) feedthrough -> switch input and feedthrough -> termination.
-fn fractions(fw: &[f64], sw: &[Complex64], fc: &[f64], sc: &[Complex64], win: [(f64, f64); 3]) -> [(f64, f64); 2] {
-    let t = |f: &[f64], s: &[Complex64]| [peak(f, s, win[0].0, win[0].1), peak(f, s, win[1].0, win[1].1), peak(f, s, win[2].0, win[2].1)];
+fn fractions(
+    fw: &[f64],
+    sw: &[Complex64],
+    fc: &[f64],
+    sc: &[Complex64],
+    win: [(f64, f64); 3],
+) -> [(f64, f64); 2] {
+    let t = |f: &[f64], s: &[Complex64]| {
+        [
+            peak(f, s, win[0].0, win[0].1),
+            peak(f, s, win[1].0, win[1].1),
+            peak(f, s, win[2].0, win[2].1),
+        ]
+    };
     let (w, c) = (t(fw, sw), t(fc, sc));
     let frac = |i: usize| {
         let (dw, dc) = (w[i] - w[0], c[i] - c[0]);
@@ -166,7 +237,17 @@ fn predicted(cable: &str, ptfe: PtfeModel) -> [(f64, f64); 2] {
         (t - 0.08e-9, t + 0.12e-9)
     };
     let end = line.length_m();
-    fractions(&f, &warm.s, &f, &cold.s, [win(centre("feedthrough")), win(centre("switch input")), win(end)])
+    fractions(
+        &f,
+        &warm.s,
+        &f,
+        &cold.s,
+        [
+            win(centre("feedthrough")),
+            win(centre("switch input")),
+            win(end),
+        ],
+    )
 }
 
 /// Measured with the estimator above (Kaiser beta 6, whole band), from the `short` sweeps:
@@ -179,12 +260,29 @@ const MEASURED_TERMINATION_FRACTION: f64 = 0.003_209;
 #[test]
 fn measured_landmarks_show_cooling_lengthens_the_in_cryostat_path() {
     let m = measured("short");
-    assert!((m[0].0 - 7.0902e-9).abs() < 2e-12, "warm coax delay {}", m[0].0);
-    assert!((m[0].1 - MEASURED_COAX_FRACTION).abs() < 2e-5, "coax fraction {}", m[0].1);
-    assert!((m[1].1 - MEASURED_TERMINATION_FRACTION).abs() < 2e-5, "termination fraction {}", m[1].1);
+    assert!(
+        (m[0].0 - 7.0902e-9).abs() < 2e-12,
+        "warm coax delay {}",
+        m[0].0
+    );
+    assert!(
+        (m[0].1 - MEASURED_COAX_FRACTION).abs() < 2e-5,
+        "coax fraction {}",
+        m[0].1
+    );
+    assert!(
+        (m[1].1 - MEASURED_TERMINATION_FRACTION).abs() < 2e-5,
+        "termination fraction {}",
+        m[1].1
+    );
     // The open standard's sweeps (independent files, same path) agree on the coax landmark.
     let o = measured("open");
-    assert!((o[0].1 - m[0].1).abs() < 1e-4, "open {} vs short {}", o[0].1, m[0].1);
+    assert!(
+        (o[0].1 - m[0].1).abs() < 1e-4,
+        "open {} vs short {}",
+        o[0].1,
+        m[0].1
+    );
 }
 
 /// The gapped PTFE model (the default, no parameter fitted to these sweeps) predicts the coax landmark's
@@ -195,10 +293,19 @@ fn measured_landmarks_show_cooling_lengthens_the_in_cryostat_path() {
 fn gapped_ptfe_model_predicts_the_measured_change() {
     let m = MEASURED_COAX_FRACTION;
     let cu = predicted("cu-086", PtfeModel::Gapped)[0].1;
-    assert!((cu - m).abs() < 1.5e-3, "copper gapped {cu} vs measured {m}");
-    assert!(cu > m, "the gapped model overshoots the measured change: {cu} vs {m}");
+    assert!(
+        (cu - m).abs() < 1.5e-3,
+        "copper gapped {cu} vs measured {m}"
+    );
+    assert!(
+        cu > m,
+        "the gapped model overshoots the measured change: {cu} vs {m}"
+    );
     let ss = predicted("ss-086", PtfeModel::Gapped)[0].1;
-    assert!((ss - m).abs() < 1.5e-3, "stainless gapped {ss} vs measured {m}");
+    assert!(
+        (ss - m).abs() < 1.5e-3,
+        "stainless gapped {ss} vs measured {m}"
+    );
     let free = predicted("cu-086", PtfeModel::Free)[0].1;
     assert!(free > m + 0.005, "free {free}");
     let filled = predicted("cu-086", PtfeModel::Filled)[0].1;

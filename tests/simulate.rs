@@ -4,7 +4,9 @@ use coldtrace::line::abcd::{reflection, Abcd};
 use coldtrace::line::catalogue;
 use coldtrace::line::materials::PtfeModel;
 use coldtrace::line::physics::SectionState;
-use coldtrace::line::{simulate, Element, ElementKind, Fault, Line, LineError, Load, SimConfig, Stage, State};
+use coldtrace::line::{
+    simulate, Element, ElementKind, Fault, Line, LineError, Load, SimConfig, Stage, State,
+};
 use num_complex::Complex64;
 use std::path::Path;
 
@@ -23,16 +25,30 @@ fn el(name: &str, kind: ElementKind, len: f64) -> Element {
 }
 
 fn stages() -> Vec<Stage> {
-    vec![Stage { name: "room".into(), kelvin: 295.0 }]
+    vec![Stage {
+        name: "room".into(),
+        kelvin: 295.0,
+    }]
 }
 
 fn one_cable(load: Load, len: f64) -> Line {
     let k = catalogue::built_in("cu-086").unwrap();
-    Line::new("t", 50.0, stages(), vec![el("c", ElementKind::Cable { cable: k }, len), el("end", ElementKind::Device { load }, 0.0)])
+    Line::new(
+        "t",
+        50.0,
+        stages(),
+        vec![
+            el("c", ElementKind::Cable { cable: k }, len),
+            el("end", ElementKind::Device { load }, 0.0),
+        ],
+    )
 }
 
 fn demo() -> Line {
-    coldtrace::line::file::read_file(&Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/line/north-fridge-in-07.toml")).unwrap()
+    coldtrace::line::file::read_file(
+        &Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/line/north-fridge-in-07.toml"),
+    )
+    .unwrap()
 }
 
 #[test]
@@ -60,12 +76,24 @@ fn lumped_faults_on_a_matched_line_reflect_as_circuit_theory_says() {
     // A fault between matched sections: series Z -> Z/(2 Z0 + Z), shunt Y -> -Y Z0/(2 + Y Z0), referred to
     // the port through the line before it (|.| unchanged on a near-lossless copper line apart from loss).
     let k = catalogue::built_in("cu-086").unwrap().with_impedance(50.0);
-    let line = Line::new("t", 50.0, stages(), vec![
-        el("a", ElementKind::Cable { cable: k.clone() }, 0.2),
-        el("J", ElementKind::Connector { section: k.clone(), pin_radius_m: k.inner_radius_m }, 0.01),
-        el("b", ElementKind::Cable { cable: k.clone() }, 0.2),
-        el("end", ElementKind::Device { load: Load::Match }, 0.0),
-    ]);
+    let line = Line::new(
+        "t",
+        50.0,
+        stages(),
+        vec![
+            el("a", ElementKind::Cable { cable: k.clone() }, 0.2),
+            el(
+                "J",
+                ElementKind::Connector {
+                    section: k.clone(),
+                    pin_radius_m: k.inner_radius_m,
+                },
+                0.01,
+            ),
+            el("b", ElementKind::Cable { cable: k.clone() }, 0.2),
+            el("end", ElementKind::Device { load: Load::Match }, 0.0),
+        ],
+    );
     let f = 3e9;
     let mut cfg = SimConfig::linear(State::Warm, f, f, 1);
     let st = SectionState::new(&k, 295.0, PtfeModel::Gapped);
@@ -74,10 +102,22 @@ fn lumped_faults_on_a_matched_line_reflect_as_circuit_theory_says() {
     let w = 2.0 * std::f64::consts::PI * f;
     let j = Complex64::new(0.0, 1.0);
     let cases: Vec<(&str, Complex64)> = vec![
-        ("J:contact=2ohm", { let z = Complex64::new(2.0, 0.0); z / (2.0 * z0 + z) }),
-        ("J:gap=30fF", { let z = 1.0 / (j * w * 30e-15); z / (2.0 * z0 + z) }),
-        ("J:inductance=0.5nH", { let z = j * w * 0.5e-9; z / (2.0 * z0 + z) }),
-        ("J:shunt=50fF", { let y = j * w * 50e-15; -y * z0 / (2.0 + y * z0) }),
+        ("J:contact=2ohm", {
+            let z = Complex64::new(2.0, 0.0);
+            z / (2.0 * z0 + z)
+        }),
+        ("J:gap=30fF", {
+            let z = 1.0 / (j * w * 30e-15);
+            z / (2.0 * z0 + z)
+        }),
+        ("J:inductance=0.5nH", {
+            let z = j * w * 0.5e-9;
+            z / (2.0 * z0 + z)
+        }),
+        ("J:shunt=50fF", {
+            let y = j * w * 50e-15;
+            -y * z0 / (2.0 + y * z0)
+        }),
         ("J:short", Complex64::new(-1.0, 0.0)),
         ("J:open", Complex64::new(1.0, 0.0)),
     ];
@@ -85,7 +125,10 @@ fn lumped_faults_on_a_matched_line_reflect_as_circuit_theory_says() {
         cfg.faults = vec![Fault::parse(spec).unwrap()];
         let g = simulate(&line, &cfg).unwrap().s[0];
         let want = local * before;
-        assert!((g - want).norm() < 2e-3 * (1.0 + want.norm()), "{spec}: {g} vs {want}");
+        assert!(
+            (g - want).norm() < 2e-3 * (1.0 + want.norm()),
+            "{spec}: {g} vs {want}"
+        );
     }
 }
 
@@ -94,7 +137,10 @@ fn crush_and_step_match_a_hand_built_cascade() {
     let k = catalogue::built_in("cu-086").unwrap();
     let line = one_cable(Load::Match, 0.5);
     let mut cfg = SimConfig::linear(State::Warm, 1e9, 9e9, 9);
-    cfg.faults = vec![Fault::parse("c@0.1m:crush=40ohm,8mm").unwrap(), Fault::parse("c@0.3m:step=60ohm").unwrap()];
+    cfg.faults = vec![
+        Fault::parse("c@0.1m:crush=40ohm,8mm").unwrap(),
+        Fault::parse("c@0.3m:step=60ohm").unwrap(),
+    ];
     let net = simulate(&line, &cfg).unwrap();
     let sec = |kind: &catalogue::CableKind, len: f64, f: f64| {
         let st = SectionState::new(kind, 295.0, PtfeModel::Gapped);
@@ -124,7 +170,12 @@ fn noise_is_seeded_and_has_the_asked_power() {
     cfg.seed = 43;
     let c = simulate(&line, &cfg).unwrap();
     assert_ne!(a.s, c.s);
-    let p: f64 = a.s.iter().zip(&clean.s).map(|(x, y)| (x - y).norm_sqr()).sum::<f64>() / a.len() as f64;
+    let p: f64 =
+        a.s.iter()
+            .zip(&clean.s)
+            .map(|(x, y)| (x - y).norm_sqr())
+            .sum::<f64>()
+            / a.len() as f64;
     let db = 10.0 * p.log10();
     assert!((db + 40.0).abs() < 0.3, "noise power {db} dB");
 }
@@ -132,10 +183,23 @@ fn noise_is_seeded_and_has_the_asked_power() {
 #[test]
 fn attenuator_hides_what_lies_beyond_by_twice_its_loss() {
     // An open behind a matched 20 dB attenuator reads 40 dB down (plus line loss); DOMAIN sec. 2 / circuit theory.
-    let line = Line::new("t", 50.0, stages(), vec![
-        el("A", ElementKind::Attenuator { loss_db: 20.0, impedance_ohm: 50.0, er: 2.03 }, 0.02),
-        el("end", ElementKind::Device { load: Load::Open }, 0.0),
-    ]);
+    let line = Line::new(
+        "t",
+        50.0,
+        stages(),
+        vec![
+            el(
+                "A",
+                ElementKind::Attenuator {
+                    loss_db: 20.0,
+                    impedance_ohm: 50.0,
+                    er: 2.03,
+                },
+                0.02,
+            ),
+            el("end", ElementKind::Device { load: Load::Open }, 0.0),
+        ],
+    );
     let net = simulate(&line, &SimConfig::linear(State::Warm, 1e9, 5e9, 5)).unwrap();
     for g in &net.s {
         assert!((20.0 * g.norm().log10() + 40.0).abs() < 1e-9, "{g}");
@@ -160,14 +224,25 @@ fn two_port_is_reciprocal_and_passive() {
 
 #[test]
 fn fault_errors_name_the_spec_and_show_the_grammar() {
-    for bad in ["J2", "J2:gap", "J2:gap=30", "J2:wobble=3", "x@-1m:open", "J2:crush=40ohm"] {
+    for bad in [
+        "J2",
+        "J2:gap",
+        "J2:gap=30",
+        "J2:wobble=3",
+        "x@-1m:open",
+        "J2:crush=40ohm",
+    ] {
         let e = Fault::parse(bad).unwrap_err();
         let s = e.to_string();
         assert!(s.contains(bad) && s.contains("grammar"), "{s}");
     }
     let line = demo();
     let mut cfg = SimConfig::linear(State::Warm, 1e9, 2e9, 3);
-    for (spec, needle) in [("J9:open", "no element named 'J9'"), ("room to 50K:open", "give an offset"), ("room to 50K@2m:open", "past the end")] {
+    for (spec, needle) in [
+        ("J9:open", "no element named 'J9'"),
+        ("room to 50K:open", "give an offset"),
+        ("room to 50K@2m:open", "past the end"),
+    ] {
         cfg.faults = vec![Fault::parse(spec).unwrap()];
         match simulate(&line, &cfg) {
             Err(e @ LineError::Fault { .. }) => assert!(e.to_string().contains(needle), "{e}"),
@@ -182,7 +257,9 @@ fn gap_given_as_length_uses_the_pin_radius() {
     f.resolve(&demo()).unwrap();
     match f.kind {
         // 0.086-in pin (a = 0.2555 mm) in PTFE: about 101 fF at 50 um (field-solution check value).
-        coldtrace::line::FaultKind::Gap { farad } => assert!((farad - 101e-15).abs() < 7e-15, "{farad}"),
+        coldtrace::line::FaultKind::Gap { farad } => {
+            assert!((farad - 101e-15).abs() < 7e-15, "{farad}")
+        }
         k => panic!("{k:?}"),
     }
 }

@@ -51,7 +51,9 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
     let start = units::parse(&args.start, Family::Frequency)?;
     let stop = units::parse(&args.stop, Family::Frequency)?;
     if args.points == 0 {
-        return Err(coldtrace::Error::Usage("--points must be at least 1".into()));
+        return Err(coldtrace::Error::Usage(
+            "--points must be at least 1".into(),
+        ));
     }
     if args.points > 1 && stop <= start {
         return Err(coldtrace::Error::Usage(format!(
@@ -67,7 +69,11 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
         return Err(coldtrace::Error::Usage(format!(
             "{}: the output needs the extension .{want_ext}{}",
             args.output.display(),
-            if args.s21 { " (2-port with --s21)" } else { " (or pass --s21 for a .s2p)" }
+            if args.s21 {
+                " (2-port with --s21)"
+            } else {
+                " (or pass --s21 for a .s2p)"
+            }
         )));
     }
     let line = file::read_file(&args.line)?;

@@ -191,7 +191,11 @@ fn check(network: &Network) -> Result<(), TouchstoneError> {
             network.reference_ohm
         ));
     }
-    if let Some(w) = network.freqs_hz.windows(2).position(|w| w[1] <= w[0] || w[1].is_nan()) {
+    if let Some(w) = network
+        .freqs_hz
+        .windows(2)
+        .position(|w| w[1] <= w[0] || w[1].is_nan())
+    {
         return bad(format!(
             "frequencies must increase: point {} ({} Hz) is not above the one before",
             w + 1,
