@@ -117,6 +117,35 @@ fn key_of_another_kind_is_refused() {
 }
 
 #[test]
+fn stage_jumps_and_hidden_elements_are_warned() {
+    let text = format!(
+        "{HEAD}[[element]]\nkind = \"cable\"\nname = \"a\"\ncable = \"cu-086\"\nlength_m = 1\nfrom = \"room\"\nto = \"room\"\n\
+         [[element]]\nkind = \"cable\"\nname = \"b\"\ncable = \"cu-086\"\nlength_m = 1\nfrom = \"k4\"\nto = \"k4\"\n\
+         [[element]]\nkind = \"device\"\nname = \"amp\"\nreturn_loss_db = 0\n\
+         [[element]]\nkind = \"connector\"\nname = \"J9\"\n"
+    );
+    let l = parse(&text, Path::new("w.toml")).unwrap();
+    let kinds: Vec<&str> = l.warnings.iter().map(|w| w.kind.as_str()).collect();
+    assert_eq!(kinds, ["stage-jump", "hidden-by-device"]);
+    assert_eq!(l.warnings[0].location.as_deref(), Some("w.toml:11"));
+    assert!(l.warnings[1].message.contains("J9"));
+    assert_eq!(l.length_m(), 2.0);
+    // return_loss_db = 0 is a full reflection: the simulator treats it as an open, with no NaN.
+    let net = coldtrace::line::simulate(
+        &l,
+        &coldtrace::line::SimConfig::linear(coldtrace::line::State::Warm, 1e9, 2e9, 3),
+    )
+    .unwrap();
+    assert!(
+        net.s
+            .iter()
+            .all(|g| g.is_finite() && g.norm() < 1.0 && g.norm() > 0.3),
+        "{:?}",
+        net.s
+    );
+}
+
+#[test]
 fn syntax_error_has_line_and_column() {
     let (line, col, _, _) = err("name = \"x\"\nimpedance_ohm = = 3\n");
     assert_eq!(line, 2);
