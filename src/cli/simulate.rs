@@ -77,6 +77,9 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
         )));
     }
     let line = file::read_file(&args.line)?;
+    for w in &line.warnings {
+        eprintln!("coldtrace: warning: {w}");
+    }
     let mut config = SimConfig::linear(state, start, stop, args.points);
     config.noise_db = args.noise_db;
     config.seed = args.seed;

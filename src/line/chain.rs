@@ -157,6 +157,8 @@ pub struct Line {
     pub ptfe_model: PtfeModel,
     /// The file it came from, if any.
     pub source: Option<PathBuf>,
+    /// Things in the file worth knowing that are not errors (filled in by the file reader).
+    pub warnings: Vec<crate::Warning>,
 }
 
 impl Line {
@@ -179,6 +181,7 @@ impl Line {
             elements,
             ptfe_model: PtfeModel::Gapped,
             source: None,
+            warnings: Vec::new(),
         }
     }
 

@@ -68,7 +68,7 @@ fn err(spec: &str, message: impl Into<String>) -> LineError {
 
 /// Axial gap capacitance between two coaxial disc ends of radius `a` separated by `g`, in a medium of
 /// relative permittivity `er`: parallel plate plus Kirchhoff's fringing term,
-/// C = eps0 er [pi a^2 / g + a (ln(16 pi a / g) - 1)] (G. Kirchhoff 1877, as given in standard
+/// C = eps0 er [pi a^2 / g + a (ln(16 pi a / g) - 1)] (G. Kirchhoff 1877, from memory, as given in standard
 /// capacitance compilations; within a few percent of a full field solution for g < 0.4 a).
 pub fn gap_capacitance(a: f64, g: f64, er: f64) -> f64 {
     EPS0 * er * (PI * a * a / g + a * ((16.0 * PI * a / g).ln() - 1.0))
@@ -120,12 +120,18 @@ impl Fault {
         let kind = match word.as_str() {
             "gap" => {
                 let v = need(value)?;
+                if !v.chars().any(|c| c.is_alphabetic()) {
+                    return Err(err(
+                        spec,
+                        "gap needs a unit: a capacitance (30fF) or a length (40um)",
+                    ));
+                }
                 match units::parse(&v, Family::Capacitance) {
                     Ok(c) => FaultKind::Gap {
                         farad: positive(c, "the gap capacitance")?,
                     },
                     Err(ec) => match units::parse(&v, Family::Length) {
-                        Ok(g) if v.chars().any(|c| c.is_ascii_alphabetic()) => {
+                        Ok(g) => {
                             gap_length_m = Some(positive(g, "the gap length")?);
                             FaultKind::Gap { farad: f64::NAN }
                         }

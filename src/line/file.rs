@@ -675,7 +675,46 @@ fn resolve(ctx: &Ctx, raw: RawFile) -> Result<Line, LineError> {
             "the line has no [[element]] entries; add at least one",
         ));
     }
+    let mut warnings = Vec::new();
+    let loc = |e: &Element| format!("{}:{}", ctx.path.display(), e.line_no);
+    for w in elements.windows(2) {
+        let (prev, next) = (&w[0], &w[1]);
+        if next.from_stage != prev.to_stage {
+            warnings.push(
+                crate::Warning::new(
+                    "stage-jump",
+                    format!(
+                        "'{}' starts at stage '{}' but '{}' before it ends at '{}'",
+                        next.name, next.from_stage, prev.name, prev.to_stage
+                    ),
+                    "check the stages: each element should start where the previous one ends",
+                )
+                .at(loc(next)),
+            );
+        }
+    }
+    if let Some(d) = elements
+        .iter()
+        .position(|e| matches!(e.kind, ElementKind::Device { .. }))
+    {
+        if d + 1 < elements.len() {
+            let hidden: Vec<&str> = elements[d + 1..].iter().map(|e| e.name.as_str()).collect();
+            warnings.push(
+                crate::Warning::new(
+                    "hidden-by-device",
+                    format!(
+                        "reflection stops at device '{}': {} after it cannot be seen or simulated",
+                        elements[d].name,
+                        hidden.join(", ")
+                    ),
+                    "move the device to the end, or remove what reflection cannot reach",
+                )
+                .at(loc(&elements[d + 1])),
+            );
+        }
+    }
     let mut line = Line::new(raw.name.get_ref().trim(), z_line, stages, elements);
+    line.warnings = warnings;
     line.ptfe_model = ptfe_model;
     line.source = Some(PathBuf::from(ctx.path));
     Ok(line)

@@ -103,8 +103,8 @@ fn end_impedance(load: Load, z_ref: f64) -> Option<Complex64> {
     match load {
         Load::Match => Some(Complex64::new(z_ref, 0.0)),
         Load::Ohms(r) => Some(Complex64::new(r, 0.0)),
-        Load::Reflection(g) => Some(Complex64::new(z_ref * (1.0 + g) / (1.0 - g), 0.0)),
-        Load::Open | Load::Short => None,
+        Load::Reflection(g) if g < 1.0 => Some(Complex64::new(z_ref * (1.0 + g) / (1.0 - g), 0.0)),
+        Load::Open | Load::Short | Load::Reflection(_) => None,
     }
 }
 
@@ -258,7 +258,7 @@ pub fn simulate(line: &Line, config: &SimConfig) -> Result<Network, LineError> {
         } else {
             let zin = match (end_impedance(end, z_ref), end) {
                 (Some(zl), _) => m.input_impedance(zl),
-                (None, Load::Open) => m.input_impedance_open(),
+                (None, Load::Open | Load::Reflection(_)) => m.input_impedance_open(),
                 _ => m.input_impedance_short(),
             };
             let g = if zin.is_finite() {
