@@ -1,10 +1,84 @@
-//! `coldtrace compare` (placeholder until its issue lands).
+//! `coldtrace compare BASELINE CURRENT [--line LINE | --vf VF] [--baseline-state S] [--current-state S]
+//! [--json] [--plot F] [--fail-on SEVERITY] ...`: where the line changed between two sweeps, how badly, why.
+//! Flags become a `coldtrace::compare::job::CompareJob`; the work is `run_compare`.
+
+use super::locate::{analysis_config, figure, line_source, parse_state, LineArgs};
+use coldtrace::compare::job::{run_compare, CompareJob};
+use coldtrace::compare::text::render_compare;
+use coldtrace::compare::Severity;
+use coldtrace::report::write_plot;
+use coldtrace::{exit, Error};
+use std::path::PathBuf;
 
 #[derive(Debug, clap::Args)]
-pub struct Args {}
+pub struct Args {
+    /// The earlier sweep (e.g. warm, before the cooldown), Touchstone.
+    #[arg(value_name = "BASELINE")]
+    pub baseline: PathBuf,
+    /// The later sweep (e.g. cold), Touchstone.
+    #[arg(value_name = "CURRENT")]
+    pub current: PathBuf,
+    #[command(flatten)]
+    pub line: LineArgs,
+    /// State of the baseline sweep: warm or cold (inferred and reported when not given).
+    #[arg(long, value_name = "STATE")]
+    pub baseline_state: Option<String>,
+    /// State of the current sweep: warm or cold (inferred and reported when not given).
+    #[arg(long, value_name = "STATE")]
+    pub current_state: Option<String>,
+    /// Exit with 1 when a finding reaches this severity: info, minor, major or critical.
+    #[arg(long, default_value = "minor", value_name = "SEVERITY")]
+    pub fail_on: String,
+    /// A measured drop of transmitted power to compare with what the findings explain, in dB.
+    #[arg(long, value_name = "DB")]
+    pub power_drop: Option<f64>,
+}
 
-pub fn run(_args: Args) -> coldtrace::Result<u8> {
-    Err(coldtrace::Error::Usage(
-        "'compare' is not available in this build yet".into(),
-    ))
+pub fn run(args: Args) -> coldtrace::Result<u8> {
+    let fail_on = Severity::parse(&args.fail_on).ok_or_else(|| {
+        Error::Usage(format!(
+            "--fail-on '{}': use info, minor, major or critical",
+            args.fail_on
+        ))
+    })?;
+    let mut analysis = analysis_config(&args.line)?;
+    analysis.observed_drop_db = args.power_drop;
+    let job = CompareJob {
+        baseline: args.baseline.clone(),
+        current: args.current.clone(),
+        line: line_source(&args.line),
+        baseline_state: args
+            .baseline_state
+            .as_deref()
+            .map(|s| parse_state("--baseline-state", s))
+            .transpose()?,
+        current_state: args
+            .current_state
+            .as_deref()
+            .map(|s| parse_state("--current-state", s))
+            .transpose()?,
+        analysis,
+    };
+    let report = run_compare(&job)?;
+    if let Some(p) = &args.line.plot {
+        let title = format!("{}: baseline and current", report.line);
+        write_plot(
+            p,
+            &figure(&title, &report.plot),
+            args.line.force,
+            &[&args.baseline, &args.current],
+        )?;
+    }
+    if args.line.json {
+        let text =
+            serde_json::to_string_pretty(&report).map_err(|e| Error::Usage(e.to_string()))?;
+        super::print(&(text + "\n"))?;
+    } else {
+        super::print(&render_compare(&report, args.line.all))?;
+    }
+    Ok(if report.findings.iter().any(|f| f.severity >= fail_on) {
+        exit::FINDINGS
+    } else {
+        exit::OK
+    })
 }

@@ -1,10 +1,163 @@
-//! `coldtrace locate` (placeholder until its issue lands).
+//! `coldtrace locate SWEEP [--line LINE | --vf VF] [--state S] [--json] [--plot F] ...`: every
+//! discontinuity one sweep shows, placed on the line and explained. Flags become a
+//! `coldtrace::compare::job::LocateJob`; the work is `run_locate`.
+
+use coldtrace::compare::job::{run_locate, LineSource, LocateJob};
+use coldtrace::compare::report::PlotData;
+use coldtrace::compare::text::render_locate;
+use coldtrace::compare::{AnalysisConfig, Severity};
+use coldtrace::line::State;
+use coldtrace::report::{write_plot, Figure, Marker, Series};
+use coldtrace::transform::{Window, DEFAULT_VELOCITY_FACTOR};
+use coldtrace::units::{self, Family};
+use coldtrace::{exit, Error};
+use std::path::PathBuf;
+
+/// Flags shared by `locate` and `compare`.
+#[derive(Debug, clap::Args)]
+pub struct LineArgs {
+    /// The line file (TOML, docs/line-file.md): as-built positions, element names, loss compensation.
+    #[arg(long, value_name = "LINE", conflicts_with = "vf")]
+    pub line: Option<PathBuf>,
+    /// Without a line file: the velocity factor of the line, read as one uniform segment (default 0.695,
+    /// solid PTFE).
+    #[arg(long, value_name = "VF")]
+    pub vf: Option<f64>,
+    /// Band-pass window: rect, hann, hamming, blackman-harris or kaiser:BETA.
+    #[arg(long, default_value = "kaiser:9", value_name = "WINDOW")]
+    pub window: String,
+    /// Frequency at which power drops are quoted, e.g. 6GHz (default: the band centre).
+    #[arg(long, value_name = "FREQ")]
+    pub at: Option<String>,
+    /// Print the result as JSON (docs/output.md) instead of the table.
+    #[arg(long)]
+    pub json: bool,
+    /// Draw the traces to an .svg or .png file.
+    #[arg(long, value_name = "FILE")]
+    pub plot: Option<PathBuf>,
+    /// Show harmless (info) entries in the table too.
+    #[arg(long)]
+    pub all: bool,
+    /// Replace output files that exist (inputs are never replaced).
+    #[arg(long)]
+    pub force: bool,
+}
 
 #[derive(Debug, clap::Args)]
-pub struct Args {}
+pub struct Args {
+    /// The sweep, Touchstone (S11 is used).
+    #[arg(value_name = "SWEEP")]
+    pub sweep: PathBuf,
+    #[command(flatten)]
+    pub line: LineArgs,
+    /// State the sweep was taken in: warm or cold (default cold).
+    #[arg(long, value_name = "STATE")]
+    pub state: Option<String>,
+    /// Exit with 1 when an event reaches this severity: info, minor, major or critical.
+    #[arg(long, value_name = "SEVERITY")]
+    pub fail_on: Option<String>,
+}
 
-pub fn run(_args: Args) -> coldtrace::Result<u8> {
-    Err(coldtrace::Error::Usage(
-        "'locate' is not available in this build yet".into(),
-    ))
+pub fn parse_state(flag: &str, s: &str) -> coldtrace::Result<State> {
+    s.parse::<State>()
+        .map_err(|e| Error::Usage(format!("{flag}: {e}")))
+}
+
+pub fn line_source(a: &LineArgs) -> LineSource {
+    match &a.line {
+        Some(p) => LineSource::File(p.clone()),
+        None => LineSource::Uniform {
+            velocity_factor: a.vf.unwrap_or(DEFAULT_VELOCITY_FACTOR),
+        },
+    }
+}
+
+pub fn analysis_config(a: &LineArgs) -> coldtrace::Result<AnalysisConfig> {
+    let window = Window::parse(&a.window).map_err(|e| Error::Usage(format!("--window: {e}")))?;
+    let reference_hz =
+        a.at.as_deref()
+            .map(|s| units::parse(s, Family::Frequency))
+            .transpose()?;
+    Ok(AnalysisConfig {
+        window,
+        reference_hz,
+        observed_drop_db: None,
+    })
+}
+
+/// A figure of the traces in as-built metres with the chain's marks.
+pub fn figure(title: &str, data: &PlotData) -> Figure {
+    let mut fig = Figure::new(
+        title,
+        "distance from the reference plane (m, as built)",
+        "|reflection| (dB, compensated)",
+    );
+    fig.max_envelope = true;
+    for (name, x, y) in &data.traces {
+        fig.series.push(Series {
+            name: name.clone(),
+            x: x.clone(),
+            y: y.clone(),
+        });
+    }
+    fig.markers = data
+        .marks
+        .iter()
+        .map(|(x, l)| Marker {
+            x: *x,
+            label: l.clone(),
+        })
+        .collect();
+    let top = data
+        .traces
+        .iter()
+        .flat_map(|t| t.2.iter())
+        .cloned()
+        .fold(f64::NEG_INFINITY, f64::max);
+    if top.is_finite() {
+        fig.y_range = Some((top - 100.0, top + 5.0));
+    }
+    fig
+}
+
+pub fn run(args: Args) -> coldtrace::Result<u8> {
+    let fail_on = args
+        .fail_on
+        .as_deref()
+        .map(|s| {
+            Severity::parse(s).ok_or_else(|| {
+                Error::Usage(format!(
+                    "--fail-on '{s}': use info, minor, major or critical"
+                ))
+            })
+        })
+        .transpose()?;
+    let job = LocateJob {
+        sweep: args.sweep.clone(),
+        line: line_source(&args.line),
+        state: args
+            .state
+            .as_deref()
+            .map(|s| parse_state("--state", s))
+            .transpose()?,
+        analysis: analysis_config(&args.line)?,
+    };
+    let report = run_locate(&job)?;
+    if let Some(p) = &args.line.plot {
+        write_plot(
+            p,
+            &figure(&format!("{}: {}", report.line, report.sweep), &report.plot),
+            args.line.force,
+            &[&args.sweep],
+        )?;
+    }
+    if args.line.json {
+        let text =
+            serde_json::to_string_pretty(&report).map_err(|e| Error::Usage(e.to_string()))?;
+        super::print(&(text + "\n"))?;
+    } else {
+        super::print(&render_locate(&report, args.line.all))?;
+    }
+    let fails = fail_on.is_some_and(|s| report.events.iter().any(|e| e.visible && e.severity >= s));
+    Ok(if fails { exit::FINDINGS } else { exit::OK })
 }

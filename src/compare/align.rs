@@ -87,9 +87,11 @@ impl AlignProblem {
             rows.push((row, self.current_delay_s[k] * w_d));
         }
         for j in 0..n {
+            // A segment of no delay (a device's plane) still gets its prior, so the system stays regular.
+            let t = self.tau[j].max(1e-6 * tau_tot);
             let mut row = vec![0.0; n];
-            row[j] = self.tau[j] * w_p;
-            rows.push((row, self.prior_scale[j] * self.tau[j] * w_p));
+            row[j] = t * w_p;
+            rows.push((row, self.prior_scale[j] * t * w_p));
         }
         let scale = least_squares(n, &rows).unwrap_or_else(|| self.prior_scale.clone());
 

@@ -103,7 +103,9 @@ pub fn find_events(
             raw[i] > floor && mag[i] >= left && mag[i] > right
         })
         .collect();
-    cands.sort_by(|&a, &b| mag[b].total_cmp(&mag[a]));
+    // Strongest first in the uncompensated domain: precedence between neighbours is decided by what the
+    // analyzer measured, not by how much a neighbour was lifted.
+    cands.sort_by(|&a, &b| raw[b].total_cmp(&raw[a]));
     let side = 10f64.powf((lobe.sidelobe_db + SIDELOBE_MARGIN_DB) / 20.0);
     let mut accepted: Vec<Peak> = Vec::new();
     let mut accepted_raw: Vec<f64> = Vec::new();

@@ -11,10 +11,12 @@ pub mod analysis;
 pub mod chain;
 pub mod detect;
 pub mod from_line;
+pub mod job;
 pub mod lumped;
 pub mod report;
 pub mod run;
 pub mod severity;
+pub mod text;
 
 pub use chain::{ChainView, LossModel, Segment, SegmentKind};
 pub use report::{CompareReport, FaultKind, Finding, LocateReport};

@@ -178,6 +178,15 @@ pub struct StateReport {
     pub basis: String,
 }
 
+/// Traces and marks for a plot (not part of the JSON).
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct PlotData {
+    /// (name, as-built metres, compensated |h| in dB) per sweep.
+    pub traces: Vec<(String, Vec<f64>, Vec<f64>)>,
+    /// (as-built metres, label): connectors, attenuators, devices and findings.
+    pub marks: Vec<(f64, String)>,
+}
+
 /// `compare`'s result.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct CompareReport {
@@ -195,6 +204,8 @@ pub struct CompareReport {
     #[serde(skip_serializing_if = "Option::is_none")]
     pub power: Option<PowerCheck>,
     pub warnings: Vec<Warning>,
+    #[serde(skip)]
+    pub plot: PlotData,
 }
 
 /// `locate`'s result.
@@ -208,4 +219,6 @@ pub struct LocateReport {
     pub events: Vec<Event>,
     pub not_visible: Vec<NotVisible>,
     pub warnings: Vec<Warning>,
+    #[serde(skip)]
+    pub plot: PlotData,
 }

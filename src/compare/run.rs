@@ -1017,7 +1017,58 @@ pub fn compare(
         not_visible: not_visible(&chain, &c, Which::Current, f_c),
         power,
         warnings,
-    })
+        plot: PlotData::default(),
+    }
+    .with_plot(
+        &fit.chain,
+        &[
+            (&b, Which::Baseline, baseline.name),
+            (&c, Which::Current, current.name),
+        ],
+    ))
+}
+
+/// Traces in as-built metres and the chain's marks, for a plot.
+fn plot_data(
+    chain: &ChainView,
+    sweeps: &[(&SweepAnalysis, Which, &str)],
+    extra: &[(f64, String)],
+) -> PlotData {
+    let traces = sweeps
+        .iter()
+        .map(|(a, which, name)| {
+            let x: Vec<f64> = (0..a.mag.len())
+                .map(|i| chain.position_of(a.t0 + i as f64 * a.dt, *which, None))
+                .collect();
+            let y: Vec<f64> = a.mag.iter().map(|&m| db(m)).collect();
+            (name.to_string(), x, y)
+        })
+        .collect();
+    let mut marks: Vec<(f64, String)> = if chain.as_built {
+        chain
+            .segments
+            .iter()
+            .filter(|s| s.kind != SegmentKind::Cable)
+            .map(|s| (0.5 * (s.start_m + s.end_m), s.name.clone()))
+            .collect()
+    } else {
+        Vec::new()
+    };
+    marks.extend(extra.iter().cloned());
+    PlotData { traces, marks }
+}
+
+impl CompareReport {
+    fn with_plot(mut self, chain: &ChainView, sweeps: &[(&SweepAnalysis, Which, &str)]) -> Self {
+        let extra: Vec<(f64, String)> = self
+            .findings
+            .iter()
+            .filter(|f| f.severity > Severity::Info)
+            .map(|f| (f.place.distance_m, format!("#{}", f.rank)))
+            .collect();
+        self.plot = plot_data(chain, sweeps, &extra);
+        self
+    }
 }
 
 /// Observed drop of |S21|^2 (band average, dB) when both sweeps have it, or the given one.
@@ -1148,5 +1199,6 @@ pub fn locate(
         events,
         not_visible: not_visible(&chain, &a, Which::Current, f_c),
         warnings,
+        plot: plot_data(&chain, &[(&a, Which::Current, sweep.name)], &[]),
     })
 }

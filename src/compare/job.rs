@@ -1,0 +1,312 @@
+//! The comparator's front door for the command line and for scripts: read the files, resolve the line (a
+//! line file, or a uniform line of a given velocity factor), settle each sweep's state (given, or inferred
+//! and reported), and run [`compare`](super::compare) or [`locate`](super::locate).
+
+use super::chain::ChainView;
+use super::report::{CompareReport, LocateReport, StateReport};
+use super::run::{compare, locate, AnalysisConfig, Sweep};
+use crate::line::{Line, State};
+use crate::touchstone::read_file;
+use crate::{Error, Network, Result, Warning};
+use std::path::{Path, PathBuf};
+
+/// What the line is known to be.
+#[derive(Debug, Clone, PartialEq)]
+pub enum LineSource {
+    /// A line file.
+    File(PathBuf),
+    /// A line of unknown construction with this velocity factor.
+    Uniform { velocity_factor: f64 },
+}
+
+/// A `compare` request, as plain data.
+#[derive(Debug, Clone, PartialEq)]
+pub struct CompareJob {
+    pub baseline: PathBuf,
+    pub current: PathBuf,
+    pub line: LineSource,
+    pub baseline_state: Option<State>,
+    pub current_state: Option<State>,
+    pub analysis: AnalysisConfig,
+}
+
+/// A `locate` request, as plain data.
+#[derive(Debug, Clone, PartialEq)]
+pub struct LocateJob {
+    pub sweep: PathBuf,
+    pub line: LineSource,
+    pub state: Option<State>,
+    pub analysis: AnalysisConfig,
+}
+
+/// A sweep read from a file, with the reader's warnings.
+fn read_sweep(path: &Path) -> Result<(Network, Vec<Warning>)> {
+    let t = read_file(path)?;
+    if t.network.len() < 16 {
+        return Err(Error::Usage(format!(
+            "{}: {} frequency point(s); a reflectometry trace needs a sweep of many points (201 or more is usual)",
+            path.display(),
+            t.network.len()
+        )));
+    }
+    let warnings = t
+        .warnings
+        .into_iter()
+        .map(|w| {
+            if w.location.is_none() {
+                w.at(path.display().to_string())
+            } else {
+                w
+            }
+        })
+        .collect();
+    Ok((t.network, warnings))
+}
+
+fn state_name(s: State) -> &'static str {
+    match s {
+        State::Warm => "warm",
+        State::Cold => "cold",
+    }
+}
+
+/// Band edges of a sweep, Hz.
+fn band(n: &Network) -> (f64, f64) {
+    (n.freqs_hz[0], n.freqs_hz[n.len() - 1])
+}
+
+/// Infer the two sweeps' states from the delay of the farthest strong echo seen in both: the line model
+/// predicts how cooling changes it (its sign too), so the measured ratio tells which sweep is the colder.
+/// For a line of unknown construction only the echo's strength can tell (a cold line loses less), and a
+/// difference under [`STATE_LOSS_DB`] is read as "same state".
+fn infer_states(
+    b: &Network,
+    c: &Network,
+    line: Option<&Line>,
+    cfg: &AnalysisConfig,
+) -> (State, State, String) {
+    let far = far_echo_ratio(b, c, &cfg.window);
+    match (line, far) {
+        (Some(line), Some((ratio, amp_db))) => {
+            let (lo, hi) = band(c);
+            let f_ref = 0.5 * (lo + hi);
+            let chain = ChainView::from_line(line, State::Warm, State::Cold, lo, hi, f_ref);
+            let end = chain.visible_end_m();
+            let warm = chain.delay_to(end, super::chain::Which::Baseline, None);
+            let cold = chain.delay_to(end, super::chain::Which::Current, None);
+            let predicted = cold / warm - 1.0;
+            let measured = ratio - 1.0;
+            if predicted.abs() < 1e-5 || measured.abs() < 0.5 * predicted.abs() {
+                let s = if amp_db.abs() < STATE_LOSS_DB { State::Warm } else if amp_db > 0.0 { State::Cold } else { State::Warm };
+                (
+                    s,
+                    s,
+                    format!(
+                        "inferred: the far echo's delay changed by {:+.3} % where cooling predicts {:+.3} %, so both \
+                         sweeps are taken as {}",
+                        measured * 100.0,
+                        predicted * 100.0,
+                        state_name(s)
+                    ),
+                )
+            } else if measured.signum() == predicted.signum() {
+                (
+                    State::Warm,
+                    State::Cold,
+                    format!(
+                        "inferred: the far echo's delay changed by {:+.3} %, as cooling predicts ({:+.3} %)",
+                        measured * 100.0,
+                        predicted * 100.0
+                    ),
+                )
+            } else {
+                (
+                    State::Cold,
+                    State::Warm,
+                    format!(
+                        "inferred: the far echo's delay changed by {:+.3} %, as warming predicts ({:+.3} %)",
+                        measured * 100.0,
+                        -predicted * 100.0
+                    ),
+                )
+            }
+        }
+        (None, Some((_, amp_db))) if amp_db >= STATE_LOSS_DB => (
+            State::Warm,
+            State::Cold,
+            format!("inferred: the far echo is {amp_db:.1} dB stronger in the current sweep (less loss: colder)"),
+        ),
+        (None, Some((_, amp_db))) if amp_db <= -STATE_LOSS_DB => (
+            State::Cold,
+            State::Warm,
+            format!("inferred: the far echo is {:.1} dB weaker in the current sweep (more loss: warmer)", -amp_db),
+        ),
+        (None, Some((_, amp_db))) => (
+            State::Warm,
+            State::Warm,
+            format!("inferred: the far echo's strength differs by only {amp_db:+.2} dB, so one state is assumed"),
+        ),
+        (_, None) => (
+            State::Warm,
+            State::Warm,
+            "no echo was strong in both sweeps; one state is assumed (give --baseline-state and --current-state)".into(),
+        ),
+    }
+}
+
+/// Least change of the far echo's strength read as a change of state, dB (stainless lines lose about a third
+/// less cold; a dB is well clear of a re-mated connector; common practice, no source).
+pub const STATE_LOSS_DB: f64 = 1.0;
+
+/// Delay ratio (current over baseline) and strength change (dB) of the farthest echo, within 30 dB of the
+/// strongest, that both sweeps show within 2 % of each other's delay.
+fn far_echo_ratio(
+    b: &Network,
+    c: &Network,
+    window: &crate::transform::Window,
+) -> Option<(f64, f64)> {
+    let mut engine = crate::transform::TraceEngine::new();
+    let uni = ChainView::uniform("", 0.7, 1.0, 50.0);
+    let alias = |n: &Network| (n.len() - 1) as f64 / (n.freqs_hz[n.len() - 1] - n.freqs_hz[0]);
+    let t = alias(b).min(alias(c));
+    let ab = super::analysis::SweepAnalysis::new(
+        &b.freqs_hz,
+        &b.s11(),
+        window,
+        t,
+        &uni,
+        super::chain::Which::Baseline,
+        &mut engine,
+    )
+    .ok()?;
+    let ac = super::analysis::SweepAnalysis::new(
+        &c.freqs_hz,
+        &c.s11(),
+        window,
+        t,
+        &uni,
+        super::chain::Which::Current,
+        &mut engine,
+    )
+    .ok()?;
+    let top = ab.events.iter().map(|e| e.magnitude).fold(0.0, f64::max);
+    ab.events
+        .iter()
+        .rev()
+        .filter(|e| e.magnitude >= top * 10f64.powf(-30.0 / 20.0))
+        .find_map(|eb| {
+            ac.events
+                .iter()
+                .filter(|ec| (ec.delay_s / eb.delay_s - 1.0).abs() < 0.02)
+                .max_by(|x, y| x.magnitude.total_cmp(&y.magnitude))
+                .map(|ec| {
+                    (
+                        ec.delay_s / eb.delay_s,
+                        20.0 * (ec.magnitude / eb.magnitude).log10(),
+                    )
+                })
+        })
+}
+
+fn uniform_chain(name: &str, vf: f64, z0: f64) -> Result<ChainView> {
+    if !(vf > 0.0 && vf <= 1.0) {
+        return Err(Error::Usage(format!(
+            "--vf {vf} is out of range; give the line's velocity factor in (0, 1], e.g. 0.695 for solid PTFE"
+        )));
+    }
+    Ok(ChainView::uniform(name, vf, 1.0, z0))
+}
+
+/// Run a comparison.
+pub fn run_compare(job: &CompareJob) -> Result<CompareReport> {
+    let (nb, wb) = read_sweep(&job.baseline)?;
+    let (nc, wc) = read_sweep(&job.current)?;
+    let line = match &job.line {
+        LineSource::File(p) => Some(crate::line::file::read_file(p)?),
+        LineSource::Uniform { .. } => None,
+    };
+    let (bs, cs, inferred, basis) = match (job.baseline_state, job.current_state) {
+        (Some(b), Some(c)) => (b, c, false, "given".to_string()),
+        (b, c) => {
+            let (ib, ic, why) = infer_states(&nb, &nc, line.as_ref(), &job.analysis);
+            (b.unwrap_or(ib), c.unwrap_or(ic), true, why)
+        }
+    };
+    let (lo, hi) = band(&nc);
+    let chain = match (&line, &job.line) {
+        (Some(l), _) => ChainView::from_line(l, bs, cs, lo, hi, 0.5 * (lo + hi)),
+        (None, LineSource::Uniform { velocity_factor }) => uniform_chain(
+            &job.current.display().to_string(),
+            *velocity_factor,
+            nc.reference_ohm[0],
+        )?,
+        (None, LineSource::File(_)) => unreachable!("a line file was read above"),
+    };
+    let states = StateReport {
+        baseline: state_name(bs),
+        current: state_name(cs),
+        inferred,
+        basis,
+    };
+    let bname = job.baseline.display().to_string();
+    let cname = job.current.display().to_string();
+    let mut report = compare(
+        Sweep {
+            name: &bname,
+            network: &nb,
+            state: state_name(bs),
+        },
+        Sweep {
+            name: &cname,
+            network: &nc,
+            state: state_name(cs),
+        },
+        &chain,
+        &job.analysis,
+        states,
+    )?;
+    let mut w = wb;
+    w.extend(wc);
+    w.append(&mut report.warnings);
+    report.warnings = w;
+    Ok(report)
+}
+
+/// Run a location on one sweep.
+pub fn run_locate(job: &LocateJob) -> Result<LocateReport> {
+    let (n, w0) = read_sweep(&job.sweep)?;
+    let (lo, hi) = band(&n);
+    let state = job.state.unwrap_or(State::Cold);
+    let chain = match &job.line {
+        LineSource::File(p) => {
+            let line = crate::line::file::read_file(p)?;
+            ChainView::from_line(&line, state, state, lo, hi, 0.5 * (lo + hi))
+        }
+        LineSource::Uniform { velocity_factor } => uniform_chain(
+            &job.sweep.display().to_string(),
+            *velocity_factor,
+            n.reference_ohm[0],
+        )?,
+    };
+    let name = job.sweep.display().to_string();
+    let mut report = locate(
+        Sweep {
+            name: &name,
+            network: &n,
+            state: state_name(state),
+        },
+        &chain,
+        &job.analysis,
+    )?;
+    let mut w = w0;
+    if job.state.is_none() && matches!(job.line, LineSource::File(_)) {
+        w.push(Warning::new(
+            "state-assumed",
+            "the sweep's state was not given; the line model is used cold",
+            "pass --state warm for a sweep taken at room temperature",
+        ));
+    }
+    w.append(&mut report.warnings);
+    report.warnings = w;
+    Ok(report)
+}

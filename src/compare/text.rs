@@ -1,0 +1,160 @@
+//! Plain-text reports for people, made from the same result structs as the JSON.
+
+use super::report::{CompareReport, Event, Finding, LocateReport, NotVisible};
+use super::severity::Severity;
+use crate::Warning;
+use std::fmt::Write;
+
+fn where_col(distance_m: f64, element: &str, connector: &Option<String>) -> String {
+    match connector {
+        Some(c) => format!("{distance_m:.3} m {element} (near {c})"),
+        None => format!("{distance_m:.3} m {element}"),
+    }
+}
+
+fn tail(out: &mut String, not_visible: &[NotVisible], warnings: &[Warning]) {
+    if !not_visible.is_empty() {
+        let _ = writeln!(out, "\nnot visible from this end:");
+        for n in not_visible {
+            let _ = writeln!(out, "  {}: {}", n.element, n.reason);
+        }
+    }
+    if !warnings.is_empty() {
+        let _ = writeln!(out, "\nwarnings:");
+        for w in warnings {
+            let _ = writeln!(out, "  {w}");
+        }
+    }
+}
+
+fn row(rank: &str, place: &str, what: &str, bad: &str, sure: &str) -> String {
+    format!("{rank:<5} {place:<38} {what:<15} {bad:<22} {sure}\n")
+}
+
+fn finding_row(f: &Finding) -> String {
+    row(
+        &f.rank.to_string(),
+        &where_col(
+            f.place.distance_m,
+            &f.place.element,
+            &f.place.nearest_connector,
+        ),
+        f.kind.name(),
+        &format!("{:<8} {:.2} dB", f.severity.name(), f.power_drop_db),
+        &format!(
+            "{:.0} % +/-{:.1} mm",
+            100.0 * f.confidence,
+            1e3 * f.uncertainty_m
+        ),
+    )
+}
+
+/// The comparison as a table: rank, where, what, how bad, how sure; then one sentence per finding.
+pub fn render_compare(r: &CompareReport, show_info: bool) -> String {
+    let mut out = String::new();
+    let _ = writeln!(out, "line {}", r.line);
+    let _ = writeln!(out, "  baseline {} ({})", r.baseline, r.states.baseline);
+    let _ = writeln!(out, "  current  {} ({})", r.current, r.states.current);
+    if r.states.inferred {
+        let _ = writeln!(out, "  states {}", r.states.basis);
+    }
+    let _ = writeln!(
+        out,
+        "  resolution {:.1} mm; alignment residual {:.3} mm over {} landmark(s); electrical length to the farthest \
+         landmark {:+.3} %; power drops quoted at {:.2} GHz",
+        r.resolution_m * 1e3,
+        r.alignment.residual_m * 1e3,
+        r.alignment.landmarks_m.len(),
+        r.alignment.electrical_length_change * 100.0,
+        r.reference_hz / 1e9
+    );
+    let shown: Vec<&Finding> = r
+        .findings
+        .iter()
+        .filter(|f| show_info || f.severity > Severity::Info)
+        .collect();
+    let hidden = r.findings.len() - shown.len();
+    if shown.is_empty() {
+        let _ = writeln!(out, "\nno change that costs the line power was found.");
+    } else {
+        out.push('\n');
+        out.push_str(&row("rank", "where", "what", "how bad", "how sure"));
+        for f in &shown {
+            out.push_str(&finding_row(f));
+        }
+        out.push('\n');
+        for f in &shown {
+            let _ = writeln!(out, "{}. {}", f.rank, f.explanation);
+        }
+    }
+    if hidden > 0 {
+        let _ = writeln!(
+            out,
+            "\n{hidden} harmless change(s) at severity info not shown (--all shows them)."
+        );
+    }
+    if let Some(p) = &r.power {
+        let _ = writeln!(
+            out,
+            "\npower: observed drop {:.2} dB ({}), findings explain {:.2} dB, unexplained {:.2} dB",
+            p.observed_drop_db, p.source, p.explained_drop_db, p.unexplained_db
+        );
+    }
+    tail(&mut out, &r.not_visible, &r.warnings);
+    out
+}
+
+fn event_row(k: usize, e: &Event) -> String {
+    row(
+        &k.to_string(),
+        &where_col(
+            e.place.distance_m,
+            &e.place.element,
+            &e.place.nearest_connector,
+        ),
+        e.kind.name(),
+        &format!("{:<8} {:.1} dB", e.severity.name(), e.reflection_db),
+        &format!(
+            "{:.0} % +/-{:.1} mm{}",
+            100.0 * e.confidence,
+            1e3 * e.uncertainty_m,
+            if e.visible { "" } else { " (hidden)" }
+        ),
+    )
+}
+
+/// One sweep's events as a table, strongest cost first as they lie along the line.
+pub fn render_locate(r: &LocateReport, show_info: bool) -> String {
+    let mut out = String::new();
+    let _ = writeln!(out, "line {}: sweep {} ({})", r.line, r.sweep, r.state);
+    let _ = writeln!(
+        out,
+        "  resolution {:.1} mm; power drops quoted at {:.2} GHz",
+        r.resolution_m * 1e3,
+        r.reference_hz / 1e9
+    );
+    out.push('\n');
+    out.push_str(&row(
+        "#",
+        "where",
+        "what",
+        "severity, reflection",
+        "how sure",
+    ));
+    let mut n = 0;
+    for (k, e) in r.events.iter().enumerate() {
+        if show_info || e.severity > Severity::Info || e.reflection_db > -40.0 {
+            out.push_str(&event_row(k + 1, e));
+            n += 1;
+        }
+    }
+    if n < r.events.len() {
+        let _ = writeln!(
+            out,
+            "({} weaker event(s) not shown; --all shows them)",
+            r.events.len() - n
+        );
+    }
+    tail(&mut out, &r.not_visible, &r.warnings);
+    out
+}
