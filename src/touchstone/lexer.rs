@@ -140,7 +140,7 @@ pub(crate) fn parse_number(token: &str) -> Option<f64> {
 
 /// Parse the longest number at the start of `b`: its value and how many bytes it took. `None` when `b`
 /// does not start with a number (or an exponent marker has no digits).
-#[inline]
+#[inline(always)]
 pub(crate) fn parse_number_prefix(b: &[u8]) -> Option<(f64, usize)> {
     let mut i = 0;
     let negative = match b.first() {
@@ -244,29 +244,26 @@ pub(crate) fn lex_data_line(b: &[u8], vals: &mut Vec<f64>, cols: &mut Vec<u32>) 
 /// Append the decimal digits starting at `i` to `m` (wrapping: the caller checks the digit count) and
 /// return the index after them. Eight digits at a time where possible (the SWAR method of D. Lemire,
 /// "Number parsing at a gigabyte per second", Software: Practice and Experience 51(8), 2021).
-#[inline]
+#[inline(always)]
 fn digits_into(b: &[u8], mut i: usize, m: &mut u64) -> usize {
-    while i + 8 <= b.len() {
-        let chunk = u64::from_le_bytes([
-            b[i],
-            b[i + 1],
-            b[i + 2],
-            b[i + 3],
-            b[i + 4],
-            b[i + 5],
-            b[i + 6],
-            b[i + 7],
-        ]);
-        if !is_eight_digits(chunk) {
+    while let Some(chunk) = b.get(i..i + 8) {
+        let mut bytes = [0u8; 8];
+        bytes.copy_from_slice(chunk);
+        let v = u64::from_le_bytes(bytes);
+        if !is_eight_digits(v) {
             break;
         }
         *m = m
             .wrapping_mul(100_000_000)
-            .wrapping_add(eight_digits_value(chunk));
+            .wrapping_add(eight_digits_value(v));
         i += 8;
     }
-    while i < b.len() && b[i].is_ascii_digit() {
-        *m = m.wrapping_mul(10).wrapping_add(u64::from(b[i] - b'0'));
+    while let Some(&c) = b.get(i) {
+        let d = c.wrapping_sub(b'0');
+        if d >= 10 {
+            break;
+        }
+        *m = m.wrapping_mul(10).wrapping_add(u64::from(d));
         i += 1;
     }
     i
