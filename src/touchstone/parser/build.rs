@@ -101,7 +101,7 @@ impl<'a> Parser<'a> {
         let parameter = o.parameter.unwrap_or(Parameter::S);
         let format = o.format.unwrap_or(Format::MA);
         let unit = o.unit.unwrap_or(FreqUnit::GHz);
-        self.check_parameter_ports(n, 0)?;
+        self.check_parameter_ports(n)?;
         let r_opt = o
             .reference
             .first()
