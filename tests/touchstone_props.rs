@@ -67,7 +67,7 @@ fn rel_close(a: f64, b: f64) -> bool {
 }
 
 proptest! {
-    #![proptest_config(ProptestConfig::with_cases(200))]
+    #![proptest_config(ProptestConfig::with_cases(400))]
 
     #[test]
     fn write_then_read_gives_the_same_network(
@@ -79,6 +79,12 @@ proptest! {
         let same_ref = net.reference_ohm.iter().all(|&r| r == net.reference_ohm[0]);
         let version = if v2 || !same_ref { WriteVersion::V2 } else { WriteVersion::V1 };
         let opts = WriteOptions { version, format, unit, comments: vec!["line out-03".into()] };
+        let noise_after_data = net.noise.first().is_some_and(|p| p.freq_hz > net.freqs_hz[net.len() - 1]);
+        if version == WriteVersion::V1 && noise_after_data {
+            // Version 1 finds noise by a frequency step down; the writer refuses instead of losing it.
+            prop_assert!(write(&net, &opts).is_err());
+            return Ok(());
+        }
         let text = write(&net, &opts).unwrap();
         let name = format!("rt.s{}p", net.ports);
         let back = read_str(&text, Path::new(&name)).unwrap_or_else(|e| panic!("{e}\n{text}"));

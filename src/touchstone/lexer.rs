@@ -140,7 +140,7 @@ pub(crate) fn parse_number(token: &str) -> Option<f64> {
 
 /// Parse the longest number at the start of `b`: its value and how many bytes it took. `None` when `b`
 /// does not start with a number (or an exponent marker has no digits).
-#[inline]
+#[inline(always)]
 pub(crate) fn parse_number_prefix(b: &[u8]) -> Option<(f64, usize)> {
     let mut i = 0;
     let negative = match b.first() {
@@ -154,38 +154,23 @@ pub(crate) fn parse_number_prefix(b: &[u8]) -> Option<(f64, usize)> {
         }
         _ => false,
     };
+    // Every digit goes into `mantissa`, leading zeros included; more than 19 digits (which could overflow
+    // u64) leave the fast path.
     let mut mantissa: u64 = 0;
-    let mut digits = 0usize; // significant digits taken into `mantissa`
-    let mut any_digit = false;
+    let int_start = i;
+    i = digits_into(b, i, &mut mantissa);
+    let mut digits = i - int_start;
     let mut exp10: i64 = 0;
-    let mut overflow = false;
-    while i < b.len() && b[i].is_ascii_digit() {
-        any_digit = true;
-        accumulate(
-            &mut mantissa,
-            &mut digits,
-            &mut overflow,
-            &mut exp10,
-            b[i],
-            false,
-        );
-        i += 1;
-    }
     if i < b.len() && b[i] == b'.' {
         i += 1;
-        while i < b.len() && b[i].is_ascii_digit() {
-            any_digit = true;
-            accumulate(
-                &mut mantissa,
-                &mut digits,
-                &mut overflow,
-                &mut exp10,
-                b[i],
-                true,
-            );
-            i += 1;
-        }
+        let frac_start = i;
+        i = digits_into(b, i, &mut mantissa);
+        let frac = i - frac_start;
+        digits += frac;
+        exp10 = -(frac as i64);
     }
+    let any_digit = digits > 0;
+    let overflow = digits > 19;
     if !any_digit {
         return None;
     }
@@ -256,34 +241,51 @@ pub(crate) fn lex_data_line(b: &[u8], vals: &mut Vec<f64>, cols: &mut Vec<u32>) 
     }
 }
 
+/// Append the decimal digits starting at `i` to `m` (wrapping: the caller checks the digit count) and
+/// return the index after them. Eight digits at a time where possible (the SWAR method of D. Lemire,
+/// "Number parsing at a gigabyte per second", Software: Practice and Experience 51(8), 2021).
+#[inline(always)]
+fn digits_into(b: &[u8], mut i: usize, m: &mut u64) -> usize {
+    while let Some(chunk) = b.get(i..i + 8) {
+        let mut bytes = [0u8; 8];
+        bytes.copy_from_slice(chunk);
+        let v = u64::from_le_bytes(bytes);
+        if !is_eight_digits(v) {
+            break;
+        }
+        *m = m
+            .wrapping_mul(100_000_000)
+            .wrapping_add(eight_digits_value(v));
+        i += 8;
+    }
+    while let Some(&c) = b.get(i) {
+        let d = c.wrapping_sub(b'0');
+        if d >= 10 {
+            break;
+        }
+        *m = m.wrapping_mul(10).wrapping_add(u64::from(d));
+        i += 1;
+    }
+    i
+}
+
+/// All eight bytes (little-endian in `v`) are ASCII digits.
 #[inline]
-fn accumulate(
-    mantissa: &mut u64,
-    digits: &mut usize,
-    overflow: &mut bool,
-    exp10: &mut i64,
-    d: u8,
-    fraction: bool,
-) {
-    if *mantissa == 0 && d == b'0' {
-        // Leading zeros carry no significance.
-        if fraction {
-            *exp10 -= 1;
-        }
-        return;
-    }
-    if *digits < 19 {
-        *mantissa = *mantissa * 10 + u64::from(d - b'0');
-        *digits += 1;
-        if fraction {
-            *exp10 -= 1;
-        }
-    } else {
-        *overflow = true;
-        if !fraction {
-            *exp10 += 1;
-        }
-    }
+fn is_eight_digits(v: u64) -> bool {
+    let a = v.wrapping_add(0x4646_4646_4646_4646);
+    let b = v.wrapping_sub(0x3030_3030_3030_3030);
+    (a | b) & 0x8080_8080_8080_8080 == 0
+}
+
+/// The value of eight ASCII digits, the first in the lowest byte.
+#[inline]
+fn eight_digits_value(v: u64) -> u64 {
+    const MASK: u64 = 0x0000_00FF_0000_00FF;
+    const MUL1: u64 = 0x000F_4240_0000_0064; // 100 + (1_000_000 << 32)
+    const MUL2: u64 = 0x0000_2710_0000_0001; // 1 + (10_000 << 32)
+    let mut v = v.wrapping_sub(0x3030_3030_3030_3030);
+    v = v.wrapping_mul(10).wrapping_add(v >> 8);
+    (((v & MASK).wrapping_mul(MUL1)).wrapping_add(((v >> 16) & MASK).wrapping_mul(MUL2))) >> 32
 }
 
 #[cfg(test)]
