@@ -21,11 +21,22 @@ pub struct BandPassSpectrum {
 
 impl BandPassSpectrum {
     pub fn new(grid: &Grid, values: &[Complex64], window: &Window) -> Self {
-        let w = window.coefficients(values.len());
+        Self::with_coefficients(grid, values, &window.coefficients(values.len()))
+    }
+
+    /// As [`BandPassSpectrum::new`] with the window's `values.len()` coefficients given.
+    pub fn with_coefficients(grid: &Grid, values: &[Complex64], w: &[f64]) -> Self {
+        assert_eq!(
+            w.len(),
+            values.len(),
+            "window length {} for {} values",
+            w.len(),
+            values.len()
+        );
         let sum: f64 = w.iter().sum();
         let weighted = values
             .iter()
-            .zip(&w)
+            .zip(w)
             .map(|(g, &wn)| g * (wn / sum))
             .collect();
         BandPassSpectrum {
@@ -56,9 +67,9 @@ impl BandPassSpectrum {
         let n = self.weighted.len();
         let mut out = match axis.fft_len {
             Some(len) => {
-                let mut buf = self.weighted.clone();
-                buf.resize(len, Complex64::new(0.0, 0.0));
-                cache.inverse(len).process(&mut buf);
+                let mut buf = vec![Complex64::new(0.0, 0.0); len];
+                buf[..n].copy_from_slice(&self.weighted);
+                cache.inverse_in_place(&mut buf);
                 buf
             }
             None => cache

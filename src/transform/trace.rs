@@ -6,10 +6,11 @@ use super::lowpass::LowPassSpectrum;
 use super::peak::Peak;
 use super::plan::{Mode, PlanCheck, TracePlan};
 use super::window::WindowInfo;
-use super::{DistanceMap, TransformError};
+use super::{DistanceMap, TransformError, Window};
 use crate::Warning;
 use num_complex::Complex64;
 use serde::Serialize;
+use std::sync::Arc;
 
 /// Largest |rho| used in the impedance profile; beyond it Z0 (1 + rho)/(1 - rho) is clamped (an open reads
 /// about 2e6 Z0 instead of infinity).
@@ -60,15 +61,34 @@ impl Spectrum {
         plan: &TracePlan,
         check: &PlanCheck,
     ) -> Result<Self, TransformError> {
+        let w = plan.window.coefficients(Self::window_len(check));
+        Self::with_coefficients(values, plan, check, &w)
+    }
+
+    /// Number of window coefficients the plan needs: N (band-pass) or 2K + 1 (low-pass).
+    pub fn window_len(check: &PlanCheck) -> usize {
+        match check.harmonics {
+            None => check.grid.points,
+            Some(k) => 2 * k + 1,
+        }
+    }
+
+    /// As [`Spectrum::new`] with the window's [`Spectrum::window_len`] coefficients given.
+    pub fn with_coefficients(
+        values: &[Complex64],
+        plan: &TracePlan,
+        check: &PlanCheck,
+        w: &[f64],
+    ) -> Result<Self, TransformError> {
         Ok(match check.harmonics {
-            None => Spectrum::BandPass(BandPassSpectrum::new(&check.grid, values, &plan.window)),
-            Some(k) => Spectrum::LowPass(LowPassSpectrum::new(
+            None => Spectrum::BandPass(BandPassSpectrum::with_coefficients(&check.grid, values, w)),
+            Some(k) => Spectrum::LowPass(LowPassSpectrum::with_coefficients(
                 &check.grid,
                 values,
                 k,
                 check.resampled,
                 plan.dc,
-                &plan.window,
+                w,
             )?),
         })
     }
@@ -87,11 +107,22 @@ impl Spectrum {
 #[derive(Debug, Default)]
 pub struct TraceEngine {
     cache: FftCache,
+    windows: Vec<(Window, usize, Arc<Vec<f64>>)>,
 }
 
 impl TraceEngine {
     pub fn new() -> Self {
         Self::default()
+    }
+
+    /// Window coefficients, computed once per window and length.
+    pub fn window_coefficients(&mut self, window: &Window, n: usize) -> Arc<Vec<f64>> {
+        if let Some((_, _, w)) = self.windows.iter().find(|(w, m, _)| w == window && *m == n) {
+            return w.clone();
+        }
+        let w = Arc::new(window.coefficients(n));
+        self.windows.push((*window, n, w.clone()));
+        w
     }
 
     /// The FFT cache (shared with gating).
@@ -121,7 +152,8 @@ impl TraceEngine {
         }
         let check = plan.check(freqs, map)?;
         let mut warnings = check.warnings.clone();
-        let spectrum = Spectrum::new(values, plan, &check)?;
+        let w = self.window_coefficients(&plan.window, Spectrum::window_len(&check));
+        let spectrum = Spectrum::with_coefficients(values, plan, &check, &w)?;
         let axis = &check.axis;
         let time_s: Vec<f64> = (0..axis.points)
             .map(|m| axis.start_s + m as f64 * axis.step_s)
@@ -131,7 +163,7 @@ impl TraceEngine {
             Spectrum::BandPass(b) => {
                 let mut h = b.on_axis(axis, &mut self.cache);
                 h.truncate(axis.points);
-                (h.iter().map(|z| z.norm()).collect(), h)
+                (h.iter().map(|z| z.norm_sqr().sqrt()).collect(), h)
             }
             Spectrum::LowPass(l) => {
                 let v = match plan.mode {
@@ -142,7 +174,7 @@ impl TraceEngine {
             }
         };
         let values_out = match plan.mode {
-            Mode::BandPass => linear.iter().map(|&a| to_db(a)).collect(),
+            Mode::BandPass => complex.iter().map(|z| power_to_db(z.norm_sqr())).collect(),
             Mode::LowPassImpulse | Mode::LowPassStep => linear.clone(),
             Mode::Impedance => {
                 let mut clamped = 0usize;
@@ -204,6 +236,11 @@ pub const DB_FLOOR: f64 = -400.0;
 /// 20 log10 |a|, floored at [`DB_FLOOR`].
 pub fn to_db(a: f64) -> f64 {
     (20.0 * a.abs().log10()).max(DB_FLOOR)
+}
+
+/// 10 log10 |h|^2 (= 20 log10 |h|), floored at [`DB_FLOOR`].
+fn power_to_db(p: f64) -> f64 {
+    (10.0 * p.log10()).max(DB_FLOOR)
 }
 
 /// Z0 (1 + rho) / (1 - rho), with |rho| clamped at [`IMPEDANCE_RHO_LIMIT`].
