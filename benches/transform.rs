@@ -50,6 +50,16 @@ fn bench(c: &mut Criterion) {
     c.bench_function("band-pass trace, 10001 points, 8x padding (FFT)", |b| {
         b.iter(|| black_box(engine.trace(&freqs, &values, &plan, &map).unwrap()))
     });
+    c.bench_function(
+        "band-pass trace, 10001 points, 8x padding (FFT), recycled buffers",
+        |b| {
+            b.iter(|| {
+                let t = engine.trace(&freqs, &values, &plan, &map).unwrap();
+                black_box(t.values[7]);
+                engine.recycle(t);
+            })
+        },
+    );
 
     // The bare inverse FFT the whole-range trace runs (length fast(8 x 10001) = 81000), for the overhead ratio.
     let len = coldtrace::transform::czt::fast_len(8 * N);

@@ -407,3 +407,24 @@ fn series_inductance_and_shunt_capacitance_are_told_apart() {
     let neg: Vec<Complex64> = series_r.iter().map(|v| -v).collect();
     assert_eq!(feature(&neg), Some(StepFeature::LowerImpedance));
 }
+
+/// The fast dB conversion against the library log10 over 40 decades and random mantissas.
+#[test]
+fn fast_db_matches_log10() {
+    use coldtrace::transform::trace::power_to_db;
+    let mut x = 1e-30f64;
+    while x < 1e10 {
+        for k in 0..97 {
+            let p = x * (1.0 + k as f64 / 97.0);
+            let want = 10.0 * p.log10();
+            assert!(
+                (power_to_db(p) - want).abs() < 1e-12,
+                "{p}: {} vs {want}",
+                power_to_db(p)
+            );
+        }
+        x *= 10.0;
+    }
+    assert_eq!(power_to_db(0.0), coldtrace::transform::trace::DB_FLOOR);
+    assert_eq!(power_to_db(1.0), 0.0);
+}

@@ -64,10 +64,21 @@ impl BandPassSpectrum {
 
     /// h(t) on a time axis: FFT for the whole range, chirp-z for a span.
     pub fn on_axis(&self, axis: &TimeAxis, cache: &mut FftCache) -> Vec<Complex64> {
+        self.on_axis_into(axis, cache, Vec::new())
+    }
+
+    /// As [`BandPassSpectrum::on_axis`], reusing `buf`'s allocation for the whole-range FFT.
+    pub fn on_axis_into(
+        &self,
+        axis: &TimeAxis,
+        cache: &mut FftCache,
+        mut buf: Vec<Complex64>,
+    ) -> Vec<Complex64> {
         let n = self.weighted.len();
         let mut out = match axis.fft_len {
             Some(len) => {
-                let mut buf = vec![Complex64::new(0.0, 0.0); len];
+                buf.clear();
+                buf.resize(len, Complex64::new(0.0, 0.0));
                 buf[..n].copy_from_slice(&self.weighted);
                 cache.inverse_in_place(&mut buf);
                 buf
