@@ -264,7 +264,7 @@ pub fn to_db(a: f64) -> f64 {
     (20.0 * a.abs().log10()).max(DB_FLOOR)
 }
 
-/// 10 log10 |h|^2 (= 20 log10 |h|), floored at [`DB_FLOOR`].
+/// 10 log10 |h|^2 (= 20 log10 |h|), floored at [`DB_FLOOR`] (to 1e-13 dB).
 ///
 /// Computed without a libm call (the whole-range trace converts ~10^5 points): p = 2^e m with m in
 /// [sqrt(1/2), sqrt(2)), ln m = 2 atanh(s) = 2 (s + s^3/3 + s^5/5 + ...), s = (m - 1)/(m + 1), |s| < 0.1716
@@ -272,16 +272,19 @@ pub fn to_db(a: f64) -> f64 {
 /// truncation error below 0.1716^19/19 ~ 1e-16, so the result matches `10 * p.log10()` to ~1e-13 dB.
 pub fn power_to_db(p: f64) -> f64 {
     const DB_PER_NEPER_POWER: f64 = 10.0 / std::f64::consts::LN_10;
-    if !(p.is_finite() && p > 0.0) || p < f64::MIN_POSITIVE {
+    /// |h|^2 at the dB floor: 10^(DB_FLOOR / 10).
+    const FLOOR_POWER: f64 = 1e-40;
+    if !p.is_finite() {
         return if p == f64::INFINITY { p } else { DB_FLOOR };
     }
+    // Branch-free below this point, so the conversion loop vectorises.
+    let p = p.max(FLOOR_POWER);
     let bits = p.to_bits();
-    let mut e = ((bits >> 52) & 0x7ff) as i64 - 1023;
-    let mut m = f64::from_bits((bits & 0x000f_ffff_ffff_ffff) | 0x3ff0_0000_0000_0000);
-    if m > std::f64::consts::SQRT_2 {
-        m *= 0.5;
-        e += 1;
-    }
+    let e = ((bits >> 52) & 0x7ff) as i64 - 1023;
+    let m = f64::from_bits((bits & 0x000f_ffff_ffff_ffff) | 0x3ff0_0000_0000_0000);
+    let big = m > std::f64::consts::SQRT_2;
+    let m = if big { m * 0.5 } else { m };
+    let e = e + big as i64;
     let s = (m - 1.0) / (m + 1.0);
     let s2 = s * s;
     let series = 1.0
@@ -292,7 +295,7 @@ pub fn power_to_db(p: f64) -> f64 {
                         + s2 * (1.0 / 11.0
                             + s2 * (1.0 / 13.0 + s2 * (1.0 / 15.0 + s2 * (1.0 / 17.0))))))));
     let ln = e as f64 * std::f64::consts::LN_2 + 2.0 * s * series;
-    (DB_PER_NEPER_POWER * ln).max(DB_FLOOR)
+    DB_PER_NEPER_POWER * ln
 }
 
 /// Z0 (1 + rho) / (1 - rho), with |rho| clamped at [`IMPEDANCE_RHO_LIMIT`].
