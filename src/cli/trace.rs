@@ -30,7 +30,7 @@ pub struct Args {
     /// Output step with --span, e.g. 1mm; default: a tenth of the resolution.
     #[arg(long, value_name = "LENGTH")]
     pub step: Option<String>,
-    /// Velocity factor of the line (default 0.695: solid PTFE, er about 2.07).
+    /// Velocity factor of the line; 0.695 is solid PTFE, er about 2.07 (common practice).
     #[arg(long, default_value_t = DEFAULT_VELOCITY_FACTOR, value_name = "VF")]
     pub vf: f64,
     /// Time gate in distance, e.g. 0.9m..1.1m; the gated sweep is written to --out.
