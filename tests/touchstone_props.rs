@@ -67,7 +67,7 @@ fn rel_close(a: f64, b: f64) -> bool {
 }
 
 proptest! {
-    #![proptest_config(ProptestConfig::with_cases(200))]
+    #![proptest_config(ProptestConfig::with_cases(400))]
 
     #[test]
     fn write_then_read_gives_the_same_network(
@@ -79,6 +79,12 @@ proptest! {
         let same_ref = net.reference_ohm.iter().all(|&r| r == net.reference_ohm[0]);
         let version = if v2 || !same_ref { WriteVersion::V2 } else { WriteVersion::V1 };
         let opts = WriteOptions { version, format, unit, comments: vec!["line out-03".into()] };
+        let noise_after_data = net.noise.first().is_some_and(|p| p.freq_hz > net.freqs_hz[net.len() - 1]);
+        if version == WriteVersion::V1 && noise_after_data {
+            // Version 1 finds noise by a frequency step down; the writer refuses instead of losing it.
+            prop_assert!(write(&net, &opts).is_err());
+            return Ok(());
+        }
         let text = write(&net, &opts).unwrap();
         let name = format!("rt.s{}p", net.ports);
         let back = read_str(&text, Path::new(&name)).unwrap_or_else(|e| panic!("{e}\n{text}"));
@@ -131,5 +137,28 @@ proptest! {
             }
         }
         let _ = read_bytes(&bytes, Path::new(name));
+    }
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(100))]
+
+    /// Lines with a trailing comment take the general path, plain lines the fast one: both must agree.
+    #[test]
+    fn fast_and_general_line_paths_agree(net in network_strategy(), v2 in any::<bool>()) {
+        let version = if v2 || net.reference_ohm.iter().any(|&r| r != net.reference_ohm[0]) {
+            WriteVersion::V2
+        } else {
+            WriteVersion::V1
+        };
+        let text = write(&net, &WriteOptions { version, ..Default::default() }).unwrap();
+        let commented: String = text
+            .lines()
+            .map(|l| if l.starts_with('[') { format!("{l}\n") } else { format!("{l} ! c\n") })
+            .collect();
+        let name = format!("p.s{}p", net.ports);
+        let a = read_str(&text, Path::new(&name)).unwrap();
+        let b = read_str(&commented, Path::new(&name)).unwrap_or_else(|e| panic!("{e}\n{commented}"));
+        prop_assert_eq!(a.network, b.network);
     }
 }

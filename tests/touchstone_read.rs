@@ -306,3 +306,52 @@ fn million_points() {
     assert_eq!(t.network.len(), n);
     assert_eq!(t.network.freqs_hz[n - 1], n as f64);
 }
+
+// 1.1 "Option Line": the option line precedes the data; a late one is ignored with a warning.
+#[test]
+fn late_option_line_v1_warns() {
+    let t = read("1 0.5 0\n# Hz S RI R 75\n2 0.5 0\n", "a.s1p");
+    assert_eq!(kinds(&t), vec!["late-option-line", "missing-option-line"]);
+    assert_eq!(t.network.freqs_hz, vec![1e9, 2e9]);
+    assert_eq!(t.network.reference_ohm, vec![50.0]);
+}
+
+// 2.0 "[Number of Ports]" counts ports; a disagreeing .sNp name and a 2-port keyword in a 1-port file are
+// harmless (warnings).
+#[test]
+fn v2_extension_mismatch_and_ignored_two_port_order_warn() {
+    let text = "[Version] 2.0\n# Hz S RI R 50\n[Number of Ports] 1\n[Two-Port Data Order] 12_21\n\
+                [Number of Frequencies] 1\n[Network Data]\n1 0 0\n[End]\n";
+    let t = read(text, "x.s2p");
+    assert_eq!(
+        kinds(&t),
+        vec!["extension-port-mismatch", "two-port-order-ignored"]
+    );
+    assert_eq!(t.warnings[0].location.as_deref(), Some("x.s2p:3"));
+}
+
+// 1.1 "Noise Parameter Data": the writer refuses a version 1 file whose noise would not be found.
+#[test]
+fn writer_refuses_v1_noise_above_the_band() {
+    use coldtrace::network::NoisePoint;
+    use coldtrace::touchstone::{write, WriteOptions, WriteVersion};
+    let t = read("# Hz S RI R 50\n1 0 0 0 0 0 0 0 0\n", "a.s2p");
+    let mut n = t.network;
+    n.noise.push(NoisePoint {
+        freq_hz: 5.0,
+        nf_min_db: 1.0,
+        gamma_opt: C::new(0.1, 0.0),
+        rn_ohm: 10.0,
+    });
+    let e = write(&n, &WriteOptions::default()).unwrap_err();
+    assert!(e.to_string().contains("--version 2"), "{e}");
+    let v2 = write(
+        &n,
+        &WriteOptions {
+            version: WriteVersion::V2,
+            ..Default::default()
+        },
+    )
+    .unwrap();
+    assert_eq!(read(&v2, "a.s2p").network.noise.len(), 1);
+}

@@ -92,11 +92,12 @@ impl std::fmt::Display for Summary {
         writeln!(out, "  points       {}", self.points)?;
         writeln!(
             out,
-            "  frequency    {} Hz .. {} Hz",
-            self.f_start_hz, self.f_stop_hz
+            "  frequency    {} .. {}",
+            fmt_hz(self.f_start_hz),
+            fmt_hz(self.f_stop_hz)
         )?;
         match self.f_step_hz {
-            Some(df) => writeln!(out, "  step         {df} Hz")?,
+            Some(df) => writeln!(out, "  step         {}", fmt_hz(df))?,
             None => writeln!(out, "  step         - (one point)")?,
         }
         writeln!(
@@ -135,5 +136,69 @@ impl std::fmt::Display for Summary {
             }
         }
         Ok(())
+    }
+}
+
+/// A frequency for people: the largest of Hz, kHz, MHz, GHz that keeps the number >= 1, up to 9
+/// significant digits, trailing zeros dropped (`1.9999 MHz`, `20 GHz`).
+fn fmt_hz(f: f64) -> String {
+    let (scale, unit) = [(1e9, "GHz"), (1e6, "MHz"), (1e3, "kHz")]
+        .into_iter()
+        .find(|(s, _)| f.abs() >= *s)
+        .unwrap_or((1.0, "Hz"));
+    let v = f / scale;
+    let decimals = (8 - v.abs().log10().floor().max(0.0) as i32).max(0) as usize;
+    let mut text = format!("{v:.decimals$}");
+    if text.contains('.') {
+        text = text.trim_end_matches('0').trim_end_matches('.').to_string();
+    }
+    format!("{text} {unit}")
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::touchstone::read_str;
+
+    fn grid(freqs: &[f64]) -> Summary {
+        let mut text = String::from("# Hz S RI R 50\n");
+        for f in freqs {
+            text.push_str(&format!("{f} 0.1 0\n"));
+        }
+        let ts = read_str(&text, Path::new("g.s1p")).unwrap();
+        summarize(&ts, Path::new("g.s1p"))
+    }
+
+    #[test]
+    fn uniform_and_harmonic_grids() {
+        let s = grid(&[0.0, 1e6, 2e6, 3e6]);
+        assert!(s.uniform && s.harmonic);
+        assert_eq!(s.f_step_hz, Some(1e6));
+        let s = grid(&[1e6, 2e6, 3e6]);
+        assert!(s.uniform && s.harmonic);
+        let s = grid(&[1.5e6, 2.5e6, 3.5e6]);
+        assert!(s.uniform && !s.harmonic);
+        let s = grid(&[1e6, 2e6, 4e6]);
+        assert!(!s.uniform && !s.harmonic);
+        let s = grid(&[5e6]);
+        assert!(s.uniform && !s.harmonic && s.f_step_hz.is_none());
+    }
+
+    #[test]
+    fn frequencies_for_people() {
+        assert_eq!(fmt_hz(20e9), "20 GHz");
+        assert_eq!(fmt_hz(1.9999e6), "1.9999 MHz");
+        assert_eq!(fmt_hz(0.0), "0 Hz");
+        assert_eq!(fmt_hz(999.5), "999.5 Hz");
+        assert_eq!(fmt_hz(1.23456789012e3), "1.23456789 kHz");
+    }
+
+    #[test]
+    fn tolerance_is_relative_to_the_step() {
+        // A step off by 0.5e-6 df passes, by 2e-6 df fails (GRID_TOLERANCE = 1e-6).
+        assert!(grid(&[1e6, 2e6 + 0.5, 3e6]).uniform);
+        assert!(!grid(&[1e6, 2e6 + 2.0, 3e6]).uniform);
+        assert!(grid(&[1e6 + 0.5, 2e6 + 0.5, 3e6 + 0.5]).harmonic);
+        assert!(!grid(&[1e6 + 2.0, 2e6 + 2.0, 3e6 + 2.0]).harmonic);
     }
 }

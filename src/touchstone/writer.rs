@@ -67,6 +67,7 @@ pub fn write(network: &Network, options: &WriteOptions) -> Result<String, Touchs
             "noise data exist only for 2-ports, but the network has {n} ports; drop the noise data"
         )));
     }
+    check_noise(network, options)?;
     let mut out = String::with_capacity(64 + network.len() * (1 + 2 * n * n) * 24);
     for c in &options.comments {
         for line in c.lines() {
@@ -102,8 +103,15 @@ pub fn write(network: &Network, options: &WriteOptions) -> Result<String, Touchs
         out.push_str("[Network Data]\n");
     }
     let scale = options.unit.hz();
-    for k in 0..network.len() {
-        out.push_str(&fmt_num(network.freqs_hz[k] / scale));
+    let freqs: Vec<f64> = network.freqs_hz.iter().map(|f| f / scale).collect();
+    if freqs.windows(2).any(|w| w[1] <= w[0]) {
+        return Err(TouchstoneError::Invalid(format!(
+            "two frequencies become equal when written in {}; choose a smaller unit (e.g. --unit Hz)",
+            options.unit.as_str()
+        )));
+    }
+    for (k, f) in freqs.iter().enumerate() {
+        out.push_str(&fmt_num(*f));
         if n <= 2 {
             let order: &[(usize, usize)] = if n == 1 {
                 &[(0, 0)]
@@ -209,6 +217,47 @@ fn check(network: &Network) -> Result<(), TouchstoneError> {
             .any(|v| !v.re.is_finite() || !v.im.is_finite())
     {
         return bad("the network holds a non-finite or negative-frequency value, which Touchstone cannot hold".into());
+    }
+    Ok(())
+}
+
+/// Noise records must survive the trip: finite, increasing in the written unit, and in version 1 starting
+/// at or below the last network frequency (that is how a version 1 reader finds them; Touchstone 1.1,
+/// "Noise Parameter Data").
+fn check_noise(network: &Network, options: &WriteOptions) -> Result<(), TouchstoneError> {
+    let Some(first) = network.noise.first() else {
+        return Ok(());
+    };
+    let scale = options.unit.hz();
+    let r0 = network.reference_ohm[0];
+    let finite = network.noise.iter().all(|p| {
+        p.freq_hz.is_finite()
+            && p.freq_hz >= 0.0
+            && p.nf_min_db.is_finite()
+            && p.gamma_opt.norm().is_finite()
+            && (p.rn_ohm / r0).is_finite()
+    });
+    if !finite {
+        return Err(TouchstoneError::Invalid(
+            "the noise data hold a non-finite or negative-frequency value, which Touchstone cannot hold".into(),
+        ));
+    }
+    if network
+        .noise
+        .windows(2)
+        .any(|w| w[1].freq_hz / scale <= w[0].freq_hz / scale)
+    {
+        return Err(TouchstoneError::Invalid(format!(
+            "noise frequencies must increase (also when written in {}); sort them or choose a smaller unit",
+            options.unit.as_str()
+        )));
+    }
+    let last = network.freqs_hz[network.len() - 1];
+    if options.version == WriteVersion::V1 && first.freq_hz / scale > last / scale {
+        return Err(TouchstoneError::Invalid(format!(
+            "the first noise frequency ({} Hz) is above the last network frequency ({last} Hz), so a version 1 reader could not tell noise from network data; write version 2 (--version 2)",
+            first.freq_hz
+        )));
     }
     Ok(())
 }

@@ -101,7 +101,7 @@ impl<'a> Parser<'a> {
         let parameter = o.parameter.unwrap_or(Parameter::S);
         let format = o.format.unwrap_or(Format::MA);
         let unit = o.unit.unwrap_or(FreqUnit::GHz);
-        self.check_parameter_ports(n, 0)?;
+        self.check_parameter_ports(n)?;
         let r_opt = o
             .reference
             .first()
@@ -137,7 +137,8 @@ impl<'a> Parser<'a> {
             match kind {
                 None => {
                     for i in 0..n {
-                        let mag = m[i * n + i].norm();
+                        // |S|^2 avoids a square root per point; the maximum is kept squared.
+                        let mag = m[i * n + i].norm_sqr();
                         if mag > max_reflection.0 && mag > 1.0 {
                             max_reflection = (mag, k);
                         }
@@ -145,11 +146,10 @@ impl<'a> Parser<'a> {
                     s.extend_from_slice(&m);
                 }
                 Some(kind) => {
-                    // Version 1: values are normalised to R already; version 2: ohms and siemens.
+                    // Version 1: values are normalised to R already (with one R per port, a
+                    // deviation, each to its port's R as in `convert`); version 2: ohms and siemens.
                     if self.v2 {
                         convert::normalise(kind, &mut m, &reference);
-                    } else if o.reference.len() > 1 {
-                        // Per-port R in version 1 (a deviation): values taken as normalised per port.
                     }
                     let sm = convert::to_s(kind, &m, n).ok_or_else(|| {
                         self.err(
@@ -176,7 +176,7 @@ impl<'a> Parser<'a> {
                 "reflection-above-one",
                 format!(
                     "a reflection coefficient exceeds 1 in magnitude (largest {:.6} at {f} {}); a passive port reflects at most 1",
-                    max_reflection.0,
+                    max_reflection.0.sqrt(),
                     unit.as_str()
                 ),
                 "usually calibration drift at the band edge; recalibrate if it is large",

@@ -494,12 +494,13 @@ impl<'a> Parser<'a> {
                 "delete [Number of Noise Frequencies]",
             ));
         }
-        self.check_parameter_ports(n, line)?;
+        self.check_parameter_ports(n)?;
         self.section = Section::Network;
         Ok(())
     }
 
-    pub(super) fn check_parameter_ports(&self, n: usize, line: usize) -> Res<()> {
+    /// H and G parameters exist for 2-ports only (reported on the option line).
+    pub(super) fn check_parameter_ports(&self, n: usize) -> Res<()> {
         let p = self
             .options
             .as_ref()
@@ -515,7 +516,6 @@ impl<'a> Parser<'a> {
                 "write the data as S, Y or Z parameters",
             ));
         }
-        let _ = line;
         Ok(())
     }
 }

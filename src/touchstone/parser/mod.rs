@@ -9,7 +9,7 @@ mod header;
 
 use super::convert::{self, Kind};
 use super::keywords::{parse_keyword_line, Keyword};
-use super::lexer::{parse_number, strip_comment, Lines, Tokens};
+use super::lexer::{lex_data_line, parse_number, strip_comment, Lines, Tokens};
 use super::options::{parse_option_line, OptionLine, DEFAULT_REFERENCE_OHM};
 use super::{
     ports_from_extension, ErrorKind, FileInfo, Format, FreqUnit, MatrixFormat, Parameter,
@@ -109,6 +109,20 @@ pub(crate) fn parse(text: &str, path: &Path) -> Res<Touchstone> {
     let mut line_cols: Vec<u32> = Vec::with_capacity(64);
     for line in Lines::new(text) {
         p.last_line = line.number;
+        let data_section = p.reference_open.is_none()
+            && if p.v2 {
+                matches!(p.section, Section::Network | Section::Noise)
+            } else {
+                !first_content
+            };
+        if data_section && lex_data_line(line.text.as_bytes(), &mut line_vals, &mut line_cols) {
+            if p.v2 {
+                p.v2_values(&line_vals, &line_cols, line.number)?;
+            } else {
+                p.v1_line(&line_vals, &line_cols, line.number)?;
+            }
+            continue;
+        }
         if let Some((col, b)) = line
             .text
             .bytes()
