@@ -50,6 +50,31 @@ fn bench(c: &mut Criterion) {
     c.bench_function("band-pass trace, 10001 points, 8x padding (FFT)", |b| {
         b.iter(|| black_box(engine.trace(&freqs, &values, &plan, &map).unwrap()))
     });
+    c.bench_function(
+        "band-pass trace, 10001 points, 8x padding (FFT), recycled buffers",
+        |b| {
+            b.iter(|| {
+                let t = engine.trace(&freqs, &values, &plan, &map).unwrap();
+                black_box(t.values[7]);
+                engine.recycle(t);
+            })
+        },
+    );
+
+    // The bare inverse FFT the whole-range trace runs (length fast(8 x 10001) = 81000), for the overhead ratio.
+    let len = coldtrace::transform::czt::fast_len(8 * N);
+    let ifft = FftCache::new().inverse(len);
+    let mut buf = vec![Complex64::new(0.0, 0.0); len];
+    c.bench_function("bare inverse FFT, 81000 points", |b| {
+        b.iter(|| {
+            buf[..N].copy_from_slice(&values);
+            buf[N..]
+                .iter_mut()
+                .for_each(|v| *v = Complex64::new(0.0, 0.0));
+            ifft.process(&mut buf);
+            black_box(buf[1])
+        })
+    });
 
     let w = Window::Kaiser { beta: 6.0 }.coefficients(N);
     let wg: Vec<Complex64> = values.iter().zip(&w).map(|(v, w)| v * *w).collect();

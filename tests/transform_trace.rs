@@ -407,3 +407,76 @@ fn series_inductance_and_shunt_capacitance_are_told_apart() {
     let neg: Vec<Complex64> = series_r.iter().map(|v| -v).collect();
     assert_eq!(feature(&neg), Some(StepFeature::LowerImpedance));
 }
+
+/// The fast dB conversion against the library log10 over 40 decades and random mantissas.
+#[test]
+fn fast_db_matches_log10() {
+    use coldtrace::transform::trace::power_to_db;
+    let mut x = 1e-30f64;
+    while x < 1e10 {
+        for k in 0..97 {
+            let p = x * (1.0 + k as f64 / 97.0);
+            let want = 10.0 * p.log10();
+            assert!(
+                (power_to_db(p) - want).abs() < 1e-12,
+                "{p}: {} vs {want}",
+                power_to_db(p)
+            );
+        }
+        x *= 10.0;
+    }
+    assert!((power_to_db(0.0) - coldtrace::transform::trace::DB_FLOOR).abs() < 1e-9);
+    assert_eq!(power_to_db(1.0), 0.0);
+}
+
+#[test]
+fn engine_reuse_and_recycling_give_identical_traces() {
+    // Warm and cold sweeps of one line share one engine (cached plans and buffers).
+    let freqs: Vec<f64> = (0..801).map(|i| 5e8 + i as f64 * 1e7).collect();
+    let warm = load_at(&freqs, Complex64::new(30.0, 0.0), 1.1);
+    let cold = load_at(&freqs, Complex64::new(35.0, 0.0), 1.08);
+    let mut engine = coldtrace::transform::TraceEngine::new();
+    for plan in [
+        TracePlan::default(),
+        TracePlan {
+            span_m: Some((0.5, 1.5)),
+            ..TracePlan::default()
+        },
+    ] {
+        let a = engine.trace(&freqs, &warm, &plan, &map()).unwrap();
+        let fresh_cold = trace(&freqs, &cold, &plan, &map()).unwrap();
+        engine.recycle(a.clone());
+        let b = engine.trace(&freqs, &cold, &plan, &map()).unwrap();
+        assert_eq!(b, fresh_cold);
+        let again = engine.trace(&freqs, &warm, &plan, &map()).unwrap();
+        assert_eq!(again, a);
+    }
+}
+
+proptest::proptest! {
+    #![proptest_config(proptest::prelude::ProptestConfig::with_cases(32))]
+    /// Any single reflection inside the alias-free range, any window: the refined band-pass peak is |rho|
+    /// at the true distance.
+    #[test]
+    fn any_single_reflection_peaks_at_rho(
+        mag in 0.01f64..1.0,
+        phase in -3.1f64..3.1,
+        x in 0.2f64..8.0,
+        n in 64usize..600,
+        w in 0usize..4,
+    ) {
+        let window = [Window::Hann, Window::Hamming, Window::BlackmanHarris4, Window::Kaiser { beta: 6.0 }][w];
+        let freqs: Vec<f64> = (0..n).map(|i| 1e9 + i as f64 * 1e7).collect();
+        let rho = Complex64::from_polar(mag, phase);
+        let tau = map().round_trip_s(x);
+        let g: Vec<Complex64> = freqs.iter().map(|&f| rho * Complex64::from_polar(1.0, -2.0 * PI * f * tau)).collect();
+        let plan = TracePlan { window, padding: 4, ..TracePlan::default() };
+        let tr = trace(&freqs, &g, &plan, &map()).unwrap();
+        let peaks = find_peaks(&tr, 10.0, 1);
+        let check = plan.check(&freqs, &map()).unwrap();
+        let spec = Spectrum::new(&g, &plan, &check).unwrap();
+        let p = refine_peak(&tr, &spec, &peaks[0], &|t| map().distance_m(t));
+        proptest::prop_assert!((p.value - mag).abs() < 1e-9 * mag.max(1e-3) + 1e-12, "{} vs {mag}", p.value);
+        proptest::prop_assert!((p.distance_m - x).abs() < 1e-5, "{} vs {x}", p.distance_m);
+    }
+}

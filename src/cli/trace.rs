@@ -1,5 +1,5 @@
 //! `coldtrace trace FILE [--mode M] [--window W] [--span A..B] [--step S] [--vf V] [--gate A..B --out F]
-//! [--csv F] [--json] [--plot F.svg|F.png] [--resample] [--padding N] [--force]`: time-domain trace of S11.
+//! [--gate-window W] [--csv F] [--json] [--plot F.svg|F.png] [--resample] [--padding N] [--force]`: time-domain trace of S11.
 //! Flags become a `coldtrace::transform::TraceConfig`; the work is `coldtrace::transform::run_trace`.
 
 use coldtrace::report::write_plot;
@@ -30,12 +30,20 @@ pub struct Args {
     /// Output step with --span, e.g. 1mm; default: a tenth of the resolution.
     #[arg(long, value_name = "LENGTH")]
     pub step: Option<String>,
-    /// Velocity factor of the line (default 0.695: solid PTFE, er about 2.07).
+    /// Velocity factor of the line; 0.695 is solid PTFE, er about 2.07 (common practice).
     #[arg(long, default_value_t = DEFAULT_VELOCITY_FACTOR, value_name = "VF")]
     pub vf: f64,
     /// Time gate in distance, e.g. 0.9m..1.1m; the gated sweep is written to --out.
     #[arg(long, value_name = "A..B", requires = "out")]
     pub gate: Option<String>,
+    /// Gate shape, from the same window family (rect, hann, hamming, blackman-harris, kaiser:BETA).
+    #[arg(
+        long,
+        default_value = "kaiser:6",
+        value_name = "WINDOW",
+        requires = "gate"
+    )]
+    pub gate_window: String,
     /// Where to write the gated sweep (Touchstone v1 .s1p).
     #[arg(long, value_name = "FILE", requires = "gate")]
     pub out: Option<PathBuf>,
@@ -86,6 +94,8 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
         .as_deref()
         .map(|s| units::parse_range(s, Family::Length))
         .transpose()?;
+    let gate_shape = Window::parse(&args.gate_window)
+        .map_err(|e| Error::Usage(format!("--gate-window: {e}")))?;
     let map = UniformLine::new(args.vf).map_err(|e| Error::Usage(format!("--vf: {e}")))?;
 
     let ts = read_file(&args.input)?;
@@ -112,6 +122,7 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
             ..TracePlan::default()
         },
         gate_m,
+        gate_shape,
         ..TraceConfig::default()
     };
     let mut engine = TraceEngine::new();

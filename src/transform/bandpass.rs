@@ -21,11 +21,22 @@ pub struct BandPassSpectrum {
 
 impl BandPassSpectrum {
     pub fn new(grid: &Grid, values: &[Complex64], window: &Window) -> Self {
-        let w = window.coefficients(values.len());
+        Self::with_coefficients(grid, values, &window.coefficients(values.len()))
+    }
+
+    /// As [`BandPassSpectrum::new`] with the window's `values.len()` coefficients given.
+    pub fn with_coefficients(grid: &Grid, values: &[Complex64], w: &[f64]) -> Self {
+        assert_eq!(
+            w.len(),
+            values.len(),
+            "window length {} for {} values",
+            w.len(),
+            values.len()
+        );
         let sum: f64 = w.iter().sum();
         let weighted = values
             .iter()
-            .zip(&w)
+            .zip(w)
             .map(|(g, &wn)| g * (wn / sum))
             .collect();
         BandPassSpectrum {
@@ -53,12 +64,23 @@ impl BandPassSpectrum {
 
     /// h(t) on a time axis: FFT for the whole range, chirp-z for a span.
     pub fn on_axis(&self, axis: &TimeAxis, cache: &mut FftCache) -> Vec<Complex64> {
+        self.on_axis_into(axis, cache, Vec::new())
+    }
+
+    /// As [`BandPassSpectrum::on_axis`], reusing `buf`'s allocation for the whole-range FFT.
+    pub fn on_axis_into(
+        &self,
+        axis: &TimeAxis,
+        cache: &mut FftCache,
+        mut buf: Vec<Complex64>,
+    ) -> Vec<Complex64> {
         let n = self.weighted.len();
         let mut out = match axis.fft_len {
             Some(len) => {
-                let mut buf = self.weighted.clone();
+                buf.clear();
                 buf.resize(len, Complex64::new(0.0, 0.0));
-                cache.inverse(len).process(&mut buf);
+                buf[..n].copy_from_slice(&self.weighted);
+                cache.inverse_in_place(&mut buf);
                 buf
             }
             None => cache

@@ -133,6 +133,7 @@ type ChirpKey = (usize, usize, u64, u64);
 pub struct FftCache {
     planner: FftPlanner<f64>,
     chirps: HashMap<ChirpKey, Arc<ChirpZ>>,
+    scratch: Vec<Complex64>,
 }
 
 impl std::fmt::Debug for FftCache {
@@ -146,6 +147,7 @@ impl Default for FftCache {
         FftCache {
             planner: FftPlanner::new(),
             chirps: HashMap::new(),
+            scratch: Vec::new(),
         }
     }
 }
@@ -164,6 +166,26 @@ impl FftCache {
         let c = Arc::new(ChirpZ::new(&mut self.planner, n, m, df_t0, df_dt));
         self.chirps.insert(key, c.clone());
         c
+    }
+
+    /// In-place inverse FFT (e^{+j}, unnormalised) of `buf`, reusing one scratch buffer across calls.
+    pub fn inverse_in_place(&mut self, buf: &mut [Complex64]) {
+        let fft = self.planner.plan_fft_inverse(buf.len());
+        self.run(&fft, buf);
+    }
+
+    /// In-place forward FFT (e^{-j}, unnormalised) of `buf`, reusing one scratch buffer across calls.
+    pub fn forward_in_place(&mut self, buf: &mut [Complex64]) {
+        let fft = self.planner.plan_fft_forward(buf.len());
+        self.run(&fft, buf);
+    }
+
+    fn run(&mut self, fft: &Arc<dyn Fft<f64>>, buf: &mut [Complex64]) {
+        let need = fft.get_inplace_scratch_len();
+        if self.scratch.len() < need {
+            self.scratch.resize(need, Complex64::new(0.0, 0.0));
+        }
+        fft.process_with_scratch(buf, &mut self.scratch[..need]);
     }
 
     /// An inverse FFT (e^{+j}, unnormalised) of length `len`.

@@ -57,11 +57,11 @@ fn gate_once(
 ) -> Vec<Complex64> {
     let mut buf = values.to_vec();
     buf.resize(len, Complex64::new(0.0, 0.0));
-    cache.inverse(len).process(&mut buf);
+    cache.inverse_in_place(&mut buf);
     for (b, w) in buf.iter_mut().zip(weights) {
         *b *= *w;
     }
-    cache.forward(len).process(&mut buf);
+    cache.forward_in_place(&mut buf);
     let s = 1.0 / len as f64;
     buf.truncate(values.len());
     buf.iter_mut().for_each(|b| *b *= s);

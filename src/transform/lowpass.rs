@@ -61,6 +61,25 @@ impl LowPassSpectrum {
         dc: DcMethod,
         window: &Window,
     ) -> Result<Self, TransformError> {
+        let full = window.coefficients(2 * harmonics + 1);
+        Self::with_coefficients(grid, values, harmonics, resample, dc, &full)
+    }
+
+    /// As [`LowPassSpectrum::new`] with the window's `2 K + 1` symmetric coefficients given.
+    pub fn with_coefficients(
+        grid: &Grid,
+        values: &[Complex64],
+        harmonics: usize,
+        resample: bool,
+        dc: DcMethod,
+        full: &[f64],
+    ) -> Result<Self, TransformError> {
+        assert_eq!(
+            full.len(),
+            2 * harmonics + 1,
+            "window length {} for K = {harmonics}",
+            full.len()
+        );
         let k_max = harmonics;
         let (df, mut gamma, measured_dc) = if !resample {
             let df = grid.step_hz;
@@ -112,7 +131,6 @@ impl LowPassSpectrum {
             DcMethod::EvenQuadratic if measured_dc => Complex64::new(values[0].re, 0.0),
             DcMethod::EvenQuadratic => Complex64::new(model(0.0).re, 0.0),
         };
-        let full = window.coefficients(2 * k_max + 1);
         let w: Vec<f64> = full[k_max..].to_vec();
         let window_sum = w[0] + 2.0 * w[1..].iter().sum::<f64>();
         Ok(LowPassSpectrum {
@@ -212,7 +230,7 @@ fn evaluate(c: &[Complex64], df: f64, axis: &TimeAxis, cache: &mut FftCache) -> 
         Some(len) => {
             let mut buf = c.to_vec();
             buf.resize(len, Complex64::new(0.0, 0.0));
-            cache.inverse(len).process(&mut buf);
+            cache.inverse_in_place(&mut buf);
             buf.truncate(axis.points);
             buf
         }

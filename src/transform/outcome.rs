@@ -57,7 +57,8 @@ pub fn run_trace(
     let plan = &config.plan;
     let mut trace = engine.trace(freqs, values, plan, map)?;
     let check = plan.check(freqs, map)?;
-    let spectrum = Spectrum::new(values, plan, &check)?;
+    let w = engine.window_coefficients(&plan.window, Spectrum::window_len(&check));
+    let spectrum = Spectrum::with_coefficients(values, plan, &check, &w)?;
     let coarse = find_peaks(&trace, config.peak_floor_db, config.peak_count);
     trace.peaks = coarse
         .iter()

@@ -6,10 +6,11 @@ use super::lowpass::LowPassSpectrum;
 use super::peak::Peak;
 use super::plan::{Mode, PlanCheck, TracePlan};
 use super::window::WindowInfo;
-use super::{DistanceMap, TransformError};
+use super::{DistanceMap, TransformError, Window};
 use crate::Warning;
 use num_complex::Complex64;
 use serde::Serialize;
+use std::sync::Arc;
 
 /// Largest |rho| used in the impedance profile; beyond it Z0 (1 + rho)/(1 - rho) is clamped (an open reads
 /// about 2e6 Z0 instead of infinity).
@@ -60,15 +61,34 @@ impl Spectrum {
         plan: &TracePlan,
         check: &PlanCheck,
     ) -> Result<Self, TransformError> {
+        let w = plan.window.coefficients(Self::window_len(check));
+        Self::with_coefficients(values, plan, check, &w)
+    }
+
+    /// Number of window coefficients the plan needs: N (band-pass) or 2K + 1 (low-pass).
+    pub fn window_len(check: &PlanCheck) -> usize {
+        match check.harmonics {
+            None => check.grid.points,
+            Some(k) => 2 * k + 1,
+        }
+    }
+
+    /// As [`Spectrum::new`] with the window's [`Spectrum::window_len`] coefficients given.
+    pub fn with_coefficients(
+        values: &[Complex64],
+        plan: &TracePlan,
+        check: &PlanCheck,
+        w: &[f64],
+    ) -> Result<Self, TransformError> {
         Ok(match check.harmonics {
-            None => Spectrum::BandPass(BandPassSpectrum::new(&check.grid, values, &plan.window)),
-            Some(k) => Spectrum::LowPass(LowPassSpectrum::new(
+            None => Spectrum::BandPass(BandPassSpectrum::with_coefficients(&check.grid, values, w)),
+            Some(k) => Spectrum::LowPass(LowPassSpectrum::with_coefficients(
                 &check.grid,
                 values,
                 k,
                 check.resampled,
                 plan.dc,
-                &plan.window,
+                w,
             )?),
         })
     }
@@ -87,11 +107,46 @@ impl Spectrum {
 #[derive(Debug, Default)]
 pub struct TraceEngine {
     cache: FftCache,
+    windows: Vec<(Window, usize, Arc<Vec<f64>>)>,
+    spare_real: Vec<Vec<f64>>,
+    spare_complex: Vec<Vec<Complex64>>,
 }
+
+/// Most spare buffers an engine keeps from recycled traces.
+const MAX_SPARE: usize = 8;
 
 impl TraceEngine {
     pub fn new() -> Self {
         Self::default()
+    }
+
+    /// Hand back a trace no longer needed: its buffers are reused by the next [`TraceEngine::trace`], which
+    /// saves the page faults of fresh large allocations when many sweeps are traced in a loop.
+    pub fn recycle(&mut self, trace: Trace) {
+        for v in [trace.axis_m, trace.time_s, trace.values, trace.linear] {
+            if self.spare_real.len() < MAX_SPARE && v.capacity() > 0 {
+                self.spare_real.push(v);
+            }
+        }
+        if self.spare_complex.len() < MAX_SPARE && trace.complex.capacity() > 0 {
+            self.spare_complex.push(trace.complex);
+        }
+    }
+
+    fn take_real(&mut self) -> Vec<f64> {
+        let mut v = self.spare_real.pop().unwrap_or_default();
+        v.clear();
+        v
+    }
+
+    /// Window coefficients, computed once per window and length.
+    pub fn window_coefficients(&mut self, window: &Window, n: usize) -> Arc<Vec<f64>> {
+        if let Some((_, _, w)) = self.windows.iter().find(|(w, m, _)| w == window && *m == n) {
+            return w.clone();
+        }
+        let w = Arc::new(window.coefficients(n));
+        self.windows.push((*window, n, w.clone()));
+        w
     }
 
     /// The FFT cache (shared with gating).
@@ -121,17 +176,22 @@ impl TraceEngine {
         }
         let check = plan.check(freqs, map)?;
         let mut warnings = check.warnings.clone();
-        let spectrum = Spectrum::new(values, plan, &check)?;
+        let w = self.window_coefficients(&plan.window, Spectrum::window_len(&check));
+        let spectrum = Spectrum::with_coefficients(values, plan, &check, &w)?;
         let axis = &check.axis;
-        let time_s: Vec<f64> = (0..axis.points)
-            .map(|m| axis.start_s + m as f64 * axis.step_s)
-            .collect();
-        let axis_m: Vec<f64> = time_s.iter().map(|&t| map.distance_m(t)).collect();
+        let mut time_s = self.take_real();
+        time_s.extend((0..axis.points).map(|m| axis.start_s + m as f64 * axis.step_s));
+        let mut axis_m = self.take_real();
+        axis_m.extend(time_s.iter().map(|&t| map.distance_m(t)));
+        let mut values_out = self.take_real();
         let (linear, complex) = match &spectrum {
             Spectrum::BandPass(b) => {
-                let mut h = b.on_axis(axis, &mut self.cache);
+                let buf = self.spare_complex.pop().unwrap_or_default();
+                let mut h = b.on_axis_into(axis, &mut self.cache, buf);
                 h.truncate(axis.points);
-                (h.iter().map(|z| z.norm()).collect(), h)
+                let mut linear = self.take_real();
+                linear.extend(h.iter().map(|z| z.norm_sqr().sqrt()));
+                (linear, h)
             }
             Spectrum::LowPass(l) => {
                 let v = match plan.mode {
@@ -141,20 +201,19 @@ impl TraceEngine {
                 (v, Vec::new())
             }
         };
-        let values_out = match plan.mode {
-            Mode::BandPass => linear.iter().map(|&a| to_db(a)).collect(),
-            Mode::LowPassImpulse | Mode::LowPassStep => linear.clone(),
+        match plan.mode {
+            Mode::BandPass => {
+                values_out.extend(complex.iter().map(|z| power_to_db(z.norm_sqr())));
+            }
+            Mode::LowPassImpulse | Mode::LowPassStep => values_out.extend_from_slice(&linear),
             Mode::Impedance => {
                 let mut clamped = 0usize;
-                let z: Vec<f64> = linear
-                    .iter()
-                    .map(|&r| {
-                        if r.abs() > IMPEDANCE_RHO_LIMIT {
-                            clamped += 1;
-                        }
-                        impedance_from_rho(r, plan.reference_ohm)
-                    })
-                    .collect();
+                values_out.extend(linear.iter().map(|&r| {
+                    if r.abs() > IMPEDANCE_RHO_LIMIT {
+                        clamped += 1;
+                    }
+                    impedance_from_rho(r, plan.reference_ohm)
+                }));
                 if clamped > 0 {
                     warnings.push(Warning::new(
                         "impedance-clamped",
@@ -165,9 +224,8 @@ impl TraceEngine {
                         "read those points as open (high) or short (low), or view --mode low-pass-step",
                     ));
                 }
-                z
             }
-        };
+        }
         Ok(Trace {
             mode: plan.mode,
             axis_m,
@@ -204,6 +262,40 @@ pub const DB_FLOOR: f64 = -400.0;
 /// 20 log10 |a|, floored at [`DB_FLOOR`].
 pub fn to_db(a: f64) -> f64 {
     (20.0 * a.abs().log10()).max(DB_FLOOR)
+}
+
+/// 10 log10 |h|^2 (= 20 log10 |h|), floored at [`DB_FLOOR`] (to 1e-13 dB).
+///
+/// Computed without a libm call (the whole-range trace converts ~10^5 points): p = 2^e m with m in
+/// [sqrt(1/2), sqrt(2)), ln m = 2 atanh(s) = 2 (s + s^3/3 + s^5/5 + ...), s = (m - 1)/(m + 1), |s| < 0.1716
+/// (Abramowitz and Stegun, Handbook of Mathematical Functions, 1964, eq. 4.1.27). Nine terms leave a
+/// truncation error below 0.1716^19/19 ~ 1e-16, so the result matches `10 * p.log10()` to ~1e-13 dB.
+pub fn power_to_db(p: f64) -> f64 {
+    const DB_PER_NEPER_POWER: f64 = 10.0 / std::f64::consts::LN_10;
+    /// |h|^2 at the dB floor: 10^(DB_FLOOR / 10).
+    const FLOOR_POWER: f64 = 1e-40;
+    if !p.is_finite() {
+        return if p == f64::INFINITY { p } else { DB_FLOOR };
+    }
+    // Branch-free below this point, so the conversion loop vectorises.
+    let p = p.max(FLOOR_POWER);
+    let bits = p.to_bits();
+    let e = ((bits >> 52) & 0x7ff) as i64 - 1023;
+    let m = f64::from_bits((bits & 0x000f_ffff_ffff_ffff) | 0x3ff0_0000_0000_0000);
+    let big = m > std::f64::consts::SQRT_2;
+    let m = if big { m * 0.5 } else { m };
+    let e = e + big as i64;
+    let s = (m - 1.0) / (m + 1.0);
+    let s2 = s * s;
+    let series = 1.0
+        + s2 * (1.0 / 3.0
+            + s2 * (1.0 / 5.0
+                + s2 * (1.0 / 7.0
+                    + s2 * (1.0 / 9.0
+                        + s2 * (1.0 / 11.0
+                            + s2 * (1.0 / 13.0 + s2 * (1.0 / 15.0 + s2 * (1.0 / 17.0))))))));
+    let ln = e as f64 * std::f64::consts::LN_2 + 2.0 * s * series;
+    DB_PER_NEPER_POWER * ln
 }
 
 /// Z0 (1 + rho) / (1 - rho), with |rho| clamped at [`IMPEDANCE_RHO_LIMIT`].
