@@ -183,14 +183,25 @@ impl ChainView {
         for (j, (s, c)) in self.segments.iter().zip(self.cover(x)).enumerate() {
             d += c * s.delay_s[which as usize] * scale.map_or(1.0, |v| v[j]);
         }
-        // Beyond the far end, continue at the last segment's speed.
-        if let Some(last) = self.segments.last() {
-            if x > last.end_m && last.end_m > last.start_m {
-                let per_m = last.delay_s[which as usize] / (last.end_m - last.start_m);
-                d += (x - last.end_m) * per_m * scale.map_or(1.0, |v| v[v.len() - 1]);
+        // Beyond the far end, continue at the speed of the last segment that has a length.
+        if let (Some(end), Some((per_s_per_m, _))) = (
+            self.segments.last().map(|s| s.end_m),
+            self.tail_rate(which, scale),
+        ) {
+            if x > end {
+                d += (x - end) * per_s_per_m;
             }
         }
         d
+    }
+
+    /// Round-trip delay per metre of the last segment with a length, in sweep `which` (and its index).
+    fn tail_rate(&self, which: Which, scale: Option<&[f64]>) -> Option<(f64, usize)> {
+        self.segments.iter().enumerate().rev().find_map(|(j, s)| {
+            let len = s.end_m - s.start_m;
+            let d = s.delay_s[which as usize] * scale.map_or(1.0, |v| v[j]);
+            (len > 0.0 && d > 0.0).then(|| (d / len, j))
+        })
     }
 
     /// As-built position of round-trip delay `t` in sweep `which` (inverse of [`Self::delay_to`]).
@@ -203,16 +214,13 @@ impl ChainView {
             }
             acc += d;
         }
-        let last = match self.segments.last() {
-            Some(l) => l,
+        let end = match self.segments.last() {
+            Some(l) => l.end_m,
             None => return 0.0,
         };
-        let len = last.end_m - last.start_m;
-        let d = last.delay_s[which as usize] * scale.map_or(1.0, |v| v[v.len() - 1]);
-        if d > 0.0 && len > 0.0 {
-            last.end_m + (t - acc) * len / d
-        } else {
-            last.end_m
+        match self.tail_rate(which, scale) {
+            Some((per_m, _)) => end + (t - acc) / per_m,
+            None => end,
         }
     }
 

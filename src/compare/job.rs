@@ -2,7 +2,8 @@
 //! line file, or a uniform line of a given velocity factor), settle each sweep's state (given, or inferred
 //! and reported), and run [`compare`](super::compare) or [`locate`](super::locate).
 
-use super::chain::ChainView;
+use super::analysis::SweepAnalysis;
+use super::chain::{ChainView, Which};
 use super::report::{CompareReport, LocateReport, StateReport};
 use super::run::{compare, locate, AnalysisConfig, Sweep};
 use crate::line::{Line, State};
@@ -75,80 +76,107 @@ fn band(n: &Network) -> (f64, f64) {
     (n.freqs_hz[0], n.freqs_hz[n.len() - 1])
 }
 
-/// Infer the two sweeps' states from the delay of the farthest strong echo seen in both: the line model
-/// predicts how cooling changes it (its sign too), so the measured ratio tells which sweep is the colder.
-/// For a line of unknown construction only the echo's strength can tell (a cold line loses less), and a
-/// difference under [`STATE_LOSS_DB`] is read as "same state".
+/// Infer the two sweeps' states.
+///
+/// With a line file: each hypothesis (warm -> cold, cold -> warm, one state) predicts where the baseline's
+/// strong echoes fall in the current sweep; the hypothesis whose predictions miss the current echoes least
+/// wins (misses capped at half a resolution cell, so a changed or missing echo cannot dominate). Cooling
+/// moves echoes in cold sections by a few tenths of a percent of their delay, which the sub-bin peak
+/// positions resolve. For a line of unknown construction only the far echo's strength can tell (a cold
+/// line loses less); a difference under [`STATE_LOSS_DB`] is read as one state.
 fn infer_states(
     b: &Network,
     c: &Network,
     line: Option<&Line>,
     cfg: &AnalysisConfig,
 ) -> (State, State, String) {
-    let far = far_echo_ratio(b, c, &cfg.window);
-    match (line, far) {
-        (Some(line), Some((ratio, amp_db))) => {
-            let (lo, hi) = band(c);
-            let f_ref = 0.5 * (lo + hi);
-            let chain = ChainView::from_line(line, State::Warm, State::Cold, lo, hi, f_ref);
-            let end = chain.visible_end_m();
-            let warm = chain.delay_to(end, super::chain::Which::Baseline, None);
-            let cold = chain.delay_to(end, super::chain::Which::Current, None);
-            let predicted = cold / warm - 1.0;
-            let measured = ratio - 1.0;
-            if predicted.abs() < 1e-5 || measured.abs() < 0.5 * predicted.abs() {
-                let s = if amp_db.abs() < STATE_LOSS_DB { State::Warm } else if amp_db > 0.0 { State::Cold } else { State::Warm };
-                (
-                    s,
-                    s,
-                    format!(
-                        "inferred: the far echo's delay changed by {:+.3} % where cooling predicts {:+.3} %, so both \
-                         sweeps are taken as {}",
-                        measured * 100.0,
-                        predicted * 100.0,
-                        state_name(s)
-                    ),
-                )
-            } else if measured.signum() == predicted.signum() {
-                (
-                    State::Warm,
-                    State::Cold,
-                    format!(
-                        "inferred: the far echo's delay changed by {:+.3} %, as cooling predicts ({:+.3} %)",
-                        measured * 100.0,
-                        predicted * 100.0
-                    ),
-                )
-            } else {
-                (
-                    State::Cold,
-                    State::Warm,
-                    format!(
-                        "inferred: the far echo's delay changed by {:+.3} %, as warming predicts ({:+.3} %)",
-                        measured * 100.0,
-                        -predicted * 100.0
-                    ),
-                )
-            }
-        }
-        (None, Some((_, amp_db))) if amp_db >= STATE_LOSS_DB => (
+    let Some((ab, ac)) = quick_analyses(b, c, &cfg.window) else {
+        return (
+            State::Cold,
+            State::Cold,
+            "no echo was found in the sweeps; one state is assumed (give --baseline-state and --current-state)".into(),
+        );
+    };
+    if let Some(line) = line {
+        let (lo, hi) = band(c);
+        let f_ref = 0.5 * (lo + hi);
+        let res = ab.resolution_s.max(ac.resolution_s);
+        let strong: Vec<f64> = ab
+            .events
+            .iter()
+            .filter(|e| ab.snr(e.magnitude, e.delay_s) >= super::run::LANDMARK_SNR)
+            .map(|e| e.delay_s)
+            .collect();
+        let cost = |bs: State, cs: State| -> f64 {
+            let chain = ChainView::from_line(line, bs, cs, lo, hi, f_ref);
+            let end = chain.delay_to(chain.visible_end_m(), Which::Baseline, None) + res;
+            strong
+                .iter()
+                .filter(|&&d| d <= end)
+                .map(|&d| {
+                    let x = chain.position_of(d, Which::Baseline, None);
+                    let p = chain.delay_to(x, Which::Current, None);
+                    let miss = ac
+                        .events
+                        .iter()
+                        .map(|e| (e.delay_s - p).abs())
+                        .fold(f64::INFINITY, f64::min);
+                    miss.min(0.5 * res).powi(2)
+                })
+                .sum::<f64>()
+        };
+        let hyps = [
+            (State::Warm, State::Cold),
+            (State::Cold, State::Warm),
+            (State::Cold, State::Cold),
+        ];
+        let costs: Vec<f64> = hyps.iter().map(|&(x, y)| cost(x, y)).collect();
+        let k = (0..3)
+            .min_by(|&x, &y| costs[x].total_cmp(&costs[y]))
+            .unwrap_or(2);
+        let rms = |c: f64| (c / strong.len().max(1) as f64).sqrt() * 1e12;
+        let (bs, cs) = hyps[k];
+        let what = match k {
+            0 => "warm -> cold",
+            1 => "cold -> warm",
+            _ => "one state (taken as cold: a comparison across a thermal cycle)",
+        };
+        return (
+            bs,
+            cs,
+            format!(
+                "inferred {what}: the line model's predictions miss the current echoes by {:.2} ps rms, against \
+                 {:.2} ps ({}) and {:.2} ps ({})",
+                rms(costs[k]),
+                rms(costs[(k + 1) % 3]),
+                ["warm -> cold", "cold -> warm", "one state"][(k + 1) % 3],
+                rms(costs[(k + 2) % 3]),
+                ["warm -> cold", "cold -> warm", "one state"][(k + 2) % 3],
+            ),
+        );
+    }
+    match far_echo_change_db(&ab, &ac) {
+        Some(amp_db) if amp_db >= STATE_LOSS_DB => (
             State::Warm,
             State::Cold,
             format!("inferred: the far echo is {amp_db:.1} dB stronger in the current sweep (less loss: colder)"),
         ),
-        (None, Some((_, amp_db))) if amp_db <= -STATE_LOSS_DB => (
+        Some(amp_db) if amp_db <= -STATE_LOSS_DB => (
             State::Cold,
             State::Warm,
             format!("inferred: the far echo is {:.1} dB weaker in the current sweep (more loss: warmer)", -amp_db),
         ),
-        (None, Some((_, amp_db))) => (
-            State::Warm,
-            State::Warm,
-            format!("inferred: the far echo's strength differs by only {amp_db:+.2} dB, so one state is assumed"),
+        Some(amp_db) => (
+            State::Cold,
+            State::Cold,
+            format!(
+                "inferred: the far echo's strength differs by only {amp_db:+.2} dB, so one state is assumed \
+                 (taken as cold)"
+            ),
         ),
-        (_, None) => (
-            State::Warm,
-            State::Warm,
+        None => (
+            State::Cold,
+            State::Cold,
             "no echo was strong in both sweeps; one state is assumed (give --baseline-state and --current-state)".into(),
         ),
     }
@@ -158,37 +186,42 @@ fn infer_states(
 /// less cold; a dB is well clear of a re-mated connector; common practice, no source).
 pub const STATE_LOSS_DB: f64 = 1.0;
 
-/// Delay ratio (current over baseline) and strength change (dB) of the farthest echo, within 30 dB of the
-/// strongest, that both sweeps show within 2 % of each other's delay.
-fn far_echo_ratio(
+/// Both sweeps analysed as a uniform line over their common alias-free time.
+fn quick_analyses(
     b: &Network,
     c: &Network,
     window: &crate::transform::Window,
-) -> Option<(f64, f64)> {
+) -> Option<(SweepAnalysis, SweepAnalysis)> {
     let mut engine = crate::transform::TraceEngine::new();
     let uni = ChainView::uniform("", 0.7, 1.0, 50.0);
     let alias = |n: &Network| (n.len() - 1) as f64 / (n.freqs_hz[n.len() - 1] - n.freqs_hz[0]);
     let t = alias(b).min(alias(c));
-    let ab = super::analysis::SweepAnalysis::new(
+    let ab = SweepAnalysis::new(
         &b.freqs_hz,
         &b.s11(),
         window,
         t,
         &uni,
-        super::chain::Which::Baseline,
+        Which::Baseline,
         &mut engine,
     )
     .ok()?;
-    let ac = super::analysis::SweepAnalysis::new(
+    let ac = SweepAnalysis::new(
         &c.freqs_hz,
         &c.s11(),
         window,
         t,
         &uni,
-        super::chain::Which::Current,
+        Which::Current,
         &mut engine,
     )
     .ok()?;
+    Some((ab, ac))
+}
+
+/// Strength change (dB, current over baseline) of the farthest echo, within 30 dB of the strongest, that
+/// both sweeps show within 2 % of each other's delay.
+fn far_echo_change_db(ab: &SweepAnalysis, ac: &SweepAnalysis) -> Option<f64> {
     let top = ab.events.iter().map(|e| e.magnitude).fold(0.0, f64::max);
     ab.events
         .iter()
@@ -199,12 +232,7 @@ fn far_echo_ratio(
                 .iter()
                 .filter(|ec| (ec.delay_s / eb.delay_s - 1.0).abs() < 0.02)
                 .max_by(|x, y| x.magnitude.total_cmp(&y.magnitude))
-                .map(|ec| {
-                    (
-                        ec.delay_s / eb.delay_s,
-                        20.0 * (ec.magnitude / eb.magnitude).log10(),
-                    )
-                })
+                .map(|ec| 20.0 * (ec.magnitude / eb.magnitude).log10())
         })
 }
 
