@@ -14,7 +14,17 @@ fn line() -> Line {
 }
 
 fn sim(line: &Line, state: State, faults: &[&str], seed: u64) -> coldtrace::Network {
-    let mut cfg = SimConfig::linear(state, 0.5e9, 10e9, 4001);
+    sim_n(line, state, faults, seed, 4001)
+}
+
+fn sim_n(
+    line: &Line,
+    state: State,
+    faults: &[&str],
+    seed: u64,
+    points: usize,
+) -> coldtrace::Network {
+    let mut cfg = SimConfig::linear(state, 0.5e9, 10e9, points);
     cfg.noise_db = Some(-90.0);
     cfg.seed = seed;
     cfg.faults = faults.iter().map(|f| Fault::parse(f).unwrap()).collect();
@@ -82,5 +92,147 @@ fn healthy_line_warm_to_cold_has_nothing_above_info() {
         r.findings.iter().all(|f| f.severity == Severity::Info),
         "{:?}",
         r.findings
+    );
+}
+
+fn serious(r: &CompareReport) -> Vec<&coldtrace::compare::Finding> {
+    r.findings
+        .iter()
+        .filter(|f| f.severity > Severity::Info)
+        .collect()
+}
+
+#[test]
+fn crushed_section_mid_segment_is_placed_within_its_uncertainty() {
+    // 0.12 m into the 0.25 m stainless run from room to 50 K (as built 0.80 + 0.008 + 0.12 m).
+    let l = line();
+    let base = sim(&l, State::Warm, &[], 21);
+    let cur = sim(&l, State::Cold, &["room to 50K@0.12m:crush=30ohm,6mm"], 22);
+    let r = run(&l, State::Warm, State::Cold, &base, &cur);
+    let top = &r.findings[0];
+    assert_eq!(top.place.element, "room to 50K", "{top:?}");
+    assert!(
+        (top.place.offset_m - 0.12).abs() <= top.uncertainty_m.max(0.003),
+        "offset {} +/- {}",
+        top.place.offset_m,
+        top.uncertainty_m
+    );
+    assert_eq!(top.kind, FaultKind::Crush, "{top:?}");
+    assert!(top.severity >= Severity::Minor, "{top:?}");
+}
+
+#[test]
+fn open_after_a_connector_is_critical_and_hides_the_rest() {
+    let l = line();
+    let base = sim(&l, State::Cold, &[], 31);
+    let cur = sim(&l, State::Cold, &["J2:open"], 32);
+    let r = run(&l, State::Cold, State::Cold, &base, &cur);
+    let top = &r.findings[0];
+    assert_eq!(
+        top.place.nearest_connector.as_deref(),
+        Some("J2"),
+        "{top:?}"
+    );
+    assert_eq!(top.kind, FaultKind::Open, "{top:?}");
+    assert_eq!(top.severity, Severity::Critical);
+    // Nothing behind an open is claimed as a fault of its own.
+    for f in serious(&r).iter().skip(1) {
+        assert!(
+            f.place.distance_m < top.place.distance_m + 0.05 || f.likely_ghost,
+            "{f:?}"
+        );
+    }
+}
+
+#[test]
+fn contact_resistance_growing_between_two_cold_sweeps() {
+    let l = line();
+    let base = sim(&l, State::Cold, &["J2:contact=0.3ohm"], 41);
+    let cur = sim(&l, State::Cold, &["J2:contact=4ohm"], 42);
+    let r = run(&l, State::Cold, State::Cold, &base, &cur);
+    let top = &r.findings[0];
+    assert_eq!(
+        top.place.nearest_connector.as_deref(),
+        Some("J2"),
+        "{top:?}"
+    );
+    assert_eq!(top.kind, FaultKind::Contact, "{top:?}");
+    // 4 ohm in series on 50 ohm: Gamma = 4/104, transmission (100/104)^2, a 0.34 dB drop (circuit theory).
+    assert!((top.model.value - 4.0).abs() < 0.4, "{:?}", top.model);
+    assert!(top.severity >= Severity::Minor, "{top:?}");
+}
+
+#[test]
+fn healthy_line_over_100_noise_seeds_has_nothing_above_info() {
+    let l = line();
+    for seed in 0..100u64 {
+        let base = sim_n(&l, State::Warm, &[], 1000 + 2 * seed, 2001);
+        let cur = sim_n(&l, State::Cold, &[], 1001 + 2 * seed, 2001);
+        let r = run(&l, State::Warm, State::Cold, &base, &cur);
+        assert!(serious(&r).is_empty(), "seed {seed}: {:?}", serious(&r));
+    }
+}
+
+#[test]
+fn two_faults_five_centimetres_apart_are_both_reported() {
+    // In the 0.30 m stainless run from 50 K to 4 K: crushes at 0.10 m and 0.15 m.
+    let l = line();
+    let base = sim(&l, State::Cold, &[], 51);
+    let cur = sim(
+        &l,
+        State::Cold,
+        &[
+            "50K to 4K@0.10m:crush=35ohm,5mm",
+            "50K to 4K@0.15m:crush=35ohm,5mm",
+        ],
+        52,
+    );
+    let r = run(&l, State::Cold, State::Cold, &base, &cur);
+    let found: Vec<f64> = serious(&r)
+        .iter()
+        .filter(|f| f.place.element == "50K to 4K")
+        .map(|f| f.place.offset_m)
+        .collect();
+    for want in [0.10, 0.15] {
+        assert!(
+            found.iter().any(|x| (x - want).abs() < 0.006),
+            "{want}: {found:?} in {:?}",
+            r.findings
+        );
+    }
+}
+
+#[test]
+fn weak_fault_20_db_below_a_strong_one_is_still_found() {
+    // A strong crush (about -12 dB) and, 8 cm further, a weak one about 20 dB below it.
+    let l = line();
+    let base = sim(&l, State::Cold, &[], 61);
+    let cur = sim(
+        &l,
+        State::Cold,
+        &[
+            "50K to 4K@0.05m:crush=20ohm,6mm",
+            "50K to 4K@0.13m:crush=46.5ohm,6mm",
+        ],
+        62,
+    );
+    let r = run(&l, State::Cold, State::Cold, &base, &cur);
+    let strong = r
+        .findings
+        .iter()
+        .find(|f| (f.place.offset_m - 0.05).abs() < 0.006 && f.place.element == "50K to 4K");
+    let weak = r
+        .findings
+        .iter()
+        .find(|f| (f.place.offset_m - 0.13).abs() < 0.006 && f.place.element == "50K to 4K");
+    let (s, w) = (strong.expect("strong fault"), weak.expect("weak fault"));
+    // A 6 mm section of Z1 reflects about |G1| |1 - exp(-j 2 beta l)| (G1 = (Z1 - Z0)/(Z1 + Z0)): about
+    // -3.5 dB for 20 ohm and -25 dB for 46.5 ohm at 5 GHz on PTFE line (calc, transmission-line theory).
+    let gap = s.reflection_db - w.reflection_db;
+    assert!(
+        gap > 18.0,
+        "levels {} and {}",
+        s.reflection_db,
+        w.reflection_db
     );
 }

@@ -25,6 +25,9 @@ use num_complex::Complex64;
 pub const LANDMARK_SNR: f64 = 31.6;
 /// Largest amplitude change a landmark may show, dB; a larger one is a change, not a landmark.
 pub const LANDMARK_MAX_CHANGE_DB: f64 = 3.0;
+/// |Gamma| in mid-band from which a fitted resistance, inductance, shunt capacitance or step is read as an
+/// open or a short (0.9: a 950 ohm series resistance, or a step to 2.6 ohm; common practice, no source).
+pub const NEAR_TOTAL: f64 = 0.9;
 /// On a line of unknown loss, a constant real reflection at least this strong is read as an open or short
 /// whose value is the apparent |Gamma| (the rest is the line's loss).
 pub const UNCOMPENSATED_TERMINATION: f64 = 0.3;
@@ -469,6 +472,7 @@ fn classify(
     chain: &ChainView,
     x: f64,
     near_tol_m: f64,
+    (f_lo, f_hi): (f64, f64),
 ) -> (FaultKind, ModelSummary, Option<ModelFit>) {
     let best = fits[0];
     let seg = chain.segment_at(x).map(|(i, _)| &chain.segments[i]);
@@ -519,6 +523,35 @@ fn classify(
             };
             return (kind, summary, None);
         }
+    }
+    // A model whose reflection is nearly total in mid-band is read as what it amounts to: an open or a short.
+    let g_mid = best
+        .model
+        .gamma(best.value, 0.5 * (f_lo + f_hi), chain.impedance_ohm);
+    if best.model != ModelType::SeriesCapacitance && g_mid.norm() >= NEAR_TOTAL {
+        let open = g_mid.re > 0.0;
+        summary.model = if open {
+            ModelType::Open
+        } else {
+            ModelType::Short
+        };
+        summary.value = 0.0;
+        summary.unit = "";
+        let m = if open {
+            ModelType::Open
+        } else {
+            ModelType::Short
+        };
+        let fit = fits.iter().find(|f| f.model == m).copied();
+        return (
+            if open {
+                FaultKind::Open
+            } else {
+                FaultKind::Short
+            },
+            summary,
+            fit,
+        );
     }
     let kind = match best.model {
         ModelType::SeriesCapacitance => {
@@ -877,7 +910,13 @@ pub fn compare(
             x,
             chain.as_built,
         );
-        let (mut kind, model, best) = classify(&fits, &chain, x, (2.0 * sigma_x).max(res_m));
+        let (mut kind, model, best) = classify(
+            &fits,
+            &chain,
+            x,
+            (2.0 * sigma_x).max(res_m),
+            (fl[0], fl[fl.len() - 1]),
+        );
         let (drop_c, ml) = costs(best, &fl, &gl, chain.impedance_ohm, f_ref);
         let drop_b = mismatch_loss_db(base_refl.min(0.999));
         let mut net_drop = if change_db > 0.0 {
@@ -1142,7 +1181,13 @@ pub fn locate(
         };
         let x = chain.position_of(e.delay_s + delta, Which::Current, None);
         let sigma_x = position_sigma(res_m, snr, delta * speed, f64::NAN, x, chain.as_built);
-        let (kind, model, best) = classify(&fits, &chain, x, (2.0 * sigma_x).max(res_m));
+        let (kind, model, best) = classify(
+            &fits,
+            &chain,
+            x,
+            (2.0 * sigma_x).max(res_m),
+            (fl[0], fl[fl.len() - 1]),
+        );
         let (drop, ml) = costs(best, &fl, &gl, chain.impedance_ohm, f_ref);
         let severity = if matches!(kind, FaultKind::Open | FaultKind::Short) {
             Severity::Critical
