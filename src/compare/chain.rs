@@ -251,7 +251,12 @@ impl ChainView {
     /// the loss, A sqrt(f) nepers, lags the phase by A sqrt(f) rad. The part of that lag linear in f about
     /// the delay reference frequency is already in the segments' group delays, so only the rest is undone.
     pub fn compensation(&self, x: f64, which: Which, f: f64, max_gain: f64) -> Complex64 {
-        let m = self.loss_model_to(x, which);
+        self.compensation_for(&self.loss_model_to(x, which), f, max_gain)
+    }
+
+    /// [`Self::compensation`] for a round-trip loss model already summed to the position (the fast path
+    /// when one position is evaluated at many frequencies).
+    pub fn compensation_for(&self, m: &LossModel, f: f64, max_gain: f64) -> Complex64 {
         let gain = 10f64.powf(m.db(f) / 20.0).min(max_gain);
         let a_np = m.a_sqrt / NEPER_DB;
         let g = (f / 1e9).max(0.0);

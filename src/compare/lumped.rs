@@ -181,14 +181,22 @@ fn decimate(freqs: &[f64], gamma: &[Complex64], max: usize) -> (Vec<f64>, Vec<Co
         .unzip()
 }
 
-fn residual(m: ModelType, value: f64, delta: f64, f: &[f64], g: &[Complex64], z0: f64) -> f64 {
+/// Sum of |g_k e^{+j 2 pi f_k delta} - Gamma_model(f_k)|^2, with the data already turned back by the
+/// residual delay (`turned`): the same as comparing the model turned forward, at one rotation per point
+/// per delay instead of one per model evaluation.
+fn residual(m: ModelType, value: f64, f: &[f64], turned: &[Complex64], z0: f64) -> f64 {
+    f.iter()
+        .zip(turned)
+        .map(|(&fk, &gk)| (gk - m.gamma(value, fk, z0)).norm_sqr())
+        .sum::<f64>()
+}
+
+/// The data turned back by a residual delay `delta`.
+fn turn(f: &[f64], g: &[Complex64], delta: f64) -> Vec<Complex64> {
     f.iter()
         .zip(g)
-        .map(|(&fk, &gk)| {
-            let rot = Complex64::from_polar(1.0, -2.0 * PI * fk * delta);
-            (gk - m.gamma(value, fk, z0) * rot).norm_sqr()
-        })
-        .sum::<f64>()
+        .map(|(&fk, &gk)| gk * Complex64::from_polar(1.0, 2.0 * PI * fk * delta))
+        .collect()
 }
 
 fn fit_one(
@@ -204,17 +212,18 @@ fn fit_one(
     let step = 0.5 / (2.0 * PI * fmax);
     let n = ((max_delta / step).ceil() as usize).clamp(0, 400);
     let best_value = |delta: f64| -> (f64, f64) {
+        let g = &turn(f, g, delta);
         match m.range(z0) {
-            None => (0.0, residual(m, 0.0, delta, f, g, z0)),
+            None => (0.0, residual(m, 0.0, f, g, z0)),
             Some((lo, hi)) => {
                 // Coarse log grid, then golden section around the best cell.
-                let cells = 24;
+                let cells = 16;
                 let (llo, lhi) = (lo.ln(), hi.ln());
                 let at = |i: usize| llo + (lhi - llo) * i as f64 / cells as f64;
                 let mut bi = 0;
                 let mut br = f64::INFINITY;
                 for i in 0..=cells {
-                    let r = residual(m, at(i).exp(), delta, f, g, z0);
+                    let r = residual(m, at(i).exp(), f, g, z0);
                     if r < br {
                         br = r;
                         bi = i;
@@ -222,8 +231,8 @@ fn fit_one(
                 }
                 let a = at(bi.saturating_sub(1));
                 let b = at((bi + 1).min(cells));
-                let x = golden(a, b, 30, |x| residual(m, x.exp(), delta, f, g, z0));
-                let r = residual(m, x.exp(), delta, f, g, z0);
+                let x = golden(a, b, 30, |x| residual(m, x.exp(), f, g, z0));
+                let r = residual(m, x.exp(), f, g, z0);
                 if r < br {
                     (x.exp(), r)
                 } else {

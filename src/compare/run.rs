@@ -893,8 +893,8 @@ pub fn compare(
             return Ok(());
         }
         let snr = c.snr(mag_c, d_c);
-        let fits = c.fit_event(d_c, x, &chain, Which::Current, engine)?;
         let (fl, gl) = c.local_reflection(d_c, x, &chain, Which::Current, engine)?;
+        let fits = c.fit_local(&fl, &gl, chain.impedance_ohm);
         // The model's residual delay moves the event to where the model puts it.
         let delta = if fits[0].fit_error <= MAX_FIT_ERROR {
             fits[0].delta_s
@@ -1172,8 +1172,8 @@ pub fn locate(
         let snr = a.snr(e.magnitude, e.delay_s);
         let comp = 10f64.powf(chain.loss_to_db(x, f_c, Which::Current) / 20.0);
         let visible = !(chain.as_built && x > visible_end + res_m) && comp <= MAX_COMPENSATION;
-        let fits = a.fit_event(e.delay_s, x, &chain, Which::Current, &mut engine)?;
         let (fl, gl) = a.local_reflection(e.delay_s, x, &chain, Which::Current, &mut engine)?;
+        let fits = a.fit_local(&fl, &gl, chain.impedance_ohm);
         let delta = if fits[0].fit_error <= MAX_FIT_ERROR {
             fits[0].delta_s
         } else {
