@@ -86,9 +86,10 @@ pub fn lobe_shape(window: &Window, bandwidth_hz: f64) -> (LobeShape, f64) {
 
 /// Step at which the growth of the modelled loss is checked along a segment, m.
 pub const PIECE_MAX_M: f64 = 0.05;
-/// Most round-trip loss (at the top of the band) one compensation leaves undone before a new piece starts,
-/// dB: half a dB keeps the uncompensated remainder under the detector's margins (common practice, no source).
-pub const PIECE_MAX_DB: f64 = 0.5;
+/// Round-trip loss (at the top of the band) across one piece, dB. Each piece is compensated to its middle,
+/// so at most 0.75 dB is left undone or overdone at its ends, and less lower in the band; event levels are
+/// then rescaled to their own position (common practice, no source).
+pub const PIECE_MAX_DB: f64 = 1.5;
 
 impl SweepAnalysis {
     /// Analyse S11 `s11` on `freqs` up to round-trip delay `t_max` (clipped to the alias-free time), with
@@ -172,7 +173,12 @@ impl SweepAnalysis {
             if last <= first {
                 continue;
             }
-            let model = chain.loss_model_to(x, which);
+            // Compensate to the middle of the piece, so what is left undone is at most half a piece either way.
+            let x_mid = match xs.get(k + 1) {
+                Some(&x1) => 0.5 * (x + x1),
+                None => x,
+            };
+            let model = chain.loss_model_to(x_mid, which);
             let comp: Vec<Complex64> = if chain.as_built {
                 freqs
                     .iter()
@@ -270,10 +276,33 @@ impl SweepAnalysis {
             let piece = out.piece_at(e.delay_s);
             let (d, m) = refine_exact(&out.pieces[piece].spectrum, e.delay_s, dt);
             e.delay_s = d;
-            e.magnitude = m;
+            // The piece's compensation holds for its middle: rescale to the event's own position.
+            let exact = if chain.as_built {
+                out.weighted_gain(
+                    &chain.loss_model_to(chain.position_of(d, which, None), which),
+                    chain,
+                    &w,
+                )
+            } else {
+                1.0
+            };
+            e.magnitude = m * exact / out.pieces[piece].gain;
         }
         out.events = events;
         Ok(out)
+    }
+
+    /// Window-weighted RMS gain of the compensation for a loss model `m` (how much a reflection there is
+    /// lifted, on average over the band as the window weighs it).
+    fn weighted_gain(&self, m: &super::chain::LossModel, chain: &ChainView, w: &[f64]) -> f64 {
+        let w2: f64 = w.iter().map(|x| x * x).sum();
+        let g2: f64 = self
+            .freqs
+            .iter()
+            .zip(w)
+            .map(|(&f, wn)| wn * wn * chain.compensation_for(m, f, MAX_COMPENSATION).norm_sqr())
+            .sum();
+        (g2 / w2).sqrt()
     }
 
     /// Index of the piece whose stretch holds delay `t`.
