@@ -2,7 +2,7 @@
 //! [--json] [--plot F] [--fail-on SEVERITY] ...`: where the line changed between two sweeps, how badly, why.
 //! Flags become a `coldtrace::compare::job::CompareJob`; the work is `run_compare`.
 
-use super::locate::{analysis_config, figure, line_source, parse_state, LineArgs};
+use super::locate::{analysis_config, figure, inputs, line_source, parse_state, LineArgs};
 use coldtrace::compare::job::{run_compare, CompareJob};
 use coldtrace::compare::text::render_compare;
 use coldtrace::compare::Severity;
@@ -66,7 +66,7 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
             p,
             &figure(&title, &report.plot),
             args.line.force,
-            &[&args.baseline, &args.current],
+            &inputs(&args.line, &[&args.baseline, &args.current]),
         )?;
     }
     if args.line.json {

@@ -35,7 +35,8 @@ pub struct LineArgs {
     /// Draw the traces to an .svg or .png file.
     #[arg(long, value_name = "FILE")]
     pub plot: Option<PathBuf>,
-    /// Show harmless (info) entries in the table too.
+    /// Show every entry in the table; without it compare hides info findings, and locate shows only
+    /// events above info or stronger than -40 dB.
     #[arg(long)]
     pub all: bool,
     /// Replace output files that exist (inputs are never replaced).
@@ -56,6 +57,15 @@ pub struct Args {
     /// Exit with 1 when an event reaches this severity: info, minor, major or critical.
     #[arg(long, value_name = "SEVERITY")]
     pub fail_on: Option<String>,
+}
+
+/// Every file this run read: never to be written over.
+pub fn inputs<'a>(a: &'a LineArgs, sweeps: &[&'a std::path::Path]) -> Vec<&'a std::path::Path> {
+    let mut v = sweeps.to_vec();
+    if let Some(l) = &a.line {
+        v.push(l.as_path());
+    }
+    v
 }
 
 pub fn parse_state(flag: &str, s: &str) -> coldtrace::Result<State> {
@@ -148,7 +158,7 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
             p,
             &figure(&format!("{}: {}", report.line, report.sweep), &report.plot),
             args.line.force,
-            &[&args.sweep],
+            &inputs(&args.line, &[&args.sweep]),
         )?;
     }
     if args.line.json {

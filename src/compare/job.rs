@@ -4,8 +4,9 @@
 
 use super::analysis::SweepAnalysis;
 use super::chain::{ChainView, Which};
+use super::locate::locate;
 use super::report::{CompareReport, LocateReport, StateReport};
-use super::run::{compare, locate, AnalysisConfig, Sweep};
+use super::run::{compare, AnalysisConfig, Sweep};
 use crate::line::{Line, State};
 use crate::touchstone::read_file;
 use crate::{Error, Network, Result, Warning};
@@ -104,7 +105,7 @@ fn infer_states(
         let strong: Vec<f64> = ab
             .events
             .iter()
-            .filter(|e| ab.snr(e.magnitude, e.delay_s) >= super::run::LANDMARK_SNR)
+            .filter(|e| ab.snr(e.magnitude, e.delay_s) >= super::landmarks::LANDMARK_SNR)
             .map(|e| e.delay_s)
             .collect();
         let cost = |bs: State, cs: State| -> f64 {
@@ -295,6 +296,9 @@ pub fn run_compare(job: &CompareJob) -> Result<CompareReport> {
     )?;
     let mut w = wb;
     w.extend(wc);
+    if let Some(l) = &line {
+        w.extend(l.warnings.iter().cloned());
+    }
     w.append(&mut report.warnings);
     report.warnings = w;
     Ok(report)
@@ -305,9 +309,11 @@ pub fn run_locate(job: &LocateJob) -> Result<LocateReport> {
     let (n, w0) = read_sweep(&job.sweep)?;
     let (lo, hi) = band(&n);
     let state = job.state.unwrap_or(State::Cold);
+    let mut line_warnings = Vec::new();
     let chain = match &job.line {
         LineSource::File(p) => {
             let line = crate::line::file::read_file(p)?;
+            line_warnings = line.warnings.clone();
             ChainView::from_line(&line, state, state, lo, hi, 0.5 * (lo + hi))
         }
         LineSource::Uniform { velocity_factor } => uniform_chain(
@@ -327,6 +333,7 @@ pub fn run_locate(job: &LocateJob) -> Result<LocateReport> {
         &job.analysis,
     )?;
     let mut w = w0;
+    w.extend(line_warnings);
     if job.state.is_none() && matches!(job.line, LineSource::File(_)) {
         w.push(Warning::new(
             "state-assumed",

@@ -10,8 +10,11 @@ pub mod align;
 pub mod analysis;
 pub mod chain;
 pub mod detect;
+pub mod explain;
 pub mod from_line;
 pub mod job;
+pub mod landmarks;
+pub mod locate;
 pub mod lumped;
 pub mod report;
 pub mod run;
@@ -19,8 +22,9 @@ pub mod severity;
 pub mod text;
 
 pub use chain::{ChainView, LossModel, Segment, SegmentKind};
+pub use locate::locate;
 pub use report::{CompareReport, FaultKind, Finding, LocateReport};
-pub use run::{compare, locate, AnalysisConfig, Sweep};
+pub use run::{compare, AnalysisConfig, Sweep};
 pub use severity::Severity;
 
 /// Errors of the comparator.

@@ -39,7 +39,8 @@ impl FaultKind {
 pub struct ModelSummary {
     #[serde(rename = "type")]
     pub model: ModelType,
-    /// The model's value in SI units (`unit`): F, ohm or H; 0 for open and short.
+    /// The model's value in SI units (`unit`): F, ohm or H. For an open or short: 0 on a line file's
+    /// compensated trace; on a line of unknown loss, the apparent |rho| (what the line's loss left of 1).
     pub value: f64,
     pub unit: &'static str,
     /// RMS misfit relative to the measured local reflection (0 perfect, 1 no better than nothing).

@@ -1,14 +1,16 @@
 //! Plain-text reports for people, made from the same result structs as the JSON.
 
+use super::explain::metres;
 use super::report::{CompareReport, Event, Finding, LocateReport, NotVisible};
 use super::severity::Severity;
 use crate::Warning;
 use std::fmt::Write;
 
 fn where_col(distance_m: f64, element: &str, connector: &Option<String>) -> String {
+    let at = metres(distance_m);
     match connector {
-        Some(c) => format!("{distance_m:.3} m {element} (near {c})"),
-        None => format!("{distance_m:.3} m {element}"),
+        Some(c) if c != element => format!("{at} {element} (near {c})"),
+        _ => format!("{at} {element}"),
     }
 }
 

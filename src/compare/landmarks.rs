@@ -1,0 +1,323 @@
+//! Landmarks: events seen in both sweeps, chosen, paired and checked for consistency, and the alignment
+//! fitted to them (the per-segment delay scale of `align`, on the line file's elements or, for a line of
+//! unknown construction, on the stretches between landmarks).
+
+use super::align::{AlignProblem, SegmentAlignment};
+use super::analysis::SweepAnalysis;
+use super::chain::{ChainView, Which};
+use super::report::Alignment;
+use super::run::{db, speed_at};
+
+/// Share of the alias-free time inside which landmarks are taken.
+pub const ALIAS_EDGE: f64 = 0.9;
+/// Amplitude signal-to-noise a landmark needs (30 dB).
+pub const LANDMARK_SNR: f64 = 31.6;
+
+/// Largest amplitude change a landmark may show, dB; a larger one is a change, not a landmark.
+pub const LANDMARK_MAX_CHANGE_DB: f64 = 3.0;
+
+/// Landmarks used for the first, coarse match (the strongest).
+pub const FIRST_PASS_LANDMARKS: usize = 6;
+
+/// Most landmarks used in all.
+pub const MAX_LANDMARKS: usize = 24;
+
+/// Least separation of two landmarks, in resolution cells: closer ones disturb each other's peaks.
+pub const LANDMARK_SEPARATION_CELLS: f64 = 4.0;
+
+/// Largest relative change of electrical length the first landmark search allows, warm to cold: PTFE
+/// lines change by a few tenths of a percent; 2 % leaves room for a wrong velocity factor.
+pub const MAX_LENGTH_CHANGE: f64 = 0.02;
+
+/// The pair (baseline index, current index) of events seen in both sweeps.
+pub(super) type Pairs = Vec<(usize, usize)>;
+
+/// Match baseline events to current events by predicted current delay, nearest first, keeping order.
+pub(super) fn match_events(
+    b: &SweepAnalysis,
+    c: &SweepAnalysis,
+    predict: impl Fn(f64) -> f64,
+    tol: impl Fn(f64) -> f64,
+    accept: impl Fn(usize, usize) -> bool,
+) -> Pairs {
+    let mut cand: Vec<(f64, usize, usize)> = Vec::new();
+    for (i, eb) in b.events.iter().enumerate() {
+        let p = predict(eb.delay_s);
+        for (j, ec) in c.events.iter().enumerate() {
+            let miss = (ec.delay_s - p).abs();
+            if miss <= tol(p) && accept(i, j) {
+                cand.push((miss, i, j));
+            }
+        }
+    }
+    cand.sort_by(|x, y| x.0.total_cmp(&y.0));
+    let mut used_b = vec![false; b.events.len()];
+    let mut used_c = vec![false; c.events.len()];
+    let mut pairs: Pairs = Vec::new();
+    for (_, i, j) in cand {
+        if used_b[i] || used_c[j] {
+            continue;
+        }
+        // Keep the order along the line: no crossing pairs.
+        if pairs.iter().any(|&(pi, pj)| (pi < i) != (pj < j)) {
+            continue;
+        }
+        used_b[i] = true;
+        used_c[j] = true;
+        pairs.push((i, j));
+    }
+    pairs.sort();
+    pairs
+}
+
+/// The largest subset of landmark pairs, in order, in which every stretch between consecutive landmarks
+/// (and from the reference plane to the first) changes its delay by no more than [`MAX_LENGTH_CHANGE`]
+/// against the model's prediction, plus what the landmarks' own uncertainty `sigma_s` allows: a
+/// longest-chain search over the pairs (dynamic programming), so one wrong pairing cannot bend the fit.
+pub(super) fn consistent(
+    pairs: &Pairs,
+    b: &SweepAnalysis,
+    c: &SweepAnalysis,
+    predict: impl Fn(f64) -> f64,
+    sigma_s: f64,
+) -> Pairs {
+    let n = pairs.len();
+    let db_ = |k: usize| {
+        if k == 0 {
+            0.0
+        } else {
+            b.events[pairs[k - 1].0].delay_s
+        }
+    };
+    let dc_ = |k: usize| {
+        if k == 0 {
+            0.0
+        } else {
+            c.events[pairs[k - 1].1].delay_s
+        }
+    };
+    let ok = |j: usize, k: usize| {
+        let (tb, tc) = (db_(k) - db_(j), dc_(k) - dc_(j));
+        let tp = predict(db_(k)) - predict(db_(j));
+        tb > 0.0 && tp > 0.0 && ((tc - tp) / tp).abs() <= MAX_LENGTH_CHANGE + 3.0 * sigma_s / tp
+    };
+    // best[k]: most landmarks in a consistent chain ending at k (0 = the reference plane).
+    let mut best = vec![0usize; n + 1];
+    let mut prev = vec![usize::MAX; n + 1];
+    for k in 1..=n {
+        best[k] = 0;
+        for j in 0..k {
+            if (j == 0 || best[j] > 0) && ok(j, k) && best[j] + 1 > best[k] {
+                best[k] = best[j] + 1;
+                prev[k] = j;
+            }
+        }
+    }
+    let mut end = (1..=n).max_by_key(|&k| (best[k], k)).unwrap_or(0);
+    let mut out = Vec::new();
+    while end > 0 && best[end] > 0 {
+        out.push(pairs[end - 1]);
+        end = prev[end];
+    }
+    out.reverse();
+    out
+}
+
+/// Baseline events fit to be landmarks: at least [`LANDMARK_SNR`] above the noise, and, strongest first,
+/// at least `min_sep` (round-trip s) from every stronger one chosen; at most `max` of them.
+pub(super) fn candidates(b: &SweepAnalysis, min_sep: f64, max: usize) -> Vec<bool> {
+    // Echoes near the end of the alias-free time may be folded from beyond it: no landmark there.
+    let edge = ALIAS_EDGE * b.alias_free_s;
+    let mut order: Vec<usize> = (0..b.events.len())
+        .filter(|&i| {
+            b.events[i].delay_s < edge
+                && b.snr(b.events[i].magnitude, b.events[i].delay_s) >= LANDMARK_SNR
+        })
+        .collect();
+    order.sort_by(|&x, &y| b.events[y].magnitude.total_cmp(&b.events[x].magnitude));
+    let mut chosen: Vec<usize> = Vec::new();
+    for i in order {
+        if chosen.len() >= max {
+            break;
+        }
+        if chosen
+            .iter()
+            .all(|&k| (b.events[k].delay_s - b.events[i].delay_s).abs() >= min_sep)
+        {
+            chosen.push(i);
+        }
+    }
+    let mut set = vec![false; b.events.len()];
+    for i in chosen {
+        set[i] = true;
+    }
+    set
+}
+
+/// The fitted alignment: the chain the fit ran on (split at landmarks for a uniform line) and its scales.
+pub(super) struct Fitted {
+    pub(super) chain: ChainView,
+    pub(super) report: Alignment,
+}
+
+pub(super) fn fit_alignment(
+    chain: &ChainView,
+    b: &SweepAnalysis,
+    c: &SweepAnalysis,
+    pairs: &Pairs,
+    reference_hz: f64,
+) -> Fitted {
+    let xs: Vec<f64> = pairs
+        .iter()
+        .map(|&(i, _)| chain.position_of(b.events[i].delay_s, Which::Baseline, None))
+        .collect();
+    let work = if chain.as_built {
+        chain.clone()
+    } else {
+        split_uniform(chain, &xs)
+    };
+    let n = work.segments.len();
+    let tau: Vec<f64> = work.segments.iter().map(|s| s.delay_s[0]).collect();
+    let prior_scale: Vec<f64> = work
+        .segments
+        .iter()
+        .map(|s| {
+            if s.delay_s[0] > 0.0 {
+                s.delay_s[1] / s.delay_s[0]
+            } else {
+                1.0
+            }
+        })
+        .collect();
+    let prior_loss: Vec<f64> = work
+        .segments
+        .iter()
+        .map(|s| s.loss[1].db(reference_hz) - s.loss[0].db(reference_hz))
+        .collect();
+    // The baseline delays of landmarks are measured, not the model's: scale the model's baseline delays so
+    // each landmark sits where the baseline saw it (this absorbs as-built length error).
+    let cover: Vec<Vec<f64>> = xs.iter().map(|&x| work.cover(x)).collect();
+    let sig: Vec<f64> = pairs
+        .iter()
+        .map(|&(i, j)| {
+            let sb = b.resolution_s / (2.0 * b.snr(b.events[i].magnitude, b.events[i].delay_s));
+            let sc = c.resolution_s / (2.0 * c.snr(c.events[j].magnitude, c.events[j].delay_s));
+            (sb * sb + sc * sc).sqrt()
+        })
+        .collect();
+    let sigma_s = if sig.is_empty() {
+        b.resolution_s
+    } else {
+        (sig.iter().map(|s| s * s).sum::<f64>() / sig.len() as f64)
+            .sqrt()
+            .max(1e-15)
+    };
+    let problem = AlignProblem {
+        tau: tau.clone(),
+        prior_scale: prior_scale.clone(),
+        prior_loss_db: prior_loss,
+        cover: cover.clone(),
+        current_delay_s: pairs.iter().map(|&(_, j)| c.events[j].delay_s).collect(),
+        amplitude_change_db: pairs
+            .iter()
+            .map(|&(i, j)| db(c.events[j].magnitude) - db(b.events[i].magnitude))
+            .collect(),
+        sigma_s,
+        sigma_db: 0.5,
+    };
+    // Baseline delays of the landmarks against the model: a per-segment correction of the model's baseline
+    // delays by the same solve (prior 1), so the current scale is relative to what the baseline measured.
+    let base = AlignProblem {
+        tau: tau.clone(),
+        prior_scale: vec![1.0; n],
+        prior_loss_db: vec![0.0; n],
+        cover: cover.clone(),
+        current_delay_s: pairs.iter().map(|&(i, _)| b.events[i].delay_s).collect(),
+        amplitude_change_db: vec![0.0; pairs.len()],
+        sigma_s,
+        sigma_db: 1.0,
+    }
+    .solve();
+    let mut corrected = work.clone();
+    for (s, k) in corrected.segments.iter_mut().zip(&base.scale) {
+        s.delay_s[0] *= k;
+        s.delay_s[1] *= k;
+    }
+    let problem = AlignProblem {
+        tau: corrected.segments.iter().map(|s| s.delay_s[0]).collect(),
+        ..problem
+    };
+    let sol = problem.solve();
+    // Residual in metres, with each landmark's own position uncertainty.
+    let mut acc = 0.0;
+    for (k, &x) in xs.iter().enumerate() {
+        let v = speed_at(&corrected, x, Which::Current);
+        acc += (sol.residual_s[k] * v).powi(2) + (sig[k] * v).powi(2);
+    }
+    let residual_m = if xs.is_empty() {
+        f64::NAN
+    } else {
+        (acc / xs.len() as f64).sqrt()
+    };
+    let far = pairs
+        .last()
+        .map(|&(i, j)| c.events[j].delay_s / b.events[i].delay_s - 1.0);
+    let segments = corrected
+        .segments
+        .iter()
+        .enumerate()
+        .map(|(j, s)| SegmentAlignment {
+            element: s.name.clone(),
+            delay_scale: sol.scale[j],
+            loss_change_db: sol.loss_change_db[j],
+            start_m: s.start_m,
+            end_m: s.end_m,
+            baseline_delay_s: s.delay_s[0],
+            constrained: sol.constrained[j],
+        })
+        .collect();
+    // The map used from here: baseline delays as measured, current delays = baseline x fitted scale.
+    let mut chain_fit = corrected;
+    for (s, k) in chain_fit.segments.iter_mut().zip(&sol.scale) {
+        s.delay_s[1] = s.delay_s[0] * k;
+    }
+    Fitted {
+        chain: chain_fit,
+        report: Alignment {
+            residual_m,
+            segments,
+            landmarks_m: xs,
+            electrical_length_change: far.unwrap_or(0.0),
+        },
+    }
+}
+
+/// A uniform chain split at landmark positions into segments named by their extent.
+pub(super) fn split_uniform(chain: &ChainView, xs: &[f64]) -> ChainView {
+    let seg = &chain.segments[0];
+    let len = seg.end_m - seg.start_m;
+    let mut cuts: Vec<f64> = xs
+        .iter()
+        .copied()
+        .filter(|&x| x > 0.0 && x < seg.end_m)
+        .collect();
+    cuts.sort_by(|a, b| a.total_cmp(b));
+    cuts.dedup_by(|a, b| (*a - *b).abs() < 1e-6);
+    let mut edges = vec![seg.start_m];
+    edges.extend(cuts);
+    edges.push(seg.end_m);
+    let mut out = chain.clone();
+    out.segments = edges
+        .windows(2)
+        .map(|w| {
+            let mut s = seg.clone();
+            s.start_m = w[0];
+            s.end_m = w[1];
+            let f = (w[1] - w[0]) / len;
+            s.delay_s = [seg.delay_s[0] * f, seg.delay_s[1] * f];
+            s.name = format!("{:.3}..{:.3} m", w[0], w[1]);
+            s
+        })
+        .collect();
+    out
+}
