@@ -1,6 +1,6 @@
 //! Reading speed of the Touchstone reader on a 100k-point RI 1-port file generated in memory, beside a
 //! plain baseline (split lines and whitespace, `str::parse::<f64>`), both as bytes per second.
-//! Target: the reader at >= 200 MB/s on one core. Results: docs/performance-touchstone.md.
+//! Target: the reader at >= 200 MB/s on one core. Results: docs/performance.md (section touchstone).
 
 use coldtrace::touchstone::{read_str, write, Format, WriteOptions};
 use coldtrace::Network;
