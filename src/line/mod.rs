@@ -6,7 +6,8 @@
 //! whose cables come from the [`catalogue`] or the file. [`materials`] gives material data against
 //! temperature, [`physics`] turns a section of line at a temperature into its propagation constant and
 //! characteristic impedance, [`abcd`] holds the 2x2 chain-matrix algebra, [`position`] maps delay to
-//! as-built position, [`thermal`] reports the expected warm -> cold change, [`fault`] parses and models
+//! as-built position, [`thermal`] reports the expected warm -> cold change, [`conduction`] gives a cable's
+//! steady-state temperature profile between stages, [`fault`] parses and models
 //! faults, [`simulate`](mod@simulate) cascades it all into a [`Network`](crate::Network), and
 //! [`visibility`](mod@visibility) says what a sweep of a given noise floor can see of each element.
 //!
@@ -23,6 +24,7 @@
 pub mod abcd;
 pub mod catalogue;
 pub mod chain;
+pub mod conduction;
 pub mod fault;
 pub mod file;
 pub mod materials;
