@@ -88,7 +88,7 @@ pub fn profile(kind: &CableKind, t_from: f64, t_to: f64, n: usize) -> Vec<f64> {
         theta[i] = theta[i - 1] + 0.5 * (g[i] + g[i - 1]) * (ts[i] - ts[i - 1]).abs();
     }
     let total = theta[m];
-    if !(total > 0.0) {
+    if total.is_nan() || total <= 0.0 {
         // No conduction data (a dielectric-only kind): fall back to the linear profile.
         return (0..=n)
             .map(|i| t_from + (t_to - t_from) * i as f64 / n as f64)
