@@ -41,9 +41,11 @@ fn a_short_behind_the_attenuator_reads_at_the_reported_loss() {
         assert!((j4.min_visible_rho.unwrap() / want_rho - 1.0).abs() < 1e-12);
 
         let map = LineMap::new(&line, state);
-        let mut config = TraceConfig::default();
-        config.peak_count = 10;
-        config.peak_floor_db = 80.0;
+        let config = TraceConfig {
+            peak_count: 10,
+            peak_floor_db: 80.0,
+            ..TraceConfig::default()
+        };
         let out = run_trace(
             &mut TraceEngine::new(),
             &net.freqs_hz,
