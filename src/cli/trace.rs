@@ -1,11 +1,15 @@
 //! `coldtrace trace FILE [--mode M] [--window W] [--span A..B] [--step S] [--vf V] [--gate A..B --out F]
-//! [--gate-window W] [--csv F] [--json] [--plot F.svg|F.png] [--resample] [--padding N] [--force]`: time-domain trace of S11.
+//! [--gate-window W] [--csv F] [--json] [--plot F.svg|F.png] [--resample] [--padding N] [--force]
+//! [--line LINE [--state warm|cold]]`: time-domain trace of S11.
 //! Flags become a `coldtrace::transform::TraceConfig`; the work is `coldtrace::transform::run_trace`.
+//! With `--line` the distance axis is the line's as-built metres (`coldtrace::line::LineMap`), with its
+//! connectors, attenuators and device marked.
 
+use coldtrace::line::{file::read_file as line_file, LineMap, State};
 use coldtrace::report::write_plot;
 use coldtrace::touchstone::{read_file, write_file, WriteOptions};
 use coldtrace::transform::{
-    run_trace, Mode, TraceConfig, TraceEngine, TracePlan, UniformLine, Window,
+    run_trace, DistanceMap, Mode, TraceConfig, TraceEngine, TracePlan, UniformLine, Window,
     DEFAULT_VELOCITY_FACTOR,
 };
 use coldtrace::units::{self, Family};
@@ -31,8 +35,16 @@ pub struct Args {
     #[arg(long, value_name = "LENGTH")]
     pub step: Option<String>,
     /// Velocity factor of the line; 0.695 is solid PTFE, er about 2.07 (common practice).
-    #[arg(long, default_value_t = DEFAULT_VELOCITY_FACTOR, value_name = "VF")]
+    #[arg(long, default_value_t = DEFAULT_VELOCITY_FACTOR, value_name = "VF", conflicts_with = "line")]
     pub vf: f64,
+    /// A line file (TOML, docs/line-file.md): the axis becomes its as-built metres, connectors,
+    /// attenuators and the device are marked on the plot and listed in the JSON `landmarks`.
+    #[arg(long, value_name = "LINE")]
+    pub line: Option<PathBuf>,
+    /// With --line: the state the sweep was taken in, warm (all at 295 K) or cold (every stage at its
+    /// temperature). Default cold, the state a cryostat line is usually measured in.
+    #[arg(long, default_value = "cold", value_name = "STATE", requires = "line")]
+    pub state: String,
     /// Time gate in distance, e.g. 0.9m..1.1m; the gated sweep is written to --out.
     #[arg(long, value_name = "A..B", requires = "out")]
     pub gate: Option<String>,
@@ -96,7 +108,17 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
         .transpose()?;
     let gate_shape = Window::parse(&args.gate_window)
         .map_err(|e| Error::Usage(format!("--gate-window: {e}")))?;
-    let map = UniformLine::new(args.vf).map_err(|e| Error::Usage(format!("--vf: {e}")))?;
+    let uniform = UniformLine::new(args.vf).map_err(|e| Error::Usage(format!("--vf: {e}")))?;
+    let state: State = args
+        .state
+        .parse()
+        .map_err(|e: String| Error::Usage(format!("--state: {e}")))?;
+    let line = args.line.as_deref().map(line_file).transpose()?;
+    let line_map = line.as_ref().map(|l| LineMap::new(l, state));
+    let map: &dyn DistanceMap = match &line_map {
+        Some(m) => m,
+        None => &uniform,
+    };
 
     let ts = read_file(&args.input)?;
     let net = &ts.network;
@@ -127,13 +149,17 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
     };
     let mut engine = TraceEngine::new();
     let mut outcome =
-        run_trace(&mut engine, &net.freqs_hz, &values, &config, &map).map_err(in_file)?;
+        run_trace(&mut engine, &net.freqs_hz, &values, &config, map).map_err(in_file)?;
     let mut warnings = ts.warnings.clone();
     warnings.extend(extra);
+    if let Some(l) = &line {
+        warnings.extend(l.warnings.iter().cloned());
+    }
     warnings.append(&mut outcome.trace.warnings);
     outcome.trace.warnings = warnings;
 
-    let inputs = [args.input.as_path()];
+    let mut inputs = vec![args.input.as_path()];
+    inputs.extend(args.line.as_deref());
     if let (Some(out), Some(g)) = (&args.out, &outcome.gated) {
         let gated = Network::one_port(net.freqs_hz.clone(), g.values.clone(), reference_ohm);
         let mut opts = WriteOptions::default();

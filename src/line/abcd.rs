@@ -58,6 +58,22 @@ impl Abcd {
         }
     }
 
+    /// As [`Abcd::line`], with cosh and sinh from one complex exponential e^{gamma len} and its
+    /// reciprocal (one exp and sin/cos instead of four); agrees with it to ~1e-15 absolute (tested).
+    #[inline]
+    pub fn line_from_exp(z0: Complex64, gamma: Complex64, len: f64) -> Abcd {
+        let e = (gamma * len).exp();
+        let ei = e.inv();
+        let ch = (e + ei) * 0.5;
+        let sh = (e - ei) * 0.5;
+        Abcd {
+            a: ch,
+            b: z0 * sh,
+            c: sh / z0,
+            d: ch,
+        }
+    }
+
     /// Cascade: `self` followed by `next` (matrix product self * next).
     pub fn then(&self, next: &Abcd) -> Abcd {
         Abcd {

@@ -517,6 +517,78 @@ impl Material {
     }
 }
 
+/// A conductor's surface impedance at one temperature, reduced to frequency-independent coefficients so
+/// that many frequencies cost one cube root each: R_normal = cbrt(a3 f^1.5 + b3 f^2) (or kc sqrt f when
+/// there is no anomalous term), with the superconducting blend R = wn R_normal(f) + wr f^2, X = wn X_normal(f).
+/// [`SurfaceCoeffs::eval`] equals [`Material::surface_impedance`] to rounding (tested).
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct SurfaceCoeffs {
+    /// Classical skin effect: r_cl = kc sqrt(f).
+    pub kc: f64,
+    /// r_cl^3 = a3 f^1.5 and r_inf^3 = b3 f^2; b3 = 0 without the anomalous skin effect.
+    pub a3: f64,
+    pub b3: f64,
+    /// Weight of the normal-state impedance and of the residual f^2 term (1 and 0 for a normal metal).
+    pub wn: f64,
+    pub wr: f64,
+}
+
+impl SurfaceCoeffs {
+    /// (R_s, X_s) at `f_hz`, given `sqrt_f` = sqrt(f_hz), ohm.
+    #[inline]
+    pub fn eval(&self, f_hz: f64, sqrt_f: f64) -> (f64, f64) {
+        if f_hz <= 0.0 {
+            return (0.0, 0.0);
+        }
+        let (rn, xn) = if self.b3 == 0.0 {
+            let r = self.kc * sqrt_f;
+            (r, r)
+        } else {
+            let a3 = self.a3 * f_hz * sqrt_f;
+            let b3 = self.b3 * f_hz * f_hz;
+            let r = (a3 + b3).cbrt();
+            (r, r * (a3 + 3f64.sqrt() * b3) / (a3 + b3))
+        };
+        (self.wn * rn + self.wr * f_hz * f_hz, self.wn * xn)
+    }
+}
+
+impl Material {
+    /// The frequency-independent coefficients of [`Material::surface_impedance`] at `t_k`.
+    pub fn surface_coeffs(self, t_k: f64) -> SurfaceCoeffs {
+        let Some(c) = self.conductor() else {
+            return SurfaceCoeffs {
+                kc: 0.0,
+                a3: 0.0,
+                b3: 0.0,
+                wn: 0.0,
+                wr: 0.0,
+            };
+        };
+        let pi = std::f64::consts::PI;
+        let (t_normal, wn, wr) = match c.tc_k {
+            Some(tc) if t_k < tc => {
+                let xnorm = (t_k / tc).powi(4);
+                (tc, xnorm, (1.0 - xnorm) * RS_RESIDUAL_SC_10GHZ / 1e20)
+            }
+            _ => (t_k, 1.0, 0.0),
+        };
+        let kc = (pi * MU0 * self.resistivity(t_normal)).sqrt();
+        let b3 = match c.rho_l {
+            // r_inf^3 = sqrt(3) (2 pi f)^2 mu0^2 rho_l / (16 pi).
+            Some(rho_l) => 3f64.sqrt() * 4.0 * pi * pi * MU0 * MU0 * rho_l / (16.0 * pi),
+            None => 0.0,
+        };
+        SurfaceCoeffs {
+            kc,
+            a3: kc.powi(3),
+            b3,
+            wn,
+            wr,
+        }
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -535,5 +607,34 @@ mod tests {
         assert_eq!(interp(&t, -5.0), 0.0);
         assert!((interp(&t, 15.0) - 2.0).abs() < 1e-12);
         assert!((interp(&t, 25.0) - 4.0).abs() < 1e-12);
+    }
+
+    #[test]
+    fn surface_coefficients_match_the_direct_surface_impedance() {
+        use Material::*;
+        for m in [
+            Copper,
+            Silver,
+            Stainless304,
+            Cupronickel,
+            SilverPlatedCupronickel,
+            Brass,
+            Nbti,
+            Niobium,
+            Ptfe,
+        ] {
+            for t in [0.015, 1.0, 3.0, 8.0, 9.5, 20.0, 77.0, 150.0, 295.0] {
+                let c = m.surface_coeffs(t);
+                for f in [1e6, 3.3e7, 1e9, 5.5e9, 2e10, 4e10] {
+                    let (r0, x0) = m.surface_impedance(f, t);
+                    let (r1, x1) = c.eval(f, f.sqrt());
+                    let tol = 1e-12 * r0.abs().max(x0.abs()).max(1e-300);
+                    assert!(
+                        (r0 - r1).abs() <= tol && (x0 - x1).abs() <= tol,
+                        "{m:?} {t} K {f} Hz: ({r0}, {x0}) vs ({r1}, {x1})"
+                    );
+                }
+            }
+        }
     }
 }

@@ -6,8 +6,10 @@
 //! whose cables come from the [`catalogue`] or the file. [`materials`] gives material data against
 //! temperature, [`physics`] turns a section of line at a temperature into its propagation constant and
 //! characteristic impedance, [`abcd`] holds the 2x2 chain-matrix algebra, [`position`] maps delay to
-//! as-built position, [`thermal`] reports the expected warm -> cold change, [`fault`] parses and models
-//! faults, and [`simulate`](mod@simulate) cascades it all into a [`Network`](crate::Network).
+//! as-built position, [`thermal`] reports the expected warm -> cold change, [`conduction`] gives a cable's
+//! steady-state temperature profile between stages, [`fault`] parses and models
+//! faults, [`simulate`](mod@simulate) cascades it all into a [`Network`](crate::Network), and
+//! [`visibility`](mod@visibility) says what a sweep of a given noise floor can see of each element.
 //!
 //! Conventions used throughout this layer:
 //! - Time dependence e^{+j omega t}; a section of length l multiplies a forward wave by e^{-gamma l},
@@ -22,6 +24,7 @@
 pub mod abcd;
 pub mod catalogue;
 pub mod chain;
+pub mod conduction;
 pub mod fault;
 pub mod file;
 pub mod materials;
@@ -30,12 +33,14 @@ pub mod position;
 pub mod rng;
 pub mod simulate;
 pub mod thermal;
+pub mod visibility;
 
 pub use chain::{Element, ElementKind, Line, Load, Stage, State};
 pub use fault::{Fault, FaultKind, FaultTarget};
 pub use position::{LineMap, Place};
 pub use simulate::{simulate, SimConfig};
 pub use thermal::{PullBack, ThermalChange};
+pub use visibility::{visibility, Visibility};
 
 use std::path::PathBuf;
 

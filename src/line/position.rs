@@ -178,6 +178,39 @@ impl Line {
     }
 }
 
+impl crate::transform::DistanceMap for LineMap<'_> {
+    fn distance_m(&self, round_trip_s: f64) -> f64 {
+        LineMap::distance_m(self, round_trip_s)
+    }
+    fn round_trip_s(&self, distance_m: f64) -> f64 {
+        LineMap::round_trip_s(self, distance_m)
+    }
+    fn describe(&self) -> String {
+        LineMap::describe(self)
+    }
+    /// Every connector and attenuator (at its centre) and the first device (at its start, where
+    /// reflection stops), among the elements reflection can see.
+    fn landmarks(&self) -> Vec<crate::transform::Landmark> {
+        self.line
+            .visible()
+            .iter()
+            .filter(|e| !matches!(e.kind, ElementKind::Cable { .. }))
+            .map(|e| {
+                let x = match e.kind {
+                    ElementKind::Device { .. } => e.start_m,
+                    _ => e.start_m + 0.5 * e.length_m,
+                };
+                crate::transform::Landmark {
+                    name: e.name.clone(),
+                    kind: e.kind_name().to_string(),
+                    distance_m: x,
+                    round_trip_s: LineMap::round_trip_s(self, x),
+                }
+            })
+            .collect()
+    }
+}
+
 /// A line in one state as a delay <-> distance map (for the time-domain layer's distance axis).
 #[derive(Debug, Clone)]
 pub struct LineMap<'a> {
@@ -214,8 +247,11 @@ impl<'a> LineMap<'a> {
             State::Cold => "cold",
         };
         format!(
-            "line '{}' ({state}), as-built metres, group delay at {:.3} GHz",
+            "line '{}' ({state}), as-built metres, {} elements over {:.4} m, round trip {:.4} ns to the end, group delay at {:.3} GHz",
             self.line.name,
+            self.line.visible().len(),
+            self.line.length_m(),
+            self.round_trip_s(self.line.length_m()) * 1e9,
             self.profile.reference_frequency_hz / 1e9
         )
     }

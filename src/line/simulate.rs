@@ -13,7 +13,7 @@ use super::abcd::{reflection, Abcd};
 use super::chain::{ElementKind, Line, Load, State};
 use super::fault::{Fault, FaultKind};
 use super::materials::C0;
-use super::physics::SectionState;
+use super::physics::{SectionCoeffs, SectionState};
 use super::position::slices;
 use super::rng::Rng;
 use super::LineError;
@@ -59,24 +59,33 @@ impl SimConfig {
 /// One frequency-independent block of the cascade.
 #[derive(Debug, Clone)]
 enum Block {
-    Line { st: SectionState, length_m: f64 },
+    /// A uniform section (its slice's coefficients); `length_m` is as built.
+    Line {
+        co: SectionCoeffs,
+        length_m: f64,
+    },
     SeriesC(f64),
     SeriesR(f64),
     SeriesL(f64),
     ShuntC(f64),
     ShuntG(f64),
-    Atten { gain: f64, delay_s: f64, z0: f64 },
+    Atten {
+        gain: f64,
+        delay_s: f64,
+        z0: f64,
+    },
     End(Load),
 }
 
 impl Block {
-    fn abcd(&self, f: f64) -> Abcd {
+    /// The block's chain matrix at `f` (`sqrt_f` = sqrt(f), computed once per frequency).
+    fn abcd(&self, f: f64, sqrt_f: f64) -> Abcd {
         let w = 2.0 * PI * f;
         let j = Complex64::new(0.0, 1.0);
         match *self {
-            Block::Line { ref st, length_m } => {
-                let (g, z0) = st.gamma_z0(f);
-                Abcd::line(z0, g, length_m * st.length_scale)
+            Block::Line { ref co, length_m } => {
+                let (g, z0) = co.gamma_z0(f, sqrt_f);
+                Abcd::line_from_exp(z0, g, length_m * co.length_scale)
             }
             Block::SeriesC(c) => {
                 if w == 0.0 {
@@ -148,7 +157,7 @@ fn blocks(line: &Line, state: State, faults: &[(usize, f64, Fault)], two_port: b
                     };
                     for s in slices(e, state, x0, x1) {
                         out.push(Block::Line {
-                            st: SectionState::new(&kind, s.t_k, line.ptfe_model),
+                            co: SectionState::new(&kind, s.t_k, line.ptfe_model).coeffs(),
                             length_m: s.length_m,
                         });
                     }
@@ -243,6 +252,7 @@ pub fn simulate(line: &Line, config: &SimConfig) -> Result<Network, LineError> {
     let ports = if config.two_port { 2 } else { 1 };
     let mut s = Vec::with_capacity(config.freqs_hz.len() * ports * ports);
     for &f in &config.freqs_hz {
+        let sqrt_f = f.sqrt();
         let mut m = Abcd::IDENTITY;
         let mut end = Load::Match;
         for b in &blocks {
@@ -250,7 +260,7 @@ pub fn simulate(line: &Line, config: &SimConfig) -> Result<Network, LineError> {
                 end = *load;
                 break;
             }
-            m = m.then(&b.abcd(f));
+            m = m.then(&b.abcd(f, sqrt_f));
         }
         if config.two_port {
             let [s11, s12, s21, s22] = m.to_s(z_ref);

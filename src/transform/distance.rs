@@ -25,6 +25,22 @@ pub trait DistanceMap {
     fn velocity_factor(&self) -> Option<f64> {
         None
     }
+    /// Named places along the line (connectors, attenuators, devices), for plot markers and the JSON;
+    /// empty for a map that knows no line.
+    fn landmarks(&self) -> Vec<Landmark> {
+        Vec::new()
+    }
+}
+
+/// A named place along the line: one-way as-built distance from the reference plane, m.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct Landmark {
+    pub name: String,
+    /// What it is, e.g. "connector", "attenuator", "device".
+    pub kind: String,
+    pub distance_m: f64,
+    /// Round-trip time of an echo from there, s.
+    pub round_trip_s: f64,
 }
 
 /// A line with one velocity factor: x = c0 * vf * t / 2.

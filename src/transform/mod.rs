@@ -27,7 +27,7 @@ pub mod trace;
 pub mod window;
 
 pub use czt::{ChirpZ, FftCache};
-pub use distance::{DistanceMap, UniformLine, C0_M_PER_S, DEFAULT_VELOCITY_FACTOR};
+pub use distance::{DistanceMap, Landmark, UniformLine, C0_M_PER_S, DEFAULT_VELOCITY_FACTOR};
 pub use error::TransformError;
 pub use gate::{gate, gate_with, GatePlan, Gated};
 pub use outcome::{run_trace, TraceConfig, TraceOutcome};

@@ -7,7 +7,7 @@ use super::peak::{find_peaks, refine_peak};
 use super::plan::{Mode, TracePlan};
 use super::trace::{Spectrum, Trace, TraceEngine};
 use super::{DistanceMap, TransformError, Window};
-use crate::report::{Figure, Series};
+use crate::report::{Figure, Marker, Series};
 use num_complex::Complex64;
 use std::fmt::Write;
 
@@ -178,6 +178,10 @@ impl Trace {
             x: self.axis_m.clone(),
             y: self.values.clone(),
         });
+        fig.markers.extend(self.landmarks.iter().map(|l| Marker {
+            x: l.distance_m,
+            label: l.name.clone(),
+        }));
         if self.mode == Mode::BandPass {
             // Show 100 dB below the strongest point, the useful range of a -92 dB window.
             let top = self

@@ -33,6 +33,9 @@ pub struct Trace {
     pub distance_map: String,
     #[serde(skip_serializing_if = "Option::is_none")]
     pub velocity_factor: Option<f64>,
+    /// Named places of the line the distance map follows (empty for a uniform line).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub landmarks: Vec<super::Landmark>,
     pub reference_ohm: f64,
     pub warnings: Vec<Warning>,
     /// Strongest peaks (filled by [`super::outcome::run_trace`]; empty from [`TraceEngine::trace`]).
@@ -237,6 +240,7 @@ impl TraceEngine {
             window: plan.window.info(),
             distance_map: map.describe(),
             velocity_factor: map.velocity_factor(),
+            landmarks: map.landmarks(),
             reference_ohm: plan.reference_ohm,
             warnings,
             peaks: Vec::new(),
