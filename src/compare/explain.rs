@@ -25,17 +25,22 @@ pub const MAX_FIT_ERROR: f64 = 0.5;
 pub const LOCATION_FLOOR_CELLS: f64 = 0.02;
 
 /// Standard uncertainty of a position (m): resolution over twice the amplitude SNR (the usual estimate for
-/// locating a peak in noise), the model's residual delay, the alignment residual and the length tolerance,
-/// added in quadrature, with a floor.
+/// locating a peak in noise), the model's residual delay, the alignment residual and the length tolerance
+/// over `from_anchor_m`, the as-built distance to the nearest point whose delay was measured (a landmark, or
+/// the reference plane), added in quadrature, with a floor.
 pub(super) fn position_sigma(
     res_m: f64,
     snr: f64,
     delta_m: f64,
     align_m: f64,
-    x: f64,
+    from_anchor_m: f64,
     as_built: bool,
 ) -> f64 {
-    let length = if as_built { LENGTH_TOLERANCE * x } else { 0.0 };
+    let length = if as_built {
+        LENGTH_TOLERANCE * from_anchor_m
+    } else {
+        0.0
+    };
     let align = if align_m.is_finite() { align_m } else { 0.0 };
     ((res_m / (2.0 * snr.max(1e-9))).powi(2)
         + (0.5 * delta_m).powi(2)
@@ -273,35 +278,41 @@ pub fn metres(x: f64) -> String {
     format!("{x:.3} m")
 }
 
-/// Elements reflection cannot see: behind the first device, past the alias-free range, or behind more
-/// round-trip loss than compensation may undo.
+/// Elements reflection cannot see: behind the first device, past the alias-free range, or so far behind
+/// loss that even a total reflection there would stay under the detection threshold. Elements behind more
+/// loss than compensation may undo are still seen, but their levels read low: `capped` lists them.
 pub(super) fn not_visible(
     chain: &ChainView,
     a: &SweepAnalysis,
     which: Which,
     f_c: f64,
-) -> Vec<NotVisible> {
+) -> (Vec<NotVisible>, Vec<String>) {
     let mut out = Vec::new();
+    let mut capped = Vec::new();
     let block = chain.first_blocking();
     let cap_db = 20.0 * MAX_COMPENSATION.log10();
     for (i, s) in chain.segments.iter().enumerate() {
         if !chain.as_built {
             break;
         }
-        let reason = if block.is_some_and(|b| i > b) {
+        let l = chain.loss_to_db(s.start_m, f_c, which);
+        let threshold = super::detect::NOISE_SIGMAS * a.sigma * 10f64.powf(l / 20.0);
+        let reason = if let Some(b) = block.filter(|&b| i > b) {
             Some(format!(
                 "behind '{}', which reflection cannot see through",
-                chain.segments[block.unwrap()].name
+                chain.segments[b].name
             ))
         } else if chain.delay_to(s.start_m, which, None) > a.alias_free_s {
             Some("beyond the sweep's alias-free range".to_string())
+        } else if threshold >= 1.0 {
+            Some(format!(
+                "round-trip loss to it {l:.1} dB puts even a total reflection under the noise"
+            ))
         } else {
-            let l = chain.loss_to_db(s.start_m, f_c, which);
-            (l > cap_db).then(|| {
-                format!(
-                    "round-trip loss to it {l:.1} dB exceeds the {cap_db:.0} dB compensation cap"
-                )
-            })
+            if l > cap_db {
+                capped.push(s.name.clone());
+            }
+            None
         };
         if let Some(reason) = reason {
             out.push(NotVisible {
@@ -310,7 +321,23 @@ pub(super) fn not_visible(
             });
         }
     }
-    out
+    (out, capped)
+}
+
+/// The warning for elements behind more loss than compensation undoes.
+pub(super) fn capped_warning(capped: &[String]) -> Option<crate::Warning> {
+    (!capped.is_empty()).then(|| {
+        crate::Warning::new(
+            "compensation-capped",
+            format!(
+                "behind more than {:.0} dB of round-trip loss, compensation stops at that gain: reflections in {} \
+                 read lower than they are",
+                20.0 * MAX_COMPENSATION.log10(),
+                capped.join(", ")
+            ),
+            "read levels there as lower bounds, or sweep from the other end of the line",
+        )
+    })
 }
 
 pub(super) fn confidence(snr: f64, fit_error: f64) -> f64 {

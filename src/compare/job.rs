@@ -298,6 +298,7 @@ pub fn run_compare(job: &CompareJob) -> Result<CompareReport> {
     w.extend(wc);
     if let Some(l) = &line {
         w.extend(l.warnings.iter().cloned());
+        report.visibility = crate::line::visibility(l, cs, &nc.freqs_hz, report.noise_rms)?;
     }
     w.append(&mut report.warnings);
     report.warnings = w;
@@ -310,11 +311,14 @@ pub fn run_locate(job: &LocateJob) -> Result<LocateReport> {
     let (lo, hi) = band(&n);
     let state = job.state.unwrap_or(State::Cold);
     let mut line_warnings = Vec::new();
+    let mut line = None;
     let chain = match &job.line {
         LineSource::File(p) => {
-            let line = crate::line::file::read_file(p)?;
-            line_warnings = line.warnings.clone();
-            ChainView::from_line(&line, state, state, lo, hi, 0.5 * (lo + hi))
+            let l = crate::line::file::read_file(p)?;
+            line_warnings = l.warnings.clone();
+            let chain = ChainView::from_line(&l, state, state, lo, hi, 0.5 * (lo + hi));
+            line = Some(l);
+            chain
         }
         LineSource::Uniform { velocity_factor } => uniform_chain(
             &job.sweep.display().to_string(),
@@ -332,6 +336,9 @@ pub fn run_locate(job: &LocateJob) -> Result<LocateReport> {
         &chain,
         &job.analysis,
     )?;
+    if let Some(l) = &line {
+        report.visibility = crate::line::visibility(l, state, &n.freqs_hz, report.noise_rms)?;
+    }
     let mut w = w0;
     w.extend(line_warnings);
     if job.state.is_none() && matches!(job.line, LineSource::File(_)) {

@@ -1,6 +1,6 @@
 //! `locate`: every discontinuity one sweep shows, placed on the line and explained.
 
-use super::analysis::{SweepAnalysis, MAX_COMPENSATION};
+use super::analysis::SweepAnalysis;
 use super::chain::{ChainView, Which};
 use super::explain::*;
 use super::report::*;
@@ -42,8 +42,9 @@ pub fn locate(
         let speed = speed_at(&chain, x, Which::Current);
         let res_m = a.resolution_s * speed;
         let snr = a.snr(e.magnitude, e.delay_s);
-        let comp = 10f64.powf(chain.loss_to_db(x, f_c, Which::Current) / 20.0);
-        let visible = !(chain.as_built && x > visible_end + res_m) && comp <= MAX_COMPENSATION;
+        // Detected means seen, unless it lies behind a part reflection cannot see through (then it is a
+        // multiple reflection or leakage, never the part's far side).
+        let visible = !(chain.as_built && x > visible_end + res_m);
         let (fl, gl) = a.local_reflection(e.delay_s, x, &chain, Which::Current, &mut engine)?;
         let fits = a.fit_local(&fl, &gl, chain.impedance_ohm);
         let delta = if fits[0].fit_error <= MAX_FIT_ERROR {
@@ -107,6 +108,8 @@ pub fn locate(
         ));
     }
     let resolution_m = a.resolution_s * speed_at(&chain, 0.0, Which::Current);
+    let (not_visible, capped) = not_visible(&chain, &a, Which::Current, f_c);
+    warnings.extend(capped_warning(&capped));
     Ok(LocateReport {
         line: chain.name.clone(),
         sweep: sweep.name.to_string(),
@@ -114,7 +117,9 @@ pub fn locate(
         resolution_m,
         reference_hz: f_ref,
         events,
-        not_visible: not_visible(&chain, &a, Which::Current, f_c),
+        not_visible,
+        noise_rms: a.sigma,
+        visibility: Vec::new(),
         warnings,
         plot: plot_data(&chain, &[(&a, Which::Current, sweep.name)], &[]),
     })

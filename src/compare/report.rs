@@ -204,6 +204,10 @@ pub struct CompareReport {
     pub not_visible: Vec<NotVisible>,
     #[serde(skip_serializing_if = "Option::is_none")]
     pub power: Option<PowerCheck>,
+    /// RMS magnitude of the noise in the current sweep's uncompensated trace (linear).
+    pub noise_rms: f64,
+    /// With a line file: each element's round-trip loss and the smallest visible |rho| in the current sweep.
+    pub visibility: Vec<crate::line::Visibility>,
     pub warnings: Vec<Warning>,
     #[serde(skip)]
     pub plot: PlotData,
@@ -219,6 +223,11 @@ pub struct LocateReport {
     pub reference_hz: f64,
     pub events: Vec<Event>,
     pub not_visible: Vec<NotVisible>,
+    /// RMS magnitude of the noise in the uncompensated trace (linear, a lone reflection rho reads |rho|).
+    pub noise_rms: f64,
+    /// With a line file: for each element, the round-trip loss to it and the smallest |rho| the noise lets
+    /// one see there (`line::visibility`).
+    pub visibility: Vec<crate::line::Visibility>,
     pub warnings: Vec<Warning>,
     #[serde(skip)]
     pub plot: PlotData,

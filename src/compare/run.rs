@@ -325,7 +325,12 @@ pub fn compare(
             snr,
             delta * speed,
             fit.report.residual_m,
-            x,
+            fit.report
+                .landmarks_m
+                .iter()
+                .chain(std::iter::once(&0.0))
+                .map(|l| (x - l).abs())
+                .fold(f64::INFINITY, f64::min),
             chain.as_built,
         );
         let (mut kind, model, best) = classify(
@@ -487,6 +492,8 @@ pub fn compare(
         &findings,
     );
     let resolution_m = res_s * speed_at(&fit.chain, 0.0, Which::Current);
+    let (not_visible, capped) = not_visible(&chain, &c, Which::Current, f_c);
+    warnings.extend(capped_warning(&capped));
     Ok(CompareReport {
         line: chain.name.clone(),
         baseline: baseline.name.to_string(),
@@ -496,8 +503,10 @@ pub fn compare(
         reference_hz: f_ref,
         alignment: fitted.report.clone(),
         findings,
-        not_visible: not_visible(&chain, &c, Which::Current, f_c),
+        not_visible,
         power,
+        noise_rms: c.sigma,
+        visibility: Vec::new(),
         warnings,
         plot: PlotData::default(),
     }
