@@ -236,3 +236,25 @@ fn weak_fault_20_db_below_a_strong_one_is_still_found() {
         w.reflection_db
     );
 }
+
+#[test]
+fn with_s21_the_observed_drop_is_set_beside_what_the_findings_explain() {
+    // Two-port sweeps (S21 through the chain to a matched port 2): the contact's loss shows in S21 too.
+    let l = line();
+    let mk = |faults: &[&str], seed: u64| {
+        let mut cfg = SimConfig::linear(State::Cold, 0.5e9, 10e9, 2001);
+        cfg.noise_db = Some(-90.0);
+        cfg.seed = seed;
+        cfg.two_port = true;
+        cfg.faults = faults.iter().map(|f| Fault::parse(f).unwrap()).collect();
+        simulate(&l, &cfg).unwrap()
+    };
+    let base = mk(&[], 71);
+    let cur = mk(&["J2:contact=10ohm"], 72);
+    let r = run(&l, State::Cold, State::Cold, &base, &cur);
+    let p = r.power.as_ref().expect("both sweeps have S21");
+    assert_eq!(p.source, "s21");
+    // 10 ohm in series on 50 ohm passes (100/110)^2 of the power: 0.83 dB at every frequency (circuit theory).
+    assert!((p.observed_drop_db - 0.828).abs() < 0.1, "{p:?}");
+    assert!((p.explained_drop_db - p.observed_drop_db).abs() < 0.3, "{p:?}");
+}
