@@ -18,6 +18,7 @@
 pub mod compare;
 pub mod line;
 pub mod network;
+pub mod numeric;
 pub mod output;
 pub mod report;
 pub mod touchstone;

@@ -256,5 +256,8 @@ fn with_s21_the_observed_drop_is_set_beside_what_the_findings_explain() {
     assert_eq!(p.source, "s21");
     // 10 ohm in series on 50 ohm passes (100/110)^2 of the power: 0.83 dB at every frequency (circuit theory).
     assert!((p.observed_drop_db - 0.828).abs() < 0.1, "{p:?}");
-    assert!((p.explained_drop_db - p.observed_drop_db).abs() < 0.3, "{p:?}");
+    assert!(
+        (p.explained_drop_db - p.observed_drop_db).abs() < 0.3,
+        "{p:?}"
+    );
 }

@@ -1,16 +1,15 @@
 //! `locate`: every discontinuity one sweep shows, placed on the line and explained.
 
-use super::analysis::SweepAnalysis;
 use super::chain::{ChainView, Which};
 use super::explain::*;
 use super::report::*;
 use super::run::{
-    band_centre, db, place, plot_data, s11_of, sized, speed_at, t_max, AnalysisConfig, Sweep,
+    analyse, band_centre, db, no_line_file, place, plot_data, sized, speed_at, AnalysisConfig,
+    Sweep,
 };
 use super::severity::Severity;
 use super::CompareError;
 use crate::transform::TraceEngine;
-use crate::Warning;
 
 /// List every discontinuity one sweep shows, explained (`locate`).
 pub fn locate(
@@ -18,20 +17,10 @@ pub fn locate(
     chain: &ChainView,
     cfg: &AnalysisConfig,
 ) -> Result<LocateReport, CompareError> {
-    let s = s11_of(&sweep)?;
     let f = &sweep.network.freqs_hz;
     let chain = sized(chain, &[f]);
     let mut engine = TraceEngine::new();
-    let res0 = super::analysis::lobe_shape(&cfg.window, f[f.len() - 1] - f[0]).1;
-    let a = SweepAnalysis::new(
-        f,
-        &s,
-        &cfg.window,
-        t_max(&chain, Which::Current, res0),
-        &chain,
-        Which::Current,
-        &mut engine,
-    )?;
+    let a = analyse(&sweep, &chain, cfg, Which::Current, &mut engine)?;
     let f_ref = cfg.reference_hz.unwrap_or_else(|| band_centre(f));
     let f_c = band_centre(f);
     let mut warnings = a.warnings.clone();
@@ -100,13 +89,7 @@ pub fn locate(
             explanation,
         });
     }
-    if !chain.as_built {
-        warnings.push(Warning::new(
-            "no-line-file",
-            "no line file: positions are metres of one uniform line and reflections are not loss-compensated",
-            "pass --line LINE for as-built positions, element names and compensated reflections",
-        ));
-    }
+    warnings.extend(no_line_file(&chain));
     let resolution_m = a.resolution_s * speed_at(&chain, 0.0, Which::Current);
     let (not_visible, capped) = not_visible(&chain, &a, Which::Current, f_c);
     warnings.extend(capped_warning(&capped));

@@ -13,6 +13,10 @@ use serde::Serialize;
 use std::f64::consts::PI;
 
 pub use crate::line::fault::gap_capacitance;
+use crate::numeric::golden_min;
+
+/// The bracket left after 30 golden-section steps, relative to the first: 0.618^30.
+const GOLDEN_SHRINK_30: f64 = 5.4e-7;
 
 /// The lumped models a finding can be explained by.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Hash)]
@@ -231,7 +235,9 @@ fn fit_one(
                 }
                 let a = at(bi.saturating_sub(1));
                 let b = at((bi + 1).min(cells));
-                let x = golden(a, b, 30, |x| residual(m, x.exp(), f, g, z0));
+                let x = golden_min(a, b, GOLDEN_SHRINK_30 * (b - a), |x| {
+                    residual(m, x.exp(), f, g, z0)
+                });
                 let r = residual(m, x.exp(), f, g, z0);
                 if r < br {
                     (x.exp(), r)
@@ -254,7 +260,12 @@ fn fit_one(
         }
     }
     if n > 0 {
-        let d = golden(best.0 - step, best.0 + step, 30, |d| best_value(d).1);
+        let d = golden_min(
+            best.0 - step,
+            best.0 + step,
+            GOLDEN_SHRINK_30 * 2.0 * step,
+            |d| best_value(d).1,
+        );
         let (v, r) = best_value(d);
         if r < best.2 {
             best = (d, v, r);
@@ -268,30 +279,6 @@ fn fit_one(
         fit_error: if norm > 0.0 { rms / norm } else { 0.0 },
         delta_s: best.0,
     }
-}
-
-/// Golden-section search for the minimum of a unimodal `f` on [a, b].
-fn golden(mut a: f64, mut b: f64, iters: usize, f: impl Fn(f64) -> f64) -> f64 {
-    let r = (5f64.sqrt() - 1.0) / 2.0;
-    let mut c = b - r * (b - a);
-    let mut d = a + r * (b - a);
-    let (mut fc, mut fd) = (f(c), f(d));
-    for _ in 0..iters {
-        if fc < fd {
-            b = d;
-            d = c;
-            fd = fc;
-            c = b - r * (b - a);
-            fc = f(c);
-        } else {
-            a = c;
-            c = d;
-            fc = fd;
-            d = a + r * (b - a);
-            fd = f(d);
-        }
-    }
-    (a + b) / 2.0
 }
 
 /// The axial gap whose capacitance (by [`gap_capacitance`], the parallel-plate-plus-fringing estimate) is

@@ -63,6 +63,39 @@ pub struct Sweep<'a> {
     pub state: &'static str,
 }
 
+/// One sweep analysed on `chain` in `which` state, up to a little past the chain's far end.
+pub(super) fn analyse(
+    sweep: &Sweep,
+    chain: &ChainView,
+    cfg: &AnalysisConfig,
+    which: Which,
+    engine: &mut TraceEngine,
+) -> Result<SweepAnalysis, CompareError> {
+    let s = s11_of(sweep)?;
+    let f = &sweep.network.freqs_hz;
+    let res0 = super::analysis::lobe_shape(&cfg.window, f[f.len() - 1] - f[0]).1;
+    SweepAnalysis::new(
+        f,
+        &s,
+        &cfg.window,
+        t_max(chain, which, res0),
+        chain,
+        which,
+        engine,
+    )
+}
+
+/// The warning every result of a line of unknown construction carries.
+pub(super) fn no_line_file(chain: &ChainView) -> Option<Warning> {
+    (!chain.as_built).then(|| {
+        Warning::new(
+            "no-line-file",
+            "no line file: positions are metres of one uniform line and reflections are not loss-compensated",
+            "pass --line LINE for as-built positions, element names and compensated reflections",
+        )
+    })
+}
+
 pub(super) fn s11_of(s: &Sweep) -> Result<Vec<Complex64>, CompareError> {
     if s.network.is_empty() {
         return Err(CompareError::Invalid(format!(
@@ -151,43 +184,17 @@ pub fn compare(
     cfg: &AnalysisConfig,
     states: StateReport,
 ) -> Result<CompareReport, CompareError> {
-    let sb = s11_of(&baseline)?;
-    let sc = s11_of(&current)?;
     let chain = sized(
         chain,
         &[&baseline.network.freqs_hz, &current.network.freqs_hz],
     );
     let mut engine = TraceEngine::new();
-    let fb = &baseline.network.freqs_hz;
     let fc = &current.network.freqs_hz;
-    let res0 = super::analysis::lobe_shape(&cfg.window, fb[fb.len() - 1] - fb[0]).1;
-    let b = SweepAnalysis::new(
-        fb,
-        &sb,
-        &cfg.window,
-        t_max(&chain, Which::Baseline, res0),
-        &chain,
-        Which::Baseline,
-        &mut engine,
-    )?;
-    let c = SweepAnalysis::new(
-        fc,
-        &sc,
-        &cfg.window,
-        t_max(&chain, Which::Current, res0),
-        &chain,
-        Which::Current,
-        &mut engine,
-    )?;
+    let b = analyse(&baseline, &chain, cfg, Which::Baseline, &mut engine)?;
+    let c = analyse(&current, &chain, cfg, Which::Current, &mut engine)?;
     let f_ref = cfg.reference_hz.unwrap_or_else(|| band_centre(fc));
     let mut warnings: Vec<Warning> = b.warnings.iter().chain(&c.warnings).cloned().collect();
-    if !chain.as_built {
-        warnings.push(Warning::new(
-            "no-line-file",
-            "no line file: positions are metres of one uniform line and reflections are not loss-compensated",
-            "pass --line LINE for as-built positions, element names and compensated reflections",
-        ));
-    }
+    warnings.extend(no_line_file(&chain));
 
     // Landmarks: strong, well separated events, near where the model puts them, not much changed.
     let res_max = b.resolution_s.max(c.resolution_s);

@@ -108,27 +108,8 @@ pub fn refine_peak(
     let dt = trace.time_s[1] - trace.time_s[0];
     let t_bin = trace.time_s[peak.index];
     let score = |t: f64| spectrum.eval(trace.mode, t).abs();
-    let (mut a, mut b) = (t_bin - dt, t_bin + dt);
-    let g = 0.5 * (5f64.sqrt() - 1.0);
-    let mut c = b - g * (b - a);
-    let mut d = a + g * (b - a);
-    let (mut fc, mut fd) = (score(c), score(d));
-    while (b - a) > REFINE_TOLERANCE * dt {
-        if fc > fd {
-            b = d;
-            d = c;
-            fd = fc;
-            c = b - g * (b - a);
-            fc = score(c);
-        } else {
-            a = c;
-            c = d;
-            fc = fd;
-            d = a + g * (b - a);
-            fd = score(d);
-        }
-    }
-    let t = 0.5 * (a + b);
+    let t =
+        crate::numeric::golden_min(t_bin - dt, t_bin + dt, REFINE_TOLERANCE * dt, |t| -score(t));
     let value = spectrum.eval(trace.mode, t);
     Peak {
         distance_m: distance_of(t),
