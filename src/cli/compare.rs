@@ -2,10 +2,11 @@
 //! [--json] [--plot F] [--fail-on SEVERITY] ...`: where the line changed between two sweeps, how badly, why.
 //! Flags become a `coldtrace::compare::job::CompareJob`; the work is `run_compare`.
 
-use super::locate::{analysis_config, figure, inputs, line_source, parse_state, LineArgs};
+use super::locate::{
+    analysis_config, figure, inputs, line_source, parse_fail_on, parse_state, LineArgs,
+};
 use coldtrace::compare::job::{run_compare, CompareJob};
 use coldtrace::compare::text::render_compare;
-use coldtrace::compare::Severity;
 use coldtrace::report::write_plot;
 use coldtrace::{exit, Error};
 use std::path::PathBuf;
@@ -35,12 +36,7 @@ pub struct Args {
 }
 
 pub fn run(args: Args) -> coldtrace::Result<u8> {
-    let fail_on = Severity::parse(&args.fail_on).ok_or_else(|| {
-        Error::Usage(format!(
-            "--fail-on '{}': use info, minor, major or critical",
-            args.fail_on
-        ))
-    })?;
+    let fail_on = parse_fail_on(&args.fail_on)?;
     let mut analysis = analysis_config(&args.line)?;
     analysis.observed_drop_db = args.power_drop;
     let job = CompareJob {

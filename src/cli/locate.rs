@@ -68,6 +68,15 @@ pub fn inputs<'a>(a: &'a LineArgs, sweeps: &[&'a std::path::Path]) -> Vec<&'a st
     v
 }
 
+/// `--fail-on`'s value.
+pub fn parse_fail_on(s: &str) -> coldtrace::Result<Severity> {
+    Severity::parse(s).ok_or_else(|| {
+        Error::Usage(format!(
+            "--fail-on '{s}': use info, minor, major or critical"
+        ))
+    })
+}
+
 pub fn parse_state(flag: &str, s: &str) -> coldtrace::Result<State> {
     s.parse::<State>()
         .map_err(|e| Error::Usage(format!("{flag}: {e}")))
@@ -131,17 +140,7 @@ pub fn figure(title: &str, data: &PlotData) -> Figure {
 }
 
 pub fn run(args: Args) -> coldtrace::Result<u8> {
-    let fail_on = args
-        .fail_on
-        .as_deref()
-        .map(|s| {
-            Severity::parse(s).ok_or_else(|| {
-                Error::Usage(format!(
-                    "--fail-on '{s}': use info, minor, major or critical"
-                ))
-            })
-        })
-        .transpose()?;
+    let fail_on = args.fail_on.as_deref().map(parse_fail_on).transpose()?;
     let job = LocateJob {
         sweep: args.sweep.clone(),
         line: line_source(&args.line),
