@@ -95,6 +95,13 @@ fn healthy_line_warm_to_cold_has_nothing_above_info() {
     );
 }
 
+/// Two cold sweeps of the test chain, before and after, compared.
+fn cold_pair(l: &Line, before: &[&str], after: &[&str], seed: u64) -> CompareReport {
+    let base = sim(l, State::Cold, before, seed);
+    let cur = sim(l, State::Cold, after, seed + 1);
+    run(l, State::Cold, State::Cold, &base, &cur)
+}
+
 fn serious(r: &CompareReport) -> Vec<&coldtrace::compare::Finding> {
     r.findings
         .iter()
@@ -124,9 +131,7 @@ fn crushed_section_mid_segment_is_placed_within_its_uncertainty() {
 #[test]
 fn open_after_a_connector_is_critical_and_hides_the_rest() {
     let l = line();
-    let base = sim(&l, State::Cold, &[], 31);
-    let cur = sim(&l, State::Cold, &["J2:open"], 32);
-    let r = run(&l, State::Cold, State::Cold, &base, &cur);
+    let r = cold_pair(&l, &[], &["J2:open"], 31);
     let top = &r.findings[0];
     assert_eq!(
         top.place.nearest_connector.as_deref(),
@@ -147,9 +152,7 @@ fn open_after_a_connector_is_critical_and_hides_the_rest() {
 #[test]
 fn contact_resistance_growing_between_two_cold_sweeps() {
     let l = line();
-    let base = sim(&l, State::Cold, &["J2:contact=0.3ohm"], 41);
-    let cur = sim(&l, State::Cold, &["J2:contact=4ohm"], 42);
-    let r = run(&l, State::Cold, State::Cold, &base, &cur);
+    let r = cold_pair(&l, &["J2:contact=0.3ohm"], &["J2:contact=4ohm"], 41);
     let top = &r.findings[0];
     assert_eq!(
         top.place.nearest_connector.as_deref(),
@@ -177,17 +180,11 @@ fn healthy_line_over_100_noise_seeds_has_nothing_above_info() {
 fn two_faults_five_centimetres_apart_are_both_reported() {
     // In the 0.30 m stainless run from 50 K to 4 K: crushes at 0.10 m and 0.15 m.
     let l = line();
-    let base = sim(&l, State::Cold, &[], 51);
-    let cur = sim(
-        &l,
-        State::Cold,
-        &[
-            "50K to 4K@0.10m:crush=35ohm,5mm",
-            "50K to 4K@0.15m:crush=35ohm,5mm",
-        ],
-        52,
-    );
-    let r = run(&l, State::Cold, State::Cold, &base, &cur);
+    let after = [
+        "50K to 4K@0.10m:crush=35ohm,5mm",
+        "50K to 4K@0.15m:crush=35ohm,5mm",
+    ];
+    let r = cold_pair(&l, &[], &after, 51);
     let found: Vec<f64> = serious(&r)
         .iter()
         .filter(|f| f.place.element == "50K to 4K")
@@ -204,19 +201,13 @@ fn two_faults_five_centimetres_apart_are_both_reported() {
 
 #[test]
 fn weak_fault_20_db_below_a_strong_one_is_still_found() {
-    // A strong crush (about -12 dB) and, 8 cm further, a weak one about 20 dB below it.
+    // A strong crush and, 8 cm further, a weak one about 20 dB below it.
     let l = line();
-    let base = sim(&l, State::Cold, &[], 61);
-    let cur = sim(
-        &l,
-        State::Cold,
-        &[
-            "50K to 4K@0.05m:crush=20ohm,6mm",
-            "50K to 4K@0.13m:crush=46.5ohm,6mm",
-        ],
-        62,
-    );
-    let r = run(&l, State::Cold, State::Cold, &base, &cur);
+    let after = [
+        "50K to 4K@0.05m:crush=20ohm,6mm",
+        "50K to 4K@0.13m:crush=46.5ohm,6mm",
+    ];
+    let r = cold_pair(&l, &[], &after, 61);
     let strong = r
         .findings
         .iter()

@@ -34,8 +34,6 @@ pub const FIT_BAND_EDGE: f64 = 0.08;
 pub struct Piece {
     /// First bin of the stretch on the analysis grid, and one past its last.
     pub bins: (usize, usize),
-    /// As-built position the compensation is for, m.
-    pub x_m: f64,
     /// Compensated, windowed, normalised spectrum.
     pub spectrum: BandPassSpectrum,
     /// Window-weighted RMS amplitude gain of the compensation (noise grows by this much).
@@ -48,8 +46,7 @@ pub struct SweepAnalysis {
     pub freqs: Vec<f64>,
     pub s11: Vec<Complex64>,
     pub grid: Grid,
-    /// Round-trip delay of the first analysis point and the spacing, s.
-    pub t0: f64,
+    /// Spacing of the analysis grid, which starts at zero delay, s.
     pub dt: f64,
     /// |h| on the analysis grid (linear, loss-compensated where the chain has a model).
     pub mag: Vec<f64>,
@@ -63,8 +60,6 @@ pub struct SweepAnalysis {
     pub resolution_s: f64,
     /// Alias-free round-trip time 1/df, s.
     pub alias_free_s: f64,
-    /// Largest amplitude gain the compensation applied (linear).
-    pub max_gain: f64,
     pub warnings: Vec<Warning>,
 }
 
@@ -157,7 +152,6 @@ impl SweepAnalysis {
             }
         }
         let mut pieces = Vec::new();
-        let mut max_gain: f64 = 1.0;
         let w_sum: f64 = w.iter().sum();
         for (k, &x) in xs.iter().enumerate() {
             let first = if k == 0 {
@@ -182,7 +176,7 @@ impl SweepAnalysis {
             let comp: Vec<Complex64> = if chain.as_built {
                 freqs
                     .iter()
-                    .map(|&f| chain.compensation_for(&model, f, MAX_COMPENSATION))
+                    .map(|&f| chain.compensation(&model, f, MAX_COMPENSATION))
                     .collect()
             } else {
                 vec![Complex64::new(1.0, 0.0); freqs.len()]
@@ -194,7 +188,6 @@ impl SweepAnalysis {
                 .sum::<f64>()
                 / w2)
                 .sqrt();
-            max_gain = max_gain.max(comp.iter().map(|c| c.norm()).fold(0.0, f64::max));
             let weighted: Vec<Complex64> = s11
                 .iter()
                 .zip(&comp)
@@ -208,7 +201,6 @@ impl SweepAnalysis {
             };
             pieces.push(Piece {
                 bins: (first, last),
-                x_m: x,
                 spectrum,
                 gain,
             });
@@ -260,7 +252,6 @@ impl SweepAnalysis {
             freqs: freqs.to_vec(),
             s11: s11.to_vec(),
             grid,
-            t0: 0.0,
             dt,
             mag,
             gain,
@@ -269,7 +260,6 @@ impl SweepAnalysis {
             events: Vec::new(),
             resolution_s,
             alias_free_s,
-            max_gain,
             warnings,
         };
         for e in &mut events {
@@ -300,7 +290,7 @@ impl SweepAnalysis {
             .freqs
             .iter()
             .zip(w)
-            .map(|(&f, wn)| wn * wn * chain.compensation_for(m, f, MAX_COMPENSATION).norm_sqr())
+            .map(|(&f, wn)| wn * wn * chain.compensation(m, f, MAX_COMPENSATION).norm_sqr())
             .sum();
         (g2 / w2).sqrt()
     }
@@ -361,7 +351,7 @@ impl SweepAnalysis {
             .map(|k| {
                 let fk = self.freqs[k];
                 let comp = if chain.as_built {
-                    chain.compensation_for(&model, fk, MAX_COMPENSATION)
+                    chain.compensation(&model, fk, MAX_COMPENSATION)
                 } else {
                     Complex64::new(1.0, 0.0)
                 };

@@ -9,7 +9,7 @@
 //! a_flat` (conductor, dielectric and flat attenuator parts).
 
 use crate::line::physics::NEPER_DB;
-use crate::transform::{DistanceMap, C0_M_PER_S};
+use crate::transform::C0_M_PER_S;
 use num_complex::Complex64;
 use serde::Serialize;
 
@@ -244,19 +244,14 @@ impl ChainView {
         self.loss_model_to(x, which).db(f)
     }
 
-    /// The factor that undoes the modelled round trip to `x` at `f`: amplitude 10^{L/20} (at most
+    /// The factor that undoes a modelled round trip `m` (from [`Self::loss_model_to`]) at `f`: amplitude
+    /// 10^{L/20} (at most
     /// `max_gain`) and the skin effect's excess phase. A conductor whose surface impedance is (1 + j) Rs
     /// adds as many radians of phase lag as it adds nepers of loss (e.g. Hall and Heck, Advanced Signal
     /// Integrity for High-Speed Digital Designs, Wiley 2009, on causal loss models), so the sqrt(f) part of
     /// the loss, A sqrt(f) nepers, lags the phase by A sqrt(f) rad. The part of that lag linear in f about
     /// the delay reference frequency is already in the segments' group delays, so only the rest is undone.
-    pub fn compensation(&self, x: f64, which: Which, f: f64, max_gain: f64) -> Complex64 {
-        self.compensation_for(&self.loss_model_to(x, which), f, max_gain)
-    }
-
-    /// [`Self::compensation`] for a round-trip loss model already summed to the position (the fast path
-    /// when one position is evaluated at many frequencies).
-    pub fn compensation_for(&self, m: &LossModel, f: f64, max_gain: f64) -> Complex64 {
+    pub fn compensation(&self, m: &LossModel, f: f64, max_gain: f64) -> Complex64 {
         let gain = 10f64.powf(m.db(f) / 20.0).min(max_gain);
         let a_np = m.a_sqrt / NEPER_DB;
         let g = (f / 1e9).max(0.0);
@@ -273,47 +268,6 @@ impl ChainView {
             .filter(|s| s.kind == SegmentKind::Connector)
             .map(|s| (s, (0.5 * (s.start_m + s.end_m) - x).abs()))
             .min_by(|a, b| a.1.total_cmp(&b.1))
-    }
-
-    /// A [`DistanceMap`] for sweep `which` with per-segment scales.
-    pub fn map(&self, which: Which, scale: Option<Vec<f64>>) -> ChainMap<'_> {
-        ChainMap {
-            chain: self,
-            which,
-            scale,
-        }
-    }
-}
-
-/// A chain seen as a distance map in one sweep's state.
-#[derive(Debug, Clone)]
-pub struct ChainMap<'a> {
-    pub chain: &'a ChainView,
-    pub which: Which,
-    pub scale: Option<Vec<f64>>,
-}
-
-impl DistanceMap for ChainMap<'_> {
-    fn distance_m(&self, round_trip_s: f64) -> f64 {
-        self.chain
-            .position_of(round_trip_s, self.which, self.scale.as_deref())
-    }
-    fn round_trip_s(&self, distance_m: f64) -> f64 {
-        self.chain
-            .delay_to(distance_m, self.which, self.scale.as_deref())
-    }
-    fn describe(&self) -> String {
-        if self.chain.as_built {
-            format!(
-                "line '{}' as built ({} segments)",
-                self.chain.name,
-                self.chain.segments.len()
-            )
-        } else {
-            let s = &self.chain.segments[0];
-            let vf = 2.0 * (s.end_m - s.start_m) / (C0_M_PER_S * s.delay_s[self.which as usize]);
-            format!("uniform line, vf {vf:.3}")
-        }
     }
 }
 

@@ -536,7 +536,7 @@ pub(super) fn plot_data(
         .iter()
         .map(|(a, which, name)| {
             let x: Vec<f64> = (0..a.mag.len())
-                .map(|i| chain.position_of(a.t0 + i as f64 * a.dt, *which, None))
+                .map(|i| chain.position_of(i as f64 * a.dt, *which, None))
                 .collect();
             let y: Vec<f64> = a.mag.iter().map(|&m| db(m)).collect();
             (name.to_string(), x, y)
