@@ -246,6 +246,29 @@ fn uniform_chain(name: &str, vf: f64, z0: f64) -> Result<ChainView> {
     Ok(ChainView::uniform(name, vf, 1.0, z0))
 }
 
+/// The line a comparison or location runs on, already read.
+#[derive(Debug, Clone, Copy)]
+pub enum LineModel<'a> {
+    /// A line read from a line file.
+    Line(&'a Line),
+    /// A line of unknown construction with this velocity factor.
+    Uniform { velocity_factor: f64 },
+}
+
+/// Two sweeps already in memory, for [`compare_networks`] (the path scripts, tests and fleet surveys take).
+#[derive(Debug, Clone, Copy)]
+pub struct PairRequest<'a> {
+    /// Name (for reports) and network of the baseline sweep.
+    pub baseline: (&'a str, &'a Network),
+    /// Name and network of the current sweep.
+    pub current: (&'a str, &'a Network),
+    pub line: LineModel<'a>,
+    /// The states, when known; `None` is inferred from the data and reported.
+    pub baseline_state: Option<State>,
+    pub current_state: Option<State>,
+    pub analysis: &'a AnalysisConfig,
+}
+
 /// Run a comparison.
 pub fn run_compare(job: &CompareJob) -> Result<CompareReport> {
     let (nb, wb) = read_sweep(&job.baseline)?;
@@ -254,22 +277,51 @@ pub fn run_compare(job: &CompareJob) -> Result<CompareReport> {
         LineSource::File(p) => Some(crate::line::file::read_file(p)?),
         LineSource::Uniform { .. } => None,
     };
-    let (bs, cs, inferred, basis) = match (job.baseline_state, job.current_state) {
+    let model = match (&line, &job.line) {
+        (Some(l), _) => LineModel::Line(l),
+        (None, LineSource::Uniform { velocity_factor }) => LineModel::Uniform {
+            velocity_factor: *velocity_factor,
+        },
+        (None, LineSource::File(_)) => unreachable!("a line file was read above"),
+    };
+    let bname = job.baseline.display().to_string();
+    let cname = job.current.display().to_string();
+    let mut report = compare_networks(&PairRequest {
+        baseline: (&bname, &nb),
+        current: (&cname, &nc),
+        line: model,
+        baseline_state: job.baseline_state,
+        current_state: job.current_state,
+        analysis: &job.analysis,
+    })?;
+    let mut w = wb;
+    w.extend(wc);
+    w.append(&mut report.warnings);
+    report.warnings = w;
+    Ok(report)
+}
+
+/// Compare two sweeps already in memory.
+pub fn compare_networks(req: &PairRequest) -> Result<CompareReport> {
+    let (bname, nb) = req.baseline;
+    let (cname, nc) = req.current;
+    let line = match req.line {
+        LineModel::Line(l) => Some(l),
+        LineModel::Uniform { .. } => None,
+    };
+    let (bs, cs, inferred, basis) = match (req.baseline_state, req.current_state) {
         (Some(b), Some(c)) => (b, c, false, "given".to_string()),
         (b, c) => {
-            let (ib, ic, why) = infer_states(&nb, &nc, line.as_ref(), &job.analysis);
+            let (ib, ic, why) = infer_states(nb, nc, line, req.analysis);
             (b.unwrap_or(ib), c.unwrap_or(ic), true, why)
         }
     };
-    let (lo, hi) = band(&nc);
-    let chain = match (&line, &job.line) {
-        (Some(l), _) => ChainView::from_line(l, bs, cs, lo, hi, 0.5 * (lo + hi)),
-        (None, LineSource::Uniform { velocity_factor }) => uniform_chain(
-            &job.current.display().to_string(),
-            *velocity_factor,
-            nc.reference_ohm[0],
-        )?,
-        (None, LineSource::File(_)) => unreachable!("a line file was read above"),
+    let (lo, hi) = band(nc);
+    let chain = match req.line {
+        LineModel::Line(l) => ChainView::from_line(l, bs, cs, lo, hi, 0.5 * (lo + hi)),
+        LineModel::Uniform { velocity_factor } => {
+            uniform_chain(cname, velocity_factor, nc.reference_ohm[0])?
+        }
     };
     let states = StateReport {
         baseline: state_name(bs),
@@ -277,26 +329,23 @@ pub fn run_compare(job: &CompareJob) -> Result<CompareReport> {
         inferred,
         basis,
     };
-    let bname = job.baseline.display().to_string();
-    let cname = job.current.display().to_string();
     let mut report = compare(
         Sweep {
-            name: &bname,
-            network: &nb,
+            name: bname,
+            network: nb,
             state: state_name(bs),
         },
         Sweep {
-            name: &cname,
-            network: &nc,
+            name: cname,
+            network: nc,
             state: state_name(cs),
         },
         &chain,
-        &job.analysis,
+        req.analysis,
         states,
     )?;
-    let mut w = wb;
-    w.extend(wc);
-    if let Some(l) = &line {
+    let mut w = Vec::new();
+    if let Some(l) = line {
         w.extend(l.warnings.iter().cloned());
         report.visibility = crate::line::visibility(l, cs, &nc.freqs_hz, report.noise_rms)?;
     }
@@ -308,45 +357,64 @@ pub fn run_compare(job: &CompareJob) -> Result<CompareReport> {
 /// Run a location on one sweep.
 pub fn run_locate(job: &LocateJob) -> Result<LocateReport> {
     let (n, w0) = read_sweep(&job.sweep)?;
-    let (lo, hi) = band(&n);
-    let state = job.state.unwrap_or(State::Cold);
-    let mut line_warnings = Vec::new();
-    let mut line = None;
-    let chain = match &job.line {
-        LineSource::File(p) => {
-            let l = crate::line::file::read_file(p)?;
-            line_warnings = l.warnings.clone();
-            let chain = ChainView::from_line(&l, state, state, lo, hi, 0.5 * (lo + hi));
-            line = Some(l);
-            chain
-        }
-        LineSource::Uniform { velocity_factor } => uniform_chain(
-            &job.sweep.display().to_string(),
-            *velocity_factor,
-            n.reference_ohm[0],
-        )?,
+    let line = match &job.line {
+        LineSource::File(p) => Some(crate::line::file::read_file(p)?),
+        LineSource::Uniform { .. } => None,
+    };
+    let model = match (&line, &job.line) {
+        (Some(l), _) => LineModel::Line(l),
+        (None, LineSource::Uniform { velocity_factor }) => LineModel::Uniform {
+            velocity_factor: *velocity_factor,
+        },
+        (None, LineSource::File(_)) => unreachable!("a line file was read above"),
     };
     let name = job.sweep.display().to_string();
+    let mut report = locate_network(&name, &n, model, job.state, &job.analysis)?;
+    let mut w = w0;
+    w.append(&mut report.warnings);
+    report.warnings = w;
+    Ok(report)
+}
+
+/// Locate every discontinuity of one sweep already in memory; `state` `None` is inferred where the line
+/// allows it, and reported.
+pub fn locate_network(
+    name: &str,
+    n: &Network,
+    line: LineModel,
+    state: Option<State>,
+    analysis: &AnalysisConfig,
+) -> Result<LocateReport> {
+    let (lo, hi) = band(n);
+    let st = state.unwrap_or(State::Cold);
+    let mut w = Vec::new();
+    let chain = match line {
+        LineModel::Line(l) => {
+            w.extend(l.warnings.iter().cloned());
+            ChainView::from_line(l, st, st, lo, hi, 0.5 * (lo + hi))
+        }
+        LineModel::Uniform { velocity_factor } => {
+            uniform_chain(name, velocity_factor, n.reference_ohm[0])?
+        }
+    };
     let mut report = locate(
         Sweep {
-            name: &name,
-            network: &n,
-            state: state_name(state),
+            name,
+            network: n,
+            state: state_name(st),
         },
         &chain,
-        &job.analysis,
+        analysis,
     )?;
-    if let Some(l) = &line {
-        report.visibility = crate::line::visibility(l, state, &n.freqs_hz, report.noise_rms)?;
-    }
-    let mut w = w0;
-    w.extend(line_warnings);
-    if job.state.is_none() && matches!(job.line, LineSource::File(_)) {
-        w.push(Warning::new(
-            "state-assumed",
-            "the sweep's state was not given; the line model is used cold",
-            "pass --state warm for a sweep taken at room temperature",
-        ));
+    if let LineModel::Line(l) = line {
+        report.visibility = crate::line::visibility(l, st, &n.freqs_hz, report.noise_rms)?;
+        if state.is_none() {
+            w.push(Warning::new(
+                "state-assumed",
+                "the sweep's state was not given; the line model is used cold",
+                "pass --state warm for a sweep taken at room temperature",
+            ));
+        }
     }
     w.append(&mut report.warnings);
     report.warnings = w;
