@@ -59,6 +59,8 @@ pub struct AlignProblem {
     pub sigma_s: f64,
     /// Amplitude uncertainty of one landmark, dB.
     pub sigma_db: f64,
+    /// Bounds of each segment's delay scale (physical limits of the state change); `None`: unbounded.
+    pub bounds: Option<(f64, f64)>,
 }
 
 /// The solved alignment.
@@ -66,6 +68,12 @@ pub struct AlignProblem {
 pub struct AlignSolution {
     pub scale: Vec<f64>,
     pub loss_change_db: Vec<f64>,
+    /// Change of the whole trace's level, current over baseline, dB (an amplifier's gain in front of the
+    /// line, a changed source power): it adds to every echo alike.
+    pub level_db: f64,
+    /// Robust weight (0..1) each landmark kept in the amplitude fit: a landmark whose own reflection changed
+    /// is weighed down rather than bending the loss.
+    pub amplitude_weight: Vec<f64>,
     pub constrained: Vec<bool>,
     /// RMS of the landmarks' delay residuals, s.
     pub residual_rms_s: f64,
@@ -93,22 +101,48 @@ impl AlignProblem {
             row[j] = t * w_p;
             rows.push((row, self.prior_scale[j] * t * w_p));
         }
-        let scale = least_squares(n, &rows).unwrap_or_else(|| self.prior_scale.clone());
+        let scale = bounded_least_squares(n, &rows, self.bounds)
+            .unwrap_or_else(|| self.prior_scale.clone());
 
-        // Loss: unknowns L_j (dB, round trip); a landmark's amplitude falls by the loss before it.
+        // Loss: unknowns L_j (dB, round trip) and the level change g (dB); a landmark's amplitude changes by
+        // g less the loss before it. Huber weights (k = 1.5 sigma) keep a changed landmark from bending it.
         let w_a = 1.0 / self.sigma_db.max(1e-6);
-        let w_l = 1.0 / 0.5; // prior loss change known to about 0.5 dB per segment (common practice, no source)
-        let mut rows: Vec<(Vec<f64>, f64)> = Vec::new();
-        for (k, cover) in self.cover.iter().enumerate() {
-            let row: Vec<f64> = (0..n).map(|j| -cover[j] * w_a).collect();
-            rows.push((row, self.amplitude_change_db[k] * w_a));
+        let w_l = 1.0 / LOSS_PRIOR_SIGMA_DB;
+        let w_g = 1.0 / LEVEL_PRIOR_SIGMA_DB;
+        let m = self.cover.len();
+        let mut robust = vec![1.0; m];
+        let mut sol = None;
+        for _ in 0..6 {
+            let mut rows: Vec<(Vec<f64>, f64)> = Vec::new();
+            for (k, cover) in self.cover.iter().enumerate() {
+                let wk = w_a * robust[k];
+                let mut row: Vec<f64> = (0..n).map(|j| -cover[j] * wk).collect();
+                row.push(wk);
+                rows.push((row, self.amplitude_change_db[k] * wk));
+            }
+            for j in 0..n {
+                let mut row = vec![0.0; n + 1];
+                row[j] = w_l;
+                rows.push((row, self.prior_loss_db[j] * w_l));
+            }
+            let mut row = vec![0.0; n + 1];
+            row[n] = w_g;
+            rows.push((row, 0.0));
+            let Some(x) = least_squares(n + 1, &rows) else {
+                break;
+            };
+            for (k, cover) in self.cover.iter().enumerate() {
+                let fit = x[n] - (0..n).map(|j| cover[j] * x[j]).sum::<f64>();
+                let r = (self.amplitude_change_db[k] - fit).abs();
+                let h = 1.5 * self.sigma_db;
+                robust[k] = if r <= h { 1.0 } else { h / r };
+            }
+            sol = Some(x);
         }
-        for j in 0..n {
-            let mut row = vec![0.0; n];
-            row[j] = w_l;
-            rows.push((row, self.prior_loss_db[j] * w_l));
-        }
-        let loss = least_squares(n, &rows).unwrap_or_else(|| self.prior_loss_db.clone());
+        let (loss, level_db) = match sol {
+            Some(x) => (x[..n].to_vec(), x[n]),
+            None => (self.prior_loss_db.clone(), 0.0),
+        };
 
         let residual_s: Vec<f64> = self
             .cover
@@ -130,11 +164,66 @@ impl AlignProblem {
         AlignSolution {
             scale,
             loss_change_db: loss,
+            level_db,
+            amplitude_weight: robust,
             constrained,
             residual_rms_s,
             residual_s,
         }
     }
+}
+
+/// Prior uncertainty of a segment's loss change about the model's, dB (common practice, no source).
+pub const LOSS_PRIOR_SIGMA_DB: f64 = 0.5;
+
+/// Prior uncertainty of the whole trace's level change, dB: wide, so the landmarks decide (an amplifier's
+/// gain can move by several dB on cooling; common practice, no source).
+pub const LEVEL_PRIOR_SIGMA_DB: f64 = 20.0;
+
+/// Least squares with every unknown kept inside `bounds` (an active set: unknowns that leave the bounds
+/// are held at the bound they crossed and the rest solved again, until none leaves).
+pub fn bounded_least_squares(
+    n: usize,
+    rows: &[(Vec<f64>, f64)],
+    bounds: Option<(f64, f64)>,
+) -> Option<Vec<f64>> {
+    let Some((lo, hi)) = bounds else {
+        return least_squares(n, rows);
+    };
+    let mut fixed: Vec<Option<f64>> = vec![None; n];
+    for _ in 0..=n {
+        let free: Vec<usize> = (0..n).filter(|&j| fixed[j].is_none()).collect();
+        let reduced: Vec<(Vec<f64>, f64)> = rows
+            .iter()
+            .map(|(row, rhs)| {
+                let held: f64 = (0..n).filter_map(|j| fixed[j].map(|v| row[j] * v)).sum();
+                (free.iter().map(|&j| row[j]).collect(), rhs - held)
+            })
+            .collect();
+        let x = if free.is_empty() {
+            Vec::new()
+        } else {
+            least_squares(free.len(), &reduced)?
+        };
+        let mut full: Vec<f64> = (0..n).map(|j| fixed[j].unwrap_or(0.0)).collect();
+        for (k, &j) in free.iter().enumerate() {
+            full[j] = x[k];
+        }
+        let mut changed = false;
+        for &j in &free {
+            if full[j] < lo {
+                fixed[j] = Some(lo);
+                changed = true;
+            } else if full[j] > hi {
+                fixed[j] = Some(hi);
+                changed = true;
+            }
+        }
+        if !changed {
+            return Some(full);
+        }
+    }
+    Some((0..n).map(|j| fixed[j].unwrap_or(1.0).clamp(lo, hi)).collect())
 }
 
 /// Solve the overdetermined system `rows` (each a coefficient row and its right-hand side) in the least
@@ -188,10 +277,12 @@ mod tests {
 
     #[test]
     fn recovers_per_segment_scales_from_landmarks_at_segment_ends() {
-        // Three segments, a landmark at the end of each, true scales differ from the prior.
+        // Three segments, a landmark at the reference plane and at the end of each, true scales differ from
+        // the prior.
         let tau = vec![4e-9, 2e-9, 3e-9];
         let truth = [1.0, 0.996, 1.0031];
         let cover = vec![
+            vec![0.0, 0.0, 0.0],
             vec![1.0, 0.0, 0.0],
             vec![1.0, 1.0, 0.0],
             vec![1.0, 1.0, 1.0],
@@ -206,9 +297,10 @@ mod tests {
             prior_loss_db: vec![0.0; 3],
             cover,
             current_delay_s: d,
-            amplitude_change_db: vec![0.5, 1.5, 2.0],
+            amplitude_change_db: vec![0.0, 0.5, 1.5, 2.0],
             sigma_s: 0.2e-12,
             sigma_db: 0.1,
+            bounds: None,
         };
         let s = p.solve();
         for (got, want) in s.scale.iter().zip(truth) {
@@ -219,8 +311,51 @@ mod tests {
         for (got, w) in s.loss_change_db.iter().zip(want) {
             assert!((got - w).abs() < 0.05, "loss change {got} vs {w}");
         }
+        assert!(s.level_db.abs() < 0.05, "level {}", s.level_db);
         assert!(s.residual_rms_s < 1e-14);
         assert!(s.constrained.iter().all(|&c| c));
+    }
+
+    #[test]
+    fn a_gain_change_is_a_level_and_a_changed_landmark_is_weighed_down() {
+        // Five landmarks along one segment; the whole trace rose by 5 dB (an amplifier warmed), the loss did
+        // not change, and the landmark at 0.6 rose by another 8 dB (its own joint changed).
+        let cover: Vec<Vec<f64>> = [0.0, 0.2, 0.4, 0.6, 0.8, 1.0].iter().map(|&c| vec![c]).collect();
+        let amp: Vec<f64> = (0..6).map(|k| if k == 3 { 13.0 } else { 5.0 }).collect();
+        let p = AlignProblem {
+            tau: vec![10e-9],
+            prior_scale: vec![1.0],
+            prior_loss_db: vec![0.0],
+            current_delay_s: cover.iter().map(|c| c[0] * 10e-9).collect(),
+            cover,
+            amplitude_change_db: amp,
+            sigma_s: 0.2e-12,
+            sigma_db: 0.3,
+            bounds: Some((0.998, 1.01)),
+        };
+        let s = p.solve();
+        assert!((s.level_db - 5.0).abs() < 0.3, "level {}", s.level_db);
+        assert!(s.loss_change_db[0].abs() < 0.3, "loss {}", s.loss_change_db[0]);
+        assert!(s.amplitude_weight[3] < 0.2, "weights {:?}", s.amplitude_weight);
+    }
+
+    #[test]
+    fn bounded_scales_stay_inside_their_bounds() {
+        // Landmarks say the segment grew by 3 %, outside what cooling PTFE can do: the scale stops at 1 %.
+        let p = AlignProblem {
+            tau: vec![1e-9, 1e-9],
+            prior_scale: vec![1.0, 1.0],
+            prior_loss_db: vec![0.0, 0.0],
+            cover: vec![vec![1.0, 0.0], vec![1.0, 1.0]],
+            current_delay_s: vec![1.03e-9, 2.03e-9],
+            amplitude_change_db: vec![0.0, 0.0],
+            sigma_s: 0.1e-12,
+            sigma_db: 0.1,
+            bounds: Some((0.998, 1.01)),
+        };
+        let s = p.solve();
+        assert!((s.scale[0] - 1.01).abs() < 1e-12, "{:?}", s.scale);
+        assert!(s.scale[1] >= 0.998 - 1e-12 && s.scale[1] <= 1.01 + 1e-12);
     }
 
     #[test]
@@ -234,6 +369,7 @@ mod tests {
             amplitude_change_db: vec![0.0],
             sigma_s: 0.1e-12,
             sigma_db: 0.1,
+            bounds: None,
         };
         let s = p.solve();
         assert!((s.scale[0] - 1.001).abs() < 1e-5);

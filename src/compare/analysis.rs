@@ -134,7 +134,7 @@ impl SweepAnalysis {
         // PIECE_MAX_DB since the piece began, checked at PIECE_MAX_M steps and at every segment end.
         let f_top = freqs[freqs.len() - 1];
         let mut xs = vec![0.0];
-        if chain.as_built {
+        if chain.compensates() {
             let mut last_db = 0.0;
             for seg in &chain.segments {
                 if seg.start_m >= chain.visible_end_m() {
@@ -144,7 +144,8 @@ impl SweepAnalysis {
                 for k in 1..=n {
                     let x = seg.start_m + (seg.end_m - seg.start_m) * k as f64 / n as f64;
                     let l = chain.loss_to_db(x, f_top, which);
-                    if l - last_db > PIECE_MAX_DB {
+                    // Past the compensation cap every piece would get the same gain: no more pieces.
+                    if l - last_db > PIECE_MAX_DB && last_db < 20.0 * MAX_COMPENSATION.log10() {
                         xs.push(x);
                         last_db = l;
                     }
@@ -173,7 +174,7 @@ impl SweepAnalysis {
                 None => x,
             };
             let model = chain.loss_model_to(x_mid, which);
-            let comp: Vec<Complex64> = if chain.as_built {
+            let comp: Vec<Complex64> = if chain.compensates() {
                 freqs
                     .iter()
                     .map(|&f| chain.compensation(&model, f, MAX_COMPENSATION))
@@ -267,7 +268,7 @@ impl SweepAnalysis {
             let (d, m) = refine_exact(&out.pieces[piece].spectrum, e.delay_s, dt);
             e.delay_s = d;
             // The piece's compensation holds for its middle: rescale to the event's own position.
-            let exact = if chain.as_built {
+            let exact = if chain.compensates() {
                 out.weighted_gain(
                     &chain.loss_model_to(chain.position_of(d, which, None), which),
                     chain,
@@ -304,6 +305,11 @@ impl SweepAnalysis {
             .unwrap_or(self.pieces.len().saturating_sub(1))
     }
 
+    /// Amplitude gain of the compensation at delay `t` (1 where nothing is compensated).
+    pub fn gain_at(&self, t: f64) -> f64 {
+        self.pieces[self.piece_at(t)].gain
+    }
+
     /// Compensated complex band-pass response at delay `t` (exact sum).
     pub fn h(&self, t: f64) -> Complex64 {
         self.pieces[self.piece_at(t)].spectrum.eval(t)
@@ -336,8 +342,11 @@ impl SweepAnalysis {
         engine: &mut TraceEngine,
     ) -> Result<(Vec<f64>, Vec<Complex64>), CompareError> {
         let half = GATE_HALF_WIDTH_CELLS * self.resolution_s;
-        let start = (d - half).max(0.0);
-        let stop = (d + half).min(self.alias_free_s);
+        // A gate inside the record whatever `d` is: an echo at the very end of the alias-free time (the port's
+        // own echo wrapping round) gets a gate that ends at the record's end.
+        let width = (2.0 * half).min(self.alias_free_s);
+        let start = (d - half).clamp(0.0, (self.alias_free_s - width).max(0.0));
+        let stop = (start + width).min(self.alias_free_s);
         let mut plan = GatePlan::new(start, stop);
         plan.padding = 2;
         let gated = gate_with(&self.freqs, &self.s11, &plan, engine.cache())
@@ -350,7 +359,7 @@ impl SweepAnalysis {
         let g: Vec<Complex64> = range
             .map(|k| {
                 let fk = self.freqs[k];
-                let comp = if chain.as_built {
+                let comp = if chain.compensates() {
                     chain.compensation(&model, fk, MAX_COMPENSATION)
                 } else {
                     Complex64::new(1.0, 0.0)

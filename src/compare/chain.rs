@@ -80,6 +80,8 @@ pub struct Segment {
     pub eps_r: f64,
     /// A short description of where the segment is (stage names), for sentences.
     pub place: String,
+    /// For a device: the load the line file gives it (what terminates the visible line).
+    pub load: Option<crate::line::Load>,
 }
 
 /// The chain, as the comparator sees it.
@@ -124,10 +126,21 @@ impl ChainView {
                 pin_radius_m: DEFAULT_PIN_RADIUS_M,
                 eps_r: DEFAULT_EPS_R,
                 place: String::new(),
+                load: None,
             }],
             as_built: false,
             delay_reference_hz: 5e9,
         }
+    }
+
+    /// True when traces on this chain are loss-compensated: a line file's model, or a uniform line given a
+    /// loss law (from its far end).
+    pub fn compensates(&self) -> bool {
+        self.as_built
+            || self
+                .segments
+                .iter()
+                .any(|s| s.loss.iter().any(|l| l.a_sqrt != 0.0 || l.a_lin != 0.0 || l.a_flat != 0.0))
     }
 
     /// As-built length up to the far end, m.

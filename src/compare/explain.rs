@@ -5,7 +5,6 @@ use super::analysis::{SweepAnalysis, MAX_COMPENSATION};
 use super::chain::{ChainView, SegmentKind, Which};
 use super::lumped::{gap_from_capacitance, ModelFit, ModelType};
 use super::report::*;
-use super::run::LENGTH_TOLERANCE;
 use super::severity::{drop_db, mismatch_loss_db};
 use num_complex::Complex64;
 
@@ -19,36 +18,6 @@ pub const UNCOMPENSATED_TERMINATION: f64 = 0.3;
 
 /// Fit error above which no lumped model is claimed and the finding's kind is `unknown`.
 pub const MAX_FIT_ERROR: f64 = 0.5;
-
-/// Floor of a position's standard uncertainty, in resolution cells: what sub-bin location can promise once
-/// window asymmetry and a frequency-dependent reflection phase are allowed for (common practice, no source).
-pub const LOCATION_FLOOR_CELLS: f64 = 0.02;
-
-/// Standard uncertainty of a position (m): resolution over twice the amplitude SNR (the usual estimate for
-/// locating a peak in noise), the model's residual delay, the alignment residual and the length tolerance
-/// over `from_anchor_m`, the as-built distance to the nearest point whose delay was measured (a landmark, or
-/// the reference plane), added in quadrature, with a floor.
-pub(super) fn position_sigma(
-    res_m: f64,
-    snr: f64,
-    delta_m: f64,
-    align_m: f64,
-    from_anchor_m: f64,
-    as_built: bool,
-) -> f64 {
-    let length = if as_built {
-        LENGTH_TOLERANCE * from_anchor_m
-    } else {
-        0.0
-    };
-    let align = if align_m.is_finite() { align_m } else { 0.0 };
-    ((res_m / (2.0 * snr.max(1e-9))).powi(2)
-        + (0.5 * delta_m).powi(2)
-        + align.powi(2)
-        + length.powi(2)
-        + (LOCATION_FLOOR_CELLS * res_m).powi(2))
-    .sqrt()
-}
 
 /// Classify the best fit into a fault kind and summary.
 pub(super) fn classify(
@@ -184,6 +153,41 @@ pub(super) fn classify(
     (kind, summary, Some(best))
 }
 
+/// The range of power drops at `f_ref` that a real, frequency-flat reflection of a fit allows: a series
+/// resistance (which dissipates as well as reflects) and an impedance step (which only reflects) give the
+/// same |Gamma| and differ tenfold in cost, so a finding carries both. Other kinds: their own cost.
+pub(super) fn cost_range(
+    kind: FaultKind,
+    model: Option<ModelFit>,
+    own_drop_db: f64,
+    z0: f64,
+    f_ref: f64,
+) -> (f64, f64) {
+    let Some(m) = model else {
+        return (own_drop_db, own_drop_db);
+    };
+    match kind {
+        FaultKind::Contact | FaultKind::ImpedanceStep => {
+            let g = m.model.gamma(m.value, f_ref, z0).re;
+            if g.abs() >= 0.999 {
+                return (own_drop_db, own_drop_db);
+            }
+            // The resistance and the step that give this Gamma.
+            let r = 2.0 * z0 * g / (1.0 - g);
+            let z = z0 * (1.0 + g) / (1.0 - g);
+            let contact = if r > 0.0 {
+                drop_db(ModelType::SeriesResistance.transmission(r, f_ref, z0))
+            } else {
+                own_drop_db
+            };
+            let step = drop_db(ModelType::ImpedanceStep.transmission(z, f_ref, z0));
+            let (lo, hi) = (contact.min(step), contact.max(step));
+            (lo.min(own_drop_db), hi.max(own_drop_db))
+        }
+        _ => (own_drop_db, own_drop_db),
+    }
+}
+
 /// Predicted power drop at `f_ref` and band-averaged mismatch loss of a fitted model (or, with no model,
 /// of the measured local reflection `g_meas`).
 pub(super) fn costs(
@@ -246,36 +250,6 @@ pub(super) fn describe_model(kind: FaultKind, m: &ModelSummary) -> String {
         }
         (FaultKind::Unknown, _) => "a discontinuity no lumped model explains".to_string(),
     }
-}
-
-pub(super) fn where_text(chain: &ChainView, p: &Place) -> String {
-    let seg = chain.segments.iter().find(|s| s.name == p.element);
-    let place = seg.map(|s| s.place.as_str()).filter(|s| !s.is_empty());
-    let name = match (seg, &p.nearest_connector) {
-        // A connector, attenuator or device is named itself.
-        (Some(s), _) if s.kind != SegmentKind::Cable && s.kind != SegmentKind::Uniform => {
-            s.name.clone()
-        }
-        (_, Some(c))
-            if chain
-                .nearest_connector(p.distance_m)
-                .is_some_and(|(_, d)| d < 0.02) =>
-        {
-            c.clone()
-        }
-        _ if chain.as_built => format!("{} +{}", p.element, metres(p.offset_m)),
-        _ => "line".to_string(),
-    };
-    match place {
-        Some(pl) => format!("{name} at {} ({pl})", metres(p.distance_m)),
-        None => format!("{name} at {}", metres(p.distance_m)),
-    }
-}
-
-/// A position for people: millimetre precision, and no "-0.000" for the reference plane.
-pub fn metres(x: f64) -> String {
-    let x = if x.abs() < 5e-4 { 0.0 } else { x };
-    format!("{x:.3} m")
 }
 
 /// Elements reflection cannot see: behind the first device, past the alias-free range, or so far behind

@@ -109,6 +109,10 @@ impl ChainView {
                     pin_radius_m: pin,
                     eps_r: eps,
                     place: stage_text(e),
+                    load: match &e.kind {
+                        ElementKind::Device { load, .. } => Some(*load),
+                        _ => None,
+                    },
                 }
             })
             .collect();

@@ -2,11 +2,16 @@
 //! line file, or a uniform line of a given velocity factor), settle each sweep's state (given, or inferred
 //! and reported), and run [`compare`](super::compare) or [`locate`](super::locate).
 
-use super::analysis::SweepAnalysis;
-use super::chain::{ChainView, Which};
+use super::chain::ChainView;
 use super::locate::locate;
 use super::report::{CompareReport, LocateReport, StateReport};
-use super::run::{compare, AnalysisConfig, Sweep};
+use super::run::compare;
+use super::severity::Severity;
+use super::states::{
+    decide, model_signatures, pair_signatures, quick_analyses, Hypothesis, OPEN_MARGIN,
+};
+use super::sweep::{AnalysisConfig, Sweep};
+use crate::transform::TraceEngine;
 use crate::line::{Line, State};
 use crate::touchstone::read_file;
 use crate::{Error, Network, Result, Warning};
@@ -66,10 +71,7 @@ fn read_sweep(path: &Path) -> Result<(Network, Vec<Warning>)> {
 }
 
 fn state_name(s: State) -> &'static str {
-    match s {
-        State::Warm => "warm",
-        State::Cold => "cold",
-    }
+    s.name()
 }
 
 /// Band edges of a sweep, Hz.
@@ -77,164 +79,112 @@ fn band(n: &Network) -> (f64, f64) {
     (n.freqs_hz[0], n.freqs_hz[n.len() - 1])
 }
 
-/// Infer the two sweeps' states.
-///
-/// With a line file: each hypothesis (warm -> cold, cold -> warm, one state) predicts where the baseline's
-/// strong echoes fall in the current sweep; the hypothesis whose predictions miss the current echoes least
-/// wins (misses capped at half a resolution cell, so a changed or missing echo cannot dominate). Cooling
-/// moves echoes in cold sections by a few tenths of a percent of their delay, which the sub-bin peak
-/// positions resolve. For a line of unknown construction only the far echo's strength can tell (a cold
-/// line loses less); a difference under [`STATE_LOSS_DB`] is read as one state.
-fn infer_states(
-    b: &Network,
-    c: &Network,
+/// Settle a pair's states: the given ones, the inferred ones, or a mix (one given, the other inferred), with
+/// the signatures, the margin and the hypotheses left open (see `states`).
+pub fn decide_pair_states(
+    nb: &Network,
+    nc: &Network,
     line: Option<&Line>,
+    given: (Option<State>, Option<State>),
     cfg: &AnalysisConfig,
-) -> (State, State, String) {
-    let Some((ab, ac)) = quick_analyses(b, c, &cfg.window) else {
-        return (
-            State::Cold,
-            State::Cold,
-            "no echo was found in the sweeps; one state is assumed (give --baseline-state and --current-state)".into(),
-        );
-    };
-    if let Some(line) = line {
-        let (lo, hi) = band(c);
-        let f_ref = 0.5 * (lo + hi);
-        let res = ab.resolution_s.max(ac.resolution_s);
-        let strong: Vec<f64> = ab
-            .events
-            .iter()
-            .filter(|e| ab.snr(e.magnitude, e.delay_s) >= super::landmarks::LANDMARK_SNR)
-            .map(|e| e.delay_s)
-            .collect();
-        let cost = |bs: State, cs: State| -> f64 {
-            let chain = ChainView::from_line(line, bs, cs, lo, hi, f_ref);
-            let end = chain.delay_to(chain.visible_end_m(), Which::Baseline, None) + res;
-            strong
-                .iter()
-                .filter(|&&d| d <= end)
-                .map(|&d| {
-                    let x = chain.position_of(d, Which::Baseline, None);
-                    let p = chain.delay_to(x, Which::Current, None);
-                    let miss = ac
-                        .events
-                        .iter()
-                        .map(|e| (e.delay_s - p).abs())
-                        .fold(f64::INFINITY, f64::min);
-                    miss.min(0.5 * res).powi(2)
-                })
-                .sum::<f64>()
-        };
-        let hyps = [
-            (State::Warm, State::Cold),
-            (State::Cold, State::Warm),
-            (State::Cold, State::Cold),
-        ];
-        let costs: Vec<f64> = hyps.iter().map(|&(x, y)| cost(x, y)).collect();
-        let k = (0..3)
-            .min_by(|&x, &y| costs[x].total_cmp(&costs[y]))
-            .unwrap_or(2);
-        let rms = |c: f64| (c / strong.len().max(1) as f64).sqrt() * 1e12;
-        let (bs, cs) = hyps[k];
-        let what = match k {
-            0 => "warm -> cold",
-            1 => "cold -> warm",
-            _ => "one state (taken as cold: a comparison across a thermal cycle)",
-        };
-        return (
-            bs,
-            cs,
-            format!(
-                "inferred {what}: the line model's predictions miss the current echoes by {:.2} ps rms, against \
-                 {:.2} ps ({}) and {:.2} ps ({})",
-                rms(costs[k]),
-                rms(costs[(k + 1) % 3]),
-                ["warm -> cold", "cold -> warm", "one state"][(k + 1) % 3],
-                rms(costs[(k + 2) % 3]),
-                ["warm -> cold", "cold -> warm", "one state"][(k + 2) % 3],
-            ),
-        );
+) -> Result<(StateReport, Vec<Hypothesis>)> {
+    let mut engine = TraceEngine::new();
+    let mut signatures = Vec::new();
+    if let Some((ab, ac)) = quick_analyses(nb, nc, &cfg.window, &mut engine) {
+        signatures.extend(pair_signatures(&ab, &ac, &mut engine)?.0);
+        if let Some(l) = line {
+            signatures.extend(model_signatures(&ab, l, "baseline", &mut engine)?);
+            signatures.extend(model_signatures(&ac, l, "current", &mut engine)?);
+        }
     }
-    match far_echo_change_db(&ab, &ac) {
-        Some(amp_db) if amp_db >= STATE_LOSS_DB => (
-            State::Warm,
-            State::Cold,
-            format!("inferred: the far echo is {amp_db:.1} dB stronger in the current sweep (less loss: colder)"),
-        ),
-        Some(amp_db) if amp_db <= -STATE_LOSS_DB => (
-            State::Cold,
-            State::Warm,
-            format!("inferred: the far echo is {:.1} dB weaker in the current sweep (more loss: warmer)", -amp_db),
-        ),
-        Some(amp_db) => (
-            State::Cold,
-            State::Cold,
-            format!(
-                "inferred: the far echo's strength differs by only {amp_db:+.2} dB, so one state is assumed \
-                 (taken as cold)"
-            ),
-        ),
-        None => (
-            State::Cold,
-            State::Cold,
-            "no echo was strong in both sweeps; one state is assumed (give --baseline-state and --current-state)".into(),
-        ),
-    }
-}
-
-/// Least change of the far echo's strength read as a change of state, dB (stainless lines lose about a third
-/// less cold; a dB is well clear of a re-mated connector; common practice, no source).
-pub const STATE_LOSS_DB: f64 = 1.0;
-
-/// Both sweeps analysed as a uniform line over their common alias-free time.
-fn quick_analyses(
-    b: &Network,
-    c: &Network,
-    window: &crate::transform::Window,
-) -> Option<(SweepAnalysis, SweepAnalysis)> {
-    let mut engine = crate::transform::TraceEngine::new();
-    let uni = ChainView::uniform("", 0.7, 1.0, 50.0);
-    let alias = |n: &Network| (n.len() - 1) as f64 / (n.freqs_hz[n.len() - 1] - n.freqs_hz[0]);
-    let t = alias(b).min(alias(c));
-    let ab = SweepAnalysis::new(
-        &b.freqs_hz,
-        &b.s11(),
-        window,
-        t,
-        &uni,
-        Which::Baseline,
-        &mut engine,
-    )
-    .ok()?;
-    let ac = SweepAnalysis::new(
-        &c.freqs_hz,
-        &c.s11(),
-        window,
-        t,
-        &uni,
-        Which::Current,
-        &mut engine,
-    )
-    .ok()?;
-    Some((ab, ac))
-}
-
-/// Strength change (dB, current over baseline) of the farthest echo, within 30 dB of the strongest, that
-/// both sweeps show within 2 % of each other's delay.
-fn far_echo_change_db(ab: &SweepAnalysis, ac: &SweepAnalysis) -> Option<f64> {
-    let top = ab.events.iter().map(|e| e.magnitude).fold(0.0, f64::max);
-    ab.events
+    // Without a line file nothing tells warm->warm from cold->cold, and nothing depends on it.
+    let pool: Vec<Hypothesis> = Hypothesis::ALL
         .iter()
-        .rev()
-        .filter(|e| e.magnitude >= top * 10f64.powf(-30.0 / 20.0))
-        .find_map(|eb| {
-            ac.events
-                .iter()
-                .filter(|ec| (ec.delay_s / eb.delay_s - 1.0).abs() < 0.02)
-                .max_by(|x, y| x.magnitude.total_cmp(&y.magnitude))
-                .map(|ec| 20.0 * (ec.magnitude / eb.magnitude).log10())
-        })
+        .copied()
+        .filter(|h| line.is_some() || *h != Hypothesis::WarmWarm)
+        .collect();
+    let all = decide(signatures.clone(), &pool);
+    let fits = |h: Hypothesis| {
+        let (b, c) = h.states();
+        given.0.is_none_or(|g| g == b) && given.1.is_none_or(|g| g == c)
+    };
+    let allowed: Vec<Hypothesis> = Hypothesis::ALL.iter().copied().filter(|&h| fits(h)).collect();
+    let allowed: Vec<Hypothesis> = if allowed.iter().any(|h| pool.contains(h)) {
+        allowed.into_iter().filter(|h| pool.contains(h)).collect()
+    } else {
+        allowed
+    };
+    let d = decide(signatures, &allowed);
+    let (b, c) = d.chosen.states();
+    let total = |dd: &super::states::StateDecision, h: Hypothesis| {
+        dd.totals.iter().find(|t| t.0 == h).map_or(0.0, |t| t.1)
+    };
+    let contradicted = (total(&all, d.chosen) - total(&all, all.chosen)).max(0.0).sqrt();
+    let mut basis = if given.0.is_some() && given.1.is_some() {
+        "given".to_string()
+    } else {
+        d.basis()
+    };
+    if given.0.is_some() != given.1.is_some() {
+        basis = format!("{} given; {}", if given.0.is_some() { "baseline" } else { "current" }, basis);
+    }
+    if (given.0.is_some() || given.1.is_some()) && contradicted >= OPEN_MARGIN {
+        basis.push_str(&format!(
+            "; the data favour {} by {:.1} sigma over the states given",
+            all.chosen.name(),
+            contradicted
+        ));
+    }
+    let inferred = given.0.is_none() || given.1.is_none();
+    let open = if given.0.is_some() && given.1.is_some() {
+        vec![d.chosen]
+    } else {
+        d.open.clone()
+    };
+    Ok((
+        StateReport {
+            baseline: b.name(),
+            current: c.name(),
+            inferred,
+            basis,
+            signatures: d.signatures,
+            margin: (inferred && d.margin.is_finite()).then_some(d.margin),
+            hypotheses_open: open.clone(),
+        },
+        open,
+    ))
+}
+
+/// Keep above info only what `other` (the same pair under another open hypothesis) also finds there, at the
+/// lesser severity and cost of the two.
+fn intersect(report: &mut CompareReport, other: &CompareReport, h: Hypothesis) {
+    for f in report.findings.iter_mut().filter(|f| f.severity > Severity::Info) {
+        let tol = f.uncertainty_m.max(report.resolution_m);
+        let twin = other
+            .findings
+            .iter()
+            .filter(|g| g.severity > Severity::Info)
+            .filter(|g| (g.place.distance_m - f.place.distance_m).abs() <= tol.max(g.uncertainty_m))
+            .min_by(|a, b| a.severity.cmp(&b.severity));
+        match twin {
+            Some(g) => {
+                if g.severity < f.severity {
+                    f.severity = g.severity;
+                }
+                f.power_drop_db = f.power_drop_db.min(g.power_drop_db);
+                f.power_drop_range_db[1] = f.power_drop_range_db[1].min(g.power_drop_range_db[1]);
+                f.power_drop_range_db[0] = f.power_drop_range_db[0].min(f.power_drop_range_db[1]);
+            }
+            None => {
+                f.severity = Severity::Info;
+                f.explanation.push_str(&format!(
+                    " (not a change under {}, which the data also allow)",
+                    h.name()
+                ));
+            }
+        }
+    }
+    super::run::rank(&mut report.findings);
 }
 
 fn uniform_chain(name: &str, vf: f64, z0: f64) -> Result<ChainView> {
@@ -301,7 +251,8 @@ pub fn run_compare(job: &CompareJob) -> Result<CompareReport> {
     Ok(report)
 }
 
-/// Compare two sweeps already in memory.
+/// Compare two sweeps already in memory: settle the states, run the comparison under the hypothesis chosen
+/// and under every other one the data leave open, and keep above info only what is a change under all.
 pub fn compare_networks(req: &PairRequest) -> Result<CompareReport> {
     let (bname, nb) = req.baseline;
     let (cname, nc) = req.current;
@@ -309,45 +260,68 @@ pub fn compare_networks(req: &PairRequest) -> Result<CompareReport> {
         LineModel::Line(l) => Some(l),
         LineModel::Uniform { .. } => None,
     };
-    let (bs, cs, inferred, basis) = match (req.baseline_state, req.current_state) {
-        (Some(b), Some(c)) => (b, c, false, "given".to_string()),
-        (b, c) => {
-            let (ib, ic, why) = infer_states(nb, nc, line, req.analysis);
-            (b.unwrap_or(ib), c.unwrap_or(ic), true, why)
-        }
-    };
-    let (lo, hi) = band(nc);
-    let chain = match req.line {
-        LineModel::Line(l) => ChainView::from_line(l, bs, cs, lo, hi, 0.5 * (lo + hi)),
-        LineModel::Uniform { velocity_factor } => {
-            uniform_chain(cname, velocity_factor, nc.reference_ohm[0])?
-        }
-    };
-    let states = StateReport {
-        baseline: state_name(bs),
-        current: state_name(cs),
-        inferred,
-        basis,
-    };
-    let mut report = compare(
-        Sweep {
-            name: bname,
-            network: nb,
-            state: state_name(bs),
-        },
-        Sweep {
-            name: cname,
-            network: nc,
-            state: state_name(cs),
-        },
-        &chain,
+    let (states, open) = decide_pair_states(
+        nb,
+        nc,
+        line,
+        (req.baseline_state, req.current_state),
         req.analysis,
-        states,
     )?;
+    let (lo, hi) = band(nc);
+    let run = |h: Hypothesis, states: StateReport| -> Result<CompareReport> {
+        let (bs, cs) = h.states();
+        let chain = match req.line {
+            LineModel::Line(l) => ChainView::from_line(l, bs, cs, lo, hi, 0.5 * (lo + hi)),
+            LineModel::Uniform { velocity_factor } => {
+                uniform_chain(cname, velocity_factor, nc.reference_ohm[0])?
+            }
+        };
+        Ok(compare(
+            Sweep {
+                name: bname,
+                network: nb,
+                state: bs.name(),
+            },
+            Sweep {
+                name: cname,
+                network: nc,
+                state: cs.name(),
+            },
+            &chain,
+            req.analysis,
+            states,
+        )?)
+    };
+    let mut report = run(open[0], states.clone())?;
+    for &h in &open[1..] {
+        let other = run(h, states.clone())?;
+        intersect(&mut report, &other, h);
+    }
+    let cs = open[0].states().1;
     let mut w = Vec::new();
     if let Some(l) = line {
         w.extend(l.warnings.iter().cloned());
         report.visibility = crate::line::visibility(l, cs, &nc.freqs_hz, report.noise_rms)?;
+    }
+    if states.inferred && open.len() > 1 {
+        w.push(Warning::new(
+            "states-uncertain",
+            format!(
+                "the states are not settled by the data ({}); only changes seen under every one of them are \
+                 reported above info",
+                open.iter().map(|h| h.name()).collect::<Vec<_>>().join(", ")
+            ),
+            "give --baseline-state and --current-state when you know them",
+        ));
+    }
+    if !states.inferred || req.baseline_state.is_some() || req.current_state.is_some() {
+        if states.basis.contains("the data favour") {
+            w.push(Warning::new(
+                "states-contradicted",
+                format!("the states given disagree with the data: {}", states.basis),
+                "check --baseline-state and --current-state",
+            ));
+        }
     }
     w.append(&mut report.warnings);
     report.warnings = w;

@@ -6,10 +6,9 @@ use super::align::{AlignProblem, SegmentAlignment};
 use super::analysis::SweepAnalysis;
 use super::chain::{ChainView, Which};
 use super::report::Alignment;
-use super::run::{db, speed_at};
-
-/// Share of the alias-free time inside which landmarks are taken.
-pub const ALIAS_EDGE: f64 = 0.9;
+use super::far_end::ALIAS_EDGE;
+use super::place::speed_at;
+use super::sweep::db;
 /// Amplitude signal-to-noise a landmark needs (30 dB).
 pub const LANDMARK_SNR: f64 = 31.6;
 
@@ -22,6 +21,10 @@ pub const FIRST_PASS_LANDMARKS: usize = 6;
 /// Most landmarks used in all.
 pub const MAX_LANDMARKS: usize = 24;
 
+/// Amplitude uncertainty of one landmark in the calibration of levels, dB: a cold connector's own reflection
+/// moves by a dB or so as its parts contract (common practice, no source).
+pub const AMPLITUDE_SIGMA_DB: f64 = 1.0;
+
 /// Least separation of two landmarks, in resolution cells: closer ones disturb each other's peaks.
 pub const LANDMARK_SEPARATION_CELLS: f64 = 4.0;
 
@@ -31,6 +34,135 @@ pub const MAX_LENGTH_CHANGE: f64 = 0.02;
 
 /// The pair (baseline index, current index) of events seen in both sweeps.
 pub(super) type Pairs = Vec<(usize, usize)>;
+
+/// Physical bounds of the change of a PTFE coax line's electrical length, current over baseline minus one,
+/// from warm to cold: about -0.2 % to +1 % (contraction of the conductors against the rise of PTFE's
+/// permittivity as it densifies; common practice, no source). Cold to warm is the inverse.
+pub const WARM_TO_COLD_CHANGE: (f64, f64) = (-2e-3, 1e-2);
+
+/// Largest change of electrical length between two sweeps in one state: a room-temperature cable drifting by
+/// a couple of kelvin, a stage a few hundred millikelvin off (common practice, no source).
+pub const SAME_STATE_DRIFT: f64 = 2e-4;
+
+/// A delay scale and the events it pairs.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ScaleMatch {
+    /// Current over baseline round-trip delay, by least squares through the reference plane.
+    pub scale: f64,
+    /// Its standard uncertainty.
+    pub sigma: f64,
+    pub pairs: Pairs,
+}
+
+/// Baseline events fit to anchor a match: before the alias edge, not a likely multiple reflection, at least
+/// [`LANDMARK_SNR`] above the noise; strongest first and at least `min_sep` (round-trip s) apart; at most
+/// `max`; returned in order of delay.
+pub(super) fn strong_events(a: &SweepAnalysis, min_sep: f64, max: usize) -> Vec<usize> {
+    let set = candidates(a, min_sep, max);
+    (0..a.events.len()).filter(|&i| set[i]).collect()
+}
+
+/// The scale `s` in `[lo, hi]` under which the most strong baseline events find a current event at
+/// `s t_b` (within a third of a resolution cell), then refined by least squares over those pairs. `None`
+/// when no event pairs.
+pub(super) fn scale_search(
+    b: &SweepAnalysis,
+    c: &SweepAnalysis,
+    strong: &[usize],
+    (lo, hi): (f64, f64),
+) -> Option<ScaleMatch> {
+    let res = b.resolution_s.max(c.resolution_s);
+    let t_far = strong
+        .iter()
+        .map(|&i| b.events[i].delay_s)
+        .fold(0.0, f64::max);
+    if strong.is_empty() || t_far <= 0.0 || c.events.is_empty() {
+        return None;
+    }
+    let tol = res / 3.0;
+    let cd: Vec<f64> = c.events.iter().map(|e| e.delay_s).collect();
+    let nearest = |t: f64| -> (usize, f64) {
+        let k = cd.partition_point(|&x| x < t);
+        let mut best = (usize::MAX, f64::INFINITY);
+        for j in [k.wrapping_sub(1), k] {
+            if let Some(&x) = cd.get(j) {
+                if (x - t).abs() < best.1 {
+                    best = (j, (x - t).abs());
+                }
+            }
+        }
+        best
+    };
+    let score = |s: f64| -> f64 {
+        strong
+            .iter()
+            .map(|&i| {
+                let (_, miss) = nearest(s * b.events[i].delay_s);
+                let u = miss / tol;
+                (1.0 - u * u).max(0.0)
+            })
+            .sum()
+    };
+    let step = 0.1 * res / t_far;
+    let n = (((hi - lo) / step).ceil() as usize).clamp(1, 100_000);
+    let mut best = (f64::NEG_INFINITY, 1.0);
+    for k in 0..=n {
+        let s = lo + (hi - lo) * k as f64 / n as f64;
+        // Ties go to the scale nearest 1 (the smaller change).
+        let v = score(s) - 1e-9 * (s - 1.0).abs();
+        if v > best.0 {
+            best = (v, s);
+        }
+    }
+    if best.0 <= 0.0 {
+        return None;
+    }
+    let mut s = best.1;
+    let mut pairs: Pairs = Vec::new();
+    let mut sigma = f64::INFINITY;
+    for _ in 0..3 {
+        pairs = match_events(b, c, |t| s * t, |_| tol, |i, _| strong.contains(&i));
+        if pairs.is_empty() {
+            return None;
+        }
+        // Weighted least squares through the origin: each pair weighs by its delay precision.
+        let (mut num, mut den) = (0.0, 0.0);
+        for &(i, j) in &pairs {
+            let (tb, tc) = (b.events[i].delay_s, c.events[j].delay_s);
+            let w = 1.0 / pair_sigma(b, c, i, j).powi(2);
+            num += w * tb * tc;
+            den += w * tb * tb;
+        }
+        s = (num / den).clamp(lo, hi);
+        sigma = 1.0 / den.sqrt();
+        let chi2: f64 = pairs
+            .iter()
+            .map(|&(i, j)| {
+                ((c.events[j].delay_s - s * b.events[i].delay_s) / pair_sigma(b, c, i, j)).powi(2)
+            })
+            .sum::<f64>();
+        // An inflated scatter (the line does not scale uniformly) inflates the uncertainty.
+        if pairs.len() > 1 {
+            sigma *= (chi2 / (pairs.len() - 1) as f64).sqrt().max(1.0);
+        }
+    }
+    Some(ScaleMatch {
+        scale: s,
+        sigma,
+        pairs,
+    })
+}
+
+/// Standard uncertainty of the delay difference of a pair, s: each peak placed to its resolution over twice
+/// its amplitude SNR, with a floor of a hundredth of a cell (window asymmetry, frequency-dependent phase).
+pub(super) fn pair_sigma(b: &SweepAnalysis, c: &SweepAnalysis, i: usize, j: usize) -> f64 {
+    let one = |a: &SweepAnalysis, e: &crate::compare::detect::Peak| {
+        let s = a.resolution_s / (2.0 * a.snr(e.magnitude, e.delay_s).max(1.0));
+        (s * s + (0.01 * a.resolution_s).powi(2)).sqrt()
+    };
+    let (sb, sc) = (one(b, &b.events[i]), one(c, &c.events[j]));
+    (sb * sb + sc * sc).sqrt()
+}
 
 /// Match baseline events to current events by predicted current delay, nearest first, keeping order.
 pub(super) fn match_events(
@@ -131,6 +263,7 @@ pub(super) fn candidates(b: &SweepAnalysis, min_sep: f64, max: usize) -> Vec<boo
     let mut order: Vec<usize> = (0..b.events.len())
         .filter(|&i| {
             b.events[i].delay_s < edge
+                && b.events[i].ghost_of.is_none()
                 && b.snr(b.events[i].magnitude, b.events[i].delay_s) >= LANDMARK_SNR
         })
         .collect();
@@ -154,18 +287,42 @@ pub(super) fn candidates(b: &SweepAnalysis, min_sep: f64, max: usize) -> Vec<boo
     set
 }
 
-/// The fitted alignment: the chain the fit ran on (split at landmarks for a uniform line) and its scales.
-pub(super) struct Fitted {
-    pub(super) chain: ChainView,
-    pub(super) report: Alignment,
+/// The fitted alignment: the chain the fit ran on (split at landmarks for a uniform line), its scales, and
+/// the amplitude calibration (level and per-segment loss change).
+pub struct Fitted {
+    pub chain: ChainView,
+    pub report: Alignment,
+    /// Change of the whole trace's level, dB.
+    pub level_db: f64,
+    /// Each segment's loss change beyond what the compensation already undid, dB (the model's error).
+    pub residual_loss_db: Vec<f64>,
+    /// Robust weight each landmark kept in the amplitude fit (1: it agrees with the calibration).
+    pub amplitude_weight: Vec<f64>,
 }
 
+impl Fitted {
+    /// The change of an unchanged echo's strength at as-built `x` that the calibration expects, current over
+    /// baseline, dB: the level change less the loss change in front of it.
+    pub fn expected_change_db(&self, x: f64) -> f64 {
+        let cover = self.chain.cover(x);
+        self.level_db
+            - self
+                .residual_loss_db
+                .iter()
+                .zip(cover)
+                .map(|(l, c)| c * l)
+                .sum::<f64>()
+    }
+}
+
+/// Fit the alignment of `pairs` on `chain`, each segment's delay scale kept inside `bounds`.
 pub(super) fn fit_alignment(
     chain: &ChainView,
     b: &SweepAnalysis,
     c: &SweepAnalysis,
     pairs: &Pairs,
     reference_hz: f64,
+    bounds: (f64, f64),
 ) -> Fitted {
     let xs: Vec<f64> = pairs
         .iter()
@@ -183,7 +340,7 @@ pub(super) fn fit_alignment(
         .iter()
         .map(|s| {
             if s.delay_s[0] > 0.0 {
-                s.delay_s[1] / s.delay_s[0]
+                (s.delay_s[1] / s.delay_s[0]).clamp(bounds.0, bounds.1)
             } else {
                 1.0
             }
@@ -215,7 +372,9 @@ pub(super) fn fit_alignment(
     let problem = AlignProblem {
         tau: tau.clone(),
         prior_scale: prior_scale.clone(),
-        prior_loss_db: prior_loss,
+        // The traces are already compensated with each state's modelled loss: what is left to fit is the
+        // model's error, whose prior is zero.
+        prior_loss_db: vec![0.0; n],
         cover: cover.clone(),
         current_delay_s: pairs.iter().map(|&(_, j)| c.events[j].delay_s).collect(),
         amplitude_change_db: pairs
@@ -223,7 +382,8 @@ pub(super) fn fit_alignment(
             .map(|&(i, j)| db(c.events[j].magnitude) - db(b.events[i].magnitude))
             .collect(),
         sigma_s,
-        sigma_db: 0.5,
+        sigma_db: AMPLITUDE_SIGMA_DB,
+        bounds: Some(bounds),
     };
     // Baseline delays of the landmarks against the model: a per-segment correction of the model's baseline
     // delays by the same solve (prior 1), so the current scale is relative to what the baseline measured.
@@ -236,6 +396,7 @@ pub(super) fn fit_alignment(
         amplitude_change_db: vec![0.0; pairs.len()],
         sigma_s,
         sigma_db: 1.0,
+        bounds: None,
     }
     .solve();
     let mut corrected = work.clone();
@@ -269,7 +430,7 @@ pub(super) fn fit_alignment(
         .map(|(j, s)| SegmentAlignment {
             element: s.name.clone(),
             delay_scale: sol.scale[j],
-            loss_change_db: sol.loss_change_db[j],
+            loss_change_db: prior_loss[j] + sol.loss_change_db[j],
             start_m: s.start_m,
             end_m: s.end_m,
             baseline_delay_s: s.delay_s[0],
@@ -288,7 +449,11 @@ pub(super) fn fit_alignment(
             segments,
             landmarks_m: xs,
             electrical_length_change: far.unwrap_or(0.0),
+            level_change_db: sol.level_db,
         },
+        level_db: sol.level_db,
+        residual_loss_db: sol.loss_change_db.clone(),
+        amplitude_weight: sol.amplitude_weight,
     }
 }
 
@@ -315,6 +480,11 @@ pub(super) fn split_uniform(chain: &ChainView, xs: &[f64]) -> ChainView {
             s.end_m = w[1];
             let f = (w[1] - w[0]) / len;
             s.delay_s = [seg.delay_s[0] * f, seg.delay_s[1] * f];
+            s.loss = seg.loss.map(|l| super::chain::LossModel {
+                a_sqrt: l.a_sqrt * f,
+                a_lin: l.a_lin * f,
+                a_flat: l.a_flat * f,
+            });
             s.name = format!("{:.3}..{:.3} m", w[0], w[1]);
             s
         })

@@ -3,10 +3,9 @@
 use super::chain::{ChainView, Which};
 use super::explain::*;
 use super::report::*;
-use super::run::{
-    analyse, band_centre, db, no_line_file, place, plot_data, sized, speed_at, AnalysisConfig,
-    Sweep,
-};
+use super::place::{place, position_sigma, speed_at, where_text};
+use super::run::plot_data;
+use super::sweep::{analyse, band_centre, db, no_line_file, sized, AnalysisConfig, Sweep};
 use super::severity::Severity;
 use super::CompareError;
 use crate::transform::TraceEngine;

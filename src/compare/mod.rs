@@ -10,21 +10,27 @@ pub mod align;
 pub mod analysis;
 pub mod chain;
 pub mod detect;
+pub mod difference;
 pub mod explain;
+pub mod far_end;
 pub mod from_line;
 pub mod job;
 pub mod landmarks;
 pub mod locate;
 pub mod lumped;
+pub mod place;
 pub mod report;
 pub mod run;
 pub mod severity;
+pub mod states;
+pub mod sweep;
 pub mod text;
 
 pub use chain::{ChainView, LossModel, Segment, SegmentKind};
 pub use locate::locate;
 pub use report::{CompareReport, FaultKind, Finding, LocateReport};
-pub use run::{compare, AnalysisConfig, Sweep};
+pub use run::compare;
+pub use sweep::{AnalysisConfig, Sweep};
 pub use severity::Severity;
 
 /// Errors of the comparator.

@@ -74,16 +74,24 @@ pub struct Finding {
     pub severity: Severity,
     /// Reflection of the event in the current sweep, loss-compensated with the line model, dB (20 log10|rho|).
     pub reflection_db: f64,
-    /// Change of the event's reflection, current over baseline, dB (positive: stronger now).
+    /// Change of the event's reflection beyond what the calibration explains (the level and loss change
+    /// fitted on the landmarks, and the shadow of changed joints in front of it), dB (positive: stronger now).
     pub change_db: f64,
+    /// The measured change of the event's reflection, current over baseline, dB.
+    pub measured_change_db: f64,
+    /// The interval of changes the calibration explains at this place, dB.
+    pub expected_change_db: [f64; 2],
     /// Change of the reflection's phase, current against baseline, degrees (meaningful when both sweeps are in
     /// the same state).
     pub phase_change_deg: f64,
     /// Mismatch loss the event adds, averaged over the swept band, dB.
     pub mismatch_loss_db: f64,
     /// Predicted drop of transmitted power past the event at the reference frequency, dB (from the model;
-    /// net of what the baseline already had there).
+    /// net of what the baseline already had there): the worse end of `power_drop_range_db`, which ranks.
     pub power_drop_db: f64,
+    /// The plausible range of that drop, dB: a contact and an impedance step reflect alike but cost
+    /// differently, so both ends are carried.
+    pub power_drop_range_db: [f64; 2],
     /// Half-width of the position's 95 % interval, m.
     pub uncertainty_m: f64,
     /// 0..1: how sure the finding is (signal-to-noise of the change and fit quality).
@@ -91,8 +99,28 @@ pub struct Finding {
     pub model: ModelSummary,
     /// Set when the event sits where a multiple reflection of stronger events would land.
     pub likely_ghost: bool,
+    /// Where it was seen: `line` (the visible line: anything may be claimed), `beyond-far-end` (behind an
+    /// open or short far end), `alias-edge` (where echoes from beyond the record fold back),
+    /// `behind-device`, or `far-end` (the far end's own open or short, already one in the baseline). Only
+    /// `line` findings rank above info.
+    pub zone: &'static str,
     /// One plain sentence.
     pub explanation: String,
+}
+
+/// The far end as the two sweeps saw it. JSON: `far_end` of the compare report.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct FarEndReport {
+    /// As-built position of the far end's echo in each sweep, m.
+    pub baseline_m: f64,
+    pub current_m: f64,
+    /// `open`, `short` or `other` (what the echo's polarity and strength say) in each sweep.
+    pub baseline_kind: &'static str,
+    pub current_kind: &'static str,
+    /// Change of the far end's round-trip delay beyond what the alignment of the line in front of it
+    /// explains, s (positive: the line now ends later), from the phase slope of the two echoes' ratio;
+    /// `null` when the two terminations are not of one kind.
+    pub delay_change_s: Option<f64>,
 }
 
 /// One discontinuity seen in a single sweep (`locate`).
@@ -134,6 +162,9 @@ pub struct Alignment {
     pub landmarks_m: Vec<f64>,
     /// Change of the round-trip delay to the farthest landmark, current over baseline minus one.
     pub electrical_length_change: f64,
+    /// Change of the whole trace's level, current over baseline, dB (an amplifier's gain, a source power):
+    /// what every echo shares before the line's own loss change.
+    pub level_change_db: f64,
 }
 
 impl Alignment {
@@ -169,14 +200,38 @@ pub struct PowerCheck {
     pub unexplained_db: f64,
 }
 
-/// The state a sweep was taken in, as used by the report.
+/// The state a sweep was taken in, as used by the report, and how it was decided.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct StateReport {
+    /// The states used: `warm` or `cold`.
     pub baseline: &'static str,
     pub current: &'static str,
-    /// True when coldtrace inferred the states rather than being told.
+    /// True when coldtrace inferred at least one of them rather than being told.
     pub inferred: bool,
     pub basis: String,
+    /// The signatures read from the data, each with its misfit under every hypothesis.
+    pub signatures: Vec<super::states::Signature>,
+    /// Standard uncertainties between the chosen hypothesis and the runner-up; `null` when the states were
+    /// given (and not checked) or nothing else was possible.
+    pub margin: Option<f64>,
+    /// The hypotheses the data leave open, the one used first: a change is reported above info only when it
+    /// is a change under every one of them.
+    pub hypotheses_open: Vec<super::states::Hypothesis>,
+}
+
+impl StateReport {
+    /// States given by the user.
+    pub fn given(baseline: crate::line::State, current: crate::line::State) -> Self {
+        StateReport {
+            baseline: baseline.name(),
+            current: current.name(),
+            inferred: false,
+            basis: "given".into(),
+            signatures: Vec::new(),
+            margin: None,
+            hypotheses_open: vec![super::states::Hypothesis::of(baseline, current)],
+        }
+    }
 }
 
 /// Traces and marks for a plot (not part of the JSON).
@@ -208,6 +263,12 @@ pub struct CompareReport {
     pub noise_rms: f64,
     /// With a line file: each element's round-trip loss and the smallest visible |rho| in the current sweep.
     pub visibility: Vec<crate::line::Visibility>,
+    /// The far end both sweeps show, when each has one.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub far_end: Option<FarEndReport>,
+    /// With a line file: how its connectors' lengths were counted (`in-cables` or `added`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub connector_lengths: Option<String>,
     pub warnings: Vec<Warning>,
     #[serde(skip)]
     pub plot: PlotData,

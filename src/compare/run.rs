@@ -1,182 +1,439 @@
-//! The comparator's procedure: analyse both sweeps, align them on shared landmarks, match their events,
-//! decide what changed, explain each change with a lumped model, rank by what it costs.
+//! The comparison as a pipeline of small stages with typed results:
 //!
-//! Decision rules (each a named constant below, documented in docs/method.md):
-//! - a landmark is an event seen in both sweeps at the model's predicted place, at least
-//!   [`LANDMARK_SNR`](super::landmarks::LANDMARK_SNR) above the noise, with an amplitude change under [`LANDMARK_MAX_CHANGE_DB`](super::landmarks::LANDMARK_MAX_CHANGE_DB);
-//! - an event changed when its reflection changed by [`CHANGE_DB`] or more, or (both sweeps in the same
-//!   state) its phase turned by [`PHASE_CHANGE_DEG`] or more, or it is new: not in the baseline and at least
-//!   [`CHANGE_DB`] above the baseline's response at that place;
-//! - severity comes from the predicted drop of transmitted power (see `severity`), net of what the baseline
-//!   already lost there; an open or short that appeared is `critical`.
+//! 1. **analyse** ([`analyse_pair`]): each sweep's compensated band-pass trace, noise floor and events, and
+//!    each sweep's far end ([`far_end`](super::far_end)); on a line of unknown construction the loss law
+//!    an open or short far end shows is what compensates the trace;
+//! 2. **align** ([`align_pair`]): landmarks seen in both sweeps paired by a bounded search of the delay
+//!    scale, then the per-segment delay scale (inside the physical bounds of the state change, the model as
+//!    a prior) and the level and loss change fitted to them;
+//! 3. **difference** ([`difference`](super::difference)): every echo paired across the aligned sweeps, its
+//!    change judged against the calibration and the shadow of changed joints in front of it;
+//! 4. **explain** ([`explain_change`]): a lumped model, a fault kind, a range of costs and a sentence for
+//!    each change;
+//! 5. **rank**: by severity, then the worse plausible cost.
+//!
+//! Decision rules (named constants, documented in docs/method.md): a change counts when the strength of an
+//! echo moved by [`CHANGE_DB`] beyond what the calibration explains, or (one state) its phase turned by
+//! [`PHASE_CHANGE_DEG`]; only changes on the visible line, in front of an open or short far end, clear of the
+//! alias edge and not likely multiple reflections are reported above info; the far end's own open or short,
+//! already one in the baseline, is never a new open or short.
 
 use super::analysis::SweepAnalysis;
 use super::chain::{ChainView, SegmentKind, Which};
+use super::difference::{self, Change, FarEnds, Zone};
+pub use super::difference::{CHANGE_DB, PHASE_CHANGE_DEG};
 use super::explain::*;
+use super::far_end;
 use super::landmarks::*;
+use super::place::{place, position_sigma, speed_at, where_text};
 use super::report::*;
+use super::landmarks::Fitted;
 use super::severity::{mismatch_loss_db, Severity};
+use super::states::Hypothesis;
+pub use super::sweep::{AnalysisConfig, Sweep};
+use super::sweep::{analyse, band_centre, db, no_line_file, sized};
 use super::CompareError;
-use crate::transform::{TraceEngine, Window, C0_M_PER_S};
+use crate::line::State;
+use crate::transform::TraceEngine;
 use crate::{Network, Warning};
-use num_complex::Complex64;
 
-/// Change of reflection that counts as a change, dB. Cold connectors' own reflections move by a dB or two
-/// as their parts contract (common practice, no source).
-pub const CHANGE_DB: f64 = 3.0;
-
-/// Phase turn that counts as a change when both sweeps are in the same state, degrees.
-pub const PHASE_CHANGE_DEG: f64 = 90.0;
-
-/// Relative tolerance of as-built lengths (0.2 %, a cut cable's length to a couple of millimetres a metre;
-/// common practice, no source).
-pub const LENGTH_TOLERANCE: f64 = 2e-3;
-
-/// Settings of a comparison or a location.
-#[derive(Debug, Clone, PartialEq)]
-pub struct AnalysisConfig {
-    /// Window of the band-pass transform. Default Kaiser beta 9 (highest sidelobe about -66 dB, so a fault
-    /// 20 dB under a strong neighbour stands well clear of its sidelobes).
-    pub window: Window,
-    /// Frequency at which power drops are quoted; default the band centre.
-    pub reference_hz: Option<f64>,
-    /// A measured drop of transmitted power to compare with what the findings explain, dB.
-    pub observed_drop_db: Option<f64>,
+/// Stage 1's result: both sweeps analysed on the chain they were compensated with, and their far ends.
+pub struct PairAnalysis {
+    /// The chain as used (sized to the record for a line of unknown construction; with the loss law of its
+    /// far end when one was measured).
+    pub chain: ChainView,
+    pub b: SweepAnalysis,
+    pub c: SweepAnalysis,
+    pub far: FarEnds,
+    /// True when a line of unknown construction was compensated with the loss its far end shows.
+    pub loss_from_far_end: bool,
 }
 
-impl Default for AnalysisConfig {
-    fn default() -> Self {
-        AnalysisConfig {
-            window: Window::Kaiser { beta: 9.0 },
-            reference_hz: None,
-            observed_drop_db: None,
-        }
-    }
-}
-
-/// A named sweep.
-#[derive(Debug, Clone, Copy)]
-pub struct Sweep<'a> {
-    pub name: &'a str,
-    pub network: &'a Network,
-    /// Its state's name, for reports (`warm`, `cold`, ...).
-    pub state: &'static str,
-}
-
-/// One sweep analysed on `chain` in `which` state, up to a little past the chain's far end.
-pub(super) fn analyse(
-    sweep: &Sweep,
+/// Stage 1: analyse both sweeps and find their far ends. On a line of unknown construction whose far end is
+/// an open or short in both sweeps, each sweep's trace is compensated with the loss law its own far end
+/// shows (spread evenly along the line), so the skin effect's dispersion no longer smears the echoes and
+/// the two sweeps' levels are comparable.
+pub fn analyse_pair(
+    baseline: &Sweep,
+    current: &Sweep,
     chain: &ChainView,
     cfg: &AnalysisConfig,
-    which: Which,
     engine: &mut TraceEngine,
-) -> Result<SweepAnalysis, CompareError> {
-    let s = s11_of(sweep)?;
-    let f = &sweep.network.freqs_hz;
-    let res0 = super::analysis::lobe_shape(&cfg.window, f[f.len() - 1] - f[0]).1;
-    SweepAnalysis::new(
-        f,
-        &s,
-        &cfg.window,
-        t_max(chain, which, res0),
+) -> Result<PairAnalysis, CompareError> {
+    let mut chain = sized(
         chain,
-        which,
-        engine,
-    )
-}
-
-/// The warning every result of a line of unknown construction carries.
-pub(super) fn no_line_file(chain: &ChainView) -> Option<Warning> {
-    (!chain.as_built).then(|| {
-        Warning::new(
-            "no-line-file",
-            "no line file: positions are metres of one uniform line and reflections are not loss-compensated",
-            "pass --line LINE for as-built positions, element names and compensated reflections",
-        )
+        &[&baseline.network.freqs_hz, &current.network.freqs_hz],
+    );
+    let mut b = analyse(baseline, &chain, cfg, Which::Baseline, engine)?;
+    let mut c = analyse(current, &chain, cfg, Which::Current, engine)?;
+    let mut far = FarEnds {
+        baseline: far_end::find(&b, &chain, Which::Baseline, engine)?,
+        current: far_end::find(&c, &chain, Which::Current, engine)?,
+    };
+    let mut loss_from_far_end = false;
+    if !chain.as_built {
+        if let (Some(tb), Some(tc)) = (&far.baseline, &far.current) {
+            if let (Some(lb), Some(lc)) = (tb.loss, tc.loss) {
+                let per = |l: super::chain::LossModel, t: f64, which: Which| {
+                    let x = chain.position_of(t, which, None).max(1e-6);
+                    let k = chain.length_m() / x;
+                    super::chain::LossModel {
+                        a_sqrt: l.a_sqrt * k,
+                        a_lin: l.a_lin * k,
+                        a_flat: 0.0,
+                    }
+                };
+                let lossy = [
+                    per(lb, tb.delay_s, Which::Baseline),
+                    per(lc, tc.delay_s, Which::Current),
+                ];
+                chain.segments[0].loss = lossy;
+                b = analyse(baseline, &chain, cfg, Which::Baseline, engine)?;
+                c = analyse(current, &chain, cfg, Which::Current, engine)?;
+                far = FarEnds {
+                    baseline: far_end::find(&b, &chain, Which::Baseline, engine)?,
+                    current: far_end::find(&c, &chain, Which::Current, engine)?,
+                };
+                loss_from_far_end = true;
+            }
+        }
+    }
+    Ok(PairAnalysis {
+        chain,
+        b,
+        c,
+        far,
+        loss_from_far_end,
     })
 }
 
-pub(super) fn s11_of(s: &Sweep) -> Result<Vec<Complex64>, CompareError> {
-    if s.network.is_empty() {
-        return Err(CompareError::Invalid(format!(
-            "{}: the sweep has no points",
-            s.name
-        )));
-    }
-    Ok(s.network.s11())
-}
-
-/// Round-trip delay up to which a sweep is analysed: a little past the far end in its state.
-pub(super) fn t_max(chain: &ChainView, which: Which, resolution_s: f64) -> f64 {
-    let t = chain.delay_to(chain.length_m(), which, None);
-    if chain.as_built {
-        t * 1.02 + 6.0 * resolution_s
-    } else {
-        // A uniform line of unknown construction is sized to the alias-free range already.
-        t
-    }
-}
-
-/// A uniform chain long enough for the whole alias-free range of both sweeps.
-pub(super) fn sized(chain: &ChainView, freqs: &[&[f64]]) -> ChainView {
-    if chain.as_built {
-        return chain.clone();
-    }
-    let seg = &chain.segments[0];
-    let vf = 2.0 * (seg.end_m - seg.start_m) / (C0_M_PER_S * seg.delay_s[0]);
-    let df = freqs
-        .iter()
-        .filter(|f| f.len() > 1)
-        .map(|f| (f[f.len() - 1] - f[0]) / (f.len() - 1) as f64)
-        .fold(0.0, f64::max);
-    let len = if df > 0.0 {
-        C0_M_PER_S * vf / (2.0 * df)
-    } else {
-        seg.end_m
-    };
-    ChainView::uniform(&chain.name, vf, len, chain.impedance_ohm)
-}
-
-/// Metres per round-trip second at as-built position `x` in sweep `which`.
-pub(super) fn speed_at(chain: &ChainView, x: f64, which: Which) -> f64 {
-    match chain.segment_at(x) {
-        Some((i, _)) => {
-            let s = &chain.segments[i];
-            let d = s.delay_s[which as usize];
-            if d > 0.0 && s.end_m > s.start_m {
-                (s.end_m - s.start_m) / d
-            } else {
-                C0_M_PER_S * 0.35
-            }
+/// Bounds of each segment's delay scale under hypothesis `h`.
+pub fn scale_bounds(h: Hypothesis) -> (f64, f64) {
+    let (lo, hi) = WARM_TO_COLD_CHANGE;
+    match h {
+        Hypothesis::WarmCold => (1.0 + lo, 1.0 + hi),
+        Hypothesis::ColdWarm => (1.0 / (1.0 + hi), 1.0 / (1.0 + lo)),
+        // One state: each segment may drift a little more than the line as a whole.
+        Hypothesis::WarmWarm | Hypothesis::ColdCold => {
+            (1.0 - 5.0 * SAME_STATE_DRIFT, 1.0 + 5.0 * SAME_STATE_DRIFT)
         }
-        None => C0_M_PER_S * 0.35,
     }
 }
 
-/// Where `x` is on `chain`.
-pub fn place(chain: &ChainView, x: f64) -> Place {
-    let (element, offset_m) = match chain.segment_at(x) {
-        Some((i, off)) => (chain.segments[i].name.clone(), off),
-        None => ("line".to_string(), x),
+/// Stage 2: pair landmarks by a bounded search of the delay scale and fit the alignment and the level
+/// calibration to them. Warnings go to `warnings`.
+pub fn align_pair(
+    pa: &PairAnalysis,
+    h: Hypothesis,
+    f_ref: f64,
+    warnings: &mut Vec<Warning>,
+) -> Fitted {
+    let (b, c) = (&pa.b, &pa.c);
+    let res = b.resolution_s.max(c.resolution_s);
+    let bounds = scale_bounds(h);
+    let strong = strong_events(b, LANDMARK_SEPARATION_CELLS * res, MAX_LANDMARKS);
+    // The search runs relative to the model's own prediction of the change where the chain has one.
+    let model_scale = {
+        let t0 = pa.chain.delay_to(pa.chain.visible_end_m(), Which::Baseline, None);
+        let t1 = pa.chain.delay_to(pa.chain.visible_end_m(), Which::Current, None);
+        if t0 > 0.0 && pa.chain.as_built {
+            t1 / t0
+        } else {
+            1.0
+        }
     };
-    Place {
-        distance_m: x,
-        element,
-        offset_m,
-        nearest_connector: chain.nearest_connector(x).map(|(s, _)| s.name.clone()),
+    let widen = 2e-3;
+    let found = scale_search(
+        b,
+        c,
+        &strong,
+        (bounds.0 - widen, bounds.1 + widen),
+    );
+    let mut chain = pa.chain.clone();
+    let pairs = match &found {
+        Some(m) => {
+            if !chain.as_built {
+                // The uniform line's prior is the scale the search found.
+                let s = m.scale.clamp(bounds.0, bounds.1);
+                chain.segments[0].delay_s[1] = chain.segments[0].delay_s[0] * s;
+            }
+            if m.scale < bounds.0 - 3.0 * m.sigma || m.scale > bounds.1 + 3.0 * m.sigma {
+                warnings.push(Warning::new(
+                    "states-contradicted",
+                    format!(
+                        "the echoes' delays changed by {:+.3} % (model {:+.3} %), outside what {} allows \
+                         ({:+.2} % to {:+.2} %)",
+                        100.0 * (m.scale - 1.0),
+                        100.0 * (model_scale - 1.0),
+                        h.name(),
+                        100.0 * (bounds.0 - 1.0),
+                        100.0 * (bounds.1 - 1.0)
+                    ),
+                    "check the states given (--baseline-state, --current-state), or leave them out to have them inferred",
+                ));
+            }
+            consistent(&m.pairs, b, c, |t| m.scale * t, m.sigma * 3.0 + 0.01 * res)
+        }
+        None => Vec::new(),
+    };
+    if pairs.is_empty() {
+        warnings.push(Warning::new(
+            "no-landmarks",
+            "no landmark was seen in both sweeps; the model's predicted change is used unrefined",
+            "check that both sweeps are of the same line and cover the same band",
+        ));
+    }
+    fit_alignment(&chain, b, c, &pairs, f_ref, bounds)
+}
+
+/// Stage 4: explain one change as a finding.
+pub fn explain_change(
+    ch: &Change,
+    pa: &PairAnalysis,
+    fit: &Fitted,
+    same_state: bool,
+    f_ref: f64,
+    engine: &mut TraceEngine,
+) -> Result<Finding, CompareError> {
+    let (chain, c) = (&pa.chain, &pa.c);
+    let res_s = pa.b.resolution_s.max(c.resolution_s);
+    let speed = speed_at(&fit.chain, ch.x, Which::Current);
+    let res_m = res_s * speed;
+    let (fl, gl) = c.local_reflection(ch.d_c, ch.x, chain, Which::Current, engine)?;
+    let fits = c.fit_local(&fl, &gl, chain.impedance_ohm);
+    // The model's residual delay moves the event to where the model puts it.
+    let delta = if fits[0].fit_error <= MAX_FIT_ERROR {
+        fits[0].delta_s
+    } else {
+        0.0
+    };
+    let x = fit.chain.position_of(ch.d_c + delta, Which::Current, None);
+    let sigma_x = position_sigma(
+        res_m,
+        ch.snr,
+        delta * speed,
+        fit.report.residual_m,
+        fit.report
+            .landmarks_m
+            .iter()
+            .chain(std::iter::once(&0.0))
+            .map(|l| (x - l).abs())
+            .fold(f64::INFINITY, f64::min),
+        chain.as_built,
+    );
+    let (mut kind, model, best) = classify(
+        &fits,
+        chain,
+        x,
+        (2.0 * sigma_x).max(res_m),
+        (fl[0], fl[fl.len() - 1]),
+    );
+    let (drop_c, ml) = costs(best, &fl, &gl, chain.impedance_ohm, f_ref);
+    let (lo_c, hi_c) = cost_range(kind, best, drop_c, chain.impedance_ohm, f_ref);
+    let change_db = ch.excess_db;
+    let rising = ch.raw_change_db > ch.expected_db.1;
+    // What the baseline already lost at this place, by the same reading of its reflection.
+    let drop_b = mismatch_loss_db(ch.base_level.min(0.999));
+    let net = |d: f64| if rising { (d - drop_b).max(0.0) } else { 0.0 };
+    let (mut lo, mut hi) = (net(lo_c), net(hi_c));
+    if same_state {
+        // One state: the reflection's complex change is comparable, and what appeared is the difference.
+        let added = match ch.base {
+            Some((_, gb)) => (ch.gamma_c - gb).norm(),
+            None => (ch.mag_c - ch.base_level).max(0.0),
+        };
+        let floor = mismatch_loss_db(added.min(0.999));
+        lo = lo.max(floor);
+        hi = hi.max(floor);
+    }
+    let total_kind = matches!(kind, FaultKind::Open | FaultKind::Short);
+    let mut severity = Severity::from_drop_db(hi);
+    if total_kind && !ch.was_total && (rising || (same_state && ch.phase_deg.abs() >= PHASE_CHANGE_DEG))
+    {
+        severity = Severity::Critical;
+    }
+    if ch.was_total {
+        // The far end was an open or short already: the line was cut there before; no power is newly lost.
+        severity = Severity::Info;
+        lo = 0.0;
+        hi = 0.0;
+    }
+    if !rising && ch.base.is_none() {
+        kind = FaultKind::Unknown;
+    }
+    if !ch.claimable() {
+        severity = Severity::Info;
+    }
+    let p = place(chain, x);
+    let what = if !rising {
+        format!(
+            "reflection fell by {:.1} dB ({})",
+            -change_db,
+            describe_model(kind, &model)
+        )
+    } else if ch.was_total {
+        format!("the far end's termination changed ({})", describe_model(kind, &model))
+    } else {
+        describe_model(kind, &model)
+    };
+    let cost = if (hi - lo).abs() > 0.01 {
+        format!("costs {lo:.2} to {hi:.2} dB")
+    } else {
+        format!("costs {hi:.2} dB")
+    };
+    let note = match ch.zone {
+        _ if ch.ghost => " (may be a multiple reflection of stronger events)",
+        Zone::BeyondFarEnd => " (behind the far end's open or short: a multiple reflection)",
+        Zone::AliasEdge => " (at the end of the record, where echoes from beyond it fold back)",
+        Zone::BehindDevice => " (behind a part reflection cannot see through)",
+        Zone::Line => "",
+    };
+    let explanation = format!(
+        "{}: {}, {cost} at {:.2} GHz{note}",
+        where_text(chain, &p),
+        what,
+        f_ref / 1e9,
+    );
+    Ok(Finding {
+        rank: 0,
+        place: p,
+        kind,
+        severity,
+        reflection_db: db(ch.mag_c),
+        change_db,
+        measured_change_db: ch.raw_change_db,
+        expected_change_db: [ch.expected_db.0, ch.expected_db.1],
+        phase_change_deg: ch.phase_deg,
+        mismatch_loss_db: ml,
+        power_drop_db: hi,
+        power_drop_range_db: [lo, hi],
+        uncertainty_m: 2.0 * sigma_x,
+        confidence: confidence(ch.snr, model.fit_error),
+        model,
+        likely_ghost: ch.ghost,
+        zone: if ch.same_termination {
+            "far-end"
+        } else if ch.ghost && ch.zone == Zone::Line {
+            "line"
+        } else {
+            match ch.zone {
+                Zone::Line => "line",
+                Zone::BeyondFarEnd => "beyond-far-end",
+                Zone::AliasEdge => "alias-edge",
+                Zone::BehindDevice => "behind-device",
+            }
+        },
+        explanation,
+    })
+}
+
+/// The far end of both sweeps and how far it moved beyond what the alignment explains.
+fn far_end_report(
+    pa: &PairAnalysis,
+    fit: &Fitted,
+    engine: &mut TraceEngine,
+) -> Result<Option<FarEndReport>, CompareError> {
+    let (Some(tb), Some(tc)) = (&pa.far.baseline, &pa.far.current) else {
+        return Ok(None);
+    };
+    let kind = |t: &far_end::Termination| {
+        if !t.total {
+            "other"
+        } else if t.polarity > 0.0 {
+            "open"
+        } else {
+            "short"
+        }
+    };
+    let xb = fit.chain.position_of(tb.delay_s, Which::Baseline, None);
+    let xc = fit.chain.position_of(tc.delay_s, Which::Current, None);
+    let delay_change_s = if kind(tb) == kind(tc) {
+        // Where the baseline's far end would be in the current sweep, by the alignment; then the phase slope
+        // of the two echoes' ratio over the lower half of the band, where parasitics and dispersion are least.
+        let predicted = fit.chain.delay_to(xb, Which::Current, None);
+        let (fb, gb) = pa.b.local_reflection(tb.delay_s, xb, &pa.chain, Which::Baseline, engine)?;
+        let (fc, gc) = pa.c.local_reflection(tc.delay_s, xc, &pa.chain, Which::Current, engine)?;
+        let n = fb.len().min(fc.len()) / 2;
+        if n >= 8 && fb[..n] == fc[..n] {
+            let ratio: Vec<num_complex::Complex64> =
+                (0..n).map(|k| gc[k] / gb[k]).collect();
+            phase_slope_delay(&fb[..n], &ratio).map(|d| tc.delay_s - predicted + d)
+        } else {
+            Some(tc.delay_s - predicted)
+        }
+    } else {
+        None
+    };
+    Ok(Some(FarEndReport {
+        baseline_m: xb,
+        current_m: xc,
+        baseline_kind: kind(tb),
+        current_kind: kind(tc),
+        delay_change_s,
+    }))
+}
+
+/// The delay d (s) of `ratio(f)` ~ A e^{-j 2 pi f d}: the unwrapped phase's least-squares slope, sign
+/// reversed, over 2 pi.
+pub fn phase_slope_delay(freqs: &[f64], ratio: &[num_complex::Complex64]) -> Option<f64> {
+    if freqs.len() < 3 || freqs.len() != ratio.len() {
+        return None;
+    }
+    let mut ph = Vec::with_capacity(ratio.len());
+    let mut last = ratio[0].arg();
+    let mut acc = last;
+    ph.push(acc);
+    for r in &ratio[1..] {
+        let a = r.arg();
+        let mut d = a - last;
+        while d > std::f64::consts::PI {
+            d -= 2.0 * std::f64::consts::PI;
+        }
+        while d < -std::f64::consts::PI {
+            d += 2.0 * std::f64::consts::PI;
+        }
+        acc += d;
+        last = a;
+        ph.push(acc);
+    }
+    let n = freqs.len() as f64;
+    let mf = freqs.iter().sum::<f64>() / n;
+    let mp = ph.iter().sum::<f64>() / n;
+    let sff: f64 = freqs.iter().map(|f| (f - mf).powi(2)).sum();
+    if sff <= 0.0 {
+        return None;
+    }
+    let slope = freqs.iter().zip(&ph).map(|(f, p)| (f - mf) * (p - mp)).sum::<f64>() / sff;
+    Some(-slope / (2.0 * std::f64::consts::PI))
+}
+
+/// Stage 5: rank findings by severity, then the worse plausible cost, then the size of the change.
+pub fn rank(findings: &mut [Finding]) {
+    // What lies on the visible line (or is the far end itself) ranks before what lies beyond it.
+    let on_line = |f: &Finding| matches!(f.zone, "line" | "far-end") && !f.likely_ghost;
+    findings.sort_by(|a, b| {
+        on_line(b)
+            .cmp(&on_line(a))
+            .then(b.severity.cmp(&a.severity))
+            .then(b.power_drop_db.total_cmp(&a.power_drop_db))
+            .then(b.change_db.abs().total_cmp(&a.change_db.abs()))
+            .then(b.confidence.total_cmp(&a.confidence))
+    });
+    for (k, f) in findings.iter_mut().enumerate() {
+        f.rank = k + 1;
     }
 }
 
-pub(super) fn band_centre(freqs: &[f64]) -> f64 {
-    0.5 * (freqs[0] + freqs[freqs.len() - 1])
-}
-
-pub(super) fn db(a: f64) -> f64 {
-    20.0 * a.max(1e-20).log10()
+fn state_of(name: &str) -> State {
+    if name == "warm" {
+        State::Warm
+    } else {
+        State::Cold
+    }
 }
 
 /// Compare `baseline` with `current` on `chain` (whose per-segment delays and losses are for the two sweeps'
-/// states, in that order).
+/// states, in that order), under the states `states` names.
 pub fn compare(
     baseline: Sweep,
     current: Sweep,
@@ -184,272 +441,40 @@ pub fn compare(
     cfg: &AnalysisConfig,
     states: StateReport,
 ) -> Result<CompareReport, CompareError> {
-    let chain = sized(
-        chain,
-        &[&baseline.network.freqs_hz, &current.network.freqs_hz],
-    );
+    let h = Hypothesis::of(state_of(states.baseline), state_of(states.current));
     let mut engine = TraceEngine::new();
     let fc = &current.network.freqs_hz;
-    let b = analyse(&baseline, &chain, cfg, Which::Baseline, &mut engine)?;
-    let c = analyse(&current, &chain, cfg, Which::Current, &mut engine)?;
     let f_ref = cfg.reference_hz.unwrap_or_else(|| band_centre(fc));
-    let mut warnings: Vec<Warning> = b.warnings.iter().chain(&c.warnings).cloned().collect();
-    warnings.extend(no_line_file(&chain));
 
-    // Landmarks: strong, well separated events, near where the model puts them, not much changed.
-    let res_max = b.resolution_s.max(c.resolution_s);
-    let first = candidates(
-        &b,
-        LANDMARK_SEPARATION_CELLS * res_max,
-        FIRST_PASS_LANDMARKS,
-    );
-    let all = candidates(&b, LANDMARK_SEPARATION_CELLS * res_max, MAX_LANDMARKS);
-    let steady = |set: &[bool]| {
-        let set = set.to_vec();
-        let (b, c) = (&b, &c);
-        move |i: usize, j: usize| {
-            let (eb, ec) = (&b.events[i], &c.events[j]);
-            set[i]
-                && c.snr(ec.magnitude, ec.delay_s) >= LANDMARK_SNR
-                && (db(ec.magnitude) - db(eb.magnitude)).abs() < LANDMARK_MAX_CHANGE_DB
-        }
-    };
-    let predict0 = |d: f64| {
-        chain.delay_to(
-            chain.position_of(d, Which::Baseline, None),
-            Which::Current,
-            None,
-        )
-    };
-    let tol0 = |p: f64| MAX_LENGTH_CHANGE * p + 2.0 * res_max;
-    let sigma_pair = 0.1 * res_max;
-    let mut pairs = consistent(
-        &match_events(&b, &c, predict0, tol0, steady(&first)),
-        &b,
-        &c,
-        predict0,
-        sigma_pair,
-    );
-    let mut fitted = fit_alignment(&chain, &b, &c, &pairs, f_ref);
-    // Second pass: every candidate, predicted with the first fit, within half a resolution cell.
-    {
-        let fit = &fitted;
-        let predict = |d: f64| {
-            fit.chain.delay_to(
-                fit.chain.position_of(d, Which::Baseline, None),
-                Which::Current,
-                None,
-            )
-        };
-        let again = consistent(
-            &match_events(&b, &c, predict, |_| 0.5 * res_max, steady(&all)),
-            &b,
-            &c,
-            predict0,
-            sigma_pair,
-        );
-        if again.len() >= pairs.len() {
-            pairs = again;
-        }
-    }
-    if !pairs.is_empty() {
-        fitted = fit_alignment(&chain, &b, &c, &pairs, f_ref);
-    } else {
+    let pa = analyse_pair(&baseline, &current, chain, cfg, &mut engine)?;
+    let mut warnings: Vec<Warning> = pa.b.warnings.iter().chain(&pa.c.warnings).cloned().collect();
+    warnings.extend(no_line_file(&pa.chain));
+    if pa.loss_from_far_end {
         warnings.push(Warning::new(
-            "no-landmarks",
-            "no landmark was seen in both sweeps; the model's predicted change is used unrefined",
-            "check that both sweeps are of the same line and cover the same band",
+            "loss-from-far-end",
+            "no line file: each sweep is compensated with the loss law its own open or short far end shows, \
+             spread evenly along the line",
+            "pass --line LINE for the line's own loss and dispersion",
         ));
     }
-    let fit = &fitted;
-    let same_state = states.baseline == states.current;
 
-    // All events, matched in the baseline's as-built frame.
-    let res_s = b.resolution_s.max(c.resolution_s);
-    let to_x_b = |d: f64| fit.chain.position_of(d, Which::Baseline, None);
-    let to_x_c = |d: f64| fit.chain.position_of(d, Which::Current, None);
-    let all_pairs = match_events(
-        &b,
-        &c,
-        |d| fit.chain.delay_to(to_x_b(d), Which::Current, None),
-        |_| 1.0 * res_s,
-        |_, _| true,
-    );
-    let f_c = band_centre(fc);
-    let visible_end = chain.visible_end_m();
-    let mut findings: Vec<Finding> = Vec::new();
+    let fit = align_pair(&pa, h, f_ref, &mut warnings);
+    let changes = difference::changes(&difference::Inputs {
+        chain: &pa.chain,
+        b: &pa.b,
+        c: &pa.c,
+        fit: &fit,
+        far: &pa.far,
+    });
+    let same_state = h.same_state();
+    let mut findings = Vec::new();
     let mut behind = 0usize;
-    let mut consider = |x: f64,
-                        d_c: f64,
-                        mag_c: f64,
-                        gamma_c: Complex64,
-                        base: Option<(f64, Complex64)>,
-                        ghost: bool,
-                        engine: &mut TraceEngine|
-     -> Result<(), CompareError> {
-        let speed = speed_at(&fit.chain, x, Which::Current);
-        let res_m = res_s * speed;
-        if chain.as_built && x > visible_end + res_m {
+    for ch in changes.iter().filter(|ch| ch.changed(same_state)) {
+        if ch.zone == Zone::BehindDevice {
             behind += 1;
-            return Ok(());
-        }
-        let refl = mag_c;
-        let (change_db, phase_deg, base_refl) = match base {
-            Some((mag_b, gamma_b)) => {
-                let rb = mag_b;
-                let ph = (gamma_c / gamma_b).arg().to_degrees();
-                (db(refl) - db(rb), ph, rb)
-            }
-            None => {
-                let d_b = fit.chain.delay_to(x, Which::Baseline, None);
-                let rb = b
-                    .h(d_b)
-                    .norm()
-                    .max(super::detect::NOISE_SIGMAS * b.sigma_at(d_b));
-                (db(refl) - db(rb), 0.0, rb)
-            }
-        };
-        let changed = change_db.abs() >= CHANGE_DB
-            || (same_state
-                && base.is_some()
-                && phase_deg.abs() >= PHASE_CHANGE_DEG
-                && c.snr(mag_c, d_c) > 10.0);
-        if !changed {
-            return Ok(());
-        }
-        let snr = c.snr(mag_c, d_c);
-        let (fl, gl) = c.local_reflection(d_c, x, &chain, Which::Current, engine)?;
-        let fits = c.fit_local(&fl, &gl, chain.impedance_ohm);
-        // The model's residual delay moves the event to where the model puts it.
-        let delta = if fits[0].fit_error <= MAX_FIT_ERROR {
-            fits[0].delta_s
-        } else {
-            0.0
-        };
-        let x = to_x_c(d_c + delta);
-        let sigma_x = position_sigma(
-            res_m,
-            snr,
-            delta * speed,
-            fit.report.residual_m,
-            fit.report
-                .landmarks_m
-                .iter()
-                .chain(std::iter::once(&0.0))
-                .map(|l| (x - l).abs())
-                .fold(f64::INFINITY, f64::min),
-            chain.as_built,
-        );
-        let (mut kind, model, best) = classify(
-            &fits,
-            &chain,
-            x,
-            (2.0 * sigma_x).max(res_m),
-            (fl[0], fl[fl.len() - 1]),
-        );
-        let (drop_c, ml) = costs(best, &fl, &gl, chain.impedance_ohm, f_ref);
-        let drop_b = mismatch_loss_db(base_refl.min(0.999));
-        let mut net_drop = if change_db > 0.0 {
-            (drop_c - drop_b).max(0.0)
-        } else {
-            0.0
-        };
-        // Both sweeps in one state: the reflection's complex change is comparable, and what appeared is
-        // the difference, Gamma_c - Gamma_b (an open that became a short changes by 2 |Gamma|).
-        if same_state {
-            let added = match base {
-                Some((_, gamma_b)) => (gamma_c - gamma_b).norm(),
-                None => (refl - base_refl).max(0.0),
-            };
-            net_drop = net_drop.max(mismatch_loss_db(added.min(0.999)));
-        }
-        let mut severity = Severity::from_drop_db(net_drop);
-        if (change_db > 0.0 || (same_state && phase_deg.abs() >= PHASE_CHANGE_DEG))
-            && matches!(kind, FaultKind::Open | FaultKind::Short)
-        {
-            severity = Severity::Critical;
-        }
-        if change_db < 0.0 {
-            kind = if base.is_some() {
-                kind
-            } else {
-                FaultKind::Unknown
-            };
-        }
-        let p = place(&chain, x);
-        let what = if change_db < 0.0 {
-            format!(
-                "reflection fell by {:.1} dB ({})",
-                -change_db,
-                describe_model(kind, &model)
-            )
-        } else {
-            describe_model(kind, &model)
-        };
-        let explanation = format!(
-            "{}: {}, costs {:.2} dB at {:.2} GHz{}",
-            where_text(&chain, &p),
-            what,
-            net_drop,
-            f_ref / 1e9,
-            if ghost {
-                " (may be a multiple reflection of stronger events)"
-            } else {
-                ""
-            }
-        );
-        findings.push(Finding {
-            rank: 0,
-            place: p,
-            kind,
-            severity,
-            reflection_db: db(refl),
-            change_db,
-            phase_change_deg: phase_deg,
-            mismatch_loss_db: ml,
-            power_drop_db: net_drop,
-            uncertainty_m: 2.0 * sigma_x,
-            confidence: confidence(snr, model.fit_error),
-            model,
-            likely_ghost: ghost,
-            explanation,
-        });
-        Ok(())
-    };
-    let matched_c: Vec<Option<usize>> = (0..c.events.len())
-        .map(|j| all_pairs.iter().find(|p| p.1 == j).map(|p| p.0))
-        .collect();
-    for (j, ec) in c.events.iter().enumerate() {
-        let x = to_x_c(ec.delay_s);
-        let base = matched_c[j].map(|i| (b.events[i].magnitude, b.h(b.events[i].delay_s)));
-        consider(
-            x,
-            ec.delay_s,
-            ec.magnitude,
-            c.h(ec.delay_s),
-            base,
-            ec.ghost_of.is_some(),
-            &mut engine,
-        )?;
-    }
-    // Baseline events with no partner: the reflection there fell.
-    for (i, eb) in b.events.iter().enumerate() {
-        if all_pairs.iter().any(|p| p.0 == i) {
             continue;
         }
-        let x = to_x_b(eb.delay_s);
-        let d_c = fit.chain.delay_to(x, Which::Current, None);
-        let hc = c.h(d_c);
-        let mag_c = hc.norm().max(super::detect::NOISE_SIGMAS * c.sigma_at(d_c));
-        consider(
-            x,
-            d_c,
-            mag_c,
-            hc,
-            Some((eb.magnitude, b.h(eb.delay_s))),
-            eb.ghost_of.is_some(),
-            &mut engine,
-        )?;
+        findings.push(explain_change(ch, &pa, &fit, same_state, f_ref, &mut engine)?);
     }
     if behind > 0 {
         warnings.push(Warning::new(
@@ -459,6 +484,7 @@ pub fn compare(
         ));
     }
     // A new open or short is as far as reflection now sees: nothing behind it is claimed.
+    let res_s = pa.b.resolution_s.max(pa.c.resolution_s);
     let wall = findings
         .iter()
         .filter(|f| {
@@ -478,20 +504,12 @@ pub fn compare(
             format!(
                 "{} change(s) behind the open or short at {} are not claimed: reflection cannot see past it",
                 before - findings.len(),
-                super::explain::metres(wall)
+                super::place::metres(wall)
             ),
             "mend the open or short first, then sweep again",
         ));
     }
-    findings.sort_by(|a, b| {
-        b.power_drop_db
-            .total_cmp(&a.power_drop_db)
-            .then(b.severity.cmp(&a.severity))
-            .then(b.confidence.total_cmp(&a.confidence))
-    });
-    for (k, f) in findings.iter_mut().enumerate() {
-        f.rank = k + 1;
-    }
+    rank(&mut findings);
     let power = power_check(
         baseline.network,
         current.network,
@@ -499,29 +517,31 @@ pub fn compare(
         &findings,
     );
     let resolution_m = res_s * speed_at(&fit.chain, 0.0, Which::Current);
-    let (not_visible, capped) = not_visible(&chain, &c, Which::Current, f_c);
+    let (not_visible, capped) = not_visible(&pa.chain, &pa.c, Which::Current, band_centre(fc));
     warnings.extend(capped_warning(&capped));
     Ok(CompareReport {
-        line: chain.name.clone(),
+        line: pa.chain.name.clone(),
         baseline: baseline.name.to_string(),
         current: current.name.to_string(),
         states,
         resolution_m,
         reference_hz: f_ref,
-        alignment: fitted.report.clone(),
+        alignment: fit.report.clone(),
         findings,
         not_visible,
         power,
-        noise_rms: c.sigma,
+        noise_rms: pa.c.sigma,
         visibility: Vec::new(),
+        far_end: far_end_report(&pa, &fit, &mut engine)?,
+        connector_lengths: None,
         warnings,
         plot: PlotData::default(),
     }
     .with_plot(
         &fit.chain,
         &[
-            (&b, Which::Baseline, baseline.name),
-            (&c, Which::Current, current.name),
+            (&pa.b, Which::Baseline, baseline.name),
+            (&pa.c, Which::Current, current.name),
         ],
     ))
 }

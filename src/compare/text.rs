@@ -1,6 +1,6 @@
 //! Plain-text reports for people, made from the same result structs as the JSON.
 
-use super::explain::metres;
+use super::place::metres;
 use super::report::{CompareReport, Event, Finding, LocateReport, NotVisible};
 use super::severity::Severity;
 use crate::Warning;

@@ -20,6 +20,16 @@ pub enum State {
     Cold,
 }
 
+impl State {
+    /// `warm` or `cold`.
+    pub fn name(self) -> &'static str {
+        match self {
+            State::Warm => "warm",
+            State::Cold => "cold",
+        }
+    }
+}
+
 impl std::str::FromStr for State {
     type Err = String;
     fn from_str(s: &str) -> Result<State, String> {

@@ -1,0 +1,199 @@
+//! The far end of the visible line in one sweep: which echo is the termination, whether it is an open or a
+//! short (a total reflection), its polarity, and, for a line of unknown construction, the round-trip loss
+//! law that the termination's echo shows (20 log10 |Gamma_loc(f)| = c - a_sqrt sqrt(f/1GHz) - a_lin f/1GHz).
+//!
+//! The termination is the comparator's most reliable landmark: it is the strongest late echo, it is there in
+//! every sweep of the line, and what lies behind an open or short is only multiple reflections.
+//!
+//! Conventions: e^{+j omega t}; round-trip delays in s; the local reflection is the gated echo moved to its
+//! own plane (see `analysis`), so an open reads near +1 and a short near -1 at the bottom of the band, less
+//! the line's loss.
+
+use super::analysis::SweepAnalysis;
+use super::chain::{ChainView, LossModel, Which};
+use super::CompareError;
+use crate::line::Load;
+use crate::transform::TraceEngine;
+
+/// The termination is looked for among echoes no more than this far under the strongest echo, dB
+/// (a lossy line's far open can read 15 dB under a near connector's echo at the top of the band; common
+/// practice, no source).
+pub const TERMINATION_WINDOW_DB: f64 = 20.0;
+
+/// Share of the band, from its bottom, over which a termination's polarity is read (the loss and the
+/// skin effect's excess phase are smallest there).
+pub const POLARITY_BAND: f64 = 0.3;
+
+/// Share of the alias-free time past which an echo may be folded from beyond it (the port's own echo
+/// wrapping round the record, for one): nothing there is a landmark, a termination or a finding above info.
+pub const ALIAS_EDGE: f64 = 0.9;
+
+/// A termination found in one sweep.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Termination {
+    /// Index of its echo in the analysis' events.
+    pub event: usize,
+    pub delay_s: f64,
+    /// Band-pass magnitude of its echo (compensated where the chain has a model).
+    pub magnitude: f64,
+    /// Real part of the mean local reflection over the bottom of the band, over its magnitude: near +1 for
+    /// an open, near -1 for a short.
+    pub polarity: f64,
+    /// |Gamma_loc| at the bottom of the band (what loss leaves of the termination's reflection).
+    pub low_band_reflection: f64,
+    /// True when it is an open or a short: the line file says so, or its reflection is total-like.
+    pub total: bool,
+    /// For a total termination: the round-trip loss its echo shows, dB (`LossModel` of the line up to it);
+    /// `None` when the fit is not trustworthy.
+    pub loss: Option<LossModel>,
+}
+
+/// The load the line file puts at the visible end, if any.
+fn known_load(chain: &ChainView) -> Option<Load> {
+    let i = chain.first_blocking()?;
+    chain.segments[i].load
+}
+
+/// Find the termination of the visible line in sweep `a` (analysed on `chain` in state `which`).
+///
+/// With a line file, the echo nearest the visible end's predicted delay (give or take the thermal model's
+/// error), strongest first; it is total when the line file's load is an open or a short, or when its echo
+/// reads as one. On a line of unknown construction, among the echoes within [`TERMINATION_WINDOW_DB`] of
+/// the strongest: the one whose reflection, extrapolated to zero frequency along its own loss law, is
+/// largest; it is the termination only if that is an open or a short ([`TOTAL_AT_DC`]). Behind an open or
+/// short there are only multiple reflections, so the latest strong echo is not the termination.
+pub fn find(
+    a: &SweepAnalysis,
+    chain: &ChainView,
+    which: Which,
+    engine: &mut TraceEngine,
+) -> Result<Option<Termination>, CompareError> {
+    let edge = ALIAS_EDGE * a.alias_free_s;
+    let raw = |i: usize| a.events[i].magnitude / a.gain_at(a.events[i].delay_s);
+    let strongest = (0..a.events.len())
+        .filter(|&i| a.events[i].delay_s < edge)
+        .map(raw)
+        .fold(0.0, f64::max);
+    if strongest <= 0.0 {
+        return Ok(None);
+    }
+    let floor = strongest * 10f64.powf(-TERMINATION_WINDOW_DB / 20.0);
+    let candidates: Vec<usize> = if chain.as_built {
+        let x_end = chain.visible_end_m();
+        let t_end = chain.delay_to(x_end, which, None);
+        let tol = 0.015 * t_end + 3.0 * a.resolution_s;
+        (0..a.events.len())
+            .filter(|&i| (a.events[i].delay_s - t_end).abs() <= tol && a.events[i].delay_s < edge)
+            .max_by(|&x, &y| raw(x).total_cmp(&raw(y)))
+            .into_iter()
+            .collect()
+    } else {
+        (0..a.events.len())
+            .filter(|&i| a.events[i].delay_s < edge && a.events[i].ghost_of.is_none() && raw(i) >= floor)
+            .collect()
+    };
+    let mut best: Option<(f64, Termination)> = None;
+    for i in candidates {
+        let e = a.events[i];
+        let x = chain.position_of(e.delay_s, which, None);
+        let (f, g) = a.local_reflection(e.delay_s, x, chain, which, engine)?;
+        let n_low = ((f.len() as f64 * POLARITY_BAND).ceil() as usize).clamp(1, f.len());
+        let mean = g[..n_low].iter().sum::<num_complex::Complex64>() / n_low as f64;
+        let low = g[..n_low].iter().map(|v| v.norm()).sum::<f64>() / n_low as f64;
+        let polarity = if mean.norm() > 0.0 {
+            mean.re / mean.norm()
+        } else {
+            0.0
+        };
+        let fit = fit_loss(&f, &g);
+        let at_dc = fit.map_or(20.0 * low.max(1e-12).log10(), |(_, c)| c);
+        let total = match known_load(chain) {
+            Some(Load::Open) | Some(Load::Short) => true,
+            Some(_) => false,
+            None => at_dc >= TOTAL_AT_DC && polarity.abs() >= 0.5,
+        };
+        let t = Termination {
+            event: i,
+            delay_s: e.delay_s,
+            magnitude: e.magnitude,
+            polarity,
+            low_band_reflection: low,
+            total,
+            loss: if total { fit.map(|(l, _)| l) } else { None },
+        };
+        if best.as_ref().is_none_or(|(b, _)| at_dc > *b) {
+            best = Some((at_dc, t));
+        }
+    }
+    Ok(match best {
+        Some((_, t)) if chain.as_built || t.total => Some(t),
+        _ => None,
+    })
+}
+
+/// An echo whose reflection, extrapolated to zero frequency along its fitted loss law, is at least this
+/// strong is an open or a short (-6 dB, |Gamma| = 0.5: a joint's reflection vanishes towards DC, a
+/// termination's does not; common practice, no source).
+pub const TOTAL_AT_DC: f64 = -6.0;
+
+/// Fit 20 log10 |Gamma(f)| = c - a_sqrt sqrt(g) - a_lin g (g = f / 1 GHz) by least squares, with both loss
+/// terms non-negative. The loss law and `c` (the level extrapolated to zero frequency, dB); `None` when
+/// the echo is too weak or too ragged for the fit to mean a line's loss.
+pub fn fit_loss(freqs: &[f64], gamma: &[num_complex::Complex64]) -> Option<(LossModel, f64)> {
+    let pts: Vec<(f64, f64)> = freqs
+        .iter()
+        .zip(gamma)
+        .filter(|(_, g)| g.norm() > 1e-6)
+        .map(|(&f, g)| ((f / 1e9).max(0.0), 20.0 * g.norm().log10()))
+        .collect();
+    if pts.len() < 8 {
+        return None;
+    }
+    // Columns: 1, -sqrt(g), -g.
+    let solve = |cols: &[fn(f64) -> f64]| -> Option<Vec<f64>> {
+        let rows: Vec<(Vec<f64>, f64)> = pts
+            .iter()
+            .map(|&(g, y)| (cols.iter().map(|c| c(g)).collect(), y))
+            .collect();
+        super::align::least_squares(cols.len(), &rows)
+    };
+    let one: fn(f64) -> f64 = |_| 1.0;
+    let sq: fn(f64) -> f64 = |g| -g.sqrt();
+    let lin: fn(f64) -> f64 = |g| -g;
+    let mut p = solve(&[one, sq, lin])?;
+    let model = if p[1] >= 0.0 && p[2] >= 0.0 {
+        LossModel {
+            a_sqrt: p[1],
+            a_lin: p[2],
+            a_flat: 0.0,
+        }
+    } else if p[1] < 0.0 {
+        p = solve(&[one, lin])?;
+        LossModel {
+            a_sqrt: 0.0,
+            a_lin: p[1].max(0.0),
+            a_flat: 0.0,
+        }
+    } else {
+        p = solve(&[one, sq])?;
+        LossModel {
+            a_sqrt: p[1].max(0.0),
+            a_lin: 0.0,
+            a_flat: 0.0,
+        }
+    };
+    // A termination's echo whose level swings by more than a few dB about the loss law is not a plain open or
+    // short behind a smooth line: do not take its shape for the line's loss.
+    let c = p[0];
+    let rms = (pts
+        .iter()
+        .map(|&(g, y)| (y - (c - model.db(g * 1e9))).powi(2))
+        .sum::<f64>()
+        / pts.len() as f64)
+        .sqrt();
+    (rms <= MAX_LOSS_FIT_RMS_DB).then_some((model, c))
+}
+
+/// Largest RMS misfit of a termination's level about the fitted loss law for the law to be used, dB
+/// (common practice, no source).
+pub const MAX_LOSS_FIT_RMS_DB: f64 = 3.0;

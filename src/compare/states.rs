@@ -1,0 +1,675 @@
+//! Which state (warm or cold) each sweep was taken in, read from the data: several independent signatures,
+//! each scored against every hypothesis, the decision, its margin, and the hypotheses the data leave open.
+//!
+//! Signatures of a pair of sweeps (both read on uncompensated traces, so no model enters them):
+//! - `delay-scale`: the current/baseline ratio of the round-trip delays of the echoes both sweeps show, by a
+//!   bounded search and least squares. Cooling a PTFE line changes its electrical length by about -0.2 % to
+//!   +1 % ([`WARM_TO_COLD_CHANGE`]); one state keeps it within [`SAME_STATE_DRIFT`].
+//! - `loss-slope`: how the far echo's strength changed across the band. Cold conductors lose less, and the
+//!   conductor loss grows as sqrt(f), so the ratio current/baseline of the far echo, in dB, rises with
+//!   sqrt(f) when the current is colder. Read relative to the nearest strong echo, so a gain change of an
+//!   amplifier in front (a level change of the whole trace) cancels. With an open or short at the far end the
+//!   slope is also read as the ratio of the two sweeps' conductor losses.
+//!
+//! Signatures of one sweep against a line file (the model as a prior, with generous widths):
+//! - `model-delay`: the sweep's echo delays against the warm and the cold model;
+//! - `model-loss`: an open or short far end's loss law against the warm and the cold model.
+//!
+//! Each signature gives, for each hypothesis, its misfit: how many of its own standard uncertainties the
+//! measured value lies outside the interval that hypothesis allows (0 inside). Misfits add in quadrature;
+//! the hypothesis of least total misfit wins; the margin is the square root of the difference between the
+//! runner-up's total and the winner's. Hypotheses within [`OPEN_MARGIN`] of the winner stay open.
+
+use super::analysis::SweepAnalysis;
+use super::chain::{ChainView, Which};
+use super::far_end::{self, Termination};
+use super::landmarks::{
+    scale_search, strong_events, ScaleMatch, LANDMARK_SEPARATION_CELLS, MAX_LANDMARKS,
+    SAME_STATE_DRIFT, WARM_TO_COLD_CHANGE,
+};
+use super::CompareError;
+use crate::line::{Line, State};
+use crate::transform::{TraceEngine, Window};
+use crate::Network;
+use serde::Serialize;
+
+/// A hypothesis stays open while its total misfit is within this many standard uncertainties of the
+/// winner's (the usual three-sigma rule; common practice, no source).
+pub const OPEN_MARGIN: f64 = 3.0;
+
+/// Misfit (in squared sigmas) by which a change of state must beat one state to be chosen: one state is
+/// the simpler reading of two sweeps, so a change of state needs evidence of its own (one sigma's worth;
+/// common practice, no source).
+pub const STATE_CHANGE_PRIOR: f64 = 1.0;
+
+/// Intervals of the conductor-loss ratio current/baseline that each pair hypothesis allows: cooling lowers
+/// a line's conductor loss to between about 5 % (copper, high residual resistance ratio) and 92 % (stainless
+/// steel) of its warm value; one state keeps it within 3 % (common practice, no source; docs/materials.md
+/// gives the materials' resistivities).
+pub const LOSS_RATIO_WARM_TO_COLD: (f64, f64) = (0.05, 0.92);
+pub const LOSS_RATIO_SAME: (f64, f64) = (0.97, 1.03);
+
+/// Least loss-slope change read as a change of state when no open or short gives the scale, dB per
+/// sqrt(GHz) of the current/baseline ratio (0.05: 0.16 dB across 0-10 GHz; common practice, no source).
+pub const LOSS_SLOPE_SAME: f64 = 0.05;
+
+/// Relative width of the line model's predicted warm -> cold changes (delay change and loss ratio): the
+/// cold permittivity change of real PTFE is known to a factor of two, contraction to 20 %, surface
+/// resistance to 30 % (common practice, no source).
+pub const MODEL_RELATIVE_WIDTH: f64 = 0.6;
+
+/// The four hypotheses of a pair's states.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+pub enum Hypothesis {
+    #[serde(rename = "warm->cold")]
+    WarmCold,
+    #[serde(rename = "cold->warm")]
+    ColdWarm,
+    #[serde(rename = "warm->warm")]
+    WarmWarm,
+    #[serde(rename = "cold->cold")]
+    ColdCold,
+}
+
+impl Hypothesis {
+    pub const ALL: [Hypothesis; 4] = [
+        Hypothesis::WarmCold,
+        Hypothesis::ColdWarm,
+        Hypothesis::WarmWarm,
+        Hypothesis::ColdCold,
+    ];
+
+    /// (baseline, current).
+    pub fn states(self) -> (State, State) {
+        match self {
+            Hypothesis::WarmCold => (State::Warm, State::Cold),
+            Hypothesis::ColdWarm => (State::Cold, State::Warm),
+            Hypothesis::WarmWarm => (State::Warm, State::Warm),
+            Hypothesis::ColdCold => (State::Cold, State::Cold),
+        }
+    }
+
+    pub fn of(b: State, c: State) -> Hypothesis {
+        match (b, c) {
+            (State::Warm, State::Cold) => Hypothesis::WarmCold,
+            (State::Cold, State::Warm) => Hypothesis::ColdWarm,
+            (State::Warm, State::Warm) => Hypothesis::WarmWarm,
+            (State::Cold, State::Cold) => Hypothesis::ColdCold,
+        }
+    }
+
+    pub fn name(self) -> &'static str {
+        match self {
+            Hypothesis::WarmCold => "warm->cold",
+            Hypothesis::ColdWarm => "cold->warm",
+            Hypothesis::WarmWarm => "warm->warm",
+            Hypothesis::ColdCold => "cold->cold",
+        }
+    }
+
+    pub fn same_state(self) -> bool {
+        matches!(self, Hypothesis::WarmWarm | Hypothesis::ColdCold)
+    }
+}
+
+/// One signature and how well each hypothesis explains it. JSON: `states.signatures[]`.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Signature {
+    /// `delay-scale`, `loss-slope`, `loss-ratio`, `model-delay`, `model-loss`.
+    pub name: &'static str,
+    /// Which sweep it reads: `pair`, `baseline` or `current`.
+    pub sweep: &'static str,
+    pub value: f64,
+    pub sigma: f64,
+    pub unit: &'static str,
+    /// For each hypothesis (`warm->cold`, ...): how many sigmas the value lies outside what it allows.
+    pub misfit: Vec<(Hypothesis, f64)>,
+    pub note: String,
+}
+
+impl Signature {
+    fn misfit_of(&self, h: Hypothesis) -> f64 {
+        self.misfit
+            .iter()
+            .find(|(x, _)| *x == h)
+            .map_or(0.0, |m| m.1)
+    }
+}
+
+/// How far `v` lies outside `[lo, hi]`, in units of `sigma`.
+fn outside(v: f64, (lo, hi): (f64, f64), sigma: f64) -> f64 {
+    let d = if v < lo {
+        lo - v
+    } else if v > hi {
+        v - hi
+    } else {
+        0.0
+    };
+    d / sigma.max(1e-300)
+}
+
+/// The decision on a pair's states.
+#[derive(Debug, Clone, PartialEq)]
+pub struct StateDecision {
+    pub chosen: Hypothesis,
+    pub signatures: Vec<Signature>,
+    /// Standard uncertainties between the winner and the runner-up (infinite when nothing else is possible).
+    pub margin: f64,
+    /// Hypotheses the data leave open, the chosen one first.
+    pub open: Vec<Hypothesis>,
+    /// Total misfit of each hypothesis considered.
+    pub totals: Vec<(Hypothesis, f64)>,
+}
+
+/// Both sweeps analysed as one uniform, uncompensated line over their common alias-free time.
+pub(super) fn quick_analyses(
+    b: &Network,
+    c: &Network,
+    window: &Window,
+    engine: &mut TraceEngine,
+) -> Option<(SweepAnalysis, SweepAnalysis)> {
+    let alias = |n: &Network| (n.len() - 1) as f64 / (n.freqs_hz[n.len() - 1] - n.freqs_hz[0]);
+    let t = alias(b).min(alias(c));
+    let uni = ChainView::uniform("", 0.7, 1.0, 50.0);
+    let ab = SweepAnalysis::new(
+        &b.freqs_hz,
+        &b.s11(),
+        window,
+        t,
+        &uni,
+        Which::Baseline,
+        engine,
+    )
+    .ok()?;
+    let ac = SweepAnalysis::new(
+        &c.freqs_hz,
+        &c.s11(),
+        window,
+        t,
+        &uni,
+        Which::Current,
+        engine,
+    )
+    .ok()?;
+    Some((ab, ac))
+}
+
+/// The pair signatures from two uncompensated analyses.
+pub(super) fn pair_signatures(
+    ab: &SweepAnalysis,
+    ac: &SweepAnalysis,
+    engine: &mut TraceEngine,
+) -> Result<(Vec<Signature>, Option<ScaleMatch>), CompareError> {
+    let mut out = Vec::new();
+    let res = ab.resolution_s.max(ac.resolution_s);
+    let strong = strong_events(ab, LANDMARK_SEPARATION_CELLS * res, MAX_LANDMARKS);
+    let (w2c, c2w) = (
+        (1.0 + WARM_TO_COLD_CHANGE.0, 1.0 + WARM_TO_COLD_CHANGE.1),
+        (
+            1.0 / (1.0 + WARM_TO_COLD_CHANGE.1),
+            1.0 / (1.0 + WARM_TO_COLD_CHANGE.0),
+        ),
+    );
+    let m = scale_search(ab, ac, &strong, (c2w.0 - 2e-3, w2c.1 + 2e-3));
+    let uni = ChainView::uniform("", 0.7, 1.0, 50.0);
+    let tb = far_end::find(ab, &uni, Which::Baseline, engine)?;
+    let tc = far_end::find(ac, &uni, Which::Current, engine)?;
+    if let Some(m) = &m {
+        // The far end's own echo moves when the termination is swapped: the line's change is read on the
+        // other echoes when there are enough of them.
+        let (scale, sigma, used) = robust_scale(ab, ac, &m.pairs, tb.as_ref().map(|t| t.event));
+        let v = scale - 1.0;
+        let sig = sigma.max(1e-7);
+        let same = outside(v, (-SAME_STATE_DRIFT, SAME_STATE_DRIFT), sig);
+        out.push(Signature {
+            name: "delay-scale",
+            sweep: "pair",
+            value: v,
+            sigma: sig,
+            unit: "",
+            misfit: vec![
+                (Hypothesis::WarmCold, outside(v, (w2c.0 - 1.0, w2c.1 - 1.0), sig)),
+                (Hypothesis::ColdWarm, outside(v, (c2w.0 - 1.0, c2w.1 - 1.0), sig)),
+                (Hypothesis::WarmWarm, same),
+                (Hypothesis::ColdCold, same),
+            ],
+            note: format!(
+                "electrical length {:+.3} % over {used} echo(es) seen in both",
+                100.0 * v,
+            ),
+        });
+        // The far echo's strength says something of the loss only if the same kind of termination ends
+        // both sweeps (an open swapped for a short, or a load for an open, changes it by itself).
+        let same_end = match (&tb, &tc) {
+            (Some(b), Some(c)) => b.total == c.total && b.polarity * c.polarity > 0.0,
+            (None, None) => true,
+            _ => false,
+        };
+        if same_end {
+            if let Some(sig) = loss_signature(ab, ac, m, tb.clone(), engine)? {
+                out.push(sig);
+            }
+        }
+    }
+    Ok((out, m))
+}
+
+/// Least-squares delay scale through the reference plane over `pairs` (less the pair of baseline event
+/// `exclude` when at least two others remain), each pair weighed by its delay precision, pairs more than
+/// three standard uncertainties off dropped one at a time. (scale, sigma, pairs used).
+fn robust_scale(
+    ab: &SweepAnalysis,
+    ac: &SweepAnalysis,
+    pairs: &[(usize, usize)],
+    exclude: Option<usize>,
+) -> (f64, f64, usize) {
+    let mut use_: Vec<(usize, usize)> = pairs.to_vec();
+    if use_.iter().filter(|p| Some(p.0) != exclude).count() >= 2 {
+        use_.retain(|p| Some(p.0) != exclude);
+    }
+    loop {
+        let (mut num, mut den) = (0.0, 0.0);
+        for &(i, j) in &use_ {
+            let w = 1.0 / super::landmarks::pair_sigma(ab, ac, i, j).powi(2);
+            num += w * ab.events[i].delay_s * ac.events[j].delay_s;
+            den += w * ab.events[i].delay_s.powi(2);
+        }
+        if den <= 0.0 {
+            return (1.0, f64::INFINITY, 0);
+        }
+        let s = num / den;
+        let z: Vec<f64> = use_
+            .iter()
+            .map(|&(i, j)| {
+                ((ac.events[j].delay_s - s * ab.events[i].delay_s)
+                    / super::landmarks::pair_sigma(ab, ac, i, j))
+                .abs()
+            })
+            .collect();
+        let n = use_.len();
+        let chi2: f64 = z.iter().map(|v| v * v).sum();
+        let (k, zmax) = z
+            .iter()
+            .copied()
+            .enumerate()
+            .fold((0, 0.0), |a, (k, v)| if v > a.1 { (k, v) } else { a });
+        if zmax > 3.0 && n > 2 {
+            use_.remove(k);
+            continue;
+        }
+        let infl = if n > 1 {
+            (chi2 / (n - 1) as f64).sqrt().max(1.0)
+        } else {
+            1.0
+        };
+        return (s, infl / den.sqrt(), n);
+    }
+}
+
+/// Fit y = a + b sqrt(g) (g = f / 1 GHz) by least squares; (b, sigma_b).
+fn sqrt_slope(freqs: &[f64], y: &[f64]) -> Option<(f64, f64)> {
+    let n = freqs.len();
+    if n < 8 {
+        return None;
+    }
+    let x: Vec<f64> = freqs.iter().map(|f| (f / 1e9).max(0.0).sqrt()).collect();
+    let mx = x.iter().sum::<f64>() / n as f64;
+    let my = y.iter().sum::<f64>() / n as f64;
+    let sxx: f64 = x.iter().map(|v| (v - mx).powi(2)).sum();
+    if sxx <= 0.0 {
+        return None;
+    }
+    let b = x.iter().zip(y).map(|(a, v)| (a - mx) * (v - my)).sum::<f64>() / sxx;
+    let a = my - b * mx;
+    let rss: f64 = x.iter().zip(y).map(|(u, v)| (v - a - b * u).powi(2)).sum();
+    // Neighbouring points of a gated response are correlated over about a gate's worth of band: count the
+    // independent ones as the number of resolution cells the gate spans across the band, about 10.
+    let dof = (n as f64).min(10.0).max(3.0);
+    let sigma = (rss / (n as f64 - 2.0).max(1.0) / sxx * n as f64 / dof).sqrt();
+    Some((b, sigma))
+}
+
+/// Ratio current/baseline of an echo's local reflection, in dB, against frequency.
+fn ratio_db(
+    ab: &SweepAnalysis,
+    ac: &SweepAnalysis,
+    i: usize,
+    j: usize,
+    engine: &mut TraceEngine,
+) -> Result<Option<(Vec<f64>, Vec<f64>)>, CompareError> {
+    let uni = ChainView::uniform("", 0.7, 1.0, 50.0);
+    let (fb, gb) = ab.local_reflection(ab.events[i].delay_s, 0.0, &uni, Which::Baseline, engine)?;
+    let (fc, gc) = ac.local_reflection(ac.events[j].delay_s, 0.0, &uni, Which::Current, engine)?;
+    if fb.len() != fc.len() || fb.is_empty() {
+        return Ok(None);
+    }
+    let y: Vec<f64> = gb
+        .iter()
+        .zip(&gc)
+        .map(|(b, c)| 20.0 * (c.norm().max(1e-12) / b.norm().max(1e-12)).log10())
+        .collect();
+    Ok(Some((fb, y)))
+}
+
+/// The loss-slope signature: the far echo's current/baseline ratio against sqrt(f), relative to the
+/// nearest strong echo's; with an open or short at the far end, also as a ratio of conductor losses.
+fn loss_signature(
+    ab: &SweepAnalysis,
+    ac: &SweepAnalysis,
+    m: &ScaleMatch,
+    term: Option<Termination>,
+    engine: &mut TraceEngine,
+) -> Result<Option<Signature>, CompareError> {
+    let res = ab.resolution_s.max(ac.resolution_s);
+    // The far echo: the baseline's open or short far end when it pairs, else the last echo both show.
+    let term_pair = term
+        .as_ref()
+        .and_then(|t| m.pairs.iter().find(|p| p.0 == t.event).copied());
+    let Some((i_far, j_far)) = term_pair.or_else(|| m.pairs.last().copied()) else {
+        return Ok(None);
+    };
+    let Some((f, y_far)) = ratio_db(ab, ac, i_far, j_far, engine)? else {
+        return Ok(None);
+    };
+    let Some((mut b, mut sb)) = sqrt_slope(&f, &y_far) else {
+        return Ok(None);
+    };
+    // The nearest strong echo, well before the far one: what changed in front of the line (an amplifier's
+    // gain) changes it as much as the far echo.
+    let near = m
+        .pairs
+        .iter()
+        .find(|&&(i, _)| ab.events[i_far].delay_s - ab.events[i].delay_s > 10.0 * res)
+        .copied();
+    let mut relative = false;
+    if let Some((i, j)) = near {
+        if let Some((fn_, y)) = ratio_db(ab, ac, i, j, engine)? {
+            if fn_.len() == f.len() {
+                if let Some((bn, sn)) = sqrt_slope(&fn_, &y) {
+                    b -= bn;
+                    sb = (sb * sb + sn * sn).sqrt();
+                    relative = true;
+                }
+            }
+        }
+    }
+    let sb = sb.max(1e-3);
+    // The baseline's own loss law at an open or short far end sets the scale.
+    let term = term.filter(|t: &Termination| t.event == i_far && t.total);
+    let near_text = if relative {
+        ", relative to the nearest strong echo"
+    } else {
+        ""
+    };
+    // How much the ratio rose from the bottom to the middle of the band, against how much loss the
+    // baseline's own far end shows over the same stretch of band.
+    let (g_lo, g_mid) = ((f[0] / 1e9).max(0.0), (f[f.len() / 2] / 1e9).max(0.0));
+    let span = g_mid.sqrt() - g_lo.sqrt();
+    let dl_b = term
+        .and_then(|t| t.loss)
+        .map(|l| l.db(f[f.len() / 2]) - l.db(f[0]));
+    if let Some(dl) = dl_b.filter(|&d| span > 0.0 && d > 3.0 * sb * span) {
+        // Conductor loss ratio current/baseline: what the ratio gained is the loss that went away.
+        let q = 1.0 - b * span / dl;
+        let sq = sb * span / dl;
+        let inv = (1.0 / LOSS_RATIO_WARM_TO_COLD.1, 1.0 / LOSS_RATIO_WARM_TO_COLD.0);
+        let same = outside(q, LOSS_RATIO_SAME, sq);
+        return Ok(Some(Signature {
+            name: "loss-ratio",
+            sweep: "pair",
+            value: q,
+            sigma: sq,
+            unit: "",
+            misfit: vec![
+                (Hypothesis::WarmCold, outside(q, LOSS_RATIO_WARM_TO_COLD, sq)),
+                (Hypothesis::ColdWarm, outside(q, inv, sq)),
+                (Hypothesis::WarmWarm, same),
+                (Hypothesis::ColdCold, same),
+            ],
+            note: format!(
+                "the far open or short loses {:.0} % of what it lost in the baseline across the lower half of \
+                 the band ({dl:.1} dB then{near_text})",
+                100.0 * q,
+            ),
+        }));
+    }
+    let same = outside(b, (-LOSS_SLOPE_SAME, LOSS_SLOPE_SAME), sb);
+    Ok(Some(Signature {
+        name: "loss-slope",
+        sweep: "pair",
+        value: b,
+        sigma: sb,
+        unit: "dB/sqrt(GHz)",
+        misfit: vec![
+            (Hypothesis::WarmCold, outside(b, (LOSS_SLOPE_SAME, f64::INFINITY), sb)),
+            (Hypothesis::ColdWarm, outside(b, (f64::NEG_INFINITY, -LOSS_SLOPE_SAME), sb)),
+            (Hypothesis::WarmWarm, same),
+            (Hypothesis::ColdCold, same),
+        ],
+        note: format!("the far echo's strength changed by {b:+.2} dB per sqrt(GHz){near_text}"),
+    }))
+}
+
+/// Signatures of one sweep against the line model: its echo delays and, with an open or short far end, its
+/// loss law, each against the warm and the cold model. `which` names the sweep (`baseline`/`current`).
+pub(super) fn model_signatures(
+    a: &SweepAnalysis,
+    line: &Line,
+    sweep: &'static str,
+    engine: &mut TraceEngine,
+) -> Result<Vec<Signature>, CompareError> {
+    let mut out = Vec::new();
+    let (lo, hi) = (a.freqs[0], a.freqs[a.freqs.len() - 1]);
+    let f_ref = 0.5 * (lo + hi);
+    let chains = [
+        ChainView::from_line(line, State::Warm, State::Warm, lo, hi, f_ref),
+        ChainView::from_line(line, State::Cold, State::Cold, lo, hi, f_ref),
+    ];
+    // Delay: the sweep's strong echoes near the model's joints and far end, scale fitted against the warm
+    // model's delays; the cold model predicts its own scale.
+    let warm = &chains[0];
+    let cold = &chains[1];
+    let marks: Vec<f64> = warm
+        .segments
+        .iter()
+        .filter(|s| s.kind != super::chain::SegmentKind::Cable)
+        .map(|s| 0.5 * (s.start_m + s.end_m))
+        .filter(|&x| x > 0.0 && x <= warm.visible_end_m() + 1e-9)
+        .chain(std::iter::once(warm.visible_end_m()))
+        .collect();
+    let strong = strong_events(a, LANDMARK_SEPARATION_CELLS * a.resolution_s, MAX_LANDMARKS);
+    let (mut num, mut den, mut num_c, mut n) = (0.0, 0.0, 0.0, 0usize);
+    let mut len_var = 0.0;
+    for &x in &marks {
+        let tw = warm.delay_to(x, Which::Baseline, None);
+        let tc = cold.delay_to(x, Which::Baseline, None);
+        // The echo nearest the mark under either model, if within 1.5 % of its delay.
+        let hit = strong
+            .iter()
+            .map(|&i| a.events[i].delay_s)
+            .filter(|&t| (t - tw).abs() <= 0.015 * tw + 2.0 * a.resolution_s)
+            .min_by(|p, q| (p - tw).abs().total_cmp(&(q - tw).abs()));
+        if let Some(t) = hit {
+            num += tw * t;
+            den += tw * tw;
+            num_c += tw * tc;
+            n += 1;
+            len_var += (super::place::LENGTH_TOLERANCE * tw).powi(2);
+        }
+    }
+    if n > 0 && den > 0.0 {
+        let s = num / den - 1.0;
+        let s_cold = num_c / den - 1.0;
+        // As-built lengths are known to LENGTH_TOLERANCE each; their errors partly average out.
+        let sig = ((len_var / n as f64).sqrt() / (den / n as f64).sqrt())
+            .hypot(MODEL_RELATIVE_WIDTH * s_cold.abs() * 0.5)
+            .max(1e-5);
+        let mis_w = outside(s, (-SAME_STATE_DRIFT, SAME_STATE_DRIFT), sig);
+        let band = (
+            s_cold.min(s_cold * (1.0 - MODEL_RELATIVE_WIDTH)),
+            s_cold.max(s_cold * (1.0 + MODEL_RELATIVE_WIDTH)),
+        );
+        let mis_c = outside(s, band, sig);
+        out.push(single(
+            "model-delay",
+            sweep,
+            s,
+            sig,
+            "",
+            mis_w,
+            mis_c,
+            format!(
+                "echo delays {:+.3} % off the warm model over {n} joint(s); the cold model predicts {:+.3} %",
+                100.0 * s,
+                100.0 * s_cold
+            ),
+        ));
+    }
+    // Loss: an open or short far end, against each model's round-trip loss law to it.
+    if let Some(t) = far_end::find(a, warm, Which::Baseline, engine)?.filter(|t| t.total) {
+        let x = warm.position_of(t.delay_s, Which::Baseline, None);
+        let uni = ChainView::uniform("", 0.7, 1.0, 50.0);
+        let (f, g) = a.local_reflection(t.delay_s, x, &uni, Which::Baseline, engine)?;
+        if let Some((meas, _)) = far_end::fit_loss(&f, &g) {
+            let fm = f[f.len() / 2];
+            let l_meas = meas.db(fm);
+            let l_w = warm.loss_to_db(warm.visible_end_m(), fm, Which::Baseline)
+                - warm.loss_model_to(warm.visible_end_m(), Which::Baseline).a_flat;
+            let l_c = cold.loss_to_db(cold.visible_end_m(), fm, Which::Baseline)
+                - cold.loss_model_to(cold.visible_end_m(), Which::Baseline).a_flat;
+            if l_w > 0.5 && l_c > 0.0 {
+                // Compare in the log domain: the model's losses are known to about 30 %.
+                let v = (l_meas.max(1e-3) / l_w).ln();
+                let sig = 0.3f64.max(1.0 / l_w.max(1.0));
+                let r = (l_c / l_w).ln();
+                out.push(single(
+                    "model-loss",
+                    sweep,
+                    v,
+                    sig,
+                    "ln",
+                    outside(v, (-0.3, 0.3), sig),
+                    outside(v, (r - 0.3, r + 0.3), sig),
+                    format!(
+                        "the far end shows {l_meas:.1} dB round trip at {:.2} GHz; the warm model {l_w:.1} dB, \
+                         the cold {l_c:.1} dB",
+                        fm / 1e9
+                    ),
+                ));
+            }
+        }
+    }
+    Ok(out)
+}
+
+/// A single-sweep signature, its misfits spread over the pair hypotheses by the state they give that sweep.
+#[allow(clippy::too_many_arguments)]
+fn single(
+    name: &'static str,
+    sweep: &'static str,
+    value: f64,
+    sigma: f64,
+    unit: &'static str,
+    warm: f64,
+    cold: f64,
+    note: String,
+) -> Signature {
+    let misfit = Hypothesis::ALL
+        .iter()
+        .map(|&h| {
+            let (b, c) = h.states();
+            let s = if sweep == "baseline" { b } else { c };
+            (h, if s == State::Warm { warm } else { cold })
+        })
+        .collect();
+    Signature {
+        name,
+        sweep,
+        value,
+        sigma,
+        unit,
+        misfit,
+        note,
+    }
+}
+
+/// Decide among `allowed` hypotheses from `signatures`.
+pub fn decide(signatures: Vec<Signature>, allowed: &[Hypothesis]) -> StateDecision {
+    let totals: Vec<(Hypothesis, f64)> = allowed
+        .iter()
+        .map(|&h| {
+            (
+                h,
+                signatures
+                    .iter()
+                    .map(|s| s.misfit_of(h).powi(2))
+                    .sum::<f64>(),
+            )
+        })
+        .collect();
+    // One state is the simpler reading: a change of state pays STATE_CHANGE_PRIOR.
+    let totals: Vec<(Hypothesis, f64)> = totals
+        .into_iter()
+        .map(|(h, t)| (h, t + if h.same_state() { 0.0 } else { STATE_CHANGE_PRIOR }))
+        .collect();
+    let best = totals
+        .iter()
+        .copied()
+        .min_by(|a, b| a.1.total_cmp(&b.1))
+        .unwrap_or((allowed[0], 0.0));
+    let runner = totals
+        .iter()
+        .filter(|t| t.0 != best.0)
+        .map(|t| t.1)
+        .fold(f64::INFINITY, f64::min);
+    let margin = (runner - best.1).max(0.0).sqrt();
+    let mut open = vec![best.0];
+    for &(h, t) in &totals {
+        if h != best.0 && (t - best.1).max(0.0).sqrt() < OPEN_MARGIN {
+            open.push(h);
+        }
+    }
+    StateDecision {
+        chosen: best.0,
+        signatures,
+        margin,
+        open,
+        totals,
+    }
+}
+
+impl StateDecision {
+    /// A sentence: the decision, its margin and what stays open.
+    pub fn basis(&self) -> String {
+        let mut s = format!("inferred {}", self.chosen.name());
+        if self.margin.is_finite() {
+            s.push_str(&format!(" with a margin of {:.1} sigma", self.margin));
+        }
+        let strongest = self
+            .signatures
+            .iter()
+            .map(|g| {
+                let own = g.misfit_of(self.chosen);
+                let other = g
+                    .misfit
+                    .iter()
+                    .filter(|(h, _)| *h != self.chosen)
+                    .map(|m| m.1)
+                    .fold(f64::INFINITY, f64::min);
+                (other - own, g)
+            })
+            .max_by(|a, b| a.0.total_cmp(&b.0));
+        if let Some((_, g)) = strongest {
+            s.push_str(&format!(": {}", g.note));
+        }
+        if self.open.len() > 1 {
+            let others: Vec<&str> = self.open[1..].iter().map(|h| h.name()).collect();
+            s.push_str(&format!(
+                "; the data also allow {}, so only changes seen under every one of these are reported",
+                others.join(", ")
+            ));
+        }
+        s
+    }
+}
+
