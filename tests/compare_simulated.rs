@@ -111,7 +111,8 @@ fn serious(r: &CompareReport) -> Vec<&coldtrace::compare::Finding> {
 
 #[test]
 fn crushed_section_mid_segment_is_placed_within_its_uncertainty() {
-    // 0.12 m into the 0.25 m stainless run from room to 50 K (as built 0.80 + 0.008 + 0.12 m).
+    // 0.12 m into the 0.25 m stainless run from room to 50 K (as built 0.80 + 0.004 + 0.12 m: the run
+    // starts 4 mm past the joint at J1, whose 8 mm section is half in it).
     let l = line();
     let base = sim(&l, State::Warm, &[], 21);
     let cur = sim(&l, State::Cold, &["room to 50K@0.12m:crush=30ohm,6mm"], 22);

@@ -61,7 +61,9 @@ fn where_is_names_element_offset_and_connector() {
     let j2 = line.element("J2").unwrap().1.clone();
     let p = line.where_is(j2.start_m - 0.05);
     assert_eq!(p.element, "room to 50K");
-    assert!((p.offset_m - (0.30 - 0.05)).abs() < 1e-12);
+    // The 0.30 m cable as built starts 4 mm past the feedthrough's joint and ends 4 mm short of J2's: each
+    // connector's 8 mm section is half in it.
+    assert!((p.offset_m - (0.30 - 0.004 - 0.004 - 0.05)).abs() < 1e-12);
     assert_eq!(p.nearest_connector.as_deref(), Some("J2"));
     assert!((p.nearest_connector_distance_m.unwrap() - (0.05 + 0.004)).abs() < 1e-12);
     let p = line.where_is(0.3);

@@ -1,7 +1,7 @@
 //! `coldtrace trace --line` end to end in a temp dir: a line is simulated with a fault at one connector
 //! (the simulate command), traced with the line as the distance map, and the strongest peak must land at
-//! that connector's as-built position (from the line file: the sum of the as-built lengths before it plus
-//! half its own), warm and cold. The plot must carry the connector labels.
+//! that connector's as-built position (from the line file: the sum of the cables' lengths before it, its
+//! centre sitting at the joint), warm and cold. The plot must carry the connector labels.
 
 use std::path::{Path, PathBuf};
 use std::process::Command;
@@ -51,9 +51,10 @@ fn trace(dir: &Path, state: &str, map_state: &str) -> serde_json::Value {
     serde_json::from_slice(&o.stdout).unwrap()
 }
 
-/// J2's as-built centre from the line file: room cable 1.50 m + feedthrough 0.008 m + room to 50K 0.30 m +
-/// half of J2 (0.004 m) = 1.812 m (connectors are 8 mm long by default, docs/line-file.md).
-const J2_M: f64 = 1.812;
+/// J2's as-built centre from the line file: room cable 1.50 m + room to 50K 0.30 m = 1.800 m (a connector
+/// without length_m adds no length and its centre sits at the joint: connector_lengths = "in-cables", the
+/// default, docs/line-file.md).
+const J2_M: f64 = 1.800;
 
 fn strongest(v: &serde_json::Value) -> f64 {
     v["peaks"][0]["distance_m"].as_f64().unwrap()

@@ -71,9 +71,20 @@ pub const BUILT_IN: &[&str] = &[
     "cu-flex",
 ];
 
-/// A built-in cable kind by name.
+/// The built-in kind's name as listed in [`BUILT_IN`] for `name` written in any case (`SS-086` is
+/// `ss-086`).
+pub fn built_in_name(name: &str) -> Option<&'static str> {
+    let name = name.trim();
+    BUILT_IN
+        .iter()
+        .copied()
+        .find(|k| k.eq_ignore_ascii_case(name))
+}
+
+/// A built-in cable kind by name, in any case; the kind carries the name as listed in [`BUILT_IN`].
 pub fn built_in(name: &str) -> Option<CableKind> {
     use Material::*;
+    let name = built_in_name(name)?;
     Some(match name {
         "cu-086" => kind(name, A_086, B_086, Copper, Copper, None),
         "cu-141" => kind(name, A_141, B_141, Copper, Copper, None),

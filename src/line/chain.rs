@@ -96,7 +96,8 @@ pub enum ElementKind {
 pub struct Element {
     pub name: String,
     pub kind: ElementKind,
-    /// As-built length, m.
+    /// As-built length, m. Under [`ConnectorLengths::InCables`] a cable's is its length as written less
+    /// the connector sections carved from its ends.
     pub length_m: f64,
     /// As-built position of its start, m from the reference plane.
     pub start_m: f64,
@@ -153,6 +154,41 @@ impl Element {
     }
 }
 
+/// How a connector without its own `length_m` enters the chain's as-built lengths (the line file's
+/// top-level `connector_lengths` key, docs/line-file.md).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum ConnectorLengths {
+    /// Cable lengths are measured end to end, connector bodies included, so a mated pair between two
+    /// assemblies adds no length: its section (default 8 mm) is taken half from the end of the cable
+    /// before it and half from the start of the cable after it (all from one side when only one
+    /// neighbour is a cable), and its centre sits at the joint. The line file's default.
+    #[default]
+    InCables,
+    /// Every connector adds its section length (default 8 mm) to the chain.
+    Added,
+}
+
+impl ConnectorLengths {
+    /// Every convention, in the order listed to users.
+    pub const ALL: [ConnectorLengths; 2] = [ConnectorLengths::InCables, ConnectorLengths::Added];
+
+    /// The name written in line files and reports: `in-cables` or `added`.
+    pub fn name(self) -> &'static str {
+        match self {
+            ConnectorLengths::InCables => "in-cables",
+            ConnectorLengths::Added => "added",
+        }
+    }
+
+    /// The convention named `name` (as [`ConnectorLengths::name`] gives it, any case).
+    pub fn parse(name: &str) -> Option<ConnectorLengths> {
+        Self::ALL
+            .into_iter()
+            .find(|c| c.name().eq_ignore_ascii_case(name.trim()))
+    }
+}
+
 /// A resolved line.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Line {
@@ -165,6 +201,12 @@ pub struct Line {
     pub elements: Vec<Element>,
     /// How PTFE follows the conductors on cooling.
     pub ptfe_model: PtfeModel,
+    /// How connectors without their own length entered the as-built lengths: `InCables` (the line
+    /// file's default), each such connector's section was carved out of the cables beside it and the
+    /// chain is as long as the cables as written; `Added`, every connector added its length. Only
+    /// bookkeeping: the elements' `start_m` and `length_m` already include its effect. [`Line::new`]
+    /// takes the elements' lengths as given and says `Added`; the file reader says what the file chose.
+    pub connector_lengths: ConnectorLengths,
     /// The file it came from, if any.
     pub source: Option<PathBuf>,
     /// Things in the file worth knowing that are not errors (filled in by the file reader).
@@ -190,6 +232,7 @@ impl Line {
             stages,
             elements,
             ptfe_model: PtfeModel::Gapped,
+            connector_lengths: ConnectorLengths::Added,
             source: None,
             warnings: Vec::new(),
         }

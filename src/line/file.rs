@@ -2,10 +2,17 @@
 //!
 //! Every error names the file, the 1-based line and column and the key, and says what is allowed. The
 //! file is read once, resolved once; nothing later looks at the TOML again.
+//!
+//! Material and cable kind names are matched as people write them ([`super::names`]: any case, aliases
+//! for materials) and an unknown one gets the closest known name. Connectors without their own length are
+//! counted in the cables' lengths unless the file says `connector_lengths = "added"`
+//! ([`ConnectorLengths`]): their sections are carved out of the neighbouring cables after the elements are
+//! read, before positions are assigned.
 
 use super::catalogue::{self, CableKind};
-use super::chain::{Element, ElementKind, Line, Load, Stage, ROOM_STAGE};
+use super::chain::{ConnectorLengths, Element, ElementKind, Line, Load, Stage, ROOM_STAGE};
 use super::materials::{Material, PtfeModel, ROOM_K};
+use super::names;
 use super::LineError;
 use serde::de::{self, Deserializer, Visitor};
 use serde::Deserialize;
@@ -14,7 +21,9 @@ use std::ops::Range;
 use std::path::{Path, PathBuf};
 use toml::Spanned;
 
-/// Default as-built length of a connector pair, m (common practice, no source: an SMA pair is ~8 mm).
+/// Default length of a connector pair's section, m (common practice, no source: an SMA pair is ~8 mm).
+/// Under `connector_lengths = "in-cables"` (the default) it is carved out of the cables beside the
+/// connector; under `"added"` it adds to the chain.
 pub const CONNECTOR_LENGTH_M: f64 = 8e-3;
 /// Default impedance of a connector section, ohm: slightly off 50 ohm so a connector shows as a small
 /// echo, as real ones do (common practice, no source; |Gamma| of the step ~0.01).
@@ -66,6 +75,7 @@ struct RawFile {
     name: Spanned<String>,
     impedance_ohm: Option<Spanned<Num>>,
     ptfe_model: Option<Spanned<String>>,
+    connector_lengths: Option<Spanned<String>>,
     #[serde(default)]
     stages: Option<Spanned<BTreeMap<String, Spanned<Num>>>>,
     #[serde(default, rename = "element")]
@@ -191,9 +201,10 @@ fn material(ctx: &Ctx, v: &Spanned<String>, key: &str) -> Result<Material, LineE
             v.span(),
             Some(key),
             format!(
-                "unknown material '{}'; known: {}",
+                "unknown material '{}'{}; known (aliases in brackets, any case): {}",
                 v.get_ref(),
-                Material::NAMES.join(", ")
+                names::did_you_mean(Material::closest(v.get_ref())),
+                Material::listing()
             ),
         )
     })
@@ -206,11 +217,14 @@ fn user_cable(
     z_line: f64,
 ) -> Result<CableKind, LineError> {
     let r = raw.get_ref();
-    if catalogue::built_in(name).is_some() {
+    if let Some(b) = catalogue::built_in_name(name) {
         return Err(ctx.err(
             raw.span(),
             Some(&format!("cables.{name}")),
-            format!("'{name}' is a built-in cable kind; give your kind another name"),
+            format!(
+                "'{name}' is the built-in cable kind '{b}' (kind names are matched in any case); \
+                 give your kind another name"
+            ),
         ));
     }
     let er = match &r.velocity_factor {
@@ -386,6 +400,22 @@ fn resolve(ctx: &Ctx, raw: RawFile) -> Result<Line, LineError> {
             }
         },
     };
+    let connector_lengths = match &raw.connector_lengths {
+        None => ConnectorLengths::default(),
+        Some(v) => ConnectorLengths::parse(v.get_ref()).ok_or_else(|| {
+            ctx.err(
+                v.span(),
+                Some("connector_lengths"),
+                format!(
+                    "unknown value '{}'; use \"in-cables\" (the default: cable lengths include their \
+                     connectors, so a connector without length_m adds no length) or \"added\" (every \
+                     connector adds its length, default {} mm)",
+                    v.get_ref(),
+                    CONNECTOR_LENGTH_M * 1e3
+                ),
+            )
+        })?,
+    };
     let mut stages = vec![Stage {
         name: ROOM_STAGE.to_string(),
         kelvin: ROOM_K,
@@ -436,7 +466,20 @@ fn resolve(ctx: &Ctx, raw: RawFile) -> Result<Line, LineError> {
             })
     };
     let mut kinds: BTreeMap<String, CableKind> = BTreeMap::new();
-    for (name, c) in &raw.cables {
+    // In the order written, so a clash is reported at the later of the two.
+    let mut cables: Vec<(&String, &Spanned<RawCable>)> = raw.cables.iter().collect();
+    cables.sort_by_key(|(_, c)| c.span().start);
+    for (name, c) in cables {
+        if let Some(other) = kinds.keys().find(|k| k.eq_ignore_ascii_case(name)) {
+            return Err(ctx.err(
+                c.span(),
+                Some(&format!("cables.{name}")),
+                format!(
+                    "'{name}' differs from the cable kind '{other}' only in case, and kind names are \
+                     matched in any case; give one of them another name"
+                ),
+            ));
+        }
         kinds.insert(name.clone(), user_cable(ctx, name, c, z_line)?);
     }
     let known_kinds = || {
@@ -444,7 +487,30 @@ fn resolve(ctx: &Ctx, raw: RawFile) -> Result<Line, LineError> {
         v.extend(kinds.keys().cloned());
         v.join(", ")
     };
+    // A kind by name in any case: the file's own kinds first, then the built-in ones.
+    let find_kind = |name: &str| -> Option<CableKind> {
+        kinds
+            .get(name)
+            .or_else(|| {
+                kinds
+                    .iter()
+                    .find(|(k, _)| k.eq_ignore_ascii_case(name.trim()))
+                    .map(|(_, v)| v)
+            })
+            .cloned()
+            .or_else(|| catalogue::built_in(name))
+    };
+    let closest_kind = |name: &str| -> Option<String> {
+        let all: Vec<&str> = catalogue::BUILT_IN
+            .iter()
+            .copied()
+            .chain(kinds.keys().map(String::as_str))
+            .collect();
+        names::closest(name, all.iter().map(|k| (*k, *k))).map(str::to_string)
+    };
     let mut elements: Vec<Element> = Vec::new();
+    // Where each element's name and its length_m are in the text (for the connector-length errors).
+    let mut spans: Vec<(Range<usize>, Option<Range<usize>>)> = Vec::new();
     let mut seen: BTreeMap<String, usize> = BTreeMap::new();
     let mut last_stage = (ROOM_STAGE.to_string(), ROOM_K);
     for sel in &raw.elements {
@@ -545,17 +611,19 @@ fn resolve(ctx: &Ctx, raw: RawFile) -> Result<Line, LineError> {
                         ),
                     )
                 })?;
-                let mut k = kinds
-                    .get(c.get_ref())
-                    .cloned()
-                    .or_else(|| catalogue::built_in(c.get_ref()))
-                    .ok_or_else(|| {
-                        ctx.err(
-                            c.span(),
-                            Some("cable"),
-                            format!("unknown cable kind '{}'; known kinds: {} (or define one under [cables.NAME])", c.get_ref(), known_kinds()),
-                        )
-                    })?;
+                let mut k = find_kind(c.get_ref()).ok_or_else(|| {
+                    ctx.err(
+                        c.span(),
+                        Some("cable"),
+                        format!(
+                            "unknown cable kind '{}'{}; known kinds (any case): {} (or define one under \
+                             [cables.NAME])",
+                            c.get_ref(),
+                            names::did_you_mean(closest_kind(c.get_ref()).as_deref()),
+                            known_kinds()
+                        ),
+                    )
+                })?;
                 if let Some(z) = z_el {
                     k = k.with_impedance(z);
                 }
@@ -656,6 +724,7 @@ fn resolve(ctx: &Ctx, raw: RawFile) -> Result<Line, LineError> {
             }
         };
         last_stage = to.clone();
+        spans.push((el.name.span(), el.length_m.as_ref().map(|v| v.span())));
         elements.push(Element {
             name,
             kind: kind_v,
@@ -674,6 +743,9 @@ fn resolve(ctx: &Ctx, raw: RawFile) -> Result<Line, LineError> {
             Some("element"),
             "the line has no [[element]] entries; add at least one",
         ));
+    }
+    if connector_lengths == ConnectorLengths::InCables {
+        carve_connectors(ctx, &mut elements, &spans)?;
     }
     let mut warnings = Vec::new();
     let loc = |e: &Element| format!("{}:{}", ctx.path.display(), e.line_no);
@@ -716,6 +788,85 @@ fn resolve(ctx: &Ctx, raw: RawFile) -> Result<Line, LineError> {
     let mut line = Line::new(raw.name.get_ref().trim(), z_line, stages, elements);
     line.warnings = warnings;
     line.ptfe_model = ptfe_model;
+    line.connector_lengths = connector_lengths;
     line.source = Some(PathBuf::from(ctx.path));
     Ok(line)
+}
+
+/// `connector_lengths = "in-cables"`: every connector without its own `length_m` takes its section out of
+/// the cables beside it, half from the end of the cable before and half from the start of the cable
+/// after (all from one side when only one neighbour is a cable), so the chain keeps the cables' written
+/// lengths and the connector's centre sits at the joint. `spans[i]` is where element `i`'s name and
+/// its `length_m` (if written) are in the text.
+fn carve_connectors(
+    ctx: &Ctx,
+    elements: &mut [Element],
+    spans: &[(Range<usize>, Option<Range<usize>>)],
+) -> Result<(), LineError> {
+    let is_cable = |e: &Element| matches!(e.kind, ElementKind::Cable { .. });
+    let n = elements.len();
+    let mut taken = vec![0.0; n];
+    let mut takers: Vec<Vec<String>> = vec![Vec::new(); n];
+    for i in 0..n {
+        let e = &elements[i];
+        if !matches!(e.kind, ElementKind::Connector { .. }) || spans[i].1.is_some() {
+            continue;
+        }
+        let before = i.checked_sub(1).filter(|&b| is_cable(&elements[b]));
+        let after = Some(i + 1).filter(|&a| a < n && is_cable(&elements[a]));
+        let shares: Vec<(usize, f64)> = match (before, after) {
+            (Some(b), Some(a)) => vec![(b, 0.5 * e.length_m), (a, 0.5 * e.length_m)],
+            (Some(j), None) | (None, Some(j)) => vec![(j, e.length_m)],
+            (None, None) => {
+                return Err(ctx.err(
+                    spans[i].0.clone(),
+                    Some("length_m"),
+                    format!(
+                        "connector '{}' has no cable before or after it to take its {} mm section \
+                         from (connector_lengths = \"in-cables\", the default, counts connectors in \
+                         the cables' lengths); give it length_m (it then adds that length to the \
+                         chain), or set connector_lengths = \"added\" at the top of the file",
+                        e.name,
+                        e.length_m * 1e3
+                    ),
+                ))
+            }
+        };
+        for (j, d) in shares {
+            taken[j] += d;
+            takers[j].push(e.name.clone());
+        }
+    }
+    for (j, e) in elements.iter_mut().enumerate() {
+        if taken[j] == 0.0 {
+            continue;
+        }
+        let left = e.length_m - taken[j];
+        if left <= 0.0 {
+            let span = spans[j].1.clone().unwrap_or_else(|| spans[j].0.clone());
+            return Err(ctx.err(
+                span,
+                Some("length_m"),
+                format!(
+                    "cable '{}' is {} m long, but the connector section{} of {} beside it take{} \
+                     {:.1} mm of it (connector_lengths = \"in-cables\", the default: a cable's \
+                     length includes its connector bodies); check length_m, {}, or set \
+                     connector_lengths = \"added\"",
+                    e.name,
+                    e.length_m,
+                    if takers[j].len() > 1 { "s" } else { "" },
+                    takers[j].join(" and "),
+                    if takers[j].len() > 1 { "" } else { "s" },
+                    taken[j] * 1e3,
+                    if takers[j].len() > 1 {
+                        "give the connectors their own length_m (they then add it to the chain)"
+                    } else {
+                        "give the connector its own length_m (it then adds it to the chain)"
+                    },
+                ),
+            ));
+        }
+        e.length_m = left;
+    }
+    Ok(())
 }

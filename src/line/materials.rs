@@ -38,8 +38,42 @@ pub enum Material {
     Polyethylene,
 }
 
+/// Every material with the name line files and reports use for it and the other names accepted for it
+/// in a line file (the names people write: trade names, chemical symbols, US spelling). Compared after
+/// [`super::names::normalise`], so case, spaces and underscores do not matter.
+pub const MATERIAL_NAMES: &[(Material, &str, &[&str])] = &[
+    (
+        Material::Copper,
+        "copper",
+        &["cu", "copper-ofhc", "ofhc-copper", "ofhc"],
+    ),
+    (Material::Silver, "silver", &["ag"]),
+    (
+        Material::Stainless304,
+        "stainless304",
+        &["stainless", "stainless-steel", "ss304", "ss"],
+    ),
+    (Material::Cupronickel, "cupronickel", &["cuni"]),
+    (
+        Material::SilverPlatedCupronickel,
+        "silver-plated-cupronickel",
+        &["agcuni"],
+    ),
+    (Material::Brass, "brass", &[]),
+    (Material::BerylliumCopper, "beryllium-copper", &["becu"]),
+    (Material::Nbti, "nbti", &["niobium-titanium"]),
+    (Material::Niobium, "niobium", &["nb"]),
+    (
+        Material::Aluminium6061,
+        "aluminium6061",
+        &["aluminum6061", "al6061", "aluminium", "aluminum"],
+    ),
+    (Material::Ptfe, "ptfe", &["teflon"]),
+    (Material::Polyethylene, "polyethylene", &["pe"]),
+];
+
 impl Material {
-    /// The names accepted in line files.
+    /// The names accepted in line files, one per material (aliases in [`MATERIAL_NAMES`]).
     pub const NAMES: &'static [&'static str] = &[
         "copper",
         "silver",
@@ -55,23 +89,59 @@ impl Material {
         "polyethylene",
     ];
 
-    /// Parse a line-file material name (a few common aliases accepted).
+    /// Parse a line-file material name or alias ([`MATERIAL_NAMES`]), ignoring case, surrounding blanks,
+    /// and the difference between space, underscore and hyphen.
     pub fn parse(name: &str) -> Option<Material> {
-        Some(match name.to_ascii_lowercase().as_str() {
-            "copper" | "cu" => Material::Copper,
-            "silver" | "ag" => Material::Silver,
-            "stainless304" | "stainless" | "ss" | "ss304" => Material::Stainless304,
-            "cupronickel" | "cuni" => Material::Cupronickel,
-            "silver-plated-cupronickel" | "agcuni" => Material::SilverPlatedCupronickel,
-            "brass" => Material::Brass,
-            "beryllium-copper" | "becu" => Material::BerylliumCopper,
-            "nbti" => Material::Nbti,
-            "niobium" | "nb" => Material::Niobium,
-            "aluminium6061" | "aluminum6061" | "al6061" => Material::Aluminium6061,
-            "ptfe" | "teflon" => Material::Ptfe,
-            "polyethylene" | "pe" => Material::Polyethylene,
-            _ => return None,
-        })
+        let n = super::names::normalise(name);
+        MATERIAL_NAMES
+            .iter()
+            .find(|(_, canonical, aliases)| *canonical == n || aliases.contains(&n.as_str()))
+            .map(|(m, _, _)| *m)
+    }
+
+    /// The name line files and reports use for it.
+    pub fn name(self) -> &'static str {
+        self.entry().1
+    }
+
+    /// The other names accepted for it in a line file.
+    pub fn aliases(self) -> &'static [&'static str] {
+        self.entry().2
+    }
+
+    fn entry(self) -> &'static (Material, &'static str, &'static [&'static str]) {
+        MATERIAL_NAMES
+            .iter()
+            .find(|(m, _, _)| *m == self)
+            .expect("every material is listed in MATERIAL_NAMES")
+    }
+
+    /// The known name closest to `written` (by edit distance over names and aliases), as its canonical
+    /// name; `None` when nothing is close ([`super::names::closest`]).
+    pub fn closest(written: &str) -> Option<&'static str> {
+        super::names::closest(
+            written,
+            MATERIAL_NAMES.iter().flat_map(|(_, canonical, aliases)| {
+                std::iter::once((*canonical, *canonical))
+                    .chain(aliases.iter().map(|a| (*a, *canonical)))
+            }),
+        )
+    }
+
+    /// Every accepted name with its aliases, e.g. `stainless304 (stainless, stainless-steel, ss304, ss)`,
+    /// comma-separated, for error messages.
+    pub fn listing() -> String {
+        MATERIAL_NAMES
+            .iter()
+            .map(|(_, canonical, aliases)| {
+                if aliases.is_empty() {
+                    canonical.to_string()
+                } else {
+                    format!("{canonical} ({})", aliases.join(", "))
+                }
+            })
+            .collect::<Vec<_>>()
+            .join(", ")
     }
 
     /// Integrated linear contraction from 293 K to `t_k`, as a fraction.
@@ -599,6 +669,23 @@ mod tests {
         assert!((copper_contraction(4.0) * 100.0 - 0.326).abs() < 0.002);
         assert!((copper_contraction(77.0) * 100.0 - 0.304).abs() < 0.002);
         assert!(copper_contraction(293.0).abs() < 1e-12);
+    }
+
+    #[test]
+    fn names_table_is_consistent() {
+        let canonical: Vec<&str> = MATERIAL_NAMES.iter().map(|(_, c, _)| *c).collect();
+        assert_eq!(canonical, Material::NAMES);
+        let mut all: Vec<&str> = Vec::new();
+        for (m, c, aliases) in MATERIAL_NAMES {
+            assert_eq!(Material::parse(c), Some(*m), "{c}");
+            assert_eq!(m.name(), *c);
+            for a in aliases.iter().chain(std::iter::once(c)) {
+                // Stored as compared: a name that is not already normalised could never match.
+                assert_eq!(crate::line::names::normalise(a), *a, "{a}");
+                assert!(!all.contains(a), "'{a}' is listed twice");
+                all.push(a);
+            }
+        }
     }
 
     #[test]

@@ -7,7 +7,8 @@
 //! temperature, [`physics`] turns a section of line at a temperature into its propagation constant and
 //! characteristic impedance, [`abcd`] holds the 2x2 chain-matrix algebra, [`position`] maps delay to
 //! as-built position, [`thermal`] reports the expected warm -> cold change, [`conduction`] gives a cable's
-//! steady-state temperature profile between stages, [`fault`] parses and models
+//! steady-state temperature profile between stages, [`names`] compares the names people write and
+//! suggests the closest known one, [`fault`] parses and models
 //! faults, [`simulate`](mod@simulate) cascades it all into a [`Network`](crate::Network), and
 //! [`visibility`](mod@visibility) says what a sweep of a given noise floor can see of each element.
 //!
@@ -28,6 +29,7 @@ pub mod conduction;
 pub mod fault;
 pub mod file;
 pub mod materials;
+pub mod names;
 pub mod physics;
 pub mod position;
 pub mod rng;
@@ -35,7 +37,7 @@ pub mod simulate;
 pub mod thermal;
 pub mod visibility;
 
-pub use chain::{Element, ElementKind, Line, Load, Stage, State};
+pub use chain::{ConnectorLengths, Element, ElementKind, Line, Load, Stage, State};
 pub use fault::{Fault, FaultKind, FaultTarget};
 pub use position::{LineMap, Place};
 pub use simulate::{simulate, SimConfig};
