@@ -8,7 +8,9 @@
 //! characteristic impedance, [`abcd`] holds the 2x2 chain-matrix algebra, [`position`] maps delay to
 //! as-built position, [`thermal`] reports the expected warm -> cold change, [`conduction`] gives a cable's
 //! steady-state temperature profile between stages, [`fault`] parses and models
-//! faults, [`simulate`](mod@simulate) cascades it all into a [`Network`](crate::Network), and
+//! faults, [`simulate`](mod@simulate) cascades it all into a [`Network`](crate::Network) (optionally with
+//! physics moved away from the nominal model by a [`Perturbation`], for testing the analysis against a
+//! world that is not its own model), and
 //! [`visibility`](mod@visibility) says what a sweep of a given noise floor can see of each element.
 //!
 //! Conventions used throughout this layer:
@@ -28,6 +30,7 @@ pub mod conduction;
 pub mod fault;
 pub mod file;
 pub mod materials;
+pub mod perturb;
 pub mod physics;
 pub mod position;
 pub mod rng;
@@ -37,6 +40,7 @@ pub mod visibility;
 
 pub use chain::{Element, ElementKind, Line, Load, Stage, State};
 pub use fault::{Fault, FaultKind, FaultTarget};
+pub use perturb::Perturbation;
 pub use position::{LineMap, Place};
 pub use simulate::{simulate, SimConfig};
 pub use thermal::{PullBack, ThermalChange};
