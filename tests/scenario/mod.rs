@@ -1,0 +1,1381 @@
+//! A seeded generator of mismatch scenarios: a cryostat line as the analysis is told it is (the nominal
+//! line file) and as it really is (the truth), two simulated sweeps of the truth, and what the comparator
+//! should find. Shared by `tests/compare_scenarios.rs` (`mod scenario;`) and `examples/accuracy.rs`
+//! (`#[path = "../tests/scenario/mod.rs"] mod scenario;`).
+//!
+//! The truth departs from the nominal line the way a real line departs from its drawing: cable lengths a few
+//! millimetres off the declared ones, connectors whose impedance and shunt capacitance the file does not
+//! describe, and physics that is not the model's (`line::Perturbation`: the cold permittivity change, the
+//! thermal contraction and the conductors' surface resistance). Everything follows from one seed; a
+//! scenario is rebuilt exactly by `Scenario::generate(seed, case)`.
+//!
+//! Conventions: SI inside (Hz, m, ohm, F, K), dB at the edges; positions are one-way, as-built metres from
+//! the reference plane in the **nominal** line's coordinates (see [`FaultTruth::position_m`]); noise levels
+//! are the simulator's (power per point relative to |S| = 1, dB).
+//!
+//! How a fault's level against the noise is computed (approximate, by design):
+//! - its local reflection |rho| at the band centre from its lumped model between two lines of the line's
+//!   impedance (series Z: |Z / (2 Z0 + Z)|; a crush: one section of impedance Z1 and the cable's room
+//!   permittivity, |G1 (1 - e^{-2j theta})| / |1 - G1^2 e^{-2j theta}|, G1 = (Z1 - Z0)/(Z1 + Z0), circuit and
+//!   transmission-line theory);
+//! - times the nominal model's round-trip loss to its place in the current state at the band centre
+//!   (`line::visibility` on the nominal line; inside a cable, interpolated linearly between the cable's ends;
+//!   the perturbed surface resistance and the connectors' mismatches are ignored);
+//! - against the noise RMS of the band-pass trace, sigma_point sqrt(sum w^2) / sum w, with sigma_point =
+//!   10^(noise_db/20) and w the comparator's default window over the sweep's points (a trace normalised by
+//!   the window sum, so a lone reflection rho reads |rho|: docs/method.md).
+//!
+//! `level_db = 20 log10(|rho| 10^(-loss_db/20) / noise_rms)`.
+
+#![allow(dead_code)] // each user (a test, an example) uses part of the module
+
+use coldtrace::compare::job::{compare_networks, LineModel, PairRequest};
+use coldtrace::compare::{AnalysisConfig, CompareReport, Severity};
+use coldtrace::line::rng::Rng;
+use coldtrace::line::{simulate, ElementKind, Fault, Line, Perturbation, SimConfig, State};
+use coldtrace::Network;
+use num_complex::Complex64;
+use std::fmt::Write as _;
+use std::path::Path;
+
+// ---------------------------------------------------------------------------------------------------------
+// Ranges. All are the project's choices of a plausible spread unless a source is named.
+
+/// Cable count per line.
+pub const CABLES: (usize, usize) = (2, 8);
+/// Declared (nominal) cable length, m: runs between stages of 0.15-0.35 m and room cables of 1-3 m (Krinner
+/// et al., EPJ Quantum Technology 6:2, 2019), widened at both ends.
+pub const CABLE_LENGTH_M: (f64, f64) = (0.1, 1.5);
+/// Largest difference between a cable's declared and as-built length, m (common practice, no source: a
+/// length taken from a drawing or a tape against a cut and bent cable).
+pub const LENGTH_ERROR_M: f64 = 8e-3;
+/// Impedance of a real connector pair, ohm, which the nominal file does not state (its default is 51 ohm;
+/// common practice, no source: SMA-class pairs measure within a few ohm of 50).
+pub const CONNECTOR_Z_OHM: (f64, f64) = (48.0, 53.0);
+/// Shunt capacitance of a real connector pair beyond its section, F (common practice, no source).
+pub const CONNECTOR_SHUNT_F: (f64, f64) = (0.0, 15e-15);
+/// Most attenuators per line and their loss, dB (Krinner et al. 2019 list 0-20 dB per stage).
+pub const ATTENUATORS: usize = 2;
+pub const ATTENUATOR_DB: (u32, u32) = (0, 20);
+/// Stage temperatures, K: ~40-50 K, ~3-4 K, still ~0.8-1.2 K, mixing chamber ~10-20 mK (Krinner et al.
+/// 2019). Room is the line file's built-in 295 K.
+pub const STAGES: [(&str, f64, f64); 4] = [
+    ("k50", 40.0, 50.0),
+    ("k4", 3.0, 4.0),
+    ("still", 0.8, 1.2),
+    ("mxc", 0.010, 0.020),
+];
+/// Physics perturbation of the truth: the cold permittivity change scaled by 0.5-2 (the nominal PTFE model
+/// sits between a free and a filled bound that differ by more than that: docs/materials.md), the
+/// contraction by 1 +/- 0.2 and the surface resistance by 1 +/- 0.3 (the material data's spread, from
+/// memory: alloy composition, RRR and surface finish).
+pub const PERMITTIVITY_CHANGE_SCALE: (f64, f64) = (0.5, 2.0);
+pub const CONTRACTION_SPREAD: f64 = 0.2;
+pub const SURFACE_RESISTANCE_SPREAD: f64 = 0.3;
+/// Noise power per point, dB (common practice, no source: a network analyzer at 10 Hz-1 kHz IF bandwidth).
+pub const NOISE_DB: (f64, f64) = (-100.0, -80.0);
+/// Point counts offered; the generator keeps those whose alias-free range holds the line.
+pub const POINTS: [usize; 5] = [1601, 2001, 2401, 3201, 4001];
+/// Share of the alias-free round trip the visible line may use (our choice: room for the far echo's lobe).
+pub const ALIAS_MARGIN: f64 = 0.8;
+/// Bands (start, stop Hz) and their weights: mostly the usual 0.5-10 GHz, sometimes wider or narrower
+/// (common practice, no source).
+pub const BANDS: [(f64, f64, u32); 5] = [
+    (0.5e9, 10e9, 5),
+    (10e6, 20e9, 2),
+    (0.3e9, 8.5e9, 1),
+    (1e9, 18e9, 1),
+    (0.1e9, 6e9, 1),
+];
+/// Fault sizes: pin gaps 5-50 fF (gaps of roughly 0.1-1 mm on a 0.086-in pin, DOMAIN check values), a
+/// bridging partial contact 20-500 ohm, contacts 0.5-10 ohm, crushes to 35-45 ohm over 5-10 mm.
+pub const GAP_F: (f64, f64) = (5e-15, 50e-15);
+pub const PARTIAL_CONTACT_OHM: (f64, f64) = (20.0, 500.0);
+pub const CONTACT_OHM: (f64, f64) = (0.5, 10.0);
+pub const CRUSH_OHM: (f64, f64) = (35.0, 45.0);
+pub const CRUSH_M: (f64, f64) = (5e-3, 10e-3);
+/// Level above the noise floor from which a fault must be found and ranked first, dB (the project's goal).
+pub const VISIBLE_LEVEL_DB: f64 = 10.0;
+
+// ---------------------------------------------------------------------------------------------------------
+
+/// Which comparison a scenario is.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord)]
+pub enum Case {
+    /// Warm baseline -> cold current, nothing wrong.
+    Healthy,
+    /// Cold -> cold, nothing wrong, another noise seed.
+    Repeat,
+    /// One fault in the current (cold) sweep only.
+    Fault,
+}
+
+impl Case {
+    pub fn name(self) -> &'static str {
+        match self {
+            Case::Healthy => "healthy",
+            Case::Repeat => "repeat",
+            Case::Fault => "fault",
+        }
+    }
+
+    pub fn parse(s: &str) -> Option<Case> {
+        match s {
+            "healthy" => Some(Case::Healthy),
+            "repeat" => Some(Case::Repeat),
+            "fault" => Some(Case::Fault),
+            _ => None,
+        }
+    }
+
+    fn tag(self) -> u64 {
+        match self {
+            Case::Healthy => 0x4845_414c,
+            Case::Repeat => 0x5245_5045,
+            Case::Fault => 0x4641_554c,
+        }
+    }
+}
+
+/// The kind of a true fault.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord)]
+pub enum TrueKind {
+    PinGap,
+    PartialGap,
+    Contact,
+    Crush,
+    Open,
+}
+
+impl TrueKind {
+    pub fn name(self) -> &'static str {
+        match self {
+            TrueKind::PinGap => "pin-gap",
+            TrueKind::PartialGap => "pin-gap + contact",
+            TrueKind::Contact => "contact",
+            TrueKind::Crush => "crush",
+            TrueKind::Open => "open",
+        }
+    }
+}
+
+/// The sweep grid and noise.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Band {
+    pub start_hz: f64,
+    pub stop_hz: f64,
+    pub points: usize,
+    pub noise_db: f64,
+}
+
+impl Band {
+    pub fn freqs(&self) -> Vec<f64> {
+        SimConfig::linear(State::Cold, self.start_hz, self.stop_hz, self.points).freqs_hz
+    }
+
+    pub fn centre_hz(&self) -> f64 {
+        0.5 * (self.start_hz + self.stop_hz)
+    }
+
+    /// Noise RMS of the band-pass trace (normalised by the window sum) for the comparator's window.
+    pub fn trace_noise_rms(&self) -> f64 {
+        let w = AnalysisConfig::default().window.coefficients(self.points);
+        let s1: f64 = w.iter().sum();
+        let s2: f64 = w.iter().map(|x| x * x).sum();
+        10f64.powf(self.noise_db / 20.0) * s2.sqrt() / s1
+    }
+}
+
+/// What is wrong, where, and how well a sweep can see it.
+#[derive(Debug, Clone, PartialEq)]
+pub struct FaultTruth {
+    pub kind: TrueKind,
+    /// The simulator's fault specification on the truth line.
+    pub spec: String,
+    /// The element a finding should name: the connector for a fault at a connector, else the cable.
+    pub element: String,
+    pub at_connector: bool,
+    /// Position in the nominal line's as-built metres: a connector's nominal centre, or for a fault inside
+    /// a cable (a crush: its centre) the nominal start of the cable plus the true offset scaled by nominal
+    /// over true length (where an analysis that aligns on the connectors would put it).
+    pub position_m: f64,
+    /// Local |rho| at the band centre, round-trip loss to it (dB) and level over the noise floor (dB), as in
+    /// the module documentation.
+    pub local_rho: f64,
+    pub loss_db: f64,
+    pub level_db: f64,
+}
+
+impl FaultTruth {
+    pub fn visible(&self) -> bool {
+        self.level_db >= VISIBLE_LEVEL_DB
+    }
+}
+
+/// One generated scenario.
+#[derive(Debug, Clone)]
+pub struct Scenario {
+    pub seed: u64,
+    pub case: Case,
+    /// Line-file text of what the analysis is told, and of the line as built.
+    pub nominal_text: String,
+    pub truth_text: String,
+    pub nominal: Line,
+    pub truth: Line,
+    pub perturbation: Perturbation,
+    /// Connector shunt capacitances of the truth, as simulator fault specs (in both sweeps).
+    pub parasitics: Vec<String>,
+    /// As-built minus declared length of each cable, m.
+    pub length_errors_m: Vec<f64>,
+    pub band: Band,
+    pub baseline_state: State,
+    pub current_state: State,
+    pub baseline_noise_seed: u64,
+    pub current_noise_seed: u64,
+    pub fault: Option<FaultTruth>,
+}
+
+struct Gen(Rng);
+
+impl Gen {
+    fn u(&mut self, lo: f64, hi: f64) -> f64 {
+        lo + (hi - lo) * self.0.uniform()
+    }
+    fn int(&mut self, lo: usize, hi: usize) -> usize {
+        lo + (self.0.next_u64() % (hi - lo + 1) as u64) as usize
+    }
+    fn chance(&mut self, p: f64) -> bool {
+        self.0.uniform() < p
+    }
+    fn pick<'a, T>(&mut self, v: &'a [T]) -> &'a T {
+        &v[self.int(0, v.len() - 1)]
+    }
+}
+
+#[derive(Debug, Clone)]
+struct UserKind {
+    name: String,
+    vf: f64,
+    loss_db_per_m_1ghz: f64,
+    conductor: &'static str,
+}
+
+#[derive(Debug, Clone)]
+enum Item {
+    Cable {
+        name: String,
+        kind: String,
+        length_m: f64,
+        truth_length_m: f64,
+        from: &'static str,
+        to: &'static str,
+    },
+    Connector {
+        name: String,
+        stage: &'static str,
+        truth_ohm: f64,
+        shunt_f: f64,
+    },
+    Attenuator {
+        name: String,
+        stage: &'static str,
+        loss_db: u32,
+    },
+    Device {
+        name: String,
+        stage: &'static str,
+        load: String,
+    },
+}
+
+fn stage_name(i: usize) -> &'static str {
+    if i == 0 {
+        "room"
+    } else {
+        STAGES[i - 1].0
+    }
+}
+
+fn toml_text(
+    name: &str,
+    stages: &[(&str, f64)],
+    kinds: &[UserKind],
+    items: &[Item],
+    truth: bool,
+) -> String {
+    let mut s = String::new();
+    let what = if truth {
+        "the line as built (truth)"
+    } else {
+        "the line as declared (nominal)"
+    };
+    let _ = writeln!(s, "# Generated scenario, invented data: {what}.");
+    let _ = writeln!(s, "name = \"{name}\"\nimpedance_ohm = 50.0\n\n[stages]");
+    for (n, k) in stages {
+        let _ = writeln!(s, "{n} = {k:.6}");
+    }
+    for k in kinds {
+        let _ = writeln!(
+            s,
+            "\n[cables.{}]\nvelocity_factor = {:.4}\nloss_db_per_m_1ghz = {:.3}\nconductor = \"{}\"",
+            k.name, k.vf, k.loss_db_per_m_1ghz, k.conductor
+        );
+    }
+    for it in items {
+        s.push_str("\n[[element]]\n");
+        match it {
+            Item::Cable {
+                name,
+                kind,
+                length_m,
+                truth_length_m,
+                from,
+                to,
+            } => {
+                let l = if truth { *truth_length_m } else { *length_m };
+                let _ = writeln!(
+                    s,
+                    "kind = \"cable\"\nname = \"{name}\"\ncable = \"{kind}\"\nlength_m = {l:.6}\nfrom = \"{from}\"\nto = \"{to}\""
+                );
+            }
+            Item::Connector {
+                name,
+                stage,
+                truth_ohm,
+                ..
+            } => {
+                let _ = writeln!(
+                    s,
+                    "kind = \"connector\"\nname = \"{name}\"\nstage = \"{stage}\""
+                );
+                if truth {
+                    let _ = writeln!(s, "impedance_ohm = {truth_ohm:.4}");
+                }
+            }
+            Item::Attenuator {
+                name,
+                stage,
+                loss_db,
+            } => {
+                let _ = writeln!(
+                    s,
+                    "kind = \"attenuator\"\nname = \"{name}\"\nstage = \"{stage}\"\nloss_db = {loss_db}.0"
+                );
+            }
+            Item::Device { name, stage, load } => {
+                let _ = writeln!(
+                    s,
+                    "kind = \"device\"\nname = \"{name}\"\nstage = \"{stage}\"\n{load}"
+                );
+            }
+        }
+    }
+    s
+}
+
+/// Cable kinds offered for a cable between `from` and `to` stages (indices): room cables, the runs into the
+/// cryostat, and the cold runs (Krinner et al. 2019: stainless or cupronickel from room to 4 K, NbTi below;
+/// mixed here on purpose).
+fn kinds_for(from: usize, to: usize) -> &'static [&'static str] {
+    match (from, to) {
+        (0, 0) => &["cu-flex", "cu-141", "cu-086"],
+        (0, _) | (1, _) => &["ss-086", "cuni-086", "agcuni-086", "cu-086"],
+        _ => &["nbti-086", "cuni-086", "agcuni-086", "ss-086", "cu-086"],
+    }
+}
+
+impl Scenario {
+    /// The scenario of `seed` and `case`.
+    pub fn generate(seed: u64, case: Case) -> Scenario {
+        let mut sm = seed ^ case.tag().rotate_left(32);
+        let mut g = Gen(Rng::new(coldtrace::line::rng::splitmix64(&mut sm)));
+
+        // Stages.
+        let stages: Vec<(&str, f64)> = STAGES
+            .iter()
+            .map(|(n, lo, hi)| (*n, g.u(*lo, *hi)))
+            .collect();
+
+        // Cables and the stages they join: `deepest` transitions, each cable one step down or none.
+        let n = g.int(CABLES.0, CABLES.1);
+        let deepest = g.int(1, STAGES.len().min(n));
+        let mut order: Vec<usize> = (0..n).collect();
+        for i in (1..n).rev() {
+            let j = g.int(0, i);
+            order.swap(i, j);
+        }
+        let mut steps = vec![false; n];
+        for &i in &order[..deepest] {
+            steps[i] = true;
+        }
+        let mut kinds: Vec<UserKind> = Vec::new();
+        let mut cables = Vec::new();
+        let mut s = 0usize;
+        for (i, step) in steps.iter().enumerate() {
+            let (from, to) = (s, if *step { s + 1 } else { s });
+            s = to;
+            let kind = if g.chance(0.15) {
+                // A user kind, defined in the file: a flexible or semi-rigid cable of stated loss.
+                let name = format!("user-{}", (b'a' + kinds.len() as u8) as char);
+                kinds.push(UserKind {
+                    name: name.clone(),
+                    vf: g.u(0.69, 0.84),
+                    loss_db_per_m_1ghz: g.u(0.3, 2.0),
+                    conductor: ["copper", "cupronickel", "stainless304"][g.int(0, 2)],
+                });
+                name
+            } else {
+                g.pick(kinds_for(from, to)).to_string()
+            };
+            let length_m = g.u(CABLE_LENGTH_M.0, CABLE_LENGTH_M.1);
+            let err = g.u(-LENGTH_ERROR_M, LENGTH_ERROR_M);
+            cables.push(Item::Cable {
+                name: format!("c{}", i + 1),
+                kind,
+                length_m,
+                truth_length_m: length_m + err,
+                from: stage_name(from),
+                to: stage_name(to),
+            });
+        }
+
+        // Junctions between cables: a connector, or connector, attenuator, connector (cold junctions first).
+        let junction_stage: Vec<&'static str> = cables
+            .iter()
+            .take(n - 1)
+            .map(|c| match c {
+                Item::Cable { to, .. } => *to,
+                _ => unreachable!(),
+            })
+            .collect();
+        let n_att = g.int(0, ATTENUATORS.min(n - 1));
+        let mut junctions: Vec<usize> = (0..n - 1).collect();
+        for i in (1..junctions.len()).rev() {
+            let j = g.int(0, i);
+            junctions.swap(i, j);
+        }
+        // Attenuators go to cold junctions first (4 K and below), as on real input lines.
+        junctions.sort_by_key(|&j| junction_stage[j] == "room" || junction_stage[j] == "k50");
+        let mut att_at: Vec<usize> = Vec::new();
+        for &j in junctions.iter().take(n_att) {
+            att_at.push(j);
+        }
+        let mut items = Vec::new();
+        let (mut nj, mut na) = (0, 0);
+        let mut connector = |g: &mut Gen, stage: &'static str, items: &mut Vec<Item>| {
+            nj += 1;
+            let shunt_f = g.u(CONNECTOR_SHUNT_F.0, CONNECTOR_SHUNT_F.1);
+            items.push(Item::Connector {
+                name: format!("J{nj}"),
+                stage,
+                truth_ohm: g.u(CONNECTOR_Z_OHM.0, CONNECTOR_Z_OHM.1),
+                shunt_f,
+            });
+        };
+        let mut last_stage = "room";
+        for (i, c) in cables.into_iter().enumerate() {
+            if let Item::Cable { to, .. } = &c {
+                last_stage = to;
+            }
+            items.push(c);
+            if i + 1 < n {
+                let st = junction_stage[i];
+                connector(&mut g, st, &mut items);
+                if att_at.contains(&i) {
+                    na += 1;
+                    items.push(Item::Attenuator {
+                        name: format!("A{na}"),
+                        stage: st,
+                        loss_db: g.int(ATTENUATOR_DB.0 as usize, ATTENUATOR_DB.1 as usize) as u32,
+                    });
+                    connector(&mut g, st, &mut items);
+                }
+            }
+        }
+        if g.chance(0.5) {
+            connector(&mut g, last_stage, &mut items);
+        }
+        let load = match g.int(0, 4) {
+            0 => "load = \"open\"".to_string(),
+            1 => "load = \"short\"".to_string(),
+            2 => "load = \"match\"".to_string(),
+            3 => {
+                let any = g.u(10.0, 200.0);
+                format!("load = {:.1}", *g.pick(&[20.0, 120.0, any]))
+            }
+            _ => format!("return_loss_db = {:.2}", g.u(3.0, 20.0)),
+        };
+        items.push(Item::Device {
+            name: "end".into(),
+            stage: last_stage,
+            load,
+        });
+
+        let fridge = *g.pick(&["north-fridge", "south-fridge"]);
+        let name = format!("{fridge}/sim-{}-{seed}", case.name());
+        let nominal_text = toml_text(&name, &stages, &kinds, &items, false);
+        let truth_text = toml_text(&name, &stages, &kinds, &items, true);
+        let nominal = coldtrace::line::file::parse(&nominal_text, Path::new("nominal.toml"))
+            .unwrap_or_else(|e| {
+                panic!("seed {seed}: the nominal line does not parse: {e}\n{nominal_text}")
+            });
+        let truth = coldtrace::line::file::parse(&truth_text, Path::new("truth.toml"))
+            .unwrap_or_else(|e| {
+                panic!("seed {seed}: the truth line does not parse: {e}\n{truth_text}")
+            });
+
+        let parasitics: Vec<String> = items
+            .iter()
+            .filter_map(|it| match it {
+                Item::Connector { name, shunt_f, .. } if *shunt_f >= 0.05e-15 => {
+                    Some(format!("{name}:shunt={:.3}fF", shunt_f * 1e15))
+                }
+                _ => None,
+            })
+            .collect();
+        let length_errors_m = items
+            .iter()
+            .filter_map(|it| match it {
+                Item::Cable {
+                    length_m,
+                    truth_length_m,
+                    ..
+                } => Some(truth_length_m - length_m),
+                _ => None,
+            })
+            .collect();
+
+        let perturbation = Perturbation {
+            permittivity_change_scale: {
+                // Log-uniform, so halving and doubling are equally likely.
+                let (lo, hi) = PERMITTIVITY_CHANGE_SCALE;
+                (lo.ln() + (hi.ln() - lo.ln()) * g.0.uniform()).exp()
+            },
+            contraction_scale: 1.0 + g.u(-CONTRACTION_SPREAD, CONTRACTION_SPREAD),
+            surface_resistance_scale: 1.0
+                + g.u(-SURFACE_RESISTANCE_SPREAD, SURFACE_RESISTANCE_SPREAD),
+        };
+
+        // Band and points: the visible line must fit in the alias-free range, warm and cold.
+        let total: u32 = BANDS.iter().map(|b| b.2).sum();
+        let mut r = g.int(0, total as usize - 1) as u32;
+        let mut band_pick = BANDS[0];
+        for b in BANDS {
+            if r < b.2 {
+                band_pick = b;
+                break;
+            }
+            r -= b.2;
+        }
+        let (start_hz, stop_hz, _) = band_pick;
+        let end = nominal.length_m();
+        let rt = nominal
+            .round_trip_s(end, State::Warm)
+            .max(nominal.round_trip_s(end, State::Cold));
+        let fits: Vec<usize> = POINTS
+            .iter()
+            .copied()
+            .filter(|&p| rt < ALIAS_MARGIN * (p - 1) as f64 / (stop_hz - start_hz))
+            .collect();
+        assert!(
+            !fits.is_empty(),
+            "seed {seed}: no point count holds the line ({rt:e} s round trip)"
+        );
+        let points = *g.pick(&fits);
+        let band = Band {
+            start_hz,
+            stop_hz,
+            points,
+            noise_db: g.u(NOISE_DB.0, NOISE_DB.1),
+        };
+
+        let (baseline_state, current_state) = match case {
+            Case::Healthy => (State::Warm, State::Cold),
+            Case::Repeat => (State::Cold, State::Cold),
+            Case::Fault => {
+                if g.chance(0.5) {
+                    (State::Warm, State::Cold)
+                } else {
+                    (State::Cold, State::Cold)
+                }
+            }
+        };
+        let baseline_noise_seed = g.0.next_u64();
+        let current_noise_seed = g.0.next_u64();
+
+        let mut sc = Scenario {
+            seed,
+            case,
+            nominal_text,
+            truth_text,
+            nominal,
+            truth,
+            perturbation,
+            parasitics,
+            length_errors_m,
+            band,
+            baseline_state,
+            current_state,
+            baseline_noise_seed,
+            current_noise_seed,
+            fault: None,
+        };
+        if case == Case::Fault {
+            sc.fault = Some(sc.place_fault(&mut g));
+        }
+        sc
+    }
+
+    /// One-way as-built distance a resolution cell's main lobe covers around an echo in a line of
+    /// permittivity `er`, m (1.3 times the -6 dB width, as the comparator's detector uses), plus the length
+    /// error. Faults inside cables keep this far from the cable's ends.
+    pub fn margin_m(&self, er: f64) -> f64 {
+        let bins = AnalysisConfig::default().window.figures().mainlobe_6db_bins;
+        let rt = 1.3 * bins / (self.band.stop_hz - self.band.start_hz);
+        0.5 * rt * coldtrace::line::materials::C0 / er.sqrt() + LENGTH_ERROR_M
+    }
+
+    /// How far from a connector's nominal centre a finding may lie and still be the connector's, m: a main
+    /// lobe and the length error (see [`Scenario::margin_m`]) at the built-in cables' permittivity.
+    pub fn connector_tolerance_m(&self) -> f64 {
+        self.margin_m(coldtrace::line::catalogue::PTFE_ER)
+    }
+
+    fn place_fault(&self, g: &mut Gen) -> FaultTruth {
+        let vis = self.truth.visible();
+        let connectors: Vec<usize> = (0..vis.len())
+            .filter(|&i| matches!(vis[i].kind, ElementKind::Connector { .. }))
+            .collect();
+        let kind = match g.int(0, 19) {
+            0..=4 => TrueKind::PinGap,
+            5..=8 => TrueKind::PartialGap,
+            9..=12 => TrueKind::Contact,
+            13..=17 => TrueKind::Crush,
+            _ => TrueKind::Open,
+        };
+        let in_cable = kind == TrueKind::Crush || (kind == TrueKind::Open && g.chance(0.5));
+        // Cables long enough to hold the fault clear of their ends.
+        let crush_m = g.u(CRUSH_M.0, CRUSH_M.1);
+        let cables: Vec<(usize, f64)> = (0..vis.len())
+            .filter_map(|i| match &vis[i].kind {
+                ElementKind::Cable { cable } => {
+                    let m = self.margin_m(cable.er);
+                    let need = if kind == TrueKind::Crush {
+                        crush_m
+                    } else {
+                        0.0
+                    };
+                    (vis[i].length_m > 2.0 * m + need).then_some((i, m))
+                }
+                _ => None,
+            })
+            .collect();
+        let z0 = self.truth.impedance_ohm;
+        let w = 2.0 * std::f64::consts::PI * self.band.centre_hz();
+        let j = Complex64::new(0.0, 1.0);
+        let series = |z: Complex64| (z / (2.0 * z0 + z)).norm();
+        let (spec, element, at_connector, true_offset, local_rho) =
+            if in_cable && !cables.is_empty() {
+                let &(i, m) = g.pick(&cables);
+                let e = &vis[i];
+                let need = if kind == TrueKind::Crush {
+                    crush_m
+                } else {
+                    0.0
+                };
+                let off = g.u(m, e.length_m - m - need);
+                match kind {
+                    TrueKind::Crush => {
+                        let z1 = g.u(CRUSH_OHM.0, CRUSH_OHM.1);
+                        let er = match &e.kind {
+                            ElementKind::Cable { cable } => cable.er,
+                            _ => unreachable!(),
+                        };
+                        let g1 = (z1 - z0) / (z1 + z0);
+                        let theta = w * er.sqrt() * crush_m / coldtrace::line::materials::C0;
+                        let ph = Complex64::from_polar(1.0, -2.0 * theta);
+                        let rho = (g1 * (1.0 - ph) / (1.0 - g1 * g1 * ph)).norm();
+                        (
+                            format!(
+                                "{}@{off:.6}m:crush={z1:.3}ohm,{:.3}mm",
+                                e.name,
+                                crush_m * 1e3
+                            ),
+                            e.name.clone(),
+                            false,
+                            off + 0.5 * crush_m,
+                            rho,
+                        )
+                    }
+                    _ => (
+                        format!("{}@{off:.6}m:open", e.name),
+                        e.name.clone(),
+                        false,
+                        off,
+                        1.0,
+                    ),
+                }
+            } else {
+                let i = *g.pick(&connectors);
+                let e = &vis[i];
+                let (what, rho) = match kind {
+                    TrueKind::PinGap => {
+                        let c = g.u(GAP_F.0, GAP_F.1);
+                        (format!("gap={:.3}fF", c * 1e15), series(1.0 / (j * w * c)))
+                    }
+                    TrueKind::PartialGap => {
+                        let c = g.u(GAP_F.0, GAP_F.1);
+                        let r = g.u(PARTIAL_CONTACT_OHM.0, PARTIAL_CONTACT_OHM.1);
+                        (
+                            format!("gap={:.3}fF,contact={r:.3}ohm", c * 1e15),
+                            series(r / (1.0 + j * w * r * c)),
+                        )
+                    }
+                    TrueKind::Contact | TrueKind::Crush => {
+                        let r = g.u(CONTACT_OHM.0, CONTACT_OHM.1);
+                        (format!("contact={r:.4}ohm"), series(Complex64::new(r, 0.0)))
+                    }
+                    TrueKind::Open => ("open".to_string(), 1.0),
+                };
+                (
+                    format!("{}:{what}", e.name),
+                    e.name.clone(),
+                    true,
+                    0.5 * e.length_m,
+                    rho,
+                )
+            };
+        // A crush that found no cable long enough became a contact above.
+        let kind = match (kind, at_connector) {
+            (TrueKind::Crush, true) => TrueKind::Contact,
+            (k, _) => k,
+        };
+        // Nominal coordinates.
+        let (_, ne) = self
+            .nominal
+            .element(&element)
+            .expect("same names in both files");
+        let (_, te) = self
+            .truth
+            .element(&element)
+            .expect("same names in both files");
+        let position_m = ne.start_m + true_offset * ne.length_m / te.length_m;
+        let loss_db = self.nominal_loss_db(&element, true_offset * ne.length_m / te.length_m);
+        let noise = self.band.trace_noise_rms();
+        let level_db = 20.0 * (local_rho * 10f64.powf(-loss_db / 20.0) / noise).log10();
+        FaultTruth {
+            kind,
+            spec,
+            element,
+            at_connector,
+            position_m,
+            local_rho,
+            loss_db,
+            level_db,
+        }
+    }
+
+    /// Round-trip loss of the nominal model to `offset_m` inside `element` in the current state at the band
+    /// centre, dB: `line::visibility` at the element's place, and inside a cable a linear interpolation to
+    /// the next element's place.
+    fn nominal_loss_db(&self, element: &str, offset_m: f64) -> f64 {
+        let v = coldtrace::line::visibility(
+            &self.nominal,
+            self.current_state,
+            &self.band.freqs(),
+            1e-6,
+        )
+        .expect("visibility of a generated line");
+        let i = v
+            .iter()
+            .position(|x| x.element == element)
+            .expect("element");
+        let here = v[i].round_trip_loss_db.unwrap_or(f64::INFINITY);
+        let e = &self.nominal.elements[i];
+        if !matches!(e.kind, ElementKind::Cable { .. }) {
+            return here;
+        }
+        let next = v
+            .get(i + 1)
+            .and_then(|x| x.round_trip_loss_db)
+            .unwrap_or(here);
+        here + (next - here) * (offset_m / e.length_m).clamp(0.0, 1.0)
+    }
+
+    /// Simulate the baseline and current sweeps of the truth.
+    pub fn sweeps(&self) -> Result<(Network, Network), String> {
+        let mk = |state: State, seed: u64, fault: Option<&str>| {
+            let mut cfg = SimConfig::linear(
+                state,
+                self.band.start_hz,
+                self.band.stop_hz,
+                self.band.points,
+            );
+            cfg.noise_db = Some(self.band.noise_db);
+            cfg.seed = seed;
+            cfg.perturbation = self.perturbation;
+            let mut specs: Vec<&str> = self.parasitics.iter().map(String::as_str).collect();
+            specs.extend(fault);
+            cfg.faults = specs
+                .iter()
+                .map(|s| Fault::parse(s).map_err(|e| e.to_string()))
+                .collect::<Result<_, _>>()?;
+            simulate(&self.truth, &cfg).map_err(|e| e.to_string())
+        };
+        let b = mk(self.baseline_state, self.baseline_noise_seed, None)?;
+        let c = mk(
+            self.current_state,
+            self.current_noise_seed,
+            self.fault.as_ref().map(|f| f.spec.as_str()),
+        )?;
+        Ok((b, c))
+    }
+
+    /// Compare the two sweeps on the nominal line, with the states given (the truth's) or inferred.
+    pub fn compare(
+        &self,
+        baseline: &Network,
+        current: &Network,
+        states_given: bool,
+    ) -> coldtrace::Result<CompareReport> {
+        let cfg = AnalysisConfig::default();
+        compare_networks(&PairRequest {
+            baseline: ("baseline", baseline),
+            current: ("current", current),
+            line: LineModel::Line(&self.nominal),
+            baseline_state: states_given.then_some(self.baseline_state),
+            current_state: states_given.then_some(self.current_state),
+            analysis: &cfg,
+        })
+    }
+
+    /// A few lines saying what the scenario is.
+    pub fn describe(&self) -> String {
+        let mut s = String::new();
+        let els: Vec<String> = self
+            .truth
+            .visible()
+            .iter()
+            .map(|e| match &e.kind {
+                ElementKind::Cable { cable } => {
+                    format!(
+                        "{} {} {:.3} m {}-{}",
+                        e.name, cable.name, e.length_m, e.from_stage, e.to_stage
+                    )
+                }
+                ElementKind::Attenuator { loss_db, .. } => format!("{} {loss_db} dB", e.name),
+                ElementKind::Device { load } => format!("{} {load:?}", e.name),
+                ElementKind::Connector { .. } => e.name.clone(),
+            })
+            .collect();
+        let _ = writeln!(
+            s,
+            "{} seed {} ({})",
+            self.case.name(),
+            self.seed,
+            self.truth.name
+        );
+        let _ = writeln!(s, "  truth: {}", els.join(" | "));
+        let _ = writeln!(
+            s,
+            "  band {:.2}-{:.2} GHz, {} points, noise {:.1} dB; {:?} -> {:?}; perturbation: permittivity change x{:.2}, contraction x{:.3}, surface resistance x{:.3}",
+            self.band.start_hz / 1e9,
+            self.band.stop_hz / 1e9,
+            self.band.points,
+            self.band.noise_db,
+            self.baseline_state,
+            self.current_state,
+            self.perturbation.permittivity_change_scale,
+            self.perturbation.contraction_scale,
+            self.perturbation.surface_resistance_scale
+        );
+        if let Some(f) = &self.fault {
+            let _ = writeln!(
+                s,
+                "  fault: {} ({}) at {:.4} m nominal, |rho| {:.2e}, loss {:.1} dB, {:.1} dB over the noise",
+                f.spec,
+                f.kind.name(),
+                f.position_m,
+                f.local_rho,
+                f.loss_db,
+                f.level_db
+            );
+        }
+        s
+    }
+}
+
+// ---------------------------------------------------------------------------------------------------------
+// Scoring.
+
+/// The rank-1 finding, as scored.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Top {
+    pub element: String,
+    pub nearest_connector: Option<String>,
+    pub distance_m: f64,
+    pub kind: &'static str,
+    pub severity: Severity,
+    pub reflection_db: f64,
+}
+
+/// One comparison's result, reduced to what is scored.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Run {
+    pub states_given: bool,
+    /// The comparator's error, if any.
+    pub error: Option<String>,
+    /// Findings above info: (element, kind, severity, distance m, reflection dB).
+    pub alarms: Vec<(String, &'static str, Severity, f64, f64)>,
+    pub top: Option<Top>,
+    /// The states the report used.
+    pub states: (String, String),
+}
+
+fn state_name(s: State) -> &'static str {
+    match s {
+        State::Warm => "warm",
+        State::Cold => "cold",
+    }
+}
+
+impl Run {
+    fn from(report: coldtrace::Result<CompareReport>, states_given: bool) -> Run {
+        match report {
+            Err(e) => Run {
+                states_given,
+                error: Some(e.to_string()),
+                alarms: Vec::new(),
+                top: None,
+                states: (String::new(), String::new()),
+            },
+            Ok(r) => Run {
+                states_given,
+                error: None,
+                alarms: r
+                    .findings
+                    .iter()
+                    .filter(|f| f.severity > Severity::Info)
+                    .map(|f| {
+                        (
+                            f.place.element.clone(),
+                            f.kind.name(),
+                            f.severity,
+                            f.place.distance_m,
+                            f.reflection_db,
+                        )
+                    })
+                    .collect(),
+                top: r.findings.iter().min_by_key(|f| f.rank).map(|f| Top {
+                    element: f.place.element.clone(),
+                    nearest_connector: f.place.nearest_connector.clone(),
+                    distance_m: f.place.distance_m,
+                    kind: f.kind.name(),
+                    severity: f.severity,
+                    reflection_db: f.reflection_db,
+                }),
+                states: (r.states.baseline.to_string(), r.states.current.to_string()),
+            },
+        }
+    }
+}
+
+/// A scenario with its two comparisons (states inferred, states given).
+#[derive(Debug, Clone)]
+pub struct Evaluated {
+    pub scenario: Scenario,
+    pub inferred: Run,
+    pub given: Run,
+}
+
+impl Evaluated {
+    pub fn run(&self, states_given: bool) -> &Run {
+        if states_given {
+            &self.given
+        } else {
+            &self.inferred
+        }
+    }
+
+    /// A false alarm: a healthy or repeat case with a finding above info.
+    pub fn false_alarm(&self, states_given: bool) -> bool {
+        self.scenario.fault.is_none() && !self.run(states_given).alarms.is_empty()
+    }
+
+    /// The rank-1 finding names the faulty element: it lies in it, or, for a fault at a connector, names
+    /// the connector as its nearest one while lying within [`Scenario::connector_tolerance_m`] of it (a
+    /// finding half a metre away in the next cable is not the connector's). None for a healthy case.
+    pub fn right_element(&self, states_given: bool) -> Option<bool> {
+        let f = self.scenario.fault.as_ref()?;
+        Some(match &self.run(states_given).top {
+            None => false,
+            Some(t) => {
+                t.element == f.element
+                    || (f.at_connector
+                        && t.nearest_connector.as_deref() == Some(f.element.as_str())
+                        && (t.distance_m - f.position_m).abs()
+                            <= self.scenario.connector_tolerance_m())
+            }
+        })
+    }
+
+    /// |rank-1 distance - truth|, m.
+    pub fn location_error_m(&self, states_given: bool) -> Option<f64> {
+        let f = self.scenario.fault.as_ref()?;
+        self.run(states_given)
+            .top
+            .as_ref()
+            .map(|t| (t.distance_m - f.position_m).abs())
+    }
+
+    /// The report's states match the truth's.
+    pub fn states_right(&self, states_given: bool) -> bool {
+        let r = self.run(states_given);
+        r.error.is_none()
+            && r.states
+                == (
+                    state_name(self.scenario.baseline_state).to_string(),
+                    state_name(self.scenario.current_state).to_string(),
+                )
+    }
+
+    /// One line: what happened in the run.
+    pub fn what_happened(&self, states_given: bool) -> String {
+        let r = self.run(states_given);
+        if let Some(e) = &r.error {
+            return format!("error: {e}");
+        }
+        let mut s = format!("states {} -> {}", r.states.0, r.states.1);
+        if let Some(f) = &self.scenario.fault {
+            let _ = write!(
+                s,
+                "; truth {} ({}) at {:.4} m, {:.1} dB over noise",
+                f.element,
+                f.kind.name(),
+                f.position_m,
+                f.level_db
+            );
+        }
+        match &r.top {
+            Some(t) => {
+                let _ = write!(
+                    s,
+                    "; rank 1: {} {} in {} (nearest {}) at {:.4} m, {:.1} dB",
+                    t.severity,
+                    t.kind,
+                    t.element,
+                    t.nearest_connector.as_deref().unwrap_or("-"),
+                    t.distance_m,
+                    t.reflection_db
+                );
+            }
+            None => s.push_str("; no finding"),
+        }
+        if !r.alarms.is_empty() {
+            let list: Vec<String> = r
+                .alarms
+                .iter()
+                .take(4)
+                .map(|(e, k, sev, x, db)| format!("{sev} {k} in {e} at {x:.4} m ({db:.1} dB)"))
+                .collect();
+            let _ = write!(
+                s,
+                "; {} above info: {}{}",
+                r.alarms.len(),
+                list.join(", "),
+                if r.alarms.len() > 4 { ", ..." } else { "" }
+            );
+        }
+        s
+    }
+}
+
+/// Generate, simulate and compare one scenario (states inferred and given).
+pub fn evaluate(seed: u64, case: Case) -> Evaluated {
+    let scenario = Scenario::generate(seed, case);
+    let (inferred, given) = match scenario.sweeps() {
+        Err(e) => {
+            let r = Run {
+                states_given: false,
+                error: Some(format!("simulation: {e}")),
+                alarms: Vec::new(),
+                top: None,
+                states: (String::new(), String::new()),
+            };
+            (
+                r.clone(),
+                Run {
+                    states_given: true,
+                    ..r
+                },
+            )
+        }
+        Ok((b, c)) => (
+            Run::from(scenario.compare(&b, &c, false), false),
+            Run::from(scenario.compare(&b, &c, true), true),
+        ),
+    };
+    Evaluated {
+        scenario,
+        inferred,
+        given,
+    }
+}
+
+/// Evaluate every (seed, case) on `threads` threads; results in the order given.
+pub fn evaluate_all(list: &[(u64, Case)], threads: usize) -> Vec<Evaluated> {
+    use std::sync::atomic::{AtomicUsize, Ordering};
+    use std::sync::Mutex;
+    let next = AtomicUsize::new(0);
+    let out: Mutex<Vec<Option<Evaluated>>> = Mutex::new(vec![None; list.len()]);
+    std::thread::scope(|s| {
+        for _ in 0..threads.max(1) {
+            s.spawn(|| loop {
+                let i = next.fetch_add(1, Ordering::Relaxed);
+                if i >= list.len() {
+                    break;
+                }
+                let (seed, case) = list[i];
+                let e = evaluate(seed, case);
+                out.lock().unwrap_or_else(|p| p.into_inner())[i] = Some(e);
+            });
+        }
+    });
+    out.into_inner()
+        .unwrap_or_else(|p| p.into_inner())
+        .into_iter()
+        .map(|e| e.expect("every scenario evaluated"))
+        .collect()
+}
+
+/// The seeds of a run: `healthy` no-fault cases (every fourth a same-state repeat) and `faults` fault
+/// cases, from `base`.
+pub fn plan(base: u64, healthy: usize, faults: usize) -> Vec<(u64, Case)> {
+    let mut v = Vec::new();
+    for i in 0..healthy as u64 {
+        let case = if i % 4 == 3 {
+            Case::Repeat
+        } else {
+            Case::Healthy
+        };
+        v.push((base * 1_000_000 + i, case));
+    }
+    for i in 0..faults as u64 {
+        v.push((base * 1_000_000 + 500_000 + i, Case::Fault));
+    }
+    v
+}
+
+/// Quantile `q` of `v` (nearest rank), NaN when empty.
+pub fn quantile(v: &[f64], q: f64) -> f64 {
+    if v.is_empty() {
+        return f64::NAN;
+    }
+    let mut s = v.to_vec();
+    s.sort_by(f64::total_cmp);
+    let k = ((q * s.len() as f64).ceil() as usize).clamp(1, s.len()) - 1;
+    s[k]
+}
+
+/// The figures of one mode (states inferred or given) over a set of evaluations.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Figures {
+    pub states_given: bool,
+    pub no_fault_runs: usize,
+    pub false_alarms: usize,
+    pub healthy_runs: usize,
+    pub healthy_false_alarms: usize,
+    pub repeat_runs: usize,
+    pub repeat_false_alarms: usize,
+    pub visible_faults: usize,
+    pub visible_right: usize,
+    pub all_faults: usize,
+    pub all_right: usize,
+    /// Location errors of visible faults with a rank-1 finding, m; and of those whose element is right.
+    pub location_errors_m: Vec<f64>,
+    pub location_errors_right_m: Vec<f64>,
+    pub states_checked: usize,
+    pub states_right: usize,
+    pub fault_states_right: usize,
+    pub errors: usize,
+    /// (true kind, reported rank-1 kind or "none") -> count, visible faults.
+    pub confusion: std::collections::BTreeMap<(TrueKind, &'static str), usize>,
+}
+
+impl Figures {
+    pub fn of(all: &[Evaluated], states_given: bool) -> Figures {
+        let mut f = Figures {
+            states_given,
+            no_fault_runs: 0,
+            false_alarms: 0,
+            healthy_runs: 0,
+            healthy_false_alarms: 0,
+            repeat_runs: 0,
+            repeat_false_alarms: 0,
+            visible_faults: 0,
+            visible_right: 0,
+            all_faults: 0,
+            all_right: 0,
+            location_errors_m: Vec::new(),
+            location_errors_right_m: Vec::new(),
+            states_checked: 0,
+            states_right: 0,
+            fault_states_right: 0,
+            errors: 0,
+            confusion: Default::default(),
+        };
+        for e in all {
+            let r = e.run(states_given);
+            if r.error.is_some() {
+                f.errors += 1;
+            }
+            match &e.scenario.fault {
+                None => {
+                    f.no_fault_runs += 1;
+                    let fa = e.false_alarm(states_given);
+                    f.false_alarms += fa as usize;
+                    if e.scenario.case == Case::Healthy {
+                        f.healthy_runs += 1;
+                        f.healthy_false_alarms += fa as usize;
+                    } else {
+                        f.repeat_runs += 1;
+                        f.repeat_false_alarms += fa as usize;
+                    }
+                    f.states_checked += 1;
+                    f.states_right += e.states_right(states_given) as usize;
+                }
+                Some(t) => {
+                    let right = e.right_element(states_given) == Some(true);
+                    f.all_faults += 1;
+                    f.all_right += right as usize;
+                    f.fault_states_right += e.states_right(states_given) as usize;
+                    if t.visible() {
+                        f.visible_faults += 1;
+                        f.visible_right += right as usize;
+                        if let Some(x) = e.location_error_m(states_given) {
+                            f.location_errors_m.push(x);
+                            if right {
+                                f.location_errors_right_m.push(x);
+                            }
+                        }
+                        let k = r.top.as_ref().map(|t| t.kind).unwrap_or("none");
+                        *f.confusion.entry((t.kind, k)).or_default() += 1;
+                    }
+                }
+            }
+        }
+        f
+    }
+}
+
+fn pct(n: usize, d: usize) -> String {
+    if d == 0 {
+        "-".to_string()
+    } else {
+        format!("{:.1} % ({n}/{d})", 100.0 * n as f64 / d as f64)
+    }
+}
+
+/// The accuracy table (Markdown) of both modes.
+pub fn table(inferred: &Figures, given: &Figures) -> String {
+    let mut s = String::new();
+    let row = |s: &mut String, what: &str, goal: &str, a: String, b: String| {
+        let _ = writeln!(s, "| {what} | {goal} | {a} | {b} |");
+    };
+    let _ = writeln!(s, "| figure | goal | states inferred | states given |");
+    let _ = writeln!(s, "|---|---|---|---|");
+    row(
+        &mut s,
+        "false alarms, healthy warm -> cold",
+        "0",
+        pct(inferred.healthy_false_alarms, inferred.healthy_runs),
+        pct(given.healthy_false_alarms, given.healthy_runs),
+    );
+    row(
+        &mut s,
+        "false alarms, same-state repeats",
+        "0",
+        pct(inferred.repeat_false_alarms, inferred.repeat_runs),
+        pct(given.repeat_false_alarms, given.repeat_runs),
+    );
+    row(
+        &mut s,
+        &format!("right element first, faults >= {VISIBLE_LEVEL_DB} dB over noise"),
+        ">= 98 %",
+        pct(inferred.visible_right, inferred.visible_faults),
+        pct(given.visible_right, given.visible_faults),
+    );
+    row(
+        &mut s,
+        "right element first, all faults",
+        "-",
+        pct(inferred.all_right, inferred.all_faults),
+        pct(given.all_right, given.all_faults),
+    );
+    let loc = |v: &[f64]| {
+        format!(
+            "{:.1} mm / {:.1} mm (n = {})",
+            1e3 * quantile(v, 0.5),
+            1e3 * quantile(v, 0.95),
+            v.len()
+        )
+    };
+    row(
+        &mut s,
+        "location error of rank 1, median / 95th percentile, faults over the noise",
+        "-",
+        loc(&inferred.location_errors_m),
+        loc(&given.location_errors_m),
+    );
+    row(
+        &mut s,
+        "the same, where rank 1 is the right element",
+        "-",
+        loc(&inferred.location_errors_right_m),
+        loc(&given.location_errors_right_m),
+    );
+    row(
+        &mut s,
+        "states right, healthy and repeats",
+        "100 %",
+        pct(inferred.states_right, inferred.states_checked),
+        pct(given.states_right, given.states_checked),
+    );
+    row(
+        &mut s,
+        "states right, fault cases",
+        "-",
+        pct(inferred.fault_states_right, inferred.all_faults),
+        pct(given.fault_states_right, given.all_faults),
+    );
+    let n = inferred.no_fault_runs + inferred.all_faults;
+    row(
+        &mut s,
+        "runs that returned an error",
+        "0",
+        format!("{} of {n}", inferred.errors),
+        format!("{} of {n}", given.errors),
+    );
+    s
+}
+
+/// The kind confusion table (Markdown): true kind -> rank-1 kinds reported, visible faults.
+pub fn confusion_table(f: &Figures) -> String {
+    let mut reported: Vec<&'static str> = f.confusion.keys().map(|k| k.1).collect();
+    reported.sort();
+    reported.dedup();
+    let mut kinds: Vec<TrueKind> = f.confusion.keys().map(|k| k.0).collect();
+    kinds.sort();
+    kinds.dedup();
+    let mut s = String::new();
+    let _ = writeln!(s, "| true kind | {} |", reported.join(" | "));
+    let _ = writeln!(s, "|---|{}", "---|".repeat(reported.len()));
+    for k in kinds {
+        let cells: Vec<String> = reported
+            .iter()
+            .map(|r| f.confusion.get(&(k, *r)).copied().unwrap_or(0).to_string())
+            .collect();
+        let _ = writeln!(s, "| {} | {} |", k.name(), cells.join(" | "));
+    }
+    s
+}
