@@ -39,10 +39,40 @@ use std::fmt::Write as _;
 use std::path::Path;
 
 // ---------------------------------------------------------------------------------------------------------
-// Ranges. All are the project's choices of a plausible spread unless a source is named.
+// Ranges and shares. Each is the project's choice of a plausible spread (common practice, no source) unless
+// a source is named beside it.
 
-/// Cable count per line.
+/// Cable count per line (common practice, no source).
 pub const CABLES: (usize, usize) = (2, 8);
+/// Share of cables of a user kind (`[cables.NAME]`), and such a kind's velocity factor, stated loss at
+/// 1 GHz (dB/m) and conductors (common practice, no source: flexible and semi-rigid lines of the trade).
+pub const USER_KIND_SHARE: f64 = 0.15;
+pub const USER_VF: (f64, f64) = (0.69, 0.84);
+pub const USER_LOSS_DB_PER_M_1GHZ: (f64, f64) = (0.3, 2.0);
+pub const USER_CONDUCTORS: [&str; 3] = ["copper", "cupronickel", "stainless304"];
+/// Share of lines with a connector between the last cable and the device (common practice, no source).
+pub const END_CONNECTOR_SHARE: f64 = 0.5;
+/// Far-end devices: a resistive load (20 or 120 ohm, or any in this range) or a stated return loss, dB
+/// (common practice, no source).
+pub const DEVICE_OHM: (f64, f64) = (10.0, 200.0);
+pub const DEVICE_RETURN_LOSS_DB: (f64, f64) = (3.0, 20.0);
+/// Share of fault cases whose baseline is warm (the rest cold) (common practice, no source).
+pub const WARM_BASELINE_SHARE: f64 = 0.5;
+/// Weights of the fault kinds: pin gap, pin gap with a bridging contact, contact, crush, open (common
+/// practice, no source).
+pub const FAULT_WEIGHTS: [(TrueKind, u32); 5] = [
+    (TrueKind::PinGap, 5),
+    (TrueKind::PartialGap, 4),
+    (TrueKind::Contact, 4),
+    (TrueKind::Crush, 5),
+    (TrueKind::Open, 2),
+];
+/// Share of opens placed inside a cable (a break) rather than at a connector (common practice, no source).
+pub const OPEN_IN_CABLE_SHARE: f64 = 0.5;
+/// Half-width of the comparator's main lobe in resolution cells (-6 dB widths), as its detector uses it
+/// (`compare::analysis::lobe_shape`: the Kaiser beta 9 first null at 3.03 bins against 2.34 bins at -6 dB,
+/// Harris, Proc. IEEE 66(1), 1978, from memory).
+pub const MAIN_LOBE_CELLS: f64 = 1.3;
 /// Declared (nominal) cable length, m: runs between stages of 0.15-0.35 m and room cables of 1-3 m (Krinner
 /// et al., EPJ Quantum Technology 6:2, 2019), widened at both ends.
 pub const CABLE_LENGTH_M: (f64, f64) = (0.1, 1.5);
@@ -74,7 +104,8 @@ pub const CONTRACTION_SPREAD: f64 = 0.2;
 pub const SURFACE_RESISTANCE_SPREAD: f64 = 0.3;
 /// Noise power per point, dB (common practice, no source: a network analyzer at 10 Hz-1 kHz IF bandwidth).
 pub const NOISE_DB: (f64, f64) = (-100.0, -80.0);
-/// Point counts offered; the generator keeps those whose alias-free range holds the line.
+/// Point counts offered; the generator keeps those whose alias-free range holds the line (common practice,
+/// no source).
 pub const POINTS: [usize; 5] = [1601, 2001, 2401, 3201, 4001];
 /// Share of the alias-free round trip the visible line may use (our choice: room for the far echo's lobe).
 pub const ALIAS_MARGIN: f64 = 0.8;
@@ -87,8 +118,10 @@ pub const BANDS: [(f64, f64, u32); 5] = [
     (1e9, 18e9, 1),
     (0.1e9, 6e9, 1),
 ];
-/// Fault sizes: pin gaps 5-50 fF (gaps of roughly 0.1-1 mm on a 0.086-in pin, DOMAIN check values), a
-/// bridging partial contact 20-500 ohm, contacts 0.5-10 ohm, crushes to 35-45 ohm over 5-10 mm.
+/// Fault sizes: pin gaps 5-50 fF (wide gaps: 0.1 mm on a 0.086-in pin is about 55 fF by Kirchhoff's disc
+/// formula, `line::fault::gap_capacitance`; in series on 50 ohm they reflect |rho| > 0.85 at 5 GHz, circuit
+/// theory), a bridging partial contact 20-500 ohm, contacts 0.5-10 ohm, crushes to 35-45 ohm over 5-10 mm
+/// (common practice, no source).
 pub const GAP_F: (f64, f64) = (5e-15, 50e-15);
 pub const PARTIAL_CONTACT_OHM: (f64, f64) = (20.0, 500.0);
 pub const CONTACT_OHM: (f64, f64) = (0.5, 10.0);
@@ -414,14 +447,14 @@ impl Scenario {
         for (i, step) in steps.iter().enumerate() {
             let (from, to) = (s, if *step { s + 1 } else { s });
             s = to;
-            let kind = if g.chance(0.15) {
+            let kind = if g.chance(USER_KIND_SHARE) {
                 // A user kind, defined in the file: a flexible or semi-rigid cable of stated loss.
                 let name = format!("user-{}", (b'a' + kinds.len() as u8) as char);
                 kinds.push(UserKind {
                     name: name.clone(),
-                    vf: g.u(0.69, 0.84),
-                    loss_db_per_m_1ghz: g.u(0.3, 2.0),
-                    conductor: ["copper", "cupronickel", "stainless304"][g.int(0, 2)],
+                    vf: g.u(USER_VF.0, USER_VF.1),
+                    loss_db_per_m_1ghz: g.u(USER_LOSS_DB_PER_M_1GHZ.0, USER_LOSS_DB_PER_M_1GHZ.1),
+                    conductor: USER_CONDUCTORS[g.int(0, USER_CONDUCTORS.len() - 1)],
                 });
                 name
             } else {
@@ -492,7 +525,7 @@ impl Scenario {
                 }
             }
         }
-        if g.chance(0.5) {
+        if g.chance(END_CONNECTOR_SHARE) {
             connector(&mut g, last_stage, &mut items);
         }
         let load = match g.int(0, 4) {
@@ -500,10 +533,13 @@ impl Scenario {
             1 => "load = \"short\"".to_string(),
             2 => "load = \"match\"".to_string(),
             3 => {
-                let any = g.u(10.0, 200.0);
+                let any = g.u(DEVICE_OHM.0, DEVICE_OHM.1);
                 format!("load = {:.1}", *g.pick(&[20.0, 120.0, any]))
             }
-            _ => format!("return_loss_db = {:.2}", g.u(3.0, 20.0)),
+            _ => format!(
+                "return_loss_db = {:.2}",
+                g.u(DEVICE_RETURN_LOSS_DB.0, DEVICE_RETURN_LOSS_DB.1)
+            ),
         };
         items.push(Item::Device {
             name: "end".into(),
@@ -593,7 +629,7 @@ impl Scenario {
             Case::Healthy => (State::Warm, State::Cold),
             Case::Repeat => (State::Cold, State::Cold),
             Case::Fault => {
-                if g.chance(0.5) {
+                if g.chance(WARM_BASELINE_SHARE) {
                     (State::Warm, State::Cold)
                 } else {
                     (State::Cold, State::Cold)
@@ -627,11 +663,11 @@ impl Scenario {
     }
 
     /// One-way as-built distance a resolution cell's main lobe covers around an echo in a line of
-    /// permittivity `er`, m (1.3 times the -6 dB width, as the comparator's detector uses), plus the length
-    /// error. Faults inside cables keep this far from the cable's ends.
+    /// permittivity `er`, m ([`MAIN_LOBE_CELLS`] -6 dB widths, as the comparator's detector uses), plus
+    /// the length error. Faults inside cables keep this far from the cable's ends.
     pub fn margin_m(&self, er: f64) -> f64 {
         let bins = AnalysisConfig::default().window.figures().mainlobe_6db_bins;
-        let rt = 1.3 * bins / (self.band.stop_hz - self.band.start_hz);
+        let rt = MAIN_LOBE_CELLS * bins / (self.band.stop_hz - self.band.start_hz);
         0.5 * rt * coldtrace::line::materials::C0 / er.sqrt() + LENGTH_ERROR_M
     }
 
@@ -646,14 +682,18 @@ impl Scenario {
         let connectors: Vec<usize> = (0..vis.len())
             .filter(|&i| matches!(vis[i].kind, ElementKind::Connector { .. }))
             .collect();
-        let kind = match g.int(0, 19) {
-            0..=4 => TrueKind::PinGap,
-            5..=8 => TrueKind::PartialGap,
-            9..=12 => TrueKind::Contact,
-            13..=17 => TrueKind::Crush,
-            _ => TrueKind::Open,
-        };
-        let in_cable = kind == TrueKind::Crush || (kind == TrueKind::Open && g.chance(0.5));
+        let total: u32 = FAULT_WEIGHTS.iter().map(|w| w.1).sum();
+        let mut r = g.int(0, total as usize - 1) as u32;
+        let mut kind = FAULT_WEIGHTS[0].0;
+        for (k, w) in FAULT_WEIGHTS {
+            if r < w {
+                kind = k;
+                break;
+            }
+            r -= w;
+        }
+        let in_cable =
+            kind == TrueKind::Crush || (kind == TrueKind::Open && g.chance(OPEN_IN_CABLE_SHARE));
         // Cables long enough to hold the fault clear of their ends.
         let crush_m = g.u(CRUSH_M.0, CRUSH_M.1);
         let cables: Vec<(usize, f64)> = (0..vis.len())
