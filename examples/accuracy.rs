@@ -13,7 +13,8 @@
 #[path = "../tests/scenario/mod.rs"]
 mod scenario;
 
-use scenario::{confusion_table, evaluate, evaluate_all, plan, table, Case, Evaluated, Figures};
+use scenario::score::{confusion_table, evaluate, evaluate_all, plan, table, Evaluated, Figures};
+use scenario::Case;
 use std::fmt::Write as _;
 use std::path::PathBuf;
 use std::time::Instant;

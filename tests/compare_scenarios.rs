@@ -10,7 +10,8 @@
 
 mod scenario;
 
-use scenario::{evaluate_all, Case, Evaluated, Scenario, LENGTH_ERROR_M};
+use scenario::score::{evaluate_all, Evaluated};
+use scenario::{Case, Scenario, LENGTH_ERROR_M};
 use std::sync::OnceLock;
 
 /// The fixed seeds: 24 healthy warm -> cold, 8 same-state repeats, 32 faults (about 16 s in the test
