@@ -1,8 +1,10 @@
-//! Fault specifications (`J2:gap=30fF`, `room to 50K@0.12m:crush=40ohm,8mm`) and their lumped models.
+//! Fault specifications (`J2:gap=30fF`, `J2:gap=20fF,contact=50ohm`, `room to 50K@0.12m:crush=40ohm,8mm`)
+//! and their lumped models.
 //!
 //! Conventions: SI units after parsing (F, ohm, H, m); positions are as-built offsets inside the target
 //! element; a fault at a connector sits at the connector's centre. Lumped parts between matched lines
-//! reflect series Z as Z / (2 Z0 + Z) and shunt Y as -Y Z0 / (2 + Y Z0) (circuit theory).
+//! reflect series Z as Z / (2 Z0 + Z) and shunt Y as -Y Z0 / (2 + Y Z0) (circuit theory); a gap bridged by a
+//! poor contact is the series Z = R / (1 + j omega R C) of R in parallel with C.
 
 use super::chain::{ElementKind, Line};
 use super::materials::EPS0;
@@ -13,8 +15,8 @@ use std::f64::consts::PI;
 
 /// The fault grammar, shown with every fault error.
 pub const GRAMMAR: &str = "TARGET:KIND where TARGET is a connector name (J2) or ELEMENT@OFFSET \
-(\"room to 50K@0.12m\") and KIND is gap=30fF | gap=40um | contact=2ohm | inductance=0.5nH | \
-crush=40ohm,8mm | step=60ohm | open | short | shunt=50fF";
+(\"room to 50K@0.12m\") and KIND is gap=30fF | gap=40um | gap=20fF,contact=50ohm | contact=2ohm | \
+inductance=0.5nH | crush=40ohm,8mm | step=60ohm | open | short | shunt=50fF";
 
 /// Where a fault is.
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -34,6 +36,10 @@ pub enum FaultKind {
     Gap { farad: f64 },
     /// Series resistance (a poor contact), ohm.
     Contact { ohm: f64 },
+    /// A pin gap bridged by a partial contact: series capacitance `farad` in parallel with a series
+    /// resistance `ohm`, Z = R / (1 + j omega R C).
+    #[serde(rename = "partial-gap")]
+    PartialGap { farad: f64, ohm: f64 },
     /// Series inductance, H.
     Inductance { henry: f64 },
     /// A short section of another impedance (a crushed or dented cable), ohm and m.
@@ -120,20 +126,41 @@ impl Fault {
         let kind = match word.as_str() {
             "gap" => {
                 let v = need(value)?;
+                // `gap=20fF,contact=50ohm`: the gap bridged by a partial contact.
+                let (v, contact) = match v.split_once(',') {
+                    Some((g, rest)) => {
+                        let rest = rest.trim();
+                        let r = match rest.split_once('=') {
+                            Some((w, r)) if w.trim().eq_ignore_ascii_case("contact") => r.trim(),
+                            _ => {
+                                return Err(err(
+                                    spec,
+                                    "a gap takes at most a bridging contact after the comma: \
+                                     gap=20fF,contact=50ohm",
+                                ))
+                            }
+                        };
+                        let ohm = positive(
+                            units::parse(r, Family::Resistance)
+                                .map_err(|e| err(spec, format!("contact: {e}")))?,
+                            "the contact resistance",
+                        )?;
+                        (g.trim().to_string(), Some(ohm))
+                    }
+                    None => (v, None),
+                };
                 if !v.chars().any(|c| c.is_alphabetic()) {
                     return Err(err(
                         spec,
                         "gap needs a unit: a capacitance (30fF) or a length (40um)",
                     ));
                 }
-                match units::parse(&v, Family::Capacitance) {
-                    Ok(c) => FaultKind::Gap {
-                        farad: positive(c, "the gap capacitance")?,
-                    },
+                let farad = match units::parse(&v, Family::Capacitance) {
+                    Ok(c) => positive(c, "the gap capacitance")?,
                     Err(ec) => match units::parse(&v, Family::Length) {
                         Ok(g) => {
                             gap_length_m = Some(positive(g, "the gap length")?);
-                            FaultKind::Gap { farad: f64::NAN }
+                            f64::NAN
                         }
                         _ => {
                             return Err(err(
@@ -142,6 +169,10 @@ impl Fault {
                             ))
                         }
                     },
+                };
+                match contact {
+                    Some(ohm) => FaultKind::PartialGap { farad, ohm },
+                    None => FaultKind::Gap { farad },
                 }
             }
             "contact" => FaultKind::Contact {
@@ -269,8 +300,10 @@ impl Fault {
                          give a capacitance instead",
                     )),
                 };
-            self.kind = FaultKind::Gap {
-                farad: gap_capacitance(a, g, er),
+            let farad = gap_capacitance(a, g, er);
+            self.kind = match self.kind {
+                FaultKind::PartialGap { ohm, .. } => FaultKind::PartialGap { farad, ohm },
+                _ => FaultKind::Gap { farad },
             };
         }
         Ok((idx, offset))

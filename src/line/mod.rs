@@ -9,7 +9,9 @@
 //! as-built position, [`thermal`] reports the expected warm -> cold change, [`conduction`] gives a cable's
 //! steady-state temperature profile between stages, [`names`] compares the names people write and
 //! suggests the closest known one, [`fault`] parses and models
-//! faults, [`simulate`](mod@simulate) cascades it all into a [`Network`](crate::Network), and
+//! faults, [`simulate`](mod@simulate) cascades it all into a [`Network`](crate::Network) (optionally with
+//! physics moved away from the nominal model by a [`Perturbation`], for testing the analysis against a
+//! world that is not its own model), and
 //! [`visibility`](mod@visibility) says what a sweep of a given noise floor can see of each element.
 //!
 //! Conventions used throughout this layer:
@@ -30,6 +32,7 @@ pub mod fault;
 pub mod file;
 pub mod materials;
 pub mod names;
+pub mod perturb;
 pub mod physics;
 pub mod position;
 pub mod rng;
@@ -39,6 +42,7 @@ pub mod visibility;
 
 pub use chain::{ConnectorLengths, Element, ElementKind, Line, Load, Stage, State};
 pub use fault::{Fault, FaultKind, FaultTarget};
+pub use perturb::Perturbation;
 pub use position::{LineMap, Place};
 pub use simulate::{simulate, SimConfig};
 pub use thermal::{PullBack, ThermalChange};

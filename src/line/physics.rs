@@ -36,9 +36,21 @@ pub struct SectionState {
 impl SectionState {
     /// The state of `kind` at `t_k`, with the given PTFE model.
     pub fn new(kind: &CableKind, t_k: f64, ptfe: PtfeModel) -> SectionState {
-        let c_in = kind.inner.contraction(t_k) - kind.inner.contraction(ROOM_K);
-        let c_out = kind.outer.contraction(t_k) - kind.outer.contraction(ROOM_K);
-        let c_d = kind.dielectric.contraction(t_k) - kind.dielectric.contraction(ROOM_K);
+        SectionState::with_contraction_scale(kind, t_k, ptfe, 1.0)
+    }
+
+    /// As [`SectionState::new`], with every material's contraction from room temperature (conductors and
+    /// dielectric alike) multiplied by `scale`. A scale of 1 is [`SectionState::new`] exactly (a product by
+    /// 1.0 is exact in floating point). Used by the simulator's [`Perturbation`](super::Perturbation).
+    pub fn with_contraction_scale(
+        kind: &CableKind,
+        t_k: f64,
+        ptfe: PtfeModel,
+        scale: f64,
+    ) -> SectionState {
+        let c_in = scale * (kind.inner.contraction(t_k) - kind.inner.contraction(ROOM_K));
+        let c_out = scale * (kind.outer.contraction(t_k) - kind.outer.contraction(ROOM_K));
+        let c_d = scale * (kind.dielectric.contraction(t_k) - kind.dielectric.contraction(ROOM_K));
         let (a, b) = (kind.inner_radius_m, kind.outer_radius_m);
         let a1 = a * (1.0 - c_in);
         let b1 = b * (1.0 - c_out);

@@ -7,13 +7,16 @@
 //! S-parameters refer to the line's `impedance_ohm`. In two-port mode the device is replaced by a matched
 //! port 2 at its plane; an `open` or `short` fault there becomes a 1e12 ohm series resistance or a
 //! 1e12 S shunt conductance so the two-port stays defined. Noise: complex Gaussian, variance
-//! 10^(noise_db/10) per point (relative to |S| = 1), added to every parameter, seeded.
+//! 10^(noise_db/10) per point (relative to |S| = 1), added to every parameter, seeded. A
+//! [`Perturbation`] (neutral by default) moves the simulated physics away from the nominal model the
+//! analysis uses; see [`super::perturb`].
 
 use super::abcd::{reflection, Abcd};
 use super::chain::{ElementKind, Line, Load, State};
 use super::fault::{Fault, FaultKind};
 use super::materials::C0;
-use super::physics::{SectionCoeffs, SectionState};
+use super::perturb::Perturbation;
+use super::physics::SectionCoeffs;
 use super::position::slices;
 use super::rng::Rng;
 use super::LineError;
@@ -33,6 +36,8 @@ pub struct SimConfig {
     pub faults: Vec<Fault>,
     /// Write S21 too (2-port, device end as matched port 2).
     pub two_port: bool,
+    /// How the simulated physics departs from the nominal model (default: not at all).
+    pub perturbation: Perturbation,
 }
 
 impl SimConfig {
@@ -52,6 +57,7 @@ impl SimConfig {
             seed: 0,
             faults: Vec::new(),
             two_port: false,
+            perturbation: Perturbation::NEUTRAL,
         }
     }
 }
@@ -67,6 +73,11 @@ enum Block {
     SeriesC(f64),
     SeriesR(f64),
     SeriesL(f64),
+    /// A series resistance `r` in parallel with a capacitance `c` (a gap bridged by a poor contact).
+    SeriesRc {
+        r: f64,
+        c: f64,
+    },
     ShuntC(f64),
     ShuntG(f64),
     Atten {
@@ -96,6 +107,8 @@ impl Block {
             }
             Block::SeriesR(r) => Abcd::series(Complex64::new(r, 0.0)),
             Block::SeriesL(l) => Abcd::series(j * w * l),
+            // Z = R || 1/(j w C) = R / (1 + j w R C); R at DC.
+            Block::SeriesRc { r, c } => Abcd::series(r / (1.0 + j * w * r * c)),
             Block::ShuntC(c) => Abcd::shunt(j * w * c),
             Block::ShuntG(g) => Abcd::shunt(Complex64::new(g, 0.0)),
             Block::Atten { gain, delay_s, z0 } => {
@@ -118,7 +131,13 @@ fn end_impedance(load: Load, z_ref: f64) -> Option<Complex64> {
 }
 
 /// Build the cascade's blocks for `line` in `state` with resolved faults.
-fn blocks(line: &Line, state: State, faults: &[(usize, f64, Fault)], two_port: bool) -> Vec<Block> {
+fn blocks(
+    line: &Line,
+    state: State,
+    faults: &[(usize, f64, Fault)],
+    two_port: bool,
+    perturbation: &Perturbation,
+) -> Vec<Block> {
     let mut out = Vec::new();
     for (i, e) in line.visible().iter().enumerate() {
         let mut here: Vec<&(usize, f64, Fault)> = faults.iter().filter(|f| f.0 == i).collect();
@@ -157,7 +176,7 @@ fn blocks(line: &Line, state: State, faults: &[(usize, f64, Fault)], two_port: b
                     };
                     for s in slices(e, state, x0, x1) {
                         out.push(Block::Line {
-                            co: SectionState::new(&kind, s.t_k, line.ptfe_model).coeffs(),
+                            co: perturbation.section(&kind, s.t_k, line.ptfe_model).coeffs(),
                             length_m: s.length_m,
                         });
                     }
@@ -210,6 +229,7 @@ fn lumped_at(out: &mut Vec<Block>, here: &[&(usize, f64, Fault)], x: f64, two_po
         match f.kind {
             FaultKind::Gap { farad } => out.push(Block::SeriesC(farad)),
             FaultKind::Contact { ohm } => out.push(Block::SeriesR(ohm)),
+            FaultKind::PartialGap { farad, ohm } => out.push(Block::SeriesRc { r: ohm, c: farad }),
             FaultKind::Inductance { henry } => out.push(Block::SeriesL(henry)),
             FaultKind::Shunt { farad } => out.push(Block::ShuntC(farad)),
             FaultKind::Open if two_port => out.push(Block::SeriesR(1e12)),
@@ -241,13 +261,20 @@ pub fn simulate(line: &Line, config: &SimConfig) -> Result<Network, LineError> {
             line.name
         )));
     }
+    config.perturbation.check()?;
     let mut resolved = Vec::new();
     for f in &config.faults {
         let mut f = f.clone();
         let (idx, off) = f.resolve(line)?;
         resolved.push((idx, off, f));
     }
-    let blocks = blocks(line, config.state, &resolved, config.two_port);
+    let blocks = blocks(
+        line,
+        config.state,
+        &resolved,
+        config.two_port,
+        &config.perturbation,
+    );
     let z_ref = line.impedance_ohm;
     let ports = if config.two_port { 2 } else { 1 };
     let mut s = Vec::with_capacity(config.freqs_hz.len() * ports * ports);

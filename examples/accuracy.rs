@@ -1,0 +1,317 @@
+//! The comparator's accuracy on generated mismatch scenarios (tests/scenario/mod.rs): healthy cooldowns,
+//! same-state repeats and single faults on random lines whose truth departs from the nominal line file.
+//! Prints the accuracy table as Markdown, and writes it with `--out`.
+//!
+//! ```sh
+//! cargo run --release --example accuracy -- --healthy 300 --faults 300 --seed 1 [--out docs/accuracy.md]
+//! cargo run --release --example accuracy -- --show fault:1500012     # replay one scenario
+//! ```
+//!
+//! `--healthy N` no-fault cases (every fourth a cold -> cold repeat, the rest warm -> cold), `--faults N`
+//! fault cases, `--seed S` the base of their seeds, `--threads N` (default: every core).
+
+#[path = "../tests/scenario/mod.rs"]
+mod scenario;
+
+use scenario::score::{confusion_table, evaluate, evaluate_all, plan, table, Evaluated, Figures};
+use scenario::Case;
+use std::fmt::Write as _;
+use std::path::PathBuf;
+use std::time::Instant;
+
+struct Args {
+    healthy: usize,
+    faults: usize,
+    seed: u64,
+    threads: usize,
+    out: Option<PathBuf>,
+    show: Option<(Case, u64)>,
+}
+
+const USAGE: &str =
+    "usage: accuracy [--healthy N] [--faults N] [--seed S] [--threads N] [--out FILE.md] \
+                     | --show CASE:SEED  (CASE healthy, repeat or fault)";
+
+fn args() -> Result<Args, String> {
+    let mut a = Args {
+        healthy: 300,
+        faults: 300,
+        seed: 1,
+        threads: std::thread::available_parallelism()
+            .map(|n| n.get())
+            .unwrap_or(1),
+        out: None,
+        show: None,
+    };
+    let mut it = std::env::args().skip(1);
+    while let Some(flag) = it.next() {
+        let mut value = || it.next().ok_or(format!("{flag} needs a value\n{USAGE}"));
+        let num = |v: String| {
+            v.parse::<u64>()
+                .map_err(|e| format!("{flag} {v}: {e}\n{USAGE}"))
+        };
+        match flag.as_str() {
+            "--healthy" => a.healthy = num(value()?)? as usize,
+            "--faults" => a.faults = num(value()?)? as usize,
+            "--seed" => a.seed = num(value()?)?,
+            "--threads" => a.threads = num(value()?)?.max(1) as usize,
+            "--out" => a.out = Some(PathBuf::from(value()?)),
+            "--show" => {
+                let v = value()?;
+                let (c, s) = v
+                    .split_once(':')
+                    .ok_or(format!("--show takes CASE:SEED, got '{v}'"))?;
+                let case = Case::parse(c).ok_or(format!("unknown case '{c}'\n{USAGE}"))?;
+                let seed = s.parse::<u64>().map_err(|e| format!("--show {v}: {e}"))?;
+                a.show = Some((case, seed));
+            }
+            "-h" | "--help" => return Err(USAGE.to_string()),
+            other => return Err(format!("unknown argument '{other}'\n{USAGE}")),
+        }
+    }
+    Ok(a)
+}
+
+/// Today's date (UTC) from the system clock, as YYYY-MM-DD: days since 1970-01-01 to the civil date
+/// (H. Hinnant, "chrono-Compatible Low-Level Date Algorithms", civil_from_days).
+fn today() -> String {
+    let secs = std::time::SystemTime::now()
+        .duration_since(std::time::UNIX_EPOCH)
+        .map(|d| d.as_secs())
+        .unwrap_or(0) as i64;
+    let z = secs.div_euclid(86_400) + 719_468;
+    let era = z.div_euclid(146_097);
+    let doe = z - era * 146_097;
+    let yoe = (doe - doe / 1460 + doe / 36_524 - doe / 146_096) / 365;
+    let doy = doe - (365 * yoe + yoe / 4 - yoe / 100);
+    let mp = (5 * doy + 2) / 153;
+    let d = doy - (153 * mp + 2) / 5 + 1;
+    let m = if mp < 10 { mp + 3 } else { mp - 9 };
+    let y = yoe + era * 400 + i64::from(m <= 2);
+    format!("{y:04}-{m:02}-{d:02}")
+}
+
+/// Print to standard output; a closed pipe (`| head`) is not an error.
+fn emit(text: &str) {
+    use std::io::Write as _;
+    let _ = std::io::stdout().write_all(text.as_bytes());
+}
+
+fn show(case: Case, seed: u64) {
+    let e = evaluate(seed, case);
+    let s = &e.scenario;
+    let mut o = String::new();
+    let _ = writeln!(o, "{}", s.describe());
+    let _ = writeln!(
+        o,
+        "connector parasitics (both sweeps): {}",
+        s.parasitics.join(", ")
+    );
+    let errors: Vec<String> = s
+        .length_errors_m
+        .iter()
+        .map(|x| format!("{:+.2}", x * 1e3))
+        .collect();
+    let _ = writeln!(
+        o,
+        "length errors (as built - declared), mm: {}",
+        errors.join(", ")
+    );
+    for given in [false, true] {
+        let mode = if given {
+            "states given"
+        } else {
+            "states inferred"
+        };
+        let _ = writeln!(o, "\n[{mode}] {}", e.what_happened(given));
+    }
+    if let Ok((b, c)) = s.sweeps() {
+        if let Ok(r) = s.compare(&b, &c, false) {
+            let _ = writeln!(o, "\nreport (states inferred):");
+            o.push_str(&coldtrace::compare::text::render_compare(&r, true));
+        }
+    }
+    let _ = writeln!(o, "\n--- nominal line file ---\n{}", s.nominal_text);
+    let _ = writeln!(o, "--- truth line file ---\n{}", s.truth_text);
+    emit(&o);
+}
+
+fn replay(e: &Evaluated) -> String {
+    format!("`{}:{}`", e.scenario.case.name(), e.scenario.seed)
+}
+
+fn worst_cases(all: &[Evaluated]) -> String {
+    let mut s = String::new();
+    let section = |title: &str, mut v: Vec<(f64, &Evaluated, bool)>, n: usize, s: &mut String| {
+        if v.is_empty() {
+            return;
+        }
+        v.sort_by(|a, b| b.0.total_cmp(&a.0));
+        let _ = writeln!(
+            s,
+            "\n**{title}** ({} in all; {} shown)\n",
+            v.len(),
+            v.len().min(n)
+        );
+        for (_, e, given) in v.into_iter().take(n) {
+            let _ = writeln!(
+                s,
+                "- {} [{}]: {}",
+                replay(e),
+                if given {
+                    "states given"
+                } else {
+                    "states inferred"
+                },
+                e.what_happened(given)
+            );
+        }
+    };
+    let errors: Vec<_> = all
+        .iter()
+        .flat_map(|e| [(e, false), (e, true)])
+        .filter(|(e, g)| e.run(*g).error.is_some())
+        .map(|(e, g)| (0.0, e, g))
+        .collect();
+    section("Runs that returned an error", errors, 20, &mut s);
+    let alarms: Vec<_> = all
+        .iter()
+        .filter(|e| e.false_alarm(false))
+        .map(|e| {
+            let worst = e
+                .inferred
+                .alarms
+                .iter()
+                .map(|a| a.4)
+                .fold(f64::MIN, f64::max);
+            (worst, e, false)
+        })
+        .collect();
+    section(
+        "False alarms, states inferred (strongest first)",
+        alarms,
+        6,
+        &mut s,
+    );
+    let misses: Vec<_> = all
+        .iter()
+        .filter(|e| {
+            e.scenario.fault.as_ref().is_some_and(|f| f.visible())
+                && e.right_element(false) == Some(false)
+        })
+        .map(|e| (e.scenario.fault.as_ref().unwrap().level_db, e, false))
+        .collect();
+    section(
+        "Faults over the noise not ranked first at their element, states inferred (clearest first)",
+        misses,
+        6,
+        &mut s,
+    );
+    let far: Vec<_> = all
+        .iter()
+        .filter(|e| {
+            e.scenario.fault.as_ref().is_some_and(|f| f.visible())
+                && e.right_element(false) == Some(true)
+        })
+        .filter_map(|e| e.location_error_m(false).map(|x| (x, e, false)))
+        .filter(|(x, _, _)| *x > 0.01)
+        .collect();
+    section(
+        "Right element but over 1 cm off, states inferred (farthest first)",
+        far,
+        4,
+        &mut s,
+    );
+    let states: Vec<_> = all
+        .iter()
+        .filter(|e| e.scenario.fault.is_none() && !e.states_right(false))
+        .map(|e| (0.0, e, false))
+        .collect();
+    section(
+        "States inferred wrong on healthy lines and repeats",
+        states,
+        4,
+        &mut s,
+    );
+    s
+}
+
+fn main() {
+    let a = match args() {
+        Ok(a) => a,
+        Err(e) => {
+            eprintln!("{e}");
+            std::process::exit(2);
+        }
+    };
+    if let Some((case, seed)) = a.show {
+        show(case, seed);
+        return;
+    }
+    let list = plan(a.seed, a.healthy, a.faults);
+    let t0 = Instant::now();
+    let all = evaluate_all(&list, a.threads);
+    let took = t0.elapsed().as_secs_f64();
+    let inferred = Figures::of(&all, false);
+    let given = Figures::of(&all, true);
+
+    let mut cmd = format!(
+        "cargo run --release --example accuracy -- --healthy {} --faults {} --seed {}",
+        a.healthy, a.faults, a.seed
+    );
+    if let Some(p) = &a.out {
+        let _ = write!(cmd, " --out {}", p.display());
+    }
+    let mut md = String::new();
+    let _ = writeln!(md, "# Comparator accuracy on generated scenarios\n");
+    let _ = writeln!(
+        md,
+        "Measured on {} with `{cmd}`: {} healthy warm -> cold cooldowns, {} cold -> cold repeats and {} single \
+         faults ({} of them at least {} dB over the noise at their place), {:.0} s on {} thread(s).\n",
+        today(),
+        inferred.healthy_runs,
+        inferred.repeat_runs,
+        inferred.all_faults,
+        inferred.visible_faults,
+        scenario::VISIBLE_LEVEL_DB,
+        took,
+        a.threads
+    );
+    let _ = writeln!(
+        md,
+        "Each scenario (tests/scenario/mod.rs) is a random line of 2-8 cables between the stages, connectors, \
+         0-2 attenuators and a far-end device; the comparator is given its nominal line file while the sweeps \
+         are simulated from the truth: cable lengths up to 8 mm off, connectors of 48-53 ohm with 0-15 fF of \
+         shunt capacitance the file does not describe, and cold physics perturbed (permittivity change x0.5-2, \
+         contraction +/-20 %, surface resistance +/-30 %). Bands from 10 MHz-20 GHz to 0.5-10 GHz, 1601-4001 \
+         points, noise -100 to -80 dB per point. Faults in the current sweep only: pin gaps of 5-50 fF with \
+         and without a 20-500 ohm bridging contact and contacts of 0.5-10 ohm at a connector, crushes to 35-45 \
+         ohm over 5-10 mm inside a cable, opens at either. A false alarm is any finding above `info` on a line \
+         with no fault; a fault's element is right when the rank-1 finding lies in it (for a fault at a \
+         connector: names it as its element, or as its nearest connector from within a main lobe and the length \
+         error of it). The level over the noise is approximate: \
+         the lumped fault's |rho| at band centre, less the model's round-trip loss to it, over the band-pass \
+         trace's noise RMS.\n"
+    );
+    let _ = writeln!(md, "{}", table(&inferred, &given));
+    let _ = writeln!(
+        md,
+        "Fault kinds, faults over the noise, states inferred: the true kind against the rank-1 finding's kind \
+         (`none`: no finding).\n"
+    );
+    let _ = writeln!(md, "{}", confusion_table(&inferred));
+    let _ = writeln!(
+        md,
+        "## Worst cases\n\nReplay any of them with `cargo run --release --example accuracy -- --show CASE:SEED` \
+         (the scenario, both line files and the report)."
+    );
+    md.push_str(&worst_cases(&all));
+    emit(&md);
+    if let Some(p) = &a.out {
+        if let Err(e) = coldtrace::output::write_output(p, md.as_bytes(), true, &[]) {
+            eprintln!("coldtrace accuracy: {e}");
+            std::process::exit(2);
+        }
+        eprintln!("wrote {}", p.display());
+    }
+}

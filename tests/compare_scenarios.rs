@@ -1,0 +1,269 @@
+//! The comparator against generated mismatch scenarios (tests/scenario): lines whose truth departs from the
+//! nominal line file the analysis is given (lengths, connector parasitics, cold physics), simulated and
+//! compared with the states inferred. A fixed-seed subset of `examples/accuracy.rs`; every failure names
+//! the seed, and `cargo run --release --example accuracy -- --show CASE:SEED` replays it.
+//!
+//! The goals asserted are the project's (docs/accuracy.md): no finding above info on a healthy cooldown or a
+//! same-state repeat, the faulty element ranked first for every fault standing at least
+//! `scenario::VISIBLE_LEVEL_DB` over the noise at its place, the states inferred right on healthy lines,
+//! and no run ending in an error.
+
+mod scenario;
+
+use scenario::score::{evaluate_all, Evaluated};
+use scenario::{Case, Scenario, LENGTH_ERROR_M};
+use std::sync::OnceLock;
+
+/// The fixed seeds: 24 healthy warm -> cold, 8 same-state repeats, 32 faults (about 16 s in the test
+/// profile on two cores).
+fn list() -> Vec<(u64, Case)> {
+    let mut v: Vec<(u64, Case)> = (0..24).map(|i| (7_000 + i, Case::Healthy)).collect();
+    v.extend((0..8).map(|i| (7_100 + i, Case::Repeat)));
+    v.extend((0..32).map(|i| (7_200 + i, Case::Fault)));
+    v
+}
+
+/// Every scenario evaluated once, shared by the tests of this file.
+fn all() -> &'static [Evaluated] {
+    static ALL: OnceLock<Vec<Evaluated>> = OnceLock::new();
+    ALL.get_or_init(|| {
+        let threads = std::thread::available_parallelism()
+            .map(|n| n.get())
+            .unwrap_or(1);
+        evaluate_all(&list(), threads)
+    })
+}
+
+fn report(what: &str, bad: &[String]) {
+    assert!(
+        bad.is_empty(),
+        "{what}: {} case(s)\n{}\n(replay one with `cargo run --release --example accuracy -- --show CASE:SEED`)",
+        bad.len(),
+        bad.join("\n")
+    );
+}
+
+fn case_line(e: &Evaluated, given: bool) -> String {
+    format!(
+        "  {}:{} [{}]: {}",
+        e.scenario.case.name(),
+        e.scenario.seed,
+        if given {
+            "states given"
+        } else {
+            "states inferred"
+        },
+        e.what_happened(given)
+    )
+}
+
+#[test]
+fn no_comparison_ends_in_an_error() {
+    let bad: Vec<String> = runs()
+        .filter(|(e, g)| e.run(*g).error.is_some())
+        .map(|(e, g)| case_line(e, g))
+        .collect();
+    report("comparisons that returned an error", &bad);
+}
+
+/// Every run in both modes: states inferred, then states given.
+fn runs() -> impl Iterator<Item = (&'static Evaluated, bool)> {
+    all().iter().flat_map(|e| [(e, false), (e, true)])
+}
+
+#[test]
+fn healthy_cooldowns_and_repeats_raise_nothing_above_info() {
+    let bad: Vec<String> = runs()
+        .filter(|(e, g)| e.false_alarm(*g))
+        .map(|(e, g)| case_line(e, g))
+        .collect();
+    report("false alarms", &bad);
+}
+
+#[test]
+fn states_are_inferred_right_on_healthy_lines_and_repeats() {
+    let bad: Vec<String> = all()
+        .iter()
+        .filter(|e| e.scenario.fault.is_none() && !e.states_right(false))
+        .map(|e| case_line(e, false))
+        .collect();
+    report("states inferred wrong", &bad);
+}
+
+#[test]
+fn faults_over_the_noise_are_ranked_first_at_their_element() {
+    let visible: Vec<&Evaluated> = all()
+        .iter()
+        .filter(|e| e.scenario.fault.as_ref().is_some_and(|f| f.visible()))
+        .collect();
+    // The subset must exercise the goal: most generated faults stand well over the noise.
+    assert!(visible.len() >= 24, "only {} visible faults", visible.len());
+    let bad: Vec<String> = visible
+        .iter()
+        .flat_map(|e| [(*e, false), (*e, true)])
+        .filter(|(e, g)| e.right_element(*g) != Some(true))
+        .map(|(e, g)| case_line(e, g))
+        .collect();
+    report("faults not ranked first at their element", &bad);
+}
+
+// ---------------------------------------------------------------------------------------------------------
+// The generator itself.
+
+#[test]
+fn generator_is_reproducible_from_its_seed() {
+    for (seed, case) in [(1, Case::Healthy), (2, Case::Fault), (3, Case::Repeat)] {
+        let a = Scenario::generate(seed, case);
+        let b = Scenario::generate(seed, case);
+        assert_eq!(a.truth_text, b.truth_text);
+        assert_eq!(a.fault, b.fault);
+        assert_eq!(a.band, b.band);
+        let (na, ca) = a.sweeps().unwrap();
+        let (nb, cb) = b.sweeps().unwrap();
+        assert_eq!((na.s, ca.s), (nb.s, cb.s), "seed {seed}");
+    }
+    assert_ne!(
+        Scenario::generate(1, Case::Fault).truth_text,
+        Scenario::generate(2, Case::Fault).truth_text
+    );
+}
+
+#[test]
+fn generated_lines_stay_within_their_stated_ranges() {
+    use coldtrace::line::ElementKind;
+    for seed in 0..300u64 {
+        let case = [Case::Healthy, Case::Repeat, Case::Fault][seed as usize % 3];
+        let s = Scenario::generate(seed, case);
+        let why = || s.describe();
+        // Declared lengths within +/- 8 mm of the as-built ones, and the two files otherwise alike.
+        assert_eq!(
+            s.nominal.elements.len(),
+            s.truth.elements.len(),
+            "{}",
+            why()
+        );
+        for (n, t) in s.nominal.elements.iter().zip(&s.truth.elements) {
+            assert_eq!(n.name, t.name);
+            if matches!(n.kind, ElementKind::Cable { .. }) {
+                let d = t.length_m - n.length_m;
+                assert!(
+                    d.abs() <= LENGTH_ERROR_M + 1e-6,
+                    "{}: {d}\n{}",
+                    n.name,
+                    why()
+                );
+                assert!((0.1..=1.5 + 1e-9).contains(&n.length_m), "{}", why());
+            } else {
+                assert_eq!(n.length_m, t.length_m, "{}", why());
+            }
+        }
+        let cables = s
+            .nominal
+            .elements
+            .iter()
+            .filter(|e| matches!(e.kind, ElementKind::Cable { .. }))
+            .count();
+        assert!((2..=8).contains(&cables), "{}", why());
+        // The nominal file says nothing of the connectors' true impedance (only the line's); the truth does.
+        assert_eq!(s.nominal_text.matches("impedance_ohm").count(), 1);
+        for e in &s.truth.elements {
+            if let ElementKind::Connector { section, .. } = &e.kind {
+                let z = section.impedance_ohm();
+                assert!((48.0 - 1e-6..=53.0 + 1e-6).contains(&z), "{z}\n{}", why());
+            }
+        }
+        // The line ends in a device and fits in the alias-free range.
+        assert!(s.nominal.first_device().is_some());
+        let rt = s
+            .nominal
+            .round_trip_s(s.nominal.length_m(), coldtrace::line::State::Warm);
+        let df = (s.band.stop_hz - s.band.start_hz) / (s.band.points - 1) as f64;
+        assert!(rt < 1.0 / df, "{}", why());
+        assert!((1601..=4001).contains(&s.band.points));
+        assert!((-100.0..=-80.0).contains(&s.band.noise_db));
+        let p = s.perturbation;
+        assert!((0.5..=2.0).contains(&p.permittivity_change_scale));
+        assert!((0.8..=1.2).contains(&p.contraction_scale));
+        assert!((0.7..=1.3).contains(&p.surface_resistance_scale));
+        match case {
+            Case::Healthy => {
+                assert!(s.fault.is_none());
+                assert_eq!(
+                    (s.baseline_state, s.current_state),
+                    (coldtrace::line::State::Warm, coldtrace::line::State::Cold)
+                );
+            }
+            Case::Repeat => {
+                assert!(s.fault.is_none());
+                assert_eq!(s.baseline_state, s.current_state);
+                assert_ne!(s.baseline_noise_seed, s.current_noise_seed);
+            }
+            Case::Fault => {
+                let f = s.fault.as_ref().expect("a fault case has a fault");
+                assert_eq!(s.current_state, coldtrace::line::State::Cold);
+                // Inside what reflection can see, on an element before the device.
+                assert!(
+                    f.position_m > 0.0 && f.position_m < s.nominal.length_m(),
+                    "{}",
+                    why()
+                );
+                let (i, e) = s.nominal.element(&f.element).expect("the fault's element");
+                assert!(i < s.nominal.first_device().unwrap());
+                assert!(
+                    f.position_m >= e.start_m && f.position_m <= e.end_m(),
+                    "{}",
+                    why()
+                );
+                assert_eq!(
+                    f.at_connector,
+                    matches!(e.kind, ElementKind::Connector { .. })
+                );
+                assert!(f.local_rho > 0.0 && f.local_rho <= 1.0 && f.level_db.is_finite());
+            }
+        }
+    }
+}
+
+#[test]
+fn every_fault_kind_and_several_bands_are_generated() {
+    use scenario::TrueKind;
+    let mut kinds = std::collections::BTreeSet::new();
+    let mut bands = std::collections::BTreeSet::new();
+    let mut in_cable = 0;
+    for seed in 0..200u64 {
+        let s = Scenario::generate(seed, Case::Fault);
+        let f = s.fault.unwrap();
+        kinds.insert(f.kind);
+        in_cable += (!f.at_connector) as usize;
+        bands.insert((s.band.start_hz as u64, s.band.stop_hz as u64));
+    }
+    for k in [
+        TrueKind::PinGap,
+        TrueKind::PartialGap,
+        TrueKind::Contact,
+        TrueKind::Crush,
+        TrueKind::Open,
+    ] {
+        assert!(kinds.contains(&k), "{k:?} never generated");
+    }
+    assert!(in_cable >= 40, "{in_cable} faults inside cables");
+    assert!(bands.len() >= 4, "{bands:?}");
+}
+
+#[test]
+fn fault_level_follows_the_noise_and_the_fault_size() {
+    // The level is 20 log10(|rho| 10^(-loss/20) / noise_rms) (module documentation).
+    let mut s = Scenario::generate(5, Case::Fault);
+    let f = s.fault.clone().unwrap();
+    let n0 = s.band.trace_noise_rms();
+    let want = 20.0 * (f.local_rho * 10f64.powf(-f.loss_db / 20.0) / n0).log10();
+    assert!((f.level_db - want).abs() < 1e-9);
+    // Band-pass noise RMS of N points under a window: sigma sqrt(sum w^2) / sum w, which is sigma / sqrt(N)
+    // for a flat window; any taper raises it (Cauchy-Schwarz), the Kaiser beta 9 by under a factor 2.
+    let flat = 10f64.powf(s.band.noise_db / 20.0) / (s.band.points as f64).sqrt();
+    assert!(n0 > flat && n0 < 2.0 * flat, "{n0} vs {flat}");
+    // 20 dB less noise, 20 dB more level.
+    s.band.noise_db -= 20.0;
+    let n1 = s.band.trace_noise_rms();
+    assert!((20.0 * (n0 / n1).log10() - 20.0).abs() < 1e-9);
+}

@@ -1,0 +1,482 @@
+//! Scoring a generated scenario: run the comparator on it (states inferred and given), reduce each report to
+//! what is scored (false alarms, the rank-1 finding, the states), and gather the figures and Markdown tables
+//! of docs/accuracy.md.
+//!
+//! Conventions: as the parent module: positions in the nominal line's as-built metres, levels in dB.
+
+use super::{Case, Scenario, TrueKind, VISIBLE_LEVEL_DB};
+use coldtrace::compare::{CompareReport, Severity};
+use coldtrace::line::State;
+use std::fmt::Write as _;
+
+/// The rank-1 finding, as scored.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Top {
+    pub element: String,
+    pub nearest_connector: Option<String>,
+    pub distance_m: f64,
+    pub kind: &'static str,
+    pub severity: Severity,
+    pub reflection_db: f64,
+}
+
+/// One comparison's result, reduced to what is scored.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Run {
+    pub states_given: bool,
+    /// The comparator's error, if any.
+    pub error: Option<String>,
+    /// Findings above info: (element, kind, severity, distance m, reflection dB).
+    pub alarms: Vec<(String, &'static str, Severity, f64, f64)>,
+    pub top: Option<Top>,
+    /// The states the report used.
+    pub states: (String, String),
+}
+
+fn state_name(s: State) -> &'static str {
+    match s {
+        State::Warm => "warm",
+        State::Cold => "cold",
+    }
+}
+
+impl Run {
+    fn from(report: coldtrace::Result<CompareReport>, states_given: bool) -> Run {
+        match report {
+            Err(e) => Run {
+                states_given,
+                error: Some(e.to_string()),
+                alarms: Vec::new(),
+                top: None,
+                states: (String::new(), String::new()),
+            },
+            Ok(r) => Run {
+                states_given,
+                error: None,
+                alarms: r
+                    .findings
+                    .iter()
+                    .filter(|f| f.severity > Severity::Info)
+                    .map(|f| {
+                        (
+                            f.place.element.clone(),
+                            f.kind.name(),
+                            f.severity,
+                            f.place.distance_m,
+                            f.reflection_db,
+                        )
+                    })
+                    .collect(),
+                top: r.findings.iter().min_by_key(|f| f.rank).map(|f| Top {
+                    element: f.place.element.clone(),
+                    nearest_connector: f.place.nearest_connector.clone(),
+                    distance_m: f.place.distance_m,
+                    kind: f.kind.name(),
+                    severity: f.severity,
+                    reflection_db: f.reflection_db,
+                }),
+                states: (r.states.baseline.to_string(), r.states.current.to_string()),
+            },
+        }
+    }
+}
+
+/// A scenario with its two comparisons (states inferred, states given).
+#[derive(Debug, Clone)]
+pub struct Evaluated {
+    pub scenario: Scenario,
+    pub inferred: Run,
+    pub given: Run,
+}
+
+impl Evaluated {
+    pub fn run(&self, states_given: bool) -> &Run {
+        if states_given {
+            &self.given
+        } else {
+            &self.inferred
+        }
+    }
+
+    /// A false alarm: a healthy or repeat case with a finding above info.
+    pub fn false_alarm(&self, states_given: bool) -> bool {
+        self.scenario.fault.is_none() && !self.run(states_given).alarms.is_empty()
+    }
+
+    /// The rank-1 finding names the faulty element: it lies in it, or, for a fault at a connector, names
+    /// the connector as its nearest one while lying within [`Scenario::connector_tolerance_m`] of it (a
+    /// finding half a metre away in the next cable is not the connector's). None for a healthy case.
+    pub fn right_element(&self, states_given: bool) -> Option<bool> {
+        let f = self.scenario.fault.as_ref()?;
+        Some(match &self.run(states_given).top {
+            None => false,
+            Some(t) => {
+                t.element == f.element
+                    || (f.at_connector
+                        && t.nearest_connector.as_deref() == Some(f.element.as_str())
+                        && (t.distance_m - f.position_m).abs()
+                            <= self.scenario.connector_tolerance_m())
+            }
+        })
+    }
+
+    /// |rank-1 distance - truth|, m.
+    pub fn location_error_m(&self, states_given: bool) -> Option<f64> {
+        let f = self.scenario.fault.as_ref()?;
+        self.run(states_given)
+            .top
+            .as_ref()
+            .map(|t| (t.distance_m - f.position_m).abs())
+    }
+
+    /// The report's states match the truth's.
+    pub fn states_right(&self, states_given: bool) -> bool {
+        let r = self.run(states_given);
+        r.error.is_none()
+            && r.states
+                == (
+                    state_name(self.scenario.baseline_state).to_string(),
+                    state_name(self.scenario.current_state).to_string(),
+                )
+    }
+
+    /// One line: what happened in the run.
+    pub fn what_happened(&self, states_given: bool) -> String {
+        let r = self.run(states_given);
+        if let Some(e) = &r.error {
+            return format!("error: {e}");
+        }
+        let mut s = format!("states {} -> {}", r.states.0, r.states.1);
+        if let Some(f) = &self.scenario.fault {
+            let _ = write!(
+                s,
+                "; truth {} ({}) at {:.4} m, {:.1} dB over noise",
+                f.element,
+                f.kind.name(),
+                f.position_m,
+                f.level_db
+            );
+        }
+        match &r.top {
+            Some(t) => {
+                let _ = write!(
+                    s,
+                    "; rank 1: {} {} in {} (nearest {}) at {:.4} m, {:.1} dB",
+                    t.severity,
+                    t.kind,
+                    t.element,
+                    t.nearest_connector.as_deref().unwrap_or("-"),
+                    t.distance_m,
+                    t.reflection_db
+                );
+            }
+            None => s.push_str("; no finding"),
+        }
+        if !r.alarms.is_empty() {
+            let list: Vec<String> = r
+                .alarms
+                .iter()
+                .take(4)
+                .map(|(e, k, sev, x, db)| format!("{sev} {k} in {e} at {x:.4} m ({db:.1} dB)"))
+                .collect();
+            let _ = write!(
+                s,
+                "; {} above info: {}{}",
+                r.alarms.len(),
+                list.join(", "),
+                if r.alarms.len() > 4 { ", ..." } else { "" }
+            );
+        }
+        s
+    }
+}
+
+/// Generate, simulate and compare one scenario (states inferred and given).
+pub fn evaluate(seed: u64, case: Case) -> Evaluated {
+    let scenario = Scenario::generate(seed, case);
+    let (inferred, given) = match scenario.sweeps() {
+        Err(e) => {
+            let r = Run {
+                states_given: false,
+                error: Some(format!("simulation: {e}")),
+                alarms: Vec::new(),
+                top: None,
+                states: (String::new(), String::new()),
+            };
+            (
+                r.clone(),
+                Run {
+                    states_given: true,
+                    ..r
+                },
+            )
+        }
+        Ok((b, c)) => (
+            Run::from(scenario.compare(&b, &c, false), false),
+            Run::from(scenario.compare(&b, &c, true), true),
+        ),
+    };
+    Evaluated {
+        scenario,
+        inferred,
+        given,
+    }
+}
+
+/// Evaluate every (seed, case) on `threads` threads; results in the order given.
+pub fn evaluate_all(list: &[(u64, Case)], threads: usize) -> Vec<Evaluated> {
+    use std::sync::atomic::{AtomicUsize, Ordering};
+    use std::sync::Mutex;
+    let next = AtomicUsize::new(0);
+    let out: Mutex<Vec<Option<Evaluated>>> = Mutex::new(vec![None; list.len()]);
+    std::thread::scope(|s| {
+        for _ in 0..threads.max(1) {
+            s.spawn(|| loop {
+                let i = next.fetch_add(1, Ordering::Relaxed);
+                if i >= list.len() {
+                    break;
+                }
+                let (seed, case) = list[i];
+                let e = evaluate(seed, case);
+                out.lock().unwrap_or_else(|p| p.into_inner())[i] = Some(e);
+            });
+        }
+    });
+    out.into_inner()
+        .unwrap_or_else(|p| p.into_inner())
+        .into_iter()
+        .map(|e| e.expect("every scenario evaluated"))
+        .collect()
+}
+
+/// The seeds of a run: `healthy` no-fault cases (every fourth a same-state repeat) and `faults` fault
+/// cases, from `base`.
+pub fn plan(base: u64, healthy: usize, faults: usize) -> Vec<(u64, Case)> {
+    let mut v = Vec::new();
+    for i in 0..healthy as u64 {
+        let case = if i % 4 == 3 {
+            Case::Repeat
+        } else {
+            Case::Healthy
+        };
+        v.push((base * 1_000_000 + i, case));
+    }
+    for i in 0..faults as u64 {
+        v.push((base * 1_000_000 + 500_000 + i, Case::Fault));
+    }
+    v
+}
+
+/// Quantile `q` of `v` (nearest rank), NaN when empty.
+pub fn quantile(v: &[f64], q: f64) -> f64 {
+    if v.is_empty() {
+        return f64::NAN;
+    }
+    let mut s = v.to_vec();
+    s.sort_by(f64::total_cmp);
+    let k = ((q * s.len() as f64).ceil() as usize).clamp(1, s.len()) - 1;
+    s[k]
+}
+
+/// The figures of one mode (states inferred or given) over a set of evaluations.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Figures {
+    pub states_given: bool,
+    pub no_fault_runs: usize,
+    pub false_alarms: usize,
+    pub healthy_runs: usize,
+    pub healthy_false_alarms: usize,
+    pub repeat_runs: usize,
+    pub repeat_false_alarms: usize,
+    pub visible_faults: usize,
+    pub visible_right: usize,
+    pub all_faults: usize,
+    pub all_right: usize,
+    /// Location errors of visible faults with a rank-1 finding, m; and of those whose element is right.
+    pub location_errors_m: Vec<f64>,
+    pub location_errors_right_m: Vec<f64>,
+    pub states_checked: usize,
+    pub states_right: usize,
+    pub fault_states_right: usize,
+    pub errors: usize,
+    /// (true kind, reported rank-1 kind or "none") -> count, visible faults.
+    pub confusion: std::collections::BTreeMap<(TrueKind, &'static str), usize>,
+}
+
+impl Figures {
+    pub fn of(all: &[Evaluated], states_given: bool) -> Figures {
+        let mut f = Figures {
+            states_given,
+            no_fault_runs: 0,
+            false_alarms: 0,
+            healthy_runs: 0,
+            healthy_false_alarms: 0,
+            repeat_runs: 0,
+            repeat_false_alarms: 0,
+            visible_faults: 0,
+            visible_right: 0,
+            all_faults: 0,
+            all_right: 0,
+            location_errors_m: Vec::new(),
+            location_errors_right_m: Vec::new(),
+            states_checked: 0,
+            states_right: 0,
+            fault_states_right: 0,
+            errors: 0,
+            confusion: Default::default(),
+        };
+        for e in all {
+            let r = e.run(states_given);
+            if r.error.is_some() {
+                f.errors += 1;
+            }
+            match &e.scenario.fault {
+                None => {
+                    f.no_fault_runs += 1;
+                    let fa = e.false_alarm(states_given);
+                    f.false_alarms += fa as usize;
+                    if e.scenario.case == Case::Healthy {
+                        f.healthy_runs += 1;
+                        f.healthy_false_alarms += fa as usize;
+                    } else {
+                        f.repeat_runs += 1;
+                        f.repeat_false_alarms += fa as usize;
+                    }
+                    f.states_checked += 1;
+                    f.states_right += e.states_right(states_given) as usize;
+                }
+                Some(t) => {
+                    let right = e.right_element(states_given) == Some(true);
+                    f.all_faults += 1;
+                    f.all_right += right as usize;
+                    f.fault_states_right += e.states_right(states_given) as usize;
+                    if t.visible() {
+                        f.visible_faults += 1;
+                        f.visible_right += right as usize;
+                        if let Some(x) = e.location_error_m(states_given) {
+                            f.location_errors_m.push(x);
+                            if right {
+                                f.location_errors_right_m.push(x);
+                            }
+                        }
+                        let k = r.top.as_ref().map(|t| t.kind).unwrap_or("none");
+                        *f.confusion.entry((t.kind, k)).or_default() += 1;
+                    }
+                }
+            }
+        }
+        f
+    }
+}
+
+fn pct(n: usize, d: usize) -> String {
+    if d == 0 {
+        "-".to_string()
+    } else {
+        format!("{:.1} % ({n}/{d})", 100.0 * n as f64 / d as f64)
+    }
+}
+
+/// The accuracy table (Markdown) of both modes.
+pub fn table(inferred: &Figures, given: &Figures) -> String {
+    let mut s = String::new();
+    let row = |s: &mut String, what: &str, goal: &str, a: String, b: String| {
+        let _ = writeln!(s, "| {what} | {goal} | {a} | {b} |");
+    };
+    let _ = writeln!(s, "| figure | goal | states inferred | states given |");
+    let _ = writeln!(s, "|---|---|---|---|");
+    row(
+        &mut s,
+        "false alarms, healthy warm -> cold",
+        "0",
+        pct(inferred.healthy_false_alarms, inferred.healthy_runs),
+        pct(given.healthy_false_alarms, given.healthy_runs),
+    );
+    row(
+        &mut s,
+        "false alarms, same-state repeats",
+        "0",
+        pct(inferred.repeat_false_alarms, inferred.repeat_runs),
+        pct(given.repeat_false_alarms, given.repeat_runs),
+    );
+    row(
+        &mut s,
+        &format!("right element first, faults >= {VISIBLE_LEVEL_DB} dB over noise"),
+        ">= 98 %",
+        pct(inferred.visible_right, inferred.visible_faults),
+        pct(given.visible_right, given.visible_faults),
+    );
+    row(
+        &mut s,
+        "right element first, all faults",
+        "-",
+        pct(inferred.all_right, inferred.all_faults),
+        pct(given.all_right, given.all_faults),
+    );
+    let loc = |v: &[f64]| {
+        format!(
+            "{:.1} mm / {:.1} mm (n = {})",
+            1e3 * quantile(v, 0.5),
+            1e3 * quantile(v, 0.95),
+            v.len()
+        )
+    };
+    row(
+        &mut s,
+        "location error of rank 1, median / 95th percentile, faults over the noise",
+        "-",
+        loc(&inferred.location_errors_m),
+        loc(&given.location_errors_m),
+    );
+    row(
+        &mut s,
+        "the same, where rank 1 is the right element",
+        "-",
+        loc(&inferred.location_errors_right_m),
+        loc(&given.location_errors_right_m),
+    );
+    row(
+        &mut s,
+        "states right, healthy and repeats",
+        "100 %",
+        pct(inferred.states_right, inferred.states_checked),
+        pct(given.states_right, given.states_checked),
+    );
+    row(
+        &mut s,
+        "states right, fault cases",
+        "-",
+        pct(inferred.fault_states_right, inferred.all_faults),
+        pct(given.fault_states_right, given.all_faults),
+    );
+    let n = inferred.no_fault_runs + inferred.all_faults;
+    row(
+        &mut s,
+        "runs that returned an error",
+        "0",
+        format!("{} of {n}", inferred.errors),
+        format!("{} of {n}", given.errors),
+    );
+    s
+}
+
+/// The kind confusion table (Markdown): true kind -> rank-1 kinds reported, visible faults.
+pub fn confusion_table(f: &Figures) -> String {
+    let mut reported: Vec<&'static str> = f.confusion.keys().map(|k| k.1).collect();
+    reported.sort();
+    reported.dedup();
+    let mut kinds: Vec<TrueKind> = f.confusion.keys().map(|k| k.0).collect();
+    kinds.sort();
+    kinds.dedup();
+    let mut s = String::new();
+    let _ = writeln!(s, "| true kind | {} |", reported.join(" | "));
+    let _ = writeln!(s, "|---|{}", "---|".repeat(reported.len()));
+    for k in kinds {
+        let cells: Vec<String> = reported
+            .iter()
+            .map(|r| f.confusion.get(&(k, *r)).copied().unwrap_or(0).to_string())
+            .collect();
+        let _ = writeln!(s, "| {} | {} |", k.name(), cells.join(" | "));
+    }
+    s
+}
