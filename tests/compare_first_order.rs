@@ -34,12 +34,7 @@ fn sweep(parts: &[(f64, ModelType, f64)], scale_after: Option<(f64, f64)>) -> Ne
 }
 
 fn states() -> StateReport {
-    StateReport {
-        baseline: "warm",
-        current: "cold",
-        inferred: false,
-        basis: "given".into(),
-    }
+    StateReport::given(coldtrace::line::State::Warm, coldtrace::line::State::Cold)
 }
 
 #[test]

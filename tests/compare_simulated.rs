@@ -53,12 +53,7 @@ fn run(
         },
         &chain,
         &AnalysisConfig::default(),
-        StateReport {
-            baseline: name(b),
-            current: name(c),
-            inferred: false,
-            basis: "given".into(),
-        },
+        StateReport::given(b, c),
     )
     .unwrap()
 }

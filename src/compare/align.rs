@@ -223,7 +223,11 @@ pub fn bounded_least_squares(
             return Some(full);
         }
     }
-    Some((0..n).map(|j| fixed[j].unwrap_or(1.0).clamp(lo, hi)).collect())
+    Some(
+        (0..n)
+            .map(|j| fixed[j].unwrap_or(1.0).clamp(lo, hi))
+            .collect(),
+    )
 }
 
 /// Solve the overdetermined system `rows` (each a coefficient row and its right-hand side) in the least
@@ -320,7 +324,10 @@ mod tests {
     fn a_gain_change_is_a_level_and_a_changed_landmark_is_weighed_down() {
         // Five landmarks along one segment; the whole trace rose by 5 dB (an amplifier warmed), the loss did
         // not change, and the landmark at 0.6 rose by another 8 dB (its own joint changed).
-        let cover: Vec<Vec<f64>> = [0.0, 0.2, 0.4, 0.6, 0.8, 1.0].iter().map(|&c| vec![c]).collect();
+        let cover: Vec<Vec<f64>> = [0.0, 0.2, 0.4, 0.6, 0.8, 1.0]
+            .iter()
+            .map(|&c| vec![c])
+            .collect();
         let amp: Vec<f64> = (0..6).map(|k| if k == 3 { 13.0 } else { 5.0 }).collect();
         let p = AlignProblem {
             tau: vec![10e-9],
@@ -335,8 +342,16 @@ mod tests {
         };
         let s = p.solve();
         assert!((s.level_db - 5.0).abs() < 0.3, "level {}", s.level_db);
-        assert!(s.loss_change_db[0].abs() < 0.3, "loss {}", s.loss_change_db[0]);
-        assert!(s.amplitude_weight[3] < 0.2, "weights {:?}", s.amplitude_weight);
+        assert!(
+            s.loss_change_db[0].abs() < 0.3,
+            "loss {}",
+            s.loss_change_db[0]
+        );
+        assert!(
+            s.amplitude_weight[3] < 0.2,
+            "weights {:?}",
+            s.amplitude_weight
+        );
     }
 
     #[test]

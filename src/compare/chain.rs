@@ -137,10 +137,11 @@ impl ChainView {
     /// loss law (from its far end).
     pub fn compensates(&self) -> bool {
         self.as_built
-            || self
-                .segments
-                .iter()
-                .any(|s| s.loss.iter().any(|l| l.a_sqrt != 0.0 || l.a_lin != 0.0 || l.a_flat != 0.0))
+            || self.segments.iter().any(|s| {
+                s.loss
+                    .iter()
+                    .any(|l| l.a_sqrt != 0.0 || l.a_lin != 0.0 || l.a_flat != 0.0)
+            })
     }
 
     /// As-built length up to the far end, m.

@@ -146,7 +146,8 @@ impl Inputs<'_> {
             t.as_ref().is_some_and(|t| {
                 t.total && {
                     let xt = self.fit.chain.position_of(t.delay_s, which, None);
-                    x > xt + 1.5 * a.resolution_s * super::place::speed_at(&self.fit.chain, xt, which)
+                    x > xt
+                        + 1.5 * a.resolution_s * super::place::speed_at(&self.fit.chain, xt, which)
                 }
             })
         };

@@ -210,11 +210,12 @@ pub(super) fn costs(
             )
         }
         None => {
-            let ml = g_meas
-                .iter()
-                .map(|g| mismatch_loss_db(g.norm().min(0.999)).min(60.0))
-                .sum::<f64>()
-                / g_meas.len().max(1) as f64;
+            // No model: the median of the measured |Gamma| over the band (robust to the band edges, where
+            // compensation lifts noise most), read as a lossless mismatch.
+            let mut m: Vec<f64> = g_meas.iter().map(|g| g.norm()).collect();
+            m.sort_by(|a, b| a.total_cmp(b));
+            let med = m.get(m.len() / 2).copied().unwrap_or(0.0).min(0.99);
+            let ml = mismatch_loss_db(med);
             (ml, ml)
         }
     }

@@ -89,7 +89,9 @@ pub fn find(
             .collect()
     } else {
         (0..a.events.len())
-            .filter(|&i| a.events[i].delay_s < edge && a.events[i].ghost_of.is_none() && raw(i) >= floor)
+            .filter(|&i| {
+                a.events[i].delay_s < edge && a.events[i].ghost_of.is_none() && raw(i) >= floor
+            })
             .collect()
     };
     let mut best: Option<(f64, Termination)> = None;
@@ -121,7 +123,7 @@ pub fn find(
             total,
             loss: if total { fit.map(|(l, _)| l) } else { None },
         };
-        if best.as_ref().is_none_or(|(b, _)| at_dc > *b) {
+        if best.as_ref().map_or(true, |(b, _)| at_dc > *b) {
             best = Some((at_dc, t));
         }
     }

@@ -11,9 +11,9 @@ use super::states::{
     decide, model_signatures, pair_signatures, quick_analyses, Hypothesis, OPEN_MARGIN,
 };
 use super::sweep::{AnalysisConfig, Sweep};
-use crate::transform::TraceEngine;
 use crate::line::{Line, State};
 use crate::touchstone::read_file;
+use crate::transform::TraceEngine;
 use crate::{Error, Network, Result, Warning};
 use std::path::{Path, PathBuf};
 
@@ -106,9 +106,13 @@ pub fn decide_pair_states(
     let all = decide(signatures.clone(), &pool);
     let fits = |h: Hypothesis| {
         let (b, c) = h.states();
-        given.0.is_none_or(|g| g == b) && given.1.is_none_or(|g| g == c)
+        given.0.map_or(true, |g| g == b) && given.1.map_or(true, |g| g == c)
     };
-    let allowed: Vec<Hypothesis> = Hypothesis::ALL.iter().copied().filter(|&h| fits(h)).collect();
+    let allowed: Vec<Hypothesis> = Hypothesis::ALL
+        .iter()
+        .copied()
+        .filter(|&h| fits(h))
+        .collect();
     let allowed: Vec<Hypothesis> = if allowed.iter().any(|h| pool.contains(h)) {
         allowed.into_iter().filter(|h| pool.contains(h)).collect()
     } else {
@@ -119,14 +123,24 @@ pub fn decide_pair_states(
     let total = |dd: &super::states::StateDecision, h: Hypothesis| {
         dd.totals.iter().find(|t| t.0 == h).map_or(0.0, |t| t.1)
     };
-    let contradicted = (total(&all, d.chosen) - total(&all, all.chosen)).max(0.0).sqrt();
+    let contradicted = (total(&all, d.chosen) - total(&all, all.chosen))
+        .max(0.0)
+        .sqrt();
     let mut basis = if given.0.is_some() && given.1.is_some() {
         "given".to_string()
     } else {
         d.basis()
     };
     if given.0.is_some() != given.1.is_some() {
-        basis = format!("{} given; {}", if given.0.is_some() { "baseline" } else { "current" }, basis);
+        basis = format!(
+            "{} given; {}",
+            if given.0.is_some() {
+                "baseline"
+            } else {
+                "current"
+            },
+            basis
+        );
     }
     if (given.0.is_some() || given.1.is_some()) && contradicted >= OPEN_MARGIN {
         basis.push_str(&format!(
@@ -158,7 +172,11 @@ pub fn decide_pair_states(
 /// Keep above info only what `other` (the same pair under another open hypothesis) also finds there, at the
 /// lesser severity and cost of the two.
 fn intersect(report: &mut CompareReport, other: &CompareReport, h: Hypothesis) {
-    for f in report.findings.iter_mut().filter(|f| f.severity > Severity::Info) {
+    for f in report
+        .findings
+        .iter_mut()
+        .filter(|f| f.severity > Severity::Info)
+    {
         let tol = f.uncertainty_m.max(report.resolution_m);
         let twin = other
             .findings
@@ -314,8 +332,10 @@ pub fn compare_networks(req: &PairRequest) -> Result<CompareReport> {
             "give --baseline-state and --current-state when you know them",
         ));
     }
-    if !states.inferred || req.baseline_state.is_some() || req.current_state.is_some() {
-        if states.basis.contains("the data favour") {
+    if (!states.inferred || req.baseline_state.is_some() || req.current_state.is_some())
+        && states.basis.contains("the data favour")
+    {
+        {
             w.push(Warning::new(
                 "states-contradicted",
                 format!("the states given disagree with the data: {}", states.basis),

@@ -5,9 +5,9 @@
 use super::align::{AlignProblem, SegmentAlignment};
 use super::analysis::SweepAnalysis;
 use super::chain::{ChainView, Which};
-use super::report::Alignment;
 use super::far_end::ALIAS_EDGE;
 use super::place::speed_at;
+use super::report::Alignment;
 use super::sweep::db;
 /// Amplitude signal-to-noise a landmark needs (30 dB).
 pub const LANDMARK_SNR: f64 = 31.6;

@@ -2,11 +2,11 @@
 
 use super::chain::{ChainView, Which};
 use super::explain::*;
-use super::report::*;
 use super::place::{place, position_sigma, speed_at, where_text};
+use super::report::*;
 use super::run::plot_data;
-use super::sweep::{analyse, band_centre, db, no_line_file, sized, AnalysisConfig, Sweep};
 use super::severity::Severity;
+use super::sweep::{analyse, band_centre, db, no_line_file, sized, AnalysisConfig, Sweep};
 use super::CompareError;
 use crate::transform::TraceEngine;
 

@@ -30,8 +30,8 @@ pub use chain::{ChainView, LossModel, Segment, SegmentKind};
 pub use locate::locate;
 pub use report::{CompareReport, FaultKind, Finding, LocateReport};
 pub use run::compare;
-pub use sweep::{AnalysisConfig, Sweep};
 pub use severity::Severity;
+pub use sweep::{AnalysisConfig, Sweep};
 
 /// Errors of the comparator.
 #[derive(Debug, thiserror::Error)]

@@ -24,18 +24,22 @@ use super::difference::{self, Change, FarEnds, Zone};
 pub use super::difference::{CHANGE_DB, PHASE_CHANGE_DEG};
 use super::explain::*;
 use super::far_end;
+use super::landmarks::Fitted;
 use super::landmarks::*;
 use super::place::{place, position_sigma, speed_at, where_text};
 use super::report::*;
-use super::landmarks::Fitted;
 use super::severity::{mismatch_loss_db, Severity};
 use super::states::Hypothesis;
-pub use super::sweep::{AnalysisConfig, Sweep};
 use super::sweep::{analyse, band_centre, db, no_line_file, sized};
+pub use super::sweep::{AnalysisConfig, Sweep};
 use super::CompareError;
 use crate::line::State;
 use crate::transform::TraceEngine;
 use crate::{Network, Warning};
+
+/// Least move of the far end reported as a change, as an air-line length, m (a millimetre: the sub-bin
+/// phase-slope estimate resolves a fraction of it; common practice, no source).
+pub const FAR_END_MOVE_M: f64 = 1e-3;
 
 /// Stage 1's result: both sweeps analysed on the chain they were compensated with, and their far ends.
 pub struct PairAnalysis {
@@ -72,8 +76,15 @@ pub fn analyse_pair(
     };
     let mut loss_from_far_end = false;
     if !chain.as_built {
+        // Only when both sweeps end on the same open or short at the same place: a gap fault reads as an open
+        // towards DC too, and must not lend its shape to the line's loss.
+        let same_place = |tb: &far_end::Termination, tc: &far_end::Termination| {
+            (tb.delay_s - tc.delay_s).abs()
+                <= 0.015 * tb.delay_s + 2.0 * b.resolution_s.max(c.resolution_s)
+                && tb.polarity * tc.polarity > 0.0
+        };
         if let (Some(tb), Some(tc)) = (&far.baseline, &far.current) {
-            if let (Some(lb), Some(lc)) = (tb.loss, tc.loss) {
+            if let (Some(lb), Some(lc), true) = (tb.loss, tc.loss, same_place(tb, tc)) {
                 let per = |l: super::chain::LossModel, t: f64, which: Which| {
                     let x = chain.position_of(t, which, None).max(1e-6);
                     let k = chain.length_m() / x;
@@ -134,8 +145,12 @@ pub fn align_pair(
     let strong = strong_events(b, LANDMARK_SEPARATION_CELLS * res, MAX_LANDMARKS);
     // The search runs relative to the model's own prediction of the change where the chain has one.
     let model_scale = {
-        let t0 = pa.chain.delay_to(pa.chain.visible_end_m(), Which::Baseline, None);
-        let t1 = pa.chain.delay_to(pa.chain.visible_end_m(), Which::Current, None);
+        let t0 = pa
+            .chain
+            .delay_to(pa.chain.visible_end_m(), Which::Baseline, None);
+        let t1 = pa
+            .chain
+            .delay_to(pa.chain.visible_end_m(), Which::Current, None);
         if t0 > 0.0 && pa.chain.as_built {
             t1 / t0
         } else {
@@ -143,12 +158,7 @@ pub fn align_pair(
         }
     };
     let widen = 2e-3;
-    let found = scale_search(
-        b,
-        c,
-        &strong,
-        (bounds.0 - widen, bounds.1 + widen),
-    );
+    let found = scale_search(b, c, &strong, (bounds.0 - widen, bounds.1 + widen));
     let mut chain = pa.chain.clone();
     let pairs = match &found {
         Some(m) => {
@@ -172,7 +182,29 @@ pub fn align_pair(
                     "check the states given (--baseline-state, --current-state), or leave them out to have them inferred",
                 ));
             }
-            consistent(&m.pairs, b, c, |t| m.scale * t, m.sigma * 3.0 + 0.01 * res)
+            // A termination swapped for another kind moves its echo by itself: no landmark there.
+            let swapped = match (&pa.far.baseline, &pa.far.current) {
+                (Some(tb), Some(tc)) => {
+                    (tb.total != tc.total || tb.polarity * tc.polarity < 0.0).then_some(tb.event)
+                }
+                _ => None,
+            };
+            // Nothing behind an open or short far end is a landmark: only multiple reflections live there.
+            let wall = [&pa.far.baseline, &pa.far.current]
+                .iter()
+                .filter_map(|t| {
+                    t.as_ref()
+                        .filter(|t| t.total)
+                        .map(|t| t.delay_s + 1.5 * res)
+                })
+                .fold(f64::INFINITY, f64::min);
+            let kept: Pairs = m
+                .pairs
+                .iter()
+                .copied()
+                .filter(|p| Some(p.0) != swapped && b.events[p.0].delay_s <= wall)
+                .collect();
+            consistent(&kept, b, c, |t| m.scale * t, m.sigma * 3.0 + 0.01 * res)
         }
         None => Vec::new(),
     };
@@ -248,7 +280,9 @@ pub fn explain_change(
     }
     let total_kind = matches!(kind, FaultKind::Open | FaultKind::Short);
     let mut severity = Severity::from_drop_db(hi);
-    if total_kind && !ch.was_total && (rising || (same_state && ch.phase_deg.abs() >= PHASE_CHANGE_DEG))
+    if total_kind
+        && !ch.was_total
+        && (rising || (same_state && ch.phase_deg.abs() >= PHASE_CHANGE_DEG))
     {
         severity = Severity::Critical;
     }
@@ -272,7 +306,10 @@ pub fn explain_change(
             describe_model(kind, &model)
         )
     } else if ch.was_total {
-        format!("the far end's termination changed ({})", describe_model(kind, &model))
+        format!(
+            "the far end's termination changed ({})",
+            describe_model(kind, &model)
+        )
     } else {
         describe_model(kind, &model)
     };
@@ -311,7 +348,7 @@ pub fn explain_change(
         confidence: confidence(ch.snr, model.fit_error),
         model,
         likely_ghost: ch.ghost,
-        zone: if ch.same_termination {
+        zone: if ch.same_termination || ch.was_total {
             "far-end"
         } else if ch.ghost && ch.zone == Zone::Line {
             "line"
@@ -351,12 +388,13 @@ fn far_end_report(
         // Where the baseline's far end would be in the current sweep, by the alignment; then the phase slope
         // of the two echoes' ratio over the lower half of the band, where parasitics and dispersion are least.
         let predicted = fit.chain.delay_to(xb, Which::Current, None);
-        let (fb, gb) = pa.b.local_reflection(tb.delay_s, xb, &pa.chain, Which::Baseline, engine)?;
-        let (fc, gc) = pa.c.local_reflection(tc.delay_s, xc, &pa.chain, Which::Current, engine)?;
+        let (fb, gb) =
+            pa.b.local_reflection(tb.delay_s, xb, &pa.chain, Which::Baseline, engine)?;
+        let (fc, gc) =
+            pa.c.local_reflection(tc.delay_s, xc, &pa.chain, Which::Current, engine)?;
         let n = fb.len().min(fc.len()) / 2;
         if n >= 8 && fb[..n] == fc[..n] {
-            let ratio: Vec<num_complex::Complex64> =
-                (0..n).map(|k| gc[k] / gb[k]).collect();
+            let ratio: Vec<num_complex::Complex64> = (0..n).map(|k| gc[k] / gb[k]).collect();
             phase_slope_delay(&fb[..n], &ratio).map(|d| tc.delay_s - predicted + d)
         } else {
             Some(tc.delay_s - predicted)
@@ -403,7 +441,12 @@ pub fn phase_slope_delay(freqs: &[f64], ratio: &[num_complex::Complex64]) -> Opt
     if sff <= 0.0 {
         return None;
     }
-    let slope = freqs.iter().zip(&ph).map(|(f, p)| (f - mf) * (p - mp)).sum::<f64>() / sff;
+    let slope = freqs
+        .iter()
+        .zip(&ph)
+        .map(|(f, p)| (f - mf) * (p - mp))
+        .sum::<f64>()
+        / sff;
     Some(-slope / (2.0 * std::f64::consts::PI))
 }
 
@@ -415,6 +458,7 @@ pub fn rank(findings: &mut [Finding]) {
         on_line(b)
             .cmp(&on_line(a))
             .then(b.severity.cmp(&a.severity))
+            .then((b.zone == "far-end").cmp(&(a.zone == "far-end")))
             .then(b.power_drop_db.total_cmp(&a.power_drop_db))
             .then(b.change_db.abs().total_cmp(&a.change_db.abs()))
             .then(b.confidence.total_cmp(&a.confidence))
@@ -447,7 +491,12 @@ pub fn compare(
     let f_ref = cfg.reference_hz.unwrap_or_else(|| band_centre(fc));
 
     let pa = analyse_pair(&baseline, &current, chain, cfg, &mut engine)?;
-    let mut warnings: Vec<Warning> = pa.b.warnings.iter().chain(&pa.c.warnings).cloned().collect();
+    let mut warnings: Vec<Warning> =
+        pa.b.warnings
+            .iter()
+            .chain(&pa.c.warnings)
+            .cloned()
+            .collect();
     warnings.extend(no_line_file(&pa.chain));
     if pa.loss_from_far_end {
         warnings.push(Warning::new(
@@ -467,14 +516,30 @@ pub fn compare(
         far: &pa.far,
     });
     let same_state = h.same_state();
+    let far_end = far_end_report(&pa, &fit, &mut engine)?;
+    // The far end moved (a termination swapped for a longer one, a pin pulled back at the last joint).
+    let moved = far_end
+        .as_ref()
+        .and_then(|f| f.delay_change_s)
+        .is_some_and(|d| d.abs() >= 2.0 * FAR_END_MOVE_M / crate::transform::C0_M_PER_S);
     let mut findings = Vec::new();
     let mut behind = 0usize;
-    for ch in changes.iter().filter(|ch| ch.changed(same_state)) {
+    for ch in changes
+        .iter()
+        .filter(|ch| ch.changed(same_state) || (moved && (ch.same_termination || ch.was_total)))
+    {
         if ch.zone == Zone::BehindDevice {
             behind += 1;
             continue;
         }
-        findings.push(explain_change(ch, &pa, &fit, same_state, f_ref, &mut engine)?);
+        findings.push(explain_change(
+            ch,
+            &pa,
+            &fit,
+            same_state,
+            f_ref,
+            &mut engine,
+        )?);
     }
     if behind > 0 {
         warnings.push(Warning::new(
@@ -532,7 +597,7 @@ pub fn compare(
         power,
         noise_rms: pa.c.sigma,
         visibility: Vec::new(),
-        far_end: far_end_report(&pa, &fit, &mut engine)?,
+        far_end,
         connector_lengths: None,
         warnings,
         plot: PlotData::default(),

@@ -228,8 +228,14 @@ pub(super) fn pair_signatures(
             sigma: sig,
             unit: "",
             misfit: vec![
-                (Hypothesis::WarmCold, outside(v, (w2c.0 - 1.0, w2c.1 - 1.0), sig)),
-                (Hypothesis::ColdWarm, outside(v, (c2w.0 - 1.0, c2w.1 - 1.0), sig)),
+                (
+                    Hypothesis::WarmCold,
+                    outside(v, (w2c.0 - 1.0, w2c.1 - 1.0), sig),
+                ),
+                (
+                    Hypothesis::ColdWarm,
+                    outside(v, (c2w.0 - 1.0, c2w.1 - 1.0), sig),
+                ),
                 (Hypothesis::WarmWarm, same),
                 (Hypothesis::ColdCold, same),
             ],
@@ -288,11 +294,11 @@ fn robust_scale(
             .collect();
         let n = use_.len();
         let chi2: f64 = z.iter().map(|v| v * v).sum();
-        let (k, zmax) = z
-            .iter()
-            .copied()
-            .enumerate()
-            .fold((0, 0.0), |a, (k, v)| if v > a.1 { (k, v) } else { a });
+        let (k, zmax) =
+            z.iter()
+                .copied()
+                .enumerate()
+                .fold((0, 0.0), |a, (k, v)| if v > a.1 { (k, v) } else { a });
         if zmax > 3.0 && n > 2 {
             use_.remove(k);
             continue;
@@ -319,15 +325,23 @@ fn sqrt_slope(freqs: &[f64], y: &[f64]) -> Option<(f64, f64)> {
     if sxx <= 0.0 {
         return None;
     }
-    let b = x.iter().zip(y).map(|(a, v)| (a - mx) * (v - my)).sum::<f64>() / sxx;
+    let b = x
+        .iter()
+        .zip(y)
+        .map(|(a, v)| (a - mx) * (v - my))
+        .sum::<f64>()
+        / sxx;
     let a = my - b * mx;
     let rss: f64 = x.iter().zip(y).map(|(u, v)| (v - a - b * u).powi(2)).sum();
     // Neighbouring points of a gated response are correlated over about a gate's worth of band: count the
     // independent ones as the number of resolution cells the gate spans across the band, about 10.
-    let dof = (n as f64).min(10.0).max(3.0);
+    let dof = (n as f64).clamp(3.0, 10.0);
     let sigma = (rss / (n as f64 - 2.0).max(1.0) / sxx * n as f64 / dof).sqrt();
     Some((b, sigma))
 }
+
+/// Frequencies (Hz) and a value at each.
+type Spectrum = (Vec<f64>, Vec<f64>);
 
 /// Ratio current/baseline of an echo's local reflection, in dB, against frequency.
 fn ratio_db(
@@ -336,7 +350,7 @@ fn ratio_db(
     i: usize,
     j: usize,
     engine: &mut TraceEngine,
-) -> Result<Option<(Vec<f64>, Vec<f64>)>, CompareError> {
+) -> Result<Option<Spectrum>, CompareError> {
     let uni = ChainView::uniform("", 0.7, 1.0, 50.0);
     let (fb, gb) = ab.local_reflection(ab.events[i].delay_s, 0.0, &uni, Which::Baseline, engine)?;
     let (fc, gc) = ac.local_reflection(ac.events[j].delay_s, 0.0, &uni, Which::Current, engine)?;
@@ -412,7 +426,10 @@ fn loss_signature(
         // Conductor loss ratio current/baseline: what the ratio gained is the loss that went away.
         let q = 1.0 - b * span / dl;
         let sq = sb * span / dl;
-        let inv = (1.0 / LOSS_RATIO_WARM_TO_COLD.1, 1.0 / LOSS_RATIO_WARM_TO_COLD.0);
+        let inv = (
+            1.0 / LOSS_RATIO_WARM_TO_COLD.1,
+            1.0 / LOSS_RATIO_WARM_TO_COLD.0,
+        );
         let same = outside(q, LOSS_RATIO_SAME, sq);
         return Ok(Some(Signature {
             name: "loss-ratio",
@@ -441,8 +458,14 @@ fn loss_signature(
         sigma: sb,
         unit: "dB/sqrt(GHz)",
         misfit: vec![
-            (Hypothesis::WarmCold, outside(b, (LOSS_SLOPE_SAME, f64::INFINITY), sb)),
-            (Hypothesis::ColdWarm, outside(b, (f64::NEG_INFINITY, -LOSS_SLOPE_SAME), sb)),
+            (
+                Hypothesis::WarmCold,
+                outside(b, (LOSS_SLOPE_SAME, f64::INFINITY), sb),
+            ),
+            (
+                Hypothesis::ColdWarm,
+                outside(b, (f64::NEG_INFINITY, -LOSS_SLOPE_SAME), sb),
+            ),
             (Hypothesis::WarmWarm, same),
             (Hypothesis::ColdCold, same),
         ],
@@ -534,9 +557,13 @@ pub(super) fn model_signatures(
             let fm = f[f.len() / 2];
             let l_meas = meas.db(fm);
             let l_w = warm.loss_to_db(warm.visible_end_m(), fm, Which::Baseline)
-                - warm.loss_model_to(warm.visible_end_m(), Which::Baseline).a_flat;
+                - warm
+                    .loss_model_to(warm.visible_end_m(), Which::Baseline)
+                    .a_flat;
             let l_c = cold.loss_to_db(cold.visible_end_m(), fm, Which::Baseline)
-                - cold.loss_model_to(cold.visible_end_m(), Which::Baseline).a_flat;
+                - cold
+                    .loss_model_to(cold.visible_end_m(), Which::Baseline)
+                    .a_flat;
             if l_w > 0.5 && l_c > 0.0 {
                 // Compare in the log domain: the model's losses are known to about 30 %.
                 let v = (l_meas.max(1e-3) / l_w).ln();
@@ -610,7 +637,16 @@ pub fn decide(signatures: Vec<Signature>, allowed: &[Hypothesis]) -> StateDecisi
     // One state is the simpler reading: a change of state pays STATE_CHANGE_PRIOR.
     let totals: Vec<(Hypothesis, f64)> = totals
         .into_iter()
-        .map(|(h, t)| (h, t + if h.same_state() { 0.0 } else { STATE_CHANGE_PRIOR }))
+        .map(|(h, t)| {
+            (
+                h,
+                t + if h.same_state() {
+                    0.0
+                } else {
+                    STATE_CHANGE_PRIOR
+                },
+            )
+        })
         .collect();
     let best = totals
         .iter()
@@ -672,4 +708,3 @@ impl StateDecision {
         s
     }
 }
-

@@ -347,7 +347,11 @@ fn toml_text(
         "the line as declared (nominal)"
     };
     let _ = writeln!(s, "# Generated scenario, invented data: {what}.");
-    let _ = writeln!(s, "name = \"{name}\"\nimpedance_ohm = 50.0\n\n[stages]");
+    // Connectors add their own section to the chain, so cable lengths are what the generator drew.
+    let _ = writeln!(
+        s,
+        "name = \"{name}\"\nimpedance_ohm = 50.0\nconnector_lengths = \"added\"\n\n[stages]"
+    );
     for (n, k) in stages {
         let _ = writeln!(s, "{n} = {k:.6}");
     }
