@@ -50,6 +50,8 @@ pub struct AlignProblem {
     pub prior_scale: Vec<f64>,
     /// Prior round-trip loss change of each segment, dB.
     pub prior_loss_db: Vec<f64>,
+    /// Prior uncertainty of each segment's loss change, dB; empty: [`LOSS_PRIOR_SIGMA_DB`] for all.
+    pub loss_sigma_db: Vec<f64>,
     /// Landmarks: for each, the fraction of every segment before it (`cover[k][j]`), its current delay (s)
     /// and its amplitude change, current over baseline, dB.
     pub cover: Vec<Vec<f64>>,
@@ -107,10 +109,27 @@ impl AlignProblem {
         // Loss: unknowns L_j (dB, round trip) and the level change g (dB); a landmark's amplitude changes by
         // g less the loss before it. Huber weights (k = 1.5 sigma) keep a changed landmark from bending it.
         let w_a = 1.0 / self.sigma_db.max(1e-6);
-        let w_l = 1.0 / LOSS_PRIOR_SIGMA_DB;
-        let w_g = 1.0 / LEVEL_PRIOR_SIGMA_DB;
-        let m = self.cover.len();
-        let mut robust = vec![1.0; m];
+        let w_l = |j: usize| {
+            1.0 / self
+                .loss_sigma_db
+                .get(j)
+                .copied()
+                .unwrap_or(LOSS_PRIOR_SIGMA_DB)
+                .max(1e-6)
+        };
+        // A landmark that moved by more than any level or loss change can explain is a change, not a
+        // landmark; and the level is left free only where enough landmarks can outvote a changed one.
+        let mut robust: Vec<f64> = self
+            .amplitude_change_db
+            .iter()
+            .map(|a| if a.abs() > MAX_LANDMARK_AMPLITUDE_DB { 0.0 } else { 1.0 })
+            .collect();
+        let usable = robust.iter().filter(|&&w| w > 0.0).count();
+        let w_g = if usable >= MIN_LEVEL_LANDMARKS {
+            1.0 / LEVEL_PRIOR_SIGMA_DB
+        } else {
+            1.0 / self.sigma_db.max(1e-6)
+        };
         let mut sol = None;
         for _ in 0..6 {
             let mut rows: Vec<(Vec<f64>, f64)> = Vec::new();
@@ -122,8 +141,8 @@ impl AlignProblem {
             }
             for j in 0..n {
                 let mut row = vec![0.0; n + 1];
-                row[j] = w_l;
-                rows.push((row, self.prior_loss_db[j] * w_l));
+                row[j] = w_l(j);
+                rows.push((row, self.prior_loss_db[j] * w_l(j)));
             }
             let mut row = vec![0.0; n + 1];
             row[n] = w_g;
@@ -135,7 +154,9 @@ impl AlignProblem {
                 let fit = x[n] - (0..n).map(|j| cover[j] * x[j]).sum::<f64>();
                 let r = (self.amplitude_change_db[k] - fit).abs();
                 let h = 1.5 * self.sigma_db;
-                robust[k] = if r <= h { 1.0 } else { h / r };
+                if robust[k] > 0.0 {
+                    robust[k] = if r <= h { 1.0 } else { h / r };
+                }
             }
             sol = Some(x);
         }
@@ -179,6 +200,14 @@ pub const LOSS_PRIOR_SIGMA_DB: f64 = 0.5;
 /// Prior uncertainty of the whole trace's level change, dB: wide, so the landmarks decide (an amplifier's
 /// gain can move by several dB on cooling; common practice, no source).
 pub const LEVEL_PRIOR_SIGMA_DB: f64 = 20.0;
+
+/// Largest amplitude change of a landmark that the level and loss calibration may take in, dB: beyond it the
+/// echo itself changed (common practice, no source).
+pub const MAX_LANDMARK_AMPLITUDE_DB: f64 = 20.0;
+
+/// Least number of usable landmarks for the level change to be fitted freely; with fewer, one changed
+/// landmark could pass for a level change (three: a majority can outvote one).
+pub const MIN_LEVEL_LANDMARKS: usize = 3;
 
 /// Least squares with every unknown kept inside `bounds` (an active set: unknowns that leave the bounds
 /// are held at the bound they crossed and the rest solved again, until none leaves).
@@ -299,6 +328,7 @@ mod tests {
             tau,
             prior_scale: vec![1.0, 0.997, 1.002],
             prior_loss_db: vec![0.0; 3],
+            loss_sigma_db: Vec::new(),
             cover,
             current_delay_s: d,
             amplitude_change_db: vec![0.0, 0.5, 1.5, 2.0],
@@ -333,6 +363,7 @@ mod tests {
             tau: vec![10e-9],
             prior_scale: vec![1.0],
             prior_loss_db: vec![0.0],
+            loss_sigma_db: Vec::new(),
             current_delay_s: cover.iter().map(|c| c[0] * 10e-9).collect(),
             cover,
             amplitude_change_db: amp,
@@ -361,6 +392,7 @@ mod tests {
             tau: vec![1e-9, 1e-9],
             prior_scale: vec![1.0, 1.0],
             prior_loss_db: vec![0.0, 0.0],
+            loss_sigma_db: Vec::new(),
             cover: vec![vec![1.0, 0.0], vec![1.0, 1.0]],
             current_delay_s: vec![1.03e-9, 2.03e-9],
             amplitude_change_db: vec![0.0, 0.0],
@@ -379,6 +411,7 @@ mod tests {
             tau: vec![1e-9, 1e-9],
             prior_scale: vec![1.0, 0.995],
             prior_loss_db: vec![0.0, -0.3],
+            loss_sigma_db: Vec::new(),
             cover: vec![vec![1.0, 0.0]],
             current_delay_s: vec![1.001e-9],
             amplitude_change_db: vec![0.0],

@@ -177,7 +177,9 @@ fn intersect(report: &mut CompareReport, other: &CompareReport, h: Hypothesis) {
         .iter_mut()
         .filter(|f| f.severity > Severity::Info)
     {
-        let tol = f.uncertainty_m.max(report.resolution_m);
+        // The same change read under another alignment may sit a cell or so away.
+        let tol = (3.0 * report.resolution_m.max(other.resolution_m))
+            .max(f.uncertainty_m + f.uncertainty_m);
         let twin = other
             .findings
             .iter()

@@ -2,7 +2,7 @@
 //! fitted to them (the per-segment delay scale of `align`, on the line file's elements or, for a line of
 //! unknown construction, on the stretches between landmarks).
 
-use super::align::{AlignProblem, SegmentAlignment};
+use super::align::{AlignProblem, SegmentAlignment, LOSS_PRIOR_SIGMA_DB};
 use super::analysis::SweepAnalysis;
 use super::chain::{ChainView, Which};
 use super::far_end::ALIAS_EDGE;
@@ -20,6 +20,10 @@ pub const FIRST_PASS_LANDMARKS: usize = 6;
 
 /// Most landmarks used in all.
 pub const MAX_LANDMARKS: usize = 24;
+
+/// Relative error of the modelled conductor loss the calibration allows for (surface resistance of real
+/// conductors, warm and cold, known to about 30 %; common practice, no source).
+pub const MODEL_LOSS_ERROR: f64 = 0.3;
 
 /// Amplitude uncertainty of one landmark in the calibration of levels, dB: a cold connector's own reflection
 /// moves by a dB or so as its parts contract (common practice, no source).
@@ -373,8 +377,18 @@ pub(super) fn fit_alignment(
         tau: tau.clone(),
         prior_scale: prior_scale.clone(),
         // The traces are already compensated with each state's modelled loss: what is left to fit is the
-        // model's error, whose prior is zero.
+        // model's error, whose prior is zero and whose size grows with the loss modelled (surface resistance
+        // known to about 30 %).
         prior_loss_db: vec![0.0; n],
+        loss_sigma_db: work
+            .segments
+            .iter()
+            .map(|s| {
+                let l = s.loss[0].db(reference_hz) - s.loss[0].a_flat + s.loss[1].db(reference_hz)
+                    - s.loss[1].a_flat;
+                LOSS_PRIOR_SIGMA_DB.max(MODEL_LOSS_ERROR * l.abs())
+            })
+            .collect(),
         cover: cover.clone(),
         current_delay_s: pairs.iter().map(|&(_, j)| c.events[j].delay_s).collect(),
         amplitude_change_db: pairs
@@ -391,6 +405,7 @@ pub(super) fn fit_alignment(
         tau: tau.clone(),
         prior_scale: vec![1.0; n],
         prior_loss_db: vec![0.0; n],
+        loss_sigma_db: Vec::new(),
         cover: cover.clone(),
         current_delay_s: pairs.iter().map(|&(i, _)| b.events[i].delay_s).collect(),
         amplitude_change_db: vec![0.0; pairs.len()],

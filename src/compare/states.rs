@@ -72,11 +72,13 @@ pub enum Hypothesis {
 }
 
 impl Hypothesis {
+    /// In order of preference on equal evidence: a cooldown, a warm-up, then one state, cold before warm
+    /// (a line is usually compared across a thermal cycle, cold).
     pub const ALL: [Hypothesis; 4] = [
         Hypothesis::WarmCold,
         Hypothesis::ColdWarm,
-        Hypothesis::WarmWarm,
         Hypothesis::ColdCold,
+        Hypothesis::WarmWarm,
     ];
 
     /// (baseline, current).
@@ -246,9 +248,10 @@ pub(super) fn pair_signatures(
         });
         // The far echo's strength says something of the loss only if the same kind of termination ends
         // both sweeps (an open swapped for a short, or a load for an open, changes it by itself).
+        // A joint's own reflection changes its shape with temperature (its parts contract, its
+        // permittivity moves), so only an open or short far end is read this way.
         let same_end = match (&tb, &tc) {
-            (Some(b), Some(c)) => b.total == c.total && b.polarity * c.polarity > 0.0,
-            (None, None) => true,
+            (Some(b), Some(c)) => b.total && c.total && b.polarity * c.polarity > 0.0,
             _ => false,
         };
         if same_end {
@@ -374,7 +377,6 @@ fn loss_signature(
     term: Option<Termination>,
     engine: &mut TraceEngine,
 ) -> Result<Option<Signature>, CompareError> {
-    let res = ab.resolution_s.max(ac.resolution_s);
     // The far echo: the baseline's open or short far end when it pairs, else the last echo both show.
     let term_pair = term
         .as_ref()
@@ -385,36 +387,15 @@ fn loss_signature(
     let Some((f, y_far)) = ratio_db(ab, ac, i_far, j_far, engine)? else {
         return Ok(None);
     };
-    let Some((mut b, mut sb)) = sqrt_slope(&f, &y_far) else {
+    let Some((b, sb)) = sqrt_slope(&f, &y_far) else {
         return Ok(None);
     };
-    // The nearest strong echo, well before the far one: what changed in front of the line (an amplifier's
-    // gain) changes it as much as the far echo.
-    let near = m
-        .pairs
-        .iter()
-        .find(|&&(i, _)| ab.events[i_far].delay_s - ab.events[i].delay_s > 10.0 * res)
-        .copied();
-    let mut relative = false;
-    if let Some((i, j)) = near {
-        if let Some((fn_, y)) = ratio_db(ab, ac, i, j, engine)? {
-            if fn_.len() == f.len() {
-                if let Some((bn, sn)) = sqrt_slope(&fn_, &y) {
-                    b -= bn;
-                    sb = (sb * sb + sn * sn).sqrt();
-                    relative = true;
-                }
-            }
-        }
-    }
+    // A level change in front of the line (an amplifier's gain) moves every echo alike and leaves the slope
+    // alone; a joint's own echo changes its shape with temperature, so no near echo is subtracted.
     let sb = sb.max(1e-3);
     // The baseline's own loss law at an open or short far end sets the scale.
     let term = term.filter(|t: &Termination| t.event == i_far && t.total);
-    let near_text = if relative {
-        ", relative to the nearest strong echo"
-    } else {
-        ""
-    };
+    let near_text = "";
     // How much the ratio rose from the bottom to the middle of the band, against how much loss the
     // baseline's own far end shows over the same stretch of band.
     let (g_lo, g_mid) = ((f[0] / 1e9).max(0.0), (f[f.len() / 2] / 1e9).max(0.0));
@@ -488,66 +469,11 @@ pub(super) fn model_signatures(
         ChainView::from_line(line, State::Warm, State::Warm, lo, hi, f_ref),
         ChainView::from_line(line, State::Cold, State::Cold, lo, hi, f_ref),
     ];
-    // Delay: the sweep's strong echoes near the model's joints and far end, scale fitted against the warm
-    // model's delays; the cold model predicts its own scale.
+    // The echo delays are not read against the models: the band-pass peak of an uncompensated, dispersive
+    // echo sits a fraction of a percent off the model's group delay, as much as the warm-to-cold change
+    // itself, so it cannot vote.
     let warm = &chains[0];
     let cold = &chains[1];
-    let marks: Vec<f64> = warm
-        .segments
-        .iter()
-        .filter(|s| s.kind != super::chain::SegmentKind::Cable)
-        .map(|s| 0.5 * (s.start_m + s.end_m))
-        .filter(|&x| x > 0.0 && x <= warm.visible_end_m() + 1e-9)
-        .chain(std::iter::once(warm.visible_end_m()))
-        .collect();
-    let strong = strong_events(a, LANDMARK_SEPARATION_CELLS * a.resolution_s, MAX_LANDMARKS);
-    let (mut num, mut den, mut num_c, mut n) = (0.0, 0.0, 0.0, 0usize);
-    let mut len_var = 0.0;
-    for &x in &marks {
-        let tw = warm.delay_to(x, Which::Baseline, None);
-        let tc = cold.delay_to(x, Which::Baseline, None);
-        // The echo nearest the mark under either model, if within 1.5 % of its delay.
-        let hit = strong
-            .iter()
-            .map(|&i| a.events[i].delay_s)
-            .filter(|&t| (t - tw).abs() <= 0.015 * tw + 2.0 * a.resolution_s)
-            .min_by(|p, q| (p - tw).abs().total_cmp(&(q - tw).abs()));
-        if let Some(t) = hit {
-            num += tw * t;
-            den += tw * tw;
-            num_c += tw * tc;
-            n += 1;
-            len_var += (super::place::LENGTH_TOLERANCE * tw).powi(2);
-        }
-    }
-    if n > 0 && den > 0.0 {
-        let s = num / den - 1.0;
-        let s_cold = num_c / den - 1.0;
-        // As-built lengths are known to LENGTH_TOLERANCE each; their errors partly average out.
-        let sig = ((len_var / n as f64).sqrt() / (den / n as f64).sqrt())
-            .hypot(MODEL_RELATIVE_WIDTH * s_cold.abs() * 0.5)
-            .max(1e-5);
-        let mis_w = outside(s, (-SAME_STATE_DRIFT, SAME_STATE_DRIFT), sig);
-        let band = (
-            s_cold.min(s_cold * (1.0 - MODEL_RELATIVE_WIDTH)),
-            s_cold.max(s_cold * (1.0 + MODEL_RELATIVE_WIDTH)),
-        );
-        let mis_c = outside(s, band, sig);
-        out.push(single(
-            "model-delay",
-            sweep,
-            s,
-            sig,
-            "",
-            mis_w,
-            mis_c,
-            format!(
-                "echo delays {:+.3} % off the warm model over {n} joint(s); the cold model predicts {:+.3} %",
-                100.0 * s,
-                100.0 * s_cold
-            ),
-        ));
-    }
     // Loss: an open or short far end, against each model's round-trip loss law to it.
     if let Some(t) = far_end::find(a, warm, Which::Baseline, engine)?.filter(|t| t.total) {
         let x = warm.position_of(t.delay_s, Which::Baseline, None);

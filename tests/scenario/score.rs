@@ -31,6 +31,8 @@ pub struct Run {
     pub top: Option<Top>,
     /// The states the report used.
     pub states: (String, String),
+    /// The hypotheses the data left open (`warm->cold`, ...), the one used first.
+    pub open: Vec<String>,
 }
 
 fn state_name(s: State) -> &'static str {
@@ -49,6 +51,7 @@ impl Run {
                 alarms: Vec::new(),
                 top: None,
                 states: (String::new(), String::new()),
+                open: Vec::new(),
             },
             Ok(r) => Run {
                 states_given,
@@ -76,6 +79,12 @@ impl Run {
                     reflection_db: f.reflection_db,
                 }),
                 states: (r.states.baseline.to_string(), r.states.current.to_string()),
+                open: r
+                    .states
+                    .hypotheses_open
+                    .iter()
+                    .map(|h| h.name().to_string())
+                    .collect(),
             },
         }
     }
@@ -140,13 +149,31 @@ impl Evaluated {
                 )
     }
 
+    /// Whether the states are honest: the truth is among the hypotheses the data left open (so no finding
+    /// depends on a wrong choice), and when only one was left it is the truth.
+    pub fn states_honest(&self, states_given: bool) -> bool {
+        let r = self.run(states_given);
+        let truth = format!(
+            "{}->{}",
+            state_name(self.scenario.baseline_state),
+            state_name(self.scenario.current_state)
+        );
+        // Without a line file nothing tells warm->warm from cold->cold; with one, both are hypotheses.
+        r.error.is_none() && r.open.iter().any(|h| *h == truth)
+    }
+
     /// One line: what happened in the run.
     pub fn what_happened(&self, states_given: bool) -> String {
         let r = self.run(states_given);
         if let Some(e) = &r.error {
             return format!("error: {e}");
         }
-        let mut s = format!("states {} -> {}", r.states.0, r.states.1);
+        let mut s = format!(
+            "states {} -> {} (open: {})",
+            r.states.0,
+            r.states.1,
+            r.open.join(", ")
+        );
         if let Some(f) = &self.scenario.fault {
             let _ = write!(
                 s,
@@ -202,6 +229,7 @@ pub fn evaluate(seed: u64, case: Case) -> Evaluated {
                 alarms: Vec::new(),
                 top: None,
                 states: (String::new(), String::new()),
+                open: Vec::new(),
             };
             (
                 r.clone(),
@@ -297,6 +325,7 @@ pub struct Figures {
     pub location_errors_right_m: Vec<f64>,
     pub states_checked: usize,
     pub states_right: usize,
+    pub states_honest: usize,
     pub fault_states_right: usize,
     pub errors: usize,
     /// (true kind, reported rank-1 kind or "none") -> count, visible faults.
@@ -321,6 +350,7 @@ impl Figures {
             location_errors_right_m: Vec::new(),
             states_checked: 0,
             states_right: 0,
+            states_honest: 0,
             fault_states_right: 0,
             errors: 0,
             confusion: Default::default(),
@@ -344,6 +374,7 @@ impl Figures {
                     }
                     f.states_checked += 1;
                     f.states_right += e.states_right(states_given) as usize;
+                    f.states_honest += e.states_honest(states_given) as usize;
                 }
                 Some(t) => {
                     let right = e.right_element(states_given) == Some(true);
@@ -441,6 +472,13 @@ pub fn table(inferred: &Figures, given: &Figures) -> String {
         "100 %",
         pct(inferred.states_right, inferred.states_checked),
         pct(given.states_right, given.states_checked),
+    );
+    row(
+        &mut s,
+        "states: the truth among the hypotheses left open, healthy and repeats",
+        "100 %",
+        pct(inferred.states_honest, inferred.states_checked),
+        pct(given.states_honest, given.states_checked),
     );
     row(
         &mut s,
