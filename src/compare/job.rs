@@ -322,6 +322,7 @@ pub fn compare_networks(req: &PairRequest) -> Result<CompareReport> {
     if let Some(l) = line {
         w.extend(l.warnings.iter().cloned());
         report.visibility = crate::line::visibility(l, cs, &nc.freqs_hz, report.noise_rms)?;
+        report.connector_lengths = Some(l.connector_lengths.name().to_string());
     }
     if states.inferred && open.len() > 1 {
         w.push(Warning::new(
@@ -404,6 +405,7 @@ pub fn locate_network(
     )?;
     if let LineModel::Line(l) = line {
         report.visibility = crate::line::visibility(l, st, &n.freqs_hz, report.noise_rms)?;
+        report.connector_lengths = Some(l.connector_lengths.name().to_string());
         if state.is_none() {
             w.push(Warning::new(
                 "state-assumed",

@@ -9,16 +9,12 @@ use super::far_end::ALIAS_EDGE;
 use super::place::speed_at;
 use super::report::Alignment;
 use super::sweep::db;
-/// Amplitude signal-to-noise a landmark needs (30 dB).
+
+/// Amplitude signal-to-noise a landmark needs (30 dB: its peak then sits to a sixtieth of a cell; common
+/// practice, no source).
 pub const LANDMARK_SNR: f64 = 31.6;
 
-/// Largest amplitude change a landmark may show, dB; a larger one is a change, not a landmark.
-pub const LANDMARK_MAX_CHANGE_DB: f64 = 3.0;
-
-/// Landmarks used for the first, coarse match (the strongest).
-pub const FIRST_PASS_LANDMARKS: usize = 6;
-
-/// Most landmarks used in all.
+/// Most landmarks used in all (common practice, no source).
 pub const MAX_LANDMARKS: usize = 24;
 
 /// Relative error of the modelled conductor loss the calibration allows for (surface resistance of real
@@ -29,12 +25,9 @@ pub const MODEL_LOSS_ERROR: f64 = 0.3;
 /// moves by a dB or so as its parts contract (common practice, no source).
 pub const AMPLITUDE_SIGMA_DB: f64 = 1.0;
 
-/// Least separation of two landmarks, in resolution cells: closer ones disturb each other's peaks.
+/// Least separation of two landmarks, in resolution cells: closer ones disturb each other's peaks (common
+/// practice, no source).
 pub const LANDMARK_SEPARATION_CELLS: f64 = 4.0;
-
-/// Largest relative change of electrical length the first landmark search allows, warm to cold: PTFE
-/// lines change by a few tenths of a percent; 2 % leaves room for a wrong velocity factor.
-pub const MAX_LENGTH_CHANGE: f64 = 0.02;
 
 /// The pair (baseline index, current index) of events seen in both sweeps.
 pub(super) type Pairs = Vec<(usize, usize)>;
@@ -207,14 +200,14 @@ pub(super) fn match_events(
 }
 
 /// The largest subset of landmark pairs, in order, in which every stretch between consecutive landmarks
-/// (and from the reference plane to the first) changes its delay by no more than [`MAX_LENGTH_CHANGE`]
-/// against the model's prediction, plus what the landmarks' own uncertainty `sigma_s` allows: a
+/// (and from the reference plane to the first) changes its delay by a ratio inside `bounds` (the physical
+/// limits of the state change), widened by what the landmarks' own delay uncertainty `sigma_s` allows: a
 /// longest-chain search over the pairs (dynamic programming), so one wrong pairing cannot bend the fit.
 pub(super) fn consistent(
     pairs: &Pairs,
     b: &SweepAnalysis,
     c: &SweepAnalysis,
-    predict: impl Fn(f64) -> f64,
+    (lo, hi): (f64, f64),
     sigma_s: f64,
 ) -> Pairs {
     let n = pairs.len();
@@ -234,8 +227,8 @@ pub(super) fn consistent(
     };
     let ok = |j: usize, k: usize| {
         let (tb, tc) = (db_(k) - db_(j), dc_(k) - dc_(j));
-        let tp = predict(db_(k)) - predict(db_(j));
-        tb > 0.0 && tp > 0.0 && ((tc - tp) / tp).abs() <= MAX_LENGTH_CHANGE + 3.0 * sigma_s / tp
+        let slack = 3.0 * std::f64::consts::SQRT_2 * sigma_s / tb.max(1e-18);
+        tb > 0.0 && tc >= (lo - slack) * tb && tc <= (hi + slack) * tb
     };
     // best[k]: most landmarks in a consistent chain ending at k (0 = the reference plane).
     let mut best = vec![0usize; n + 1];

@@ -102,6 +102,7 @@ pub fn locate(
         not_visible,
         noise_rms: a.sigma,
         visibility: Vec::new(),
+        connector_lengths: None,
         warnings,
         plot: plot_data(&chain, &[(&a, Which::Current, sweep.name)], &[]),
     })

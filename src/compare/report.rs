@@ -99,6 +99,10 @@ pub struct Finding {
     pub model: ModelSummary,
     /// Set when the event sits where a multiple reflection of stronger events would land.
     pub likely_ghost: bool,
+    /// How far the change stands beyond what counts as a change, in units of its threshold (1: at it): the
+    /// strength's change over `compare::difference::CHANGE_DB`, the phase turn over `PHASE_CHANGE_DEG` in one
+    /// state, the far end's move over `compare::run::FAR_END_MOVE_M`; ranks changes of equal severity and cost.
+    pub significance: f64,
     /// Where it was seen: `line` (the visible line: anything may be claimed), `beyond-far-end` (behind an
     /// open or short far end), `alias-edge` (where echoes from beyond the record fold back),
     /// `behind-device`, or `far-end` (the far end's own open or short, already one in the baseline). Only
@@ -119,7 +123,7 @@ pub struct FarEndReport {
     pub current_kind: &'static str,
     /// Change of the far end's round-trip delay beyond what the alignment of the line in front of it
     /// explains, s (positive: the line now ends later), from the phase slope of the two echoes' ratio;
-    /// `null` when the two terminations are not of one kind.
+    /// `null` when the two echoes' polarities differ (an open against a short) or either is unclear.
     pub delay_change_s: Option<f64>,
 }
 
@@ -289,6 +293,9 @@ pub struct LocateReport {
     /// With a line file: for each element, the round-trip loss to it and the smallest |rho| the noise lets
     /// one see there (`line::visibility`).
     pub visibility: Vec<crate::line::Visibility>,
+    /// With a line file: how its connectors' lengths were counted (`in-cables` or `added`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub connector_lengths: Option<String>,
     pub warnings: Vec<Warning>,
     #[serde(skip)]
     pub plot: PlotData,

@@ -37,6 +37,10 @@ use crate::line::State;
 use crate::transform::TraceEngine;
 use crate::{Network, Warning};
 
+/// Significance given to a termination swapped for the other kind (an open for a short): the whole of the
+/// far end's reflection changed sign, as large a change as an echo can show.
+pub const KIND_FLIP_SIGNIFICANCE: f64 = 10.0;
+
 /// Least move of the far end reported as a change, as an air-line length, m (a millimetre: the sub-bin
 /// phase-slope estimate resolves a fraction of it; common practice, no source).
 pub const FAR_END_MOVE_M: f64 = 1e-3;
@@ -198,13 +202,34 @@ pub fn align_pair(
                         .map(|t| t.delay_s + 1.5 * res)
                 })
                 .fold(f64::INFINITY, f64::min);
+            // Nor anything behind a part reflection cannot see through.
+            let device = if pa.chain.as_built {
+                pa.chain.delay_to(pa.chain.visible_end_m(), Which::Baseline, None) * 1.02 + res
+            } else {
+                f64::INFINITY
+            };
+            // Nor an echo that changed more than a level or loss change can explain (its own joint changed),
+            // nor anything behind it: a changed joint's transmission phase delays every echo behind it.
+            let changed_at = m
+                .pairs
+                .iter()
+                .filter(|&&(i, j)| {
+                    (db(c.events[j].magnitude) - db(b.events[i].magnitude)).abs()
+                        > crate::compare::align::MAX_LANDMARK_AMPLITUDE_DB
+                })
+                .map(|&(i, _)| b.events[i].delay_s)
+                .fold(f64::INFINITY, f64::min);
             let kept: Pairs = m
                 .pairs
                 .iter()
                 .copied()
-                .filter(|p| Some(p.0) != swapped && b.events[p.0].delay_s <= wall)
+                .filter(|p| {
+                    let t = b.events[p.0].delay_s;
+                    Some(p.0) != swapped && t <= wall && t <= device && t < changed_at
+                })
                 .collect();
-            consistent(&kept, b, c, |t| m.scale * t, m.sigma * 3.0 + 0.01 * res)
+            // Per-landmark delay uncertainty: a tenth of a cell covers a peak at 30 dB SNR and more.
+            consistent(&kept, b, c, (bounds.0 - widen, bounds.1 + widen), 0.1 * res)
         }
         None => Vec::new(),
     };
@@ -219,12 +244,14 @@ pub fn align_pair(
 }
 
 /// Stage 4: explain one change as a finding.
+#[allow(clippy::too_many_arguments)]
 pub fn explain_change(
     ch: &Change,
     pa: &PairAnalysis,
     fit: &Fitted,
     same_state: bool,
     f_ref: f64,
+    extra_significance: f64,
     engine: &mut TraceEngine,
 ) -> Result<Finding, CompareError> {
     let (chain, c) = (&pa.chain, &pa.c);
@@ -348,6 +375,15 @@ pub fn explain_change(
         confidence: confidence(ch.snr, model.fit_error),
         model,
         likely_ghost: ch.ghost,
+        significance: (ch.excess_db.abs() / CHANGE_DB)
+            .max(
+                if same_state && ch.base.is_some() && ch.snr > difference::PHASE_SNR {
+                    ch.phase_deg.abs() / PHASE_CHANGE_DEG
+                } else {
+                    0.0
+                },
+            )
+            .max(extra_significance),
         zone: if ch.same_termination || ch.was_total {
             "far-end"
         } else if ch.ghost && ch.zone == Zone::Line {
@@ -384,7 +420,11 @@ fn far_end_report(
     };
     let xb = fit.chain.position_of(tb.delay_s, Which::Baseline, None);
     let xc = fit.chain.position_of(tc.delay_s, Which::Current, None);
-    let delay_change_s = if kind(tb) == kind(tc) {
+    // One kind of termination (the same polarity): its move is the far end's.
+    let delay_change_s = if tb.polarity * tc.polarity > 0.0
+        && tb.polarity.abs() >= 0.5
+        && tc.polarity.abs() >= 0.5
+    {
         // Where the baseline's far end would be in the current sweep, by the alignment; then the phase slope
         // of the two echoes' ratio over the lower half of the band, where parasitics and dispersion are least.
         let predicted = fit.chain.delay_to(xb, Which::Current, None);
@@ -454,13 +494,20 @@ pub fn phase_slope_delay(freqs: &[f64], ratio: &[num_complex::Complex64]) -> Opt
 pub fn rank(findings: &mut [Finding]) {
     // What lies on the visible line (or is the far end itself) ranks before what lies beyond it.
     let on_line = |f: &Finding| matches!(f.zone, "line" | "far-end") && !f.likely_ghost;
+    // Among changes that cost nothing (info), the cost is noise: the size of the change decides.
+    let cost = |f: &Finding| {
+        if f.severity > Severity::Info {
+            f.power_drop_db
+        } else {
+            0.0
+        }
+    };
     findings.sort_by(|a, b| {
         on_line(b)
             .cmp(&on_line(a))
             .then(b.severity.cmp(&a.severity))
-            .then((b.zone == "far-end").cmp(&(a.zone == "far-end")))
-            .then(b.power_drop_db.total_cmp(&a.power_drop_db))
-            .then(b.change_db.abs().total_cmp(&a.change_db.abs()))
+            .then(cost(b).total_cmp(&cost(a)))
+            .then(b.significance.total_cmp(&a.significance))
             .then(b.confidence.total_cmp(&a.confidence))
     });
     for (k, f) in findings.iter_mut().enumerate() {
@@ -522,23 +569,33 @@ pub fn compare(
         .as_ref()
         .and_then(|f| f.delay_change_s)
         .is_some_and(|d| d.abs() >= 2.0 * FAR_END_MOVE_M / crate::transform::C0_M_PER_S);
+    // The termination swapped for the other kind (an open for a short).
+    let kind_flip = match (&pa.far.baseline, &pa.far.current) {
+        (Some(tb), Some(tc)) => tb.total && tc.total && tb.polarity * tc.polarity < 0.0,
+        _ => false,
+    };
+    let move_ratio = far_end.as_ref().and_then(|f| f.delay_change_s).map_or(0.0, |d| {
+        d.abs() * crate::transform::C0_M_PER_S / (2.0 * FAR_END_MOVE_M)
+    });
     let mut findings = Vec::new();
     let mut behind = 0usize;
-    for ch in changes
-        .iter()
-        .filter(|ch| ch.changed(same_state) || (moved && (ch.same_termination || ch.was_total)))
-    {
+    for ch in &changes {
+        let at_end = ch.same_termination || ch.was_total;
+        let end_change = at_end && (moved || kind_flip);
+        if !(ch.changed(same_state) || end_change) {
+            continue;
+        }
         if ch.zone == Zone::BehindDevice {
             behind += 1;
             continue;
         }
+        let extra = if at_end {
+            move_ratio.max(if kind_flip { KIND_FLIP_SIGNIFICANCE } else { 0.0 })
+        } else {
+            0.0
+        };
         findings.push(explain_change(
-            ch,
-            &pa,
-            &fit,
-            same_state,
-            f_ref,
-            &mut engine,
+            ch, &pa, &fit, same_state, f_ref, extra, &mut engine,
         )?);
     }
     if behind > 0 {

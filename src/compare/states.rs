@@ -5,15 +5,18 @@
 //! - `delay-scale`: the current/baseline ratio of the round-trip delays of the echoes both sweeps show, by a
 //!   bounded search and least squares. Cooling a PTFE line changes its electrical length by about -0.2 % to
 //!   +1 % ([`WARM_TO_COLD_CHANGE`]); one state keeps it within [`SAME_STATE_DRIFT`].
-//! - `loss-slope`: how the far echo's strength changed across the band. Cold conductors lose less, and the
-//!   conductor loss grows as sqrt(f), so the ratio current/baseline of the far echo, in dB, rises with
-//!   sqrt(f) when the current is colder. Read relative to the nearest strong echo, so a gain change of an
-//!   amplifier in front (a level change of the whole trace) cancels. With an open or short at the far end the
-//!   slope is also read as the ratio of the two sweeps' conductor losses.
+//! - `loss-ratio` (or `loss-slope` where the far end gives no scale): how the far open or short's echo
+//!   changed across the band. Cold conductors lose less, and the conductor loss grows as sqrt(f), so the
+//!   ratio current/baseline of that echo, in dB, rises with sqrt(f) when the current is colder; against the
+//!   loss the baseline's own far end shows, it is the ratio of the two sweeps' conductor losses. A gain
+//!   change of an amplifier in front (a level change of the whole trace) leaves the slope alone. Only an open
+//!   or short far end of one kind in both sweeps is read this way: a joint's own echo changes its shape with
+//!   temperature.
 //!
-//! Signatures of one sweep against a line file (the model as a prior, with generous widths):
-//! - `model-delay`: the sweep's echo delays against the warm and the cold model;
-//! - `model-loss`: an open or short far end's loss law against the warm and the cold model.
+//! Signature of one sweep against a line file (the model as a prior, with a generous width):
+//! - `model-loss`: an open or short far end's loss against the warm and the cold model's. (The echo delays
+//!   are not read against the model: an uncompensated, dispersive echo's band-pass peak sits a fraction of a
+//!   percent off the model's group delay, as much as the warm-to-cold change itself.)
 //!
 //! Each signature gives, for each hypothesis, its misfit: how many of its own standard uncertainties the
 //! measured value lies outside the interval that hypothesis allows (0 inside). Misfits add in quadrature;
@@ -52,11 +55,6 @@ pub const LOSS_RATIO_SAME: (f64, f64) = (0.97, 1.03);
 /// Least loss-slope change read as a change of state when no open or short gives the scale, dB per
 /// sqrt(GHz) of the current/baseline ratio (0.05: 0.16 dB across 0-10 GHz; common practice, no source).
 pub const LOSS_SLOPE_SAME: f64 = 0.05;
-
-/// Relative width of the line model's predicted warm -> cold changes (delay change and loss ratio): the
-/// cold permittivity change of real PTFE is known to a factor of two, contraction to 20 %, surface
-/// resistance to 30 % (common practice, no source).
-pub const MODEL_RELATIVE_WIDTH: f64 = 0.6;
 
 /// The four hypotheses of a pair's states.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
@@ -117,7 +115,7 @@ impl Hypothesis {
 /// One signature and how well each hypothesis explains it. JSON: `states.signatures[]`.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Signature {
-    /// `delay-scale`, `loss-slope`, `loss-ratio`, `model-delay`, `model-loss`.
+    /// `delay-scale`, `loss-ratio`, `loss-slope` or `model-loss`.
     pub name: &'static str,
     /// Which sweep it reads: `pair`, `baseline` or `current`.
     pub sweep: &'static str,

@@ -69,7 +69,8 @@ pub fn no_line_file(chain: &ChainView) -> Option<Warning> {
     (!chain.as_built).then(|| {
         Warning::new(
             "no-line-file",
-            "no line file: positions are metres of one uniform line and reflections are not loss-compensated",
+            "no line file: positions are metres of one uniform line, and reflections are loss-compensated only \
+             where an open or short far end shows the line's loss",
             "pass --line LINE for as-built positions, element names and compensated reflections",
         )
     })
