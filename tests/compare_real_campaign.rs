@@ -71,7 +71,6 @@ const BOTH_TEMPERATURES: [&str; 6] = [
 ];
 
 #[test]
-#[ignore = "issue 8 acceptance, not met yet: run with --ignored; figures in docs/accuracy.md"]
 fn warm_to_cold_of_one_file_is_a_healthy_cooldown_inferred_warm_to_cold() {
     let mut failures = Vec::new();
     for name in BOTH_TEMPERATURES {

@@ -24,6 +24,10 @@ pub const TERMINATION_WINDOW_DB: f64 = 20.0;
 /// skin effect's excess phase are smallest there).
 pub const POLARITY_BAND: f64 = 0.3;
 
+/// Share of the band, from its bottom, whose mean reflection stands for the level towards zero frequency
+/// when no loss law fits (common practice, no source).
+pub const BOTTOM_BAND: f64 = 0.05;
+
 /// Share of the alias-free time past which an echo may be folded from beyond it (the port's own echo
 /// wrapping round the record, for one): nothing there is a landmark, a termination or a finding above info.
 pub const ALIAS_EDGE: f64 = 0.9;
@@ -59,9 +63,11 @@ fn known_load(chain: &ChainView) -> Option<Load> {
 /// With a line file, the echo nearest the visible end's predicted delay (give or take the thermal model's
 /// error), strongest first; it is total when the line file's load is an open or a short, or when its echo
 /// reads as one. On a line of unknown construction, among the echoes within [`TERMINATION_WINDOW_DB`] of
-/// the strongest: the one whose reflection, extrapolated to zero frequency along its own loss law, is
-/// largest; it is the termination only if that is an open or a short ([`TOTAL_AT_DC`]). Behind an open or
-/// short there are only multiple reflections, so the latest strong echo is not the termination.
+/// the strongest: the one whose reflection at the bottom of the band ([`BOTTOM_BAND`], where the line loses
+/// least) is largest; it is the termination only if it is an open or a short: its level extrapolated to
+/// zero frequency along its own loss law, or its level at the bottom of the band, reaches [`TOTAL_AT_DC`].
+/// Behind an open or short there are only multiple reflections, so the latest strong echo is not the
+/// termination.
 pub fn find(
     a: &SweepAnalysis,
     chain: &ChainView,
@@ -108,7 +114,14 @@ pub fn find(
             0.0
         };
         let fit = fit_loss(&f, &g);
-        let at_dc = fit.map_or(20.0 * low.max(1e-12).log10(), |(_, c)| c);
+        // Where the loss law does not fit (an offset short's air line ripples), the bottom of the band,
+        // where the line loses least, says it.
+        let n_bottom = ((f.len() as f64 * BOTTOM_BAND).ceil() as usize).clamp(1, f.len());
+        let bottom = 20.0
+            * (g[..n_bottom].iter().map(|v| v.norm()).sum::<f64>() / n_bottom as f64)
+                .max(1e-12)
+                .log10();
+        let at_dc = fit.map_or(bottom, |(_, c)| c.max(bottom));
         let total = match known_load(chain) {
             Some(Load::Open) | Some(Load::Short) => true,
             Some(_) => false,
@@ -123,8 +136,10 @@ pub fn find(
             total,
             loss: if total { fit.map(|(l, _)| l) } else { None },
         };
-        if best.as_ref().map_or(true, |(b, _)| at_dc > *b) {
-            best = Some((at_dc, t));
+        // Ranked by what the bottom of the band shows (where the line loses least): an extrapolation
+        // along a loss law can flatter an echo whose level only falls with frequency.
+        if best.as_ref().map_or(true, |(b, _)| bottom > *b) {
+            best = Some((bottom, t));
         }
     }
     Ok(match best {

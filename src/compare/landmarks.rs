@@ -295,6 +295,8 @@ pub struct Fitted {
     pub residual_loss_db: Vec<f64>,
     /// Robust weight each landmark kept in the amplitude fit (1: it agrees with the calibration).
     pub amplitude_weight: Vec<f64>,
+    /// Each landmark's measured round-trip delay in the baseline and the current sweep, s.
+    pub landmark_delays_s: Vec<(f64, f64)>,
 }
 
 impl Fitted {
@@ -461,6 +463,10 @@ pub(super) fn fit_alignment(
         },
         level_db: sol.level_db,
         residual_loss_db: sol.loss_change_db.clone(),
+        landmark_delays_s: pairs
+            .iter()
+            .map(|&(i, j)| (b.events[i].delay_s, c.events[j].delay_s))
+            .collect(),
         amplitude_weight: sol.amplitude_weight,
     }
 }

@@ -427,11 +427,27 @@ fn far_end_report(
     {
         // Where the baseline's far end would be in the current sweep, by the alignment; then the phase slope
         // of the two echoes' ratio over the lower half of the band, where parasitics and dispersion are least.
-        let predicted = fit.chain.delay_to(xb, Which::Current, None);
-        let (fb, gb) =
-            pa.b.local_reflection(tb.delay_s, xb, &pa.chain, Which::Baseline, engine)?;
-        let (fc, gc) =
-            pa.c.local_reflection(tc.delay_s, xc, &pa.chain, Which::Current, engine)?;
+        // Anchored at the last landmark well in front of it, so an error of the fitted scales over the
+        // whole line does not enter.
+        let res = pa.b.resolution_s.max(pa.c.resolution_s);
+        let anchor = fit
+            .landmark_delays_s
+            .iter()
+            .filter(|(tb_l, _)| *tb_l < tb.delay_s - 2.0 * res)
+            .max_by(|p, q| p.0.total_cmp(&q.0))
+            .map_or(0.0, |&(tb_l, tc_l)| {
+                let xl = fit.chain.position_of(tb_l, Which::Baseline, None);
+                tc_l - fit.chain.delay_to(xl, Which::Current, None)
+            });
+        let predicted = fit.chain.delay_to(xb, Which::Current, None) + anchor;
+        // Read uncompensated: the line in front is the same in both, and each sweep's own loss estimate
+        // would add its own excess phase.
+        let mut plain = pa.chain.clone();
+        for s in &mut plain.segments {
+            s.loss = [super::chain::LossModel::default(); 2];
+        }
+        let (fb, gb) = pa.b.local_reflection(tb.delay_s, xb, &plain, Which::Baseline, engine)?;
+        let (fc, gc) = pa.c.local_reflection(tc.delay_s, xc, &plain, Which::Current, engine)?;
         let n = fb.len().min(fc.len()) / 2;
         if n >= 8 && fb[..n] == fc[..n] {
             let ratio: Vec<num_complex::Complex64> = (0..n).map(|k| gc[k] / gb[k]).collect();

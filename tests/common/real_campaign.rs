@@ -9,8 +9,8 @@
 //!   so does every finding above info;
 //! - air line: an offset short against the same port's flush short moves the far end by the round-trip
 //!   delay of its air line, within the delay of [`MOVE_TOLERANCE_MM`] of air line. The comparator's move is
-//!   read from its own results only: the rank-1 change of flush -> offset (where the line now ends) less the
-//!   rank-1 change of offset -> flush ([`OffsetMove`]).
+//!   read from its own results only: the far end's move it reports (`far_end.delay_change_s`), both ways
+//!   ([`OffsetMove`]).
 //!
 //! Every comparison runs through `coldtrace::compare::job::compare_networks` on a line of unknown
 //! construction of velocity factor [`VF`], states not given. The far end is also found without the
@@ -304,10 +304,8 @@ pub struct OffsetMove {
     pub nominal_mm: f64,
     /// From the two sweeps' far-end echoes ([`far_end`]), without the comparator.
     pub measured_mm: f64,
-    /// From the comparator alone: the rank-1 change of flush -> offset (the offset short, where the line now
-    /// ends) less the rank-1 change of offset -> flush (the flush short), as air line. Both positions are
-    /// as-built metres of one uniform line in one state, so their difference is c0 VF (delay change) / 2.
-    /// `None` when either comparison reports no change.
+    /// From the comparator alone: its far-end move (`far_end.delay_change_s`) of flush -> offset and of
+    /// offset -> flush, averaged, as air line. `None` when neither comparison gives one.
     pub reported_mm: Option<f64>,
 }
 
@@ -321,9 +319,15 @@ impl OffsetMove {
         offset: &FarEnd,
         nominal_mm: f64,
     ) -> OffsetMove {
-        let reported_mm = match (top(to_offset), top(to_flush)) {
-            // As-built metres of the uniform line to air line: x = c0 VF tau / 2, air = c0 tau / 2.
-            (Some(a), Some(b)) => Some((a.place.distance_m - b.place.distance_m) / VF * 1e3),
+        // The comparator's own far-end move (`far_end.delay_change_s`, round trip), both ways, averaged:
+        // air = c0 tau / 2.
+        let mv = |r: &CompareReport| r.far_end.as_ref().and_then(|f| f.delay_change_s);
+        let reported_mm = match (mv(to_offset), mv(to_flush)) {
+            (Some(a), Some(b)) => {
+                Some(0.5 * (a - b) * coldtrace::transform::C0_M_PER_S / 2.0 * 1e3)
+            }
+            (Some(a), None) => Some(a * coldtrace::transform::C0_M_PER_S / 2.0 * 1e3),
+            (None, Some(b)) => Some(-b * coldtrace::transform::C0_M_PER_S / 2.0 * 1e3),
             _ => None,
         };
         OffsetMove {
@@ -338,7 +342,7 @@ impl OffsetMove {
         match self.reported_mm {
             None => Err("no change reported in one of the two directions".into()),
             Some(mm) if (mm - self.nominal_mm).abs() > MOVE_TOLERANCE_MM => Err(format!(
-                "the rank-1 changes put the far end {mm:.2} mm of air line apart, not {} mm (far-end echoes: \
+                "the comparator moves the far end by {mm:.2} mm of air line, not {} mm (far-end echoes: \
                  {:.2} mm)",
                 self.nominal_mm, self.measured_mm
             )),
