@@ -1,20 +1,18 @@
-use coldtrace::compare::analysis::SweepAnalysis;
-use coldtrace::compare::chain::{ChainView, Which};
-use coldtrace::compare::far_end;
-use coldtrace::transform::{TraceEngine, Window};
+mod scenario;
+use scenario::{Case, Scenario};
 
 #[test]
 #[ignore]
 fn probe() {
-    let r = "/work/shared/real-sweeps/campaign-1/";
-    for f in ["3k/port1_MOS1", "3k/port1_MOS2", "3k/port1_MOS3", "3k/port1_MOS4"] {
-        let t = coldtrace::touchstone::read_file(std::path::Path::new(&format!("{r}{f}.s1p"))).unwrap();
-        let n = &t.network;
-        let mut e = TraceEngine::new();
-        let alias = (n.len() - 1) as f64 / (n.freqs_hz[n.len() - 1] - n.freqs_hz[0]);
-        let uni = ChainView::uniform("", 0.7, 1.0, 50.0);
-        let a = SweepAnalysis::new(&n.freqs_hz, &n.s11(), &Window::Kaiser { beta: 9.0 }, alias, &uni, Which::Baseline, &mut e).unwrap();
-        let term = far_end::find(&a, &uni, Which::Baseline, &mut e).unwrap();
-        eprintln!("{f}: {:?}", term.map(|t| (t.delay_s * 0.7 * 299792458.0 / 2.0, t.polarity, t.low_band_reflection, t.total)));
+    for (seed, case) in [(1000021u64, Case::Healthy)] {
+        let s = Scenario::generate(seed, case);
+        let (b, c) = s.sweeps().unwrap();
+        let r = s.compare(&b, &c, true).unwrap();
+        eprintln!("== {seed} {} far {:?}", r.states.basis, r.far_end);
+        for f in r.findings.iter().take(4) {
+            eprintln!("   {} {} {:?} {:.4} {} meas {:.1} exp {:.1?} exc {:.1} refl {:.1} | {}", f.rank, f.severity, f.kind, f.place.distance_m, f.zone, f.measured_change_db, f.expected_change_db, f.change_db, f.reflection_db, f.explanation);
+        }
+        eprintln!("   landmarks {:?} level {:.2}", r.alignment.landmarks_m, r.alignment.level_change_db);
+        for sg in &r.alignment.segments { eprintln!("   seg {} {:.5} {:.2}", sg.element, sg.delay_scale, sg.loss_change_db); }
     }
 }

@@ -160,6 +160,18 @@ impl Inputs<'_> {
     }
 }
 
+/// How much lower than it is a reflection at as-built `x` reads in sweep `which` because compensation
+/// stopped at its cap, dB (at the band centre).
+fn shortfall_db(inp: &Inputs, x: f64, which: Which) -> f64 {
+    if !inp.chain.compensates() {
+        return 0.0;
+    }
+    let a = if which == Which::Baseline { inp.b } else { inp.c };
+    let f_c = 0.5 * (a.freqs[0] + a.freqs[a.freqs.len() - 1]);
+    let cap_db = 20.0 * super::analysis::MAX_COMPENSATION.log10();
+    (inp.chain.loss_to_db(x, f_c, which) - cap_db).max(0.0)
+}
+
 /// Pair every echo of both sweeps on the aligned map and judge each change against the calibration.
 /// Returned in order of position.
 pub fn changes(inp: &Inputs) -> Vec<Change> {
@@ -167,13 +179,19 @@ pub fn changes(inp: &Inputs) -> Vec<Change> {
     let res_s = b.resolution_s.max(c.resolution_s);
     let to_x_b = |d: f64| fit.chain.position_of(d, Which::Baseline, None);
     let to_x_c = |d: f64| fit.chain.position_of(d, Which::Current, None);
-    let pairs = match_events(
+    let mut pairs = match_events(
         b,
         c,
         |d| fit.chain.delay_to(to_x_b(d), Which::Current, None),
         |_| res_s,
         |_, _| true,
     );
+    // The far end is the far end in both sweeps, however far the cold line moved it: pair it outright.
+    if let (Some(tb), Some(tc)) = (&inp.far.baseline, &inp.far.current) {
+        pairs.retain(|p| p.0 != tb.event && p.1 != tc.event);
+        pairs.push((tb.event, tc.event));
+        pairs.sort();
+    }
     let term_pair = match (&inp.far.baseline, &inp.far.current) {
         (Some(tb), Some(tc)) => pairs
             .iter()
@@ -253,7 +271,9 @@ pub fn changes(inp: &Inputs) -> Vec<Change> {
     for ch in &mut out {
         let res_m = res_s * super::place::speed_at(&fit.chain, ch.x, Which::Current);
         ch.zone = inp.zone(ch.x, ch.d_c, res_m);
-        let cal = fit.expected_change_db(ch.x);
+        // Where compensation stopped at its cap, a sweep reads low by the loss it left undone.
+        let cal = fit.expected_change_db(ch.x) + shortfall_db(inp, ch.x, Which::Baseline)
+            - shortfall_db(inp, ch.x, Which::Current);
         ch.expected_db = (cal + shadow.0, cal + shadow.1);
         ch.excess_db = if ch.raw_change_db < ch.expected_db.0 {
             ch.raw_change_db - ch.expected_db.0
