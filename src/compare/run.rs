@@ -292,9 +292,19 @@ pub fn explain_change(
     let change_db = ch.excess_db;
     let rising = ch.raw_change_db > ch.expected_db.1;
     // What the baseline already lost at this place, by the same reading of its reflection.
-    let drop_b = mismatch_loss_db(ch.base_level.min(0.999));
-    let net = |d: f64| if rising { (d - drop_b).max(0.0) } else { 0.0 };
-    let (mut lo, mut hi) = (net(lo_c), net(hi_c));
+    // Read the same way: a contact's cost against the contact the baseline's reflection would have been,
+    // a step's against a step.
+    let gb = ch.base_level.min(0.999);
+    let (drop_b_lo, drop_b_hi) = if matches!(kind, FaultKind::Contact | FaultKind::ImpedanceStep) {
+        let step = mismatch_loss_db(gb);
+        let contact = -20.0 * (1.0 - gb).log10();
+        (step.min(contact), step.max(contact))
+    } else {
+        let m = mismatch_loss_db(gb);
+        (m, m)
+    };
+    let net = |d: f64, b: f64| if rising { (d - b).max(0.0) } else { 0.0 };
+    let (mut lo, mut hi) = (net(lo_c, drop_b_lo), net(hi_c, drop_b_hi));
     if same_state {
         // One state: the reflection's complex change is comparable, and what appeared is the difference.
         let added = match ch.base {
