@@ -122,9 +122,23 @@ impl AlignProblem {
         let mut robust: Vec<f64> = self
             .amplitude_change_db
             .iter()
-            .map(|a| if a.abs() > MAX_LANDMARK_AMPLITUDE_DB { 0.0 } else { 1.0 })
+            .map(|a| {
+                if !a.is_finite() || a.abs() > MAX_LANDMARK_AMPLITUDE_DB {
+                    0.0
+                } else {
+                    1.0
+                }
+            })
             .collect();
         let usable = robust.iter().filter(|&&w| w > 0.0).count();
+        // With too few landmarks to outvote a changed one, the loss keeps the plain prior width too.
+        let w_l = |j: usize| {
+            if usable >= MIN_LEVEL_LANDMARKS {
+                w_l(j)
+            } else {
+                1.0 / LOSS_PRIOR_SIGMA_DB
+            }
+        };
         let w_g = if usable >= MIN_LEVEL_LANDMARKS {
             1.0 / LEVEL_PRIOR_SIGMA_DB
         } else {
@@ -134,6 +148,9 @@ impl AlignProblem {
         for _ in 0..6 {
             let mut rows: Vec<(Vec<f64>, f64)> = Vec::new();
             for (k, cover) in self.cover.iter().enumerate() {
+                if robust[k] == 0.0 {
+                    continue;
+                }
                 let wk = w_a * robust[k];
                 let mut row: Vec<f64> = (0..n).map(|j| -cover[j] * wk).collect();
                 row.push(wk);

@@ -322,6 +322,7 @@ pub(super) fn fit_alignment(
     pairs: &Pairs,
     reference_hz: f64,
     bounds: (f64, f64),
+    no_amplitude: Option<usize>,
 ) -> Fitted {
     let xs: Vec<f64> = pairs
         .iter()
@@ -386,9 +387,17 @@ pub(super) fn fit_alignment(
             .collect(),
         cover: cover.clone(),
         current_delay_s: pairs.iter().map(|&(_, j)| c.events[j].delay_s).collect(),
+        // A landmark whose level is not the line's (a device's echo at the far end, whose level a fault at
+        // the last joint changes) times the delays only.
         amplitude_change_db: pairs
             .iter()
-            .map(|&(i, j)| db(c.events[j].magnitude) - db(b.events[i].magnitude))
+            .map(|&(i, j)| {
+                if Some(i) == no_amplitude {
+                    f64::NAN
+                } else {
+                    db(c.events[j].magnitude) - db(b.events[i].magnitude)
+                }
+            })
             .collect(),
         sigma_s,
         sigma_db: AMPLITUDE_SIGMA_DB,

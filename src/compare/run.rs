@@ -240,7 +240,13 @@ pub fn align_pair(
             "check that both sweeps are of the same line and cover the same band",
         ));
     }
-    fit_alignment(&chain, b, c, &pairs, f_ref, bounds)
+    let device_end = pa
+        .far
+        .baseline
+        .as_ref()
+        .filter(|t| !t.total)
+        .map(|t| t.event);
+    fit_alignment(&chain, b, c, &pairs, f_ref, bounds, device_end)
 }
 
 /// Stage 4: explain one change as a finding.
