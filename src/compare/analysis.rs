@@ -61,6 +61,8 @@ pub struct SweepAnalysis {
     /// Alias-free round-trip time 1/df, s.
     pub alias_free_s: f64,
     pub warnings: Vec<Warning>,
+    /// The window's coefficients over the sweep (for the compensation's band-weighted gain).
+    pub window_w: Vec<f64>,
 }
 
 /// The window's shape as the detector needs it, and the resolution (round-trip s) over `bandwidth_hz`.
@@ -262,6 +264,7 @@ impl SweepAnalysis {
             resolution_s,
             alias_free_s,
             warnings,
+            window_w: w.clone(),
         };
         for e in &mut events {
             let piece = out.piece_at(e.delay_s);
@@ -281,6 +284,15 @@ impl SweepAnalysis {
         }
         out.events = events;
         Ok(out)
+    }
+
+    /// Window-weighted RMS gain by which compensation lifts a reflection at as-built `x` (1 where nothing is
+    /// compensated).
+    pub fn level_gain(&self, chain: &ChainView, x: f64, which: Which) -> f64 {
+        if !chain.compensates() {
+            return 1.0;
+        }
+        self.weighted_gain(&chain.loss_model_to(x, which), chain, &self.window_w)
     }
 
     /// Window-weighted RMS gain of the compensation for a loss model `m` (how much a reflection there is

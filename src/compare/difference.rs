@@ -166,7 +166,11 @@ fn shortfall_db(inp: &Inputs, x: f64, which: Which) -> f64 {
     if !inp.chain.compensates() {
         return 0.0;
     }
-    let a = if which == Which::Baseline { inp.b } else { inp.c };
+    let a = if which == Which::Baseline {
+        inp.b
+    } else {
+        inp.c
+    };
     let f_c = 0.5 * (a.freqs[0] + a.freqs[a.freqs.len() - 1]);
     let cap_db = 20.0 * super::analysis::MAX_COMPENSATION.log10();
     (inp.chain.loss_to_db(x, f_c, which) - cap_db).max(0.0)
@@ -209,7 +213,15 @@ pub fn changes(inp: &Inputs) -> Vec<Change> {
         let (base, base_level) = match pair {
             Some((i, _)) => {
                 let eb = &b.events[i];
-                (Some((eb.magnitude, b.h(eb.delay_s))), eb.magnitude)
+                // Both levels compensated as at one place: an echo straddling an attenuator's middle must
+                // not gain the attenuator's loss in one sweep only.
+                // (Each level was compensated at its place on the analysis' own map.)
+                let xb = inp.chain.position_of(eb.delay_s, Which::Baseline, None);
+                let xc = inp.chain.position_of(ec.delay_s, Which::Current, None);
+                let same_place = b.level_gain(inp.chain, xc, Which::Baseline)
+                    / b.level_gain(inp.chain, xb, Which::Baseline).max(1e-300);
+                let level = eb.magnitude * same_place;
+                (Some((level, b.h(eb.delay_s) * same_place)), level)
             }
             None => {
                 let d_b = fit.chain.delay_to(x, Which::Baseline, None);

@@ -383,7 +383,15 @@ pub fn locate_network(
     analysis: &AnalysisConfig,
 ) -> Result<LocateReport> {
     let (lo, hi) = band(n);
-    let st = state.unwrap_or(State::Cold);
+    let (st, basis, margin) = match (state, line) {
+        (Some(s), _) => (s, "given".to_string(), None),
+        (None, LineModel::Line(l)) => super::states::decide_single(n, l, &analysis.window)?,
+        (None, LineModel::Uniform { .. }) => (
+            State::Cold,
+            "no line file: nothing tells warm from cold; taken as cold".to_string(),
+            None,
+        ),
+    };
     let mut w = Vec::new();
     let chain = match line {
         LineModel::Line(l) => {
@@ -403,14 +411,15 @@ pub fn locate_network(
         &chain,
         analysis,
     )?;
+    report.state_basis = basis.clone();
     if let LineModel::Line(l) = line {
         report.visibility = crate::line::visibility(l, st, &n.freqs_hz, report.noise_rms)?;
         report.connector_lengths = Some(l.connector_lengths.name().to_string());
-        if state.is_none() {
+        if state.is_none() && margin.map_or(true, |m| m < super::states::OPEN_MARGIN) {
             w.push(Warning::new(
                 "state-assumed",
-                "the sweep's state was not given; the line model is used cold",
-                "pass --state warm for a sweep taken at room temperature",
+                format!("the sweep's state was not given and the data do not settle it ({basis})"),
+                "pass --state warm for a sweep taken at room temperature, --state cold for one taken cold",
             ));
         }
     }

@@ -96,6 +96,7 @@ pub fn locate(
         line: chain.name.clone(),
         sweep: sweep.name.to_string(),
         state: sweep.state,
+        state_basis: "given".to_string(),
         resolution_m,
         reference_hz: f_ref,
         events,

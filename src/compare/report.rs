@@ -283,7 +283,11 @@ pub struct CompareReport {
 pub struct LocateReport {
     pub line: String,
     pub sweep: String,
+    /// The state used: `warm` or `cold`.
     pub state: &'static str,
+    /// `given`, or how the state was inferred (the far end's loss against the warm and cold model) and how
+    /// sure that is.
+    pub state_basis: String,
     pub resolution_m: f64,
     pub reference_hz: f64,
     pub events: Vec<Event>,

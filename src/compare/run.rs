@@ -204,7 +204,10 @@ pub fn align_pair(
                 .fold(f64::INFINITY, f64::min);
             // Nor anything behind a part reflection cannot see through.
             let device = if pa.chain.as_built {
-                pa.chain.delay_to(pa.chain.visible_end_m(), Which::Baseline, None) * 1.02 + res
+                pa.chain
+                    .delay_to(pa.chain.visible_end_m(), Which::Baseline, None)
+                    * 1.02
+                    + res
             } else {
                 f64::INFINITY
             };
@@ -462,8 +465,10 @@ fn far_end_report(
         for s in &mut plain.segments {
             s.loss = [super::chain::LossModel::default(); 2];
         }
-        let (fb, gb) = pa.b.local_reflection(tb.delay_s, xb, &plain, Which::Baseline, engine)?;
-        let (fc, gc) = pa.c.local_reflection(tc.delay_s, xc, &plain, Which::Current, engine)?;
+        let (fb, gb) =
+            pa.b.local_reflection(tb.delay_s, xb, &plain, Which::Baseline, engine)?;
+        let (fc, gc) =
+            pa.c.local_reflection(tc.delay_s, xc, &plain, Which::Current, engine)?;
         let n = fb.len().min(fc.len()) / 2;
         if n >= 8 && fb[..n] == fc[..n] {
             let ratio: Vec<num_complex::Complex64> = (0..n).map(|k| gc[k] / gb[k]).collect();
@@ -606,9 +611,12 @@ pub fn compare(
         (Some(tb), Some(tc)) => tb.total && tc.total && tb.polarity * tc.polarity < 0.0,
         _ => false,
     };
-    let move_ratio = far_end.as_ref().and_then(|f| f.delay_change_s).map_or(0.0, |d| {
-        d.abs() * crate::transform::C0_M_PER_S / (2.0 * FAR_END_MOVE_M)
-    });
+    let move_ratio = far_end
+        .as_ref()
+        .and_then(|f| f.delay_change_s)
+        .map_or(0.0, |d| {
+            d.abs() * crate::transform::C0_M_PER_S / (2.0 * FAR_END_MOVE_M)
+        });
     let mut findings = Vec::new();
     let mut behind = 0usize;
     for ch in &changes {
@@ -622,12 +630,22 @@ pub fn compare(
             continue;
         }
         let extra = if at_end {
-            move_ratio.max(if kind_flip { KIND_FLIP_SIGNIFICANCE } else { 0.0 })
+            move_ratio.max(if kind_flip {
+                KIND_FLIP_SIGNIFICANCE
+            } else {
+                0.0
+            })
         } else {
             0.0
         };
         findings.push(explain_change(
-            ch, &pa, &fit, same_state, f_ref, extra, &mut engine,
+            ch,
+            &pa,
+            &fit,
+            same_state,
+            f_ref,
+            extra,
+            &mut engine,
         )?);
     }
     if behind > 0 {

@@ -632,3 +632,41 @@ impl StateDecision {
         s
     }
 }
+
+/// A single sweep's state from the line model (`locate` without `--state`): the `model-loss` signature of
+/// its far end, when the line file ends in an open or short. Returns the state (cold when nothing tells),
+/// a sentence, and the margin in standard uncertainties (`None` when no signature could be read).
+pub fn decide_single(
+    n: &Network,
+    line: &Line,
+    window: &Window,
+) -> Result<(State, String, Option<f64>), CompareError> {
+    let mut engine = TraceEngine::new();
+    let Some((a, _)) = quick_analyses(n, n, window, &mut engine) else {
+        return Ok((State::Cold, "no echo was found; taken as cold".into(), None));
+    };
+    let sigs = model_signatures(&a, line, "current", &mut engine)?;
+    if sigs.is_empty() {
+        return Ok((
+            State::Cold,
+            "the line file gives no open or short far end to read the loss at; taken as cold"
+                .into(),
+            None,
+        ));
+    }
+    let d = decide(sigs, &[Hypothesis::ColdCold, Hypothesis::WarmWarm]);
+    let state = d.chosen.states().1;
+    let note = d
+        .signatures
+        .first()
+        .map_or(String::new(), |g| g.note.clone());
+    Ok((
+        state,
+        format!(
+            "inferred {} with a margin of {:.1} sigma: {note}",
+            state.name(),
+            d.margin
+        ),
+        Some(d.margin),
+    ))
+}
