@@ -159,7 +159,7 @@ impl Evaluated {
             state_name(self.scenario.current_state)
         );
         // Without a line file nothing tells warm->warm from cold->cold; with one, both are hypotheses.
-        r.error.is_none() && r.open.iter().any(|h| *h == truth)
+        r.error.is_none() && r.open.contains(&truth)
     }
 
     /// One line: what happened in the run.
