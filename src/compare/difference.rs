@@ -77,6 +77,10 @@ pub struct Change {
     pub snr: f64,
 }
 
+/// How far behind an open or short far end, in resolution cells, an echo is taken for a multiple reflection:
+/// one cell, the far end's own main lobe (common practice, no source).
+pub const BEYOND_CELLS: f64 = 1.0;
+
 /// Largest reflection a changed joint is taken to have when its shadow is worked out (0.9, as `explain`
 /// reads an open or short from).
 pub const SHADOW_MAX_REFLECTION: f64 = 0.9;
@@ -147,7 +151,9 @@ impl Inputs<'_> {
                 t.total && {
                     let xt = self.fit.chain.position_of(t.delay_s, which, None);
                     x > xt
-                        + 1.5 * a.resolution_s * super::place::speed_at(&self.fit.chain, xt, which)
+                        + BEYOND_CELLS
+                            * a.resolution_s
+                            * super::place::speed_at(&self.fit.chain, xt, which)
                 }
             })
         };
