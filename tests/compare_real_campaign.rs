@@ -105,7 +105,6 @@ const TERMINATION_PAIRS: [(&str, &str, &str); 8] = [
 ];
 
 #[test]
-#[ignore = "issue 8 acceptance, not met yet: run with --ignored; figures in docs/accuracy.md"]
 fn terminations_of_one_cooldown_differ_only_at_the_far_end() {
     let mut failures = Vec::new();
     for (t, b, c) in TERMINATION_PAIRS {
