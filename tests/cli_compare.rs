@@ -212,3 +212,33 @@ fn bad_inputs_exit_2_naming_the_file_and_the_fix() {
     assert_eq!(o.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&o.stderr).contains("info, minor, major or critical"));
 }
+
+/// The report says which connector-length convention the line file used (the line file as people write
+/// it: mated pairs add no length by default), in the table and in the JSON.
+#[test]
+fn compare_names_the_connector_length_convention() {
+    let dir = tempfile::tempdir().unwrap();
+    let w = simulate(dir.path(), "w.s1p", "warm", None, 21);
+    let c = simulate(dir.path(), "c.s1p", "cold", None, 22);
+    let line = line_file();
+    let o = run(&["compare", "--line"], &[&line, &w, &c]);
+    let text = String::from_utf8_lossy(&o.stdout);
+    assert!(text.contains("connector lengths: in-cables"), "{text}");
+    let o = run(&["compare", "--json", "--line"], &[&line, &w, &c]);
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    assert_eq!(v["connector_lengths"], "in-cables", "{v}");
+    // The states were inferred from the data and the report says how.
+    assert_eq!(v["states"]["inferred"], true);
+    assert!(
+        v["states"]["signatures"]
+            .as_array()
+            .is_some_and(|s| !s.is_empty()),
+        "{v}"
+    );
+    assert!(
+        v["states"]["hypotheses_open"]
+            .as_array()
+            .is_some_and(|s| !s.is_empty()),
+        "{v}"
+    );
+}

@@ -29,6 +29,18 @@ fn tail(out: &mut String, not_visible: &[NotVisible], warnings: &[Warning]) {
     }
 }
 
+/// Which connector-length convention the line file used (docs/line-file.md).
+fn connector_line(out: &mut String, c: &Option<String>) {
+    if let Some(c) = c {
+        let what = if c == "added" {
+            "each connector adds its own length"
+        } else {
+            "mated pairs add no length: cable lengths are measured end to end"
+        };
+        let _ = writeln!(out, "  connector lengths: {c} ({what})");
+    }
+}
+
 fn row(rank: &str, place: &str, what: &str, bad: &str, sure: &str) -> String {
     format!("{rank:<5} {place:<38} {what:<15} {bad:<22} {sure}\n")
 }
@@ -70,6 +82,7 @@ pub fn render_compare(r: &CompareReport, show_info: bool) -> String {
         r.alignment.electrical_length_change * 100.0,
         r.reference_hz / 1e9
     );
+    connector_line(&mut out, &r.connector_lengths);
     let shown: Vec<&Finding> = r
         .findings
         .iter()
@@ -129,12 +142,16 @@ fn event_row(k: usize, e: &Event) -> String {
 pub fn render_locate(r: &LocateReport, show_info: bool) -> String {
     let mut out = String::new();
     let _ = writeln!(out, "line {}: sweep {} ({})", r.line, r.sweep, r.state);
+    if r.state_basis != "given" {
+        let _ = writeln!(out, "  state {}", r.state_basis);
+    }
     let _ = writeln!(
         out,
         "  resolution {:.1} mm; power drops quoted at {:.2} GHz",
         r.resolution_m * 1e3,
         r.reference_hz / 1e9
     );
+    connector_line(&mut out, &r.connector_lengths);
     out.push('\n');
     out.push_str(&row(
         "#",
