@@ -241,21 +241,31 @@ pub struct PairRequest<'a> {
     pub analysis: &'a AnalysisConfig,
 }
 
-/// Run a comparison.
-pub fn run_compare(job: &CompareJob) -> Result<CompareReport> {
-    let (nb, wb) = read_sweep(&job.baseline)?;
-    let (nc, wc) = read_sweep(&job.current)?;
-    let line = match &job.line {
+/// The line file of `src`, read (`None` for a uniform line).
+fn read_line(src: &LineSource) -> Result<Option<Line>> {
+    Ok(match src {
         LineSource::File(p) => Some(crate::line::file::read_file(p)?),
         LineSource::Uniform { .. } => None,
-    };
-    let model = match (&line, &job.line) {
+    })
+}
+
+/// The line a job runs on: the line file read by [`read_line`], or the uniform line of `src`.
+fn line_model<'a>(line: &'a Option<Line>, src: &LineSource) -> LineModel<'a> {
+    match (line, src) {
         (Some(l), _) => LineModel::Line(l),
         (None, LineSource::Uniform { velocity_factor }) => LineModel::Uniform {
             velocity_factor: *velocity_factor,
         },
-        (None, LineSource::File(_)) => unreachable!("a line file was read above"),
-    };
+        (None, LineSource::File(_)) => unreachable!("read_line reads every line file"),
+    }
+}
+
+/// Run a comparison.
+pub fn run_compare(job: &CompareJob) -> Result<CompareReport> {
+    let (nb, wb) = read_sweep(&job.baseline)?;
+    let (nc, wc) = read_sweep(&job.current)?;
+    let line = read_line(&job.line)?;
+    let model = line_model(&line, &job.line);
     let bname = job.baseline.display().to_string();
     let cname = job.current.display().to_string();
     let mut report = compare_networks(&PairRequest {
@@ -356,17 +366,8 @@ pub fn compare_networks(req: &PairRequest) -> Result<CompareReport> {
 /// Run a location on one sweep.
 pub fn run_locate(job: &LocateJob) -> Result<LocateReport> {
     let (n, w0) = read_sweep(&job.sweep)?;
-    let line = match &job.line {
-        LineSource::File(p) => Some(crate::line::file::read_file(p)?),
-        LineSource::Uniform { .. } => None,
-    };
-    let model = match (&line, &job.line) {
-        (Some(l), _) => LineModel::Line(l),
-        (None, LineSource::Uniform { velocity_factor }) => LineModel::Uniform {
-            velocity_factor: *velocity_factor,
-        },
-        (None, LineSource::File(_)) => unreachable!("a line file was read above"),
-    };
+    let line = read_line(&job.line)?;
+    let model = line_model(&line, &job.line);
     let name = job.sweep.display().to_string();
     let mut report = locate_network(&name, &n, model, job.state, &job.analysis)?;
     let mut w = w0;
