@@ -297,6 +297,12 @@ pub fn explain_change(
         (fl[0], fl[fl.len() - 1]),
     );
     let (drop_c, ml) = costs(best, &fl, &gl, chain.impedance_ohm, f_ref);
+    // With no model, the echo's strength as the trace shows it: the same measure the baseline's level is.
+    let drop_c = if best.is_none() {
+        mismatch_loss_db(ch.mag_c.min(0.999))
+    } else {
+        drop_c
+    };
     let (lo_c, hi_c) = cost_range(kind, best, drop_c, chain.impedance_ohm, f_ref);
     let change_db = ch.excess_db;
     let rising = ch.raw_change_db > ch.expected_db.1;
