@@ -92,7 +92,7 @@ pub fn decide_pair_states(
     let mut signatures = Vec::new();
     let both_given = given.0.is_some() && given.1.is_some();
     if let Some((ab, ac)) = quick_analyses(nb, nc, &cfg.window, &mut engine) {
-        signatures.extend(pair_signatures(&ab, &ac, &mut engine)?.0);
+        signatures.extend(pair_signatures(&ab, &ac, &mut engine)?);
         // With both states given, the pair's own signatures are enough to warn of a contradiction.
         if let Some(l) = line.filter(|_| !both_given) {
             signatures.extend(model_signatures(&ab, l, "baseline", &mut engine)?);

@@ -289,12 +289,8 @@ pub(super) fn candidates(b: &SweepAnalysis, min_sep: f64, max: usize) -> Vec<boo
 pub struct Fitted {
     pub chain: ChainView,
     pub report: Alignment,
-    /// Change of the whole trace's level, dB.
-    pub level_db: f64,
     /// Each segment's loss change beyond what the compensation already undid, dB (the model's error).
     pub residual_loss_db: Vec<f64>,
-    /// Robust weight each landmark kept in the amplitude fit (1: it agrees with the calibration).
-    pub amplitude_weight: Vec<f64>,
     /// Each landmark's measured round-trip delay in the baseline and the current sweep, s.
     pub landmark_delays_s: Vec<(f64, f64)>,
 }
@@ -304,7 +300,7 @@ impl Fitted {
     /// baseline, dB: the level change less the loss change in front of it.
     pub fn expected_change_db(&self, x: f64) -> f64 {
         let cover = self.chain.cover(x);
-        self.level_db
+        self.report.level_change_db
             - self
                 .residual_loss_db
                 .iter()
@@ -470,13 +466,11 @@ pub(super) fn fit_alignment(
             electrical_length_change: far.unwrap_or(0.0),
             level_change_db: sol.level_db,
         },
-        level_db: sol.level_db,
         residual_loss_db: sol.loss_change_db.clone(),
         landmark_delays_s: pairs
             .iter()
             .map(|&(i, j)| (b.events[i].delay_s, c.events[j].delay_s))
             .collect(),
-        amplitude_weight: sol.amplitude_weight,
     }
 }
 

@@ -199,7 +199,7 @@ pub(super) fn pair_signatures(
     ab: &SweepAnalysis,
     ac: &SweepAnalysis,
     engine: &mut TraceEngine,
-) -> Result<(Vec<Signature>, Option<ScaleMatch>), CompareError> {
+) -> Result<Vec<Signature>, CompareError> {
     let mut out = Vec::new();
     let res = ab.resolution_s.max(ac.resolution_s);
     let strong = strong_events(ab, LANDMARK_SEPARATION_CELLS * res, MAX_LANDMARKS);
@@ -258,7 +258,7 @@ pub(super) fn pair_signatures(
             }
         }
     }
-    Ok((out, m))
+    Ok(out)
 }
 
 /// Least-squares delay scale through the reference plane over `pairs` (less the pair of baseline event
