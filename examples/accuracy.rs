@@ -8,7 +8,8 @@
 //! ```
 //!
 //! `--healthy N` no-fault cases (every fourth a cold -> cold repeat, the rest warm -> cold), `--faults N`
-//! fault cases, `--seed S` the base of their seeds, `--threads N` (default: every core).
+//! fault cases, `--seed S` the base of their seeds, `--threads N` (default: every core), `--worst N` how many
+//! worst cases of each kind to list (default 6).
 
 #[path = "../tests/scenario/mod.rs"]
 mod scenario;
@@ -26,10 +27,11 @@ struct Args {
     threads: usize,
     out: Option<PathBuf>,
     show: Option<(Case, u64)>,
+    worst: usize,
 }
 
 const USAGE: &str =
-    "usage: accuracy [--healthy N] [--faults N] [--seed S] [--threads N] [--out FILE.md] \
+    "usage: accuracy [--healthy N] [--faults N] [--seed S] [--threads N] [--out FILE.md] [--worst N] \
                      | --show CASE:SEED  (CASE healthy, repeat or fault)";
 
 fn args() -> Result<Args, String> {
@@ -42,6 +44,7 @@ fn args() -> Result<Args, String> {
             .unwrap_or(1),
         out: None,
         show: None,
+        worst: 6,
     };
     let mut it = std::env::args().skip(1);
     while let Some(flag) = it.next() {
@@ -56,6 +59,7 @@ fn args() -> Result<Args, String> {
             "--seed" => a.seed = num(value()?)?,
             "--threads" => a.threads = num(value()?)?.max(1) as usize,
             "--out" => a.out = Some(PathBuf::from(value()?)),
+            "--worst" => a.worst = num(value()?)? as usize,
             "--show" => {
                 let v = value()?;
                 let (c, s) = v
@@ -140,7 +144,7 @@ fn replay(e: &Evaluated) -> String {
     format!("`{}:{}`", e.scenario.case.name(), e.scenario.seed)
 }
 
-fn worst_cases(all: &[Evaluated]) -> String {
+fn worst_cases(all: &[Evaluated], n: usize) -> String {
     let mut s = String::new();
     let section = |title: &str, mut v: Vec<(f64, &Evaluated, bool)>, n: usize, s: &mut String| {
         if v.is_empty() {
@@ -176,23 +180,14 @@ fn worst_cases(all: &[Evaluated]) -> String {
     section("Runs that returned an error", errors, 20, &mut s);
     let alarms: Vec<_> = all
         .iter()
-        .filter(|e| e.false_alarm(false))
-        .map(|e| {
-            let worst = e
-                .inferred
-                .alarms
-                .iter()
-                .map(|a| a.4)
-                .fold(f64::MIN, f64::max);
-            (worst, e, false)
+        .flat_map(|e| [(e, false), (e, true)])
+        .filter(|(e, g)| e.false_alarm(*g))
+        .map(|(e, g)| {
+            let worst = e.run(g).alarms.iter().map(|a| a.4).fold(f64::MIN, f64::max);
+            (worst, e, g)
         })
         .collect();
-    section(
-        "False alarms, states inferred (strongest first)",
-        alarms,
-        6,
-        &mut s,
-    );
+    section("False alarms (strongest first)", alarms, n, &mut s);
     let misses: Vec<_> = all
         .iter()
         .filter(|e| {
@@ -204,7 +199,7 @@ fn worst_cases(all: &[Evaluated]) -> String {
     section(
         "Faults over the noise not ranked first at their element, states inferred (clearest first)",
         misses,
-        6,
+        n,
         &mut s,
     );
     let far: Vec<_> = all
@@ -219,7 +214,7 @@ fn worst_cases(all: &[Evaluated]) -> String {
     section(
         "Right element but over 1 cm off, states inferred (farthest first)",
         far,
-        4,
+        n.min(4).max(n / 2),
         &mut s,
     );
     let states: Vec<_> = all
@@ -230,7 +225,7 @@ fn worst_cases(all: &[Evaluated]) -> String {
     section(
         "States inferred wrong on healthy lines and repeats",
         states,
-        4,
+        n.min(4).max(n / 2),
         &mut s,
     );
     s
@@ -312,7 +307,7 @@ fn main() {
         "## Worst cases\n\nReplay any of them with `cargo run --release --example accuracy -- --show CASE:SEED` \
          (the scenario, both line files and the report)."
     );
-    md.push_str(&worst_cases(&all));
+    md.push_str(&worst_cases(&all, a.worst));
     emit(&md);
     if let Some(p) = &a.out {
         if let Err(e) = coldtrace::output::write_output(p, md.as_bytes(), true, &[]) {

@@ -10,7 +10,7 @@ use super::analysis::SweepAnalysis;
 use super::chain::{ChainView, Which};
 use super::detect::NOISE_SIGMAS;
 use super::far_end::{Termination, ALIAS_EDGE};
-use super::landmarks::{match_events, Fitted};
+use super::landmarks::{match_events, Fitted, MODEL_LOSS_ERROR};
 use super::sweep::db;
 use num_complex::Complex64;
 
@@ -67,6 +67,11 @@ pub struct Change {
     pub excess_db: f64,
     /// Phase turn of the response, current against baseline, degrees (paired echoes only).
     pub phase_deg: f64,
+    /// The complex change of the response relative to the baseline's, net of the calibration's level:
+    /// |G_c / (G_b g) - 1| with g the expected amplitude ratio (paired echoes only; 0 otherwise). In one state
+    /// it catches what adds at right angles to an echo (a contact's resistance on a connector's capacitance),
+    /// which barely moves the strength.
+    pub vector_change: f64,
     pub zone: Zone,
     pub ghost: bool,
     /// True for the far end's own echo when the same open or short terminates both sweeps.
@@ -96,6 +101,11 @@ pub const CHANGE_DB: f64 = 3.0;
 /// Phase turn that counts as a change when both sweeps are in the same state, degrees.
 pub const PHASE_CHANGE_DEG: f64 = 90.0;
 
+/// Relative complex change of an echo that counts as a change when both sweeps are in the same state:
+/// 10^(3/20) - 1 = 0.41, what a [`CHANGE_DB`] rise is when the added reflection is in phase with the echo;
+/// at right angles it is a rise of only 0.7 dB.
+pub const VECTOR_CHANGE: f64 = 0.412_537_5;
+
 /// Least amplitude SNR of an echo whose phase turn counts as a change (10: 20 dB).
 pub const PHASE_SNR: f64 = 10.0;
 
@@ -103,11 +113,17 @@ impl Change {
     /// Whether this counts as a change: its strength moved by [`CHANGE_DB`] or more beyond what the
     /// calibration explains, or, both sweeps in one state, its phase turned by [`PHASE_CHANGE_DEG`] or more.
     pub fn changed(&self, same_state: bool) -> bool {
-        self.excess_db.abs() >= CHANGE_DB
-            || (same_state
-                && self.base.is_some()
-                && self.phase_deg.abs() >= PHASE_CHANGE_DEG
-                && self.snr > PHASE_SNR)
+        self.excess_db.abs() >= CHANGE_DB || self.one_state_significance(same_state) >= 1.0
+    }
+
+    /// In one state, how far the complex change stands beyond what counts as a change (the phase turn over
+    /// [`PHASE_CHANGE_DEG`], the relative complex change over [`VECTOR_CHANGE`]); 0 across a state change, for
+    /// an echo with no partner, or one too close to the noise for its phase to mean anything.
+    pub fn one_state_significance(&self, same_state: bool) -> f64 {
+        if !(same_state && self.base.is_some() && self.snr > PHASE_SNR) {
+            return 0.0;
+        }
+        (self.phase_deg.abs() / PHASE_CHANGE_DEG).max(self.vector_change / VECTOR_CHANGE)
     }
 
     /// Whether it may be reported above info at all.
@@ -166,20 +182,72 @@ impl Inputs<'_> {
     }
 }
 
-/// How much lower than it is a reflection at as-built `x` reads in sweep `which` because compensation
-/// stopped at its cap, dB (at the band centre).
-fn shortfall_db(inp: &Inputs, x: f64, which: Which) -> f64 {
-    if !inp.chain.compensates() {
+/// How much lower than it is a reflection at as-built `x` reads in analysis `a` (sweep `which`) because
+/// compensation stopped at its cap, dB, at frequency `f` (0 where nothing is compensated).
+pub fn cap_shortfall_db(chain: &ChainView, x: f64, f: f64, which: Which) -> f64 {
+    if !chain.compensates() {
         return 0.0;
     }
-    let a = if which == Which::Baseline {
-        inp.b
-    } else {
-        inp.c
-    };
-    let f_c = 0.5 * (a.freqs[0] + a.freqs[a.freqs.len() - 1]);
     let cap_db = 20.0 * super::analysis::MAX_COMPENSATION.log10();
-    (inp.chain.loss_to_db(x, f_c, which) - cap_db).max(0.0)
+    (chain.loss_to_db(x, f, which) - cap_db).max(0.0)
+}
+
+/// Most the model's loss error may widen the interval of explained changes where a sweep's compensation is
+/// capped, dB: a reflection that rose by more than this beyond the caps is a change whatever the model got
+/// wrong (a joint turned into a near-open rises by 20 dB or more; common practice, no source).
+pub const CAPPED_MODEL_ERROR_DB: f64 = 12.0;
+
+/// Share of the band left out at each edge when the caps' shortfalls are compared: the band-pass window
+/// weighs the edges down (Kaiser beta 9 a quarter of the band in from its edge is at I0(9 sqrt(0.75)) / I0(9) =
+/// 0.32 of its peak; from the window's definition), so an echo's strength comes from the inner half.
+pub const CAP_BAND_EDGE: f64 = 0.25;
+
+/// Frequencies at which the compensation caps are compared across the band.
+const CAP_PROBES: usize = 9;
+
+/// The interval of strength changes, current over baseline, that the compensation caps of the two sweeps
+/// explain at `x`, dB: each sweep reads low by its shortfall, which grows with frequency, and which part of
+/// the band an echo's strength comes from depends on the echo (a capacitive joint reflects mostly at the
+/// top): the least and the most of the two shortfalls' difference over the band bound it.
+///
+/// Where a sweep's compensation stopped at its cap somewhere in the band, the line in front of `x` is
+/// lossy enough that the model's error of that loss ([`MODEL_LOSS_ERROR`] of it, at the band centre) is no
+/// longer small next to a change: that sweep's reading is a lower bound, and the interval widens by that
+/// error on its side. (In one state both sweeps share the model, and the error cancels.)
+fn cap_interval_db(inp: &Inputs, x: f64) -> (f64, f64) {
+    let (fa, fb) = (inp.c.freqs[0], inp.c.freqs[inp.c.freqs.len() - 1]);
+    // The window weighs the band's edges down: an echo's strength comes from its inner part.
+    let (f0, f1) = (
+        fa + CAP_BAND_EDGE * (fb - fa),
+        fb - CAP_BAND_EDGE * (fb - fa),
+    );
+    let (mut lo, mut hi) = (0..CAP_PROBES)
+        .map(|k| {
+            let f = f0 + (f1 - f0) * k as f64 / (CAP_PROBES - 1) as f64;
+            cap_shortfall_db(inp.chain, x, f, Which::Baseline)
+                - cap_shortfall_db(inp.chain, x, f, Which::Current)
+        })
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), d| {
+            (lo.min(d), hi.max(d))
+        });
+    let f_c = 0.5 * (f0 + f1);
+    let capped = |which: Which| cap_shortfall_db(inp.chain, x, f1, which) > 0.0;
+    let model_error = |which: Which| {
+        (MODEL_LOSS_ERROR * inp.chain.loss_to_db(x, f_c, which)).min(CAPPED_MODEL_ERROR_DB)
+    };
+    let one_model = (inp.chain.loss_to_db(x, f_c, Which::Baseline)
+        - inp.chain.loss_to_db(x, f_c, Which::Current))
+    .abs()
+        < 1e-9;
+    if !one_model {
+        if capped(Which::Baseline) {
+            hi += model_error(Which::Baseline);
+        }
+        if capped(Which::Current) {
+            lo -= model_error(Which::Current);
+        }
+    }
+    (lo, hi)
 }
 
 /// Pair every echo of both sweeps on the aligned map and judge each change against the calibration.
@@ -248,6 +316,7 @@ pub fn changes(inp: &Inputs) -> Vec<Change> {
             expected_db: (0.0, 0.0),
             excess_db: 0.0,
             phase_deg,
+            vector_change: 0.0,
             zone: Zone::Line,
             ghost: ec.ghost_of.is_some()
                 || pair.is_some_and(|(i, _)| b.events[i].ghost_of.is_some()),
@@ -276,6 +345,7 @@ pub fn changes(inp: &Inputs) -> Vec<Change> {
             expected_db: (0.0, 0.0),
             excess_db: 0.0,
             phase_deg: (hc / b.h(eb.delay_s)).arg().to_degrees(),
+            vector_change: 0.0,
             zone: Zone::Line,
             ghost: eb.ghost_of.is_some(),
             same_termination: false,
@@ -283,6 +353,8 @@ pub fn changes(inp: &Inputs) -> Vec<Change> {
             snr: c.snr(mag_c, d_c),
         });
     }
+    let flanks = flank_changes(inp, &out);
+    out.extend(flanks);
     out.sort_by(|p, q| p.x.total_cmp(&q.x));
     // Calibration and shadowing, front to back: a joint that got worse dims everything behind it.
     let mut shadow = (0.0f64, 0.0f64);
@@ -290,9 +362,18 @@ pub fn changes(inp: &Inputs) -> Vec<Change> {
         let res_m = res_s * super::place::speed_at(&fit.chain, ch.x, Which::Current);
         ch.zone = inp.zone(ch.x, ch.d_c, res_m);
         // Where compensation stopped at its cap, a sweep reads low by the loss it left undone.
-        let cal = fit.expected_change_db(ch.x) + shortfall_db(inp, ch.x, Which::Baseline)
-            - shortfall_db(inp, ch.x, Which::Current);
-        ch.expected_db = (cal + shadow.0, cal + shadow.1);
+        let cal = fit.expected_change_db(ch.x);
+        let caps = cap_interval_db(inp, ch.x);
+        ch.expected_db = (cal + caps.0 + shadow.0, cal + caps.1 + shadow.1);
+        if let Some((level_b, _)) = ch.base {
+            // The strengths (each compensated at its own place) with the phase turn between them, against
+            // the baseline's strength moved by the calibration.
+            let g = level_b * 10f64.powf(cal / 20.0);
+            if g > 0.0 {
+                let ratio = Complex64::from_polar(ch.mag_c / g, ch.phase_deg.to_radians());
+                ch.vector_change = (ratio - 1.0).norm();
+            }
+        }
         ch.excess_db = if ch.raw_change_db < ch.expected_db.0 {
             ch.raw_change_db - ch.expected_db.0
         } else if ch.raw_change_db > ch.expected_db.1 {
@@ -312,6 +393,146 @@ pub fn changes(inp: &Inputs) -> Vec<Change> {
                 (shadow.1 + hi).min(SHADOW_MAX_DB),
             );
         }
+    }
+    out
+}
+
+/// Least rise of the current trace over the baseline's, beyond the calibration, that makes a stretch of the
+/// trace with no echo of its own a change, dB: a reflection that appeared within the main lobe of another
+/// echo (an open behind an attenuator, a fault at the joint next to a strong echo) forms no peak to pair.
+/// Twice [`CHANGE_DB`], since a flank moves more than a peak with what the calibration leaves undone (common
+/// practice, no source).
+pub const FLANK_RISE_DB: f64 = 6.0;
+
+/// Half-width of the baseline window a flank is compared against, in resolution cells, besides the
+/// alignment's own residual (the calibration places echoes to a small fraction of a cell).
+pub const FLANK_TOLERANCE_CELLS: f64 = 0.1;
+
+/// Reach, in resolution cells, and least strength above a rise, dB, of an echo that rose itself, within
+/// which a rise of the trace is taken for that echo's skirt: a strong echo's change spreads a few cells
+/// either side at 20 dB or more below its peak through what the compensation leaves of the dispersion and
+/// the window's first sidelobes (common practice, no source).
+pub const FLANK_SKIRT_CELLS: f64 = 4.0;
+pub const FLANK_SKIRT_DB: f64 = 20.0;
+
+/// Bins between the points at which the flank search works out its map and calibration exactly (half a
+/// resolution cell at `analysis::POINTS_PER_RESOLUTION` = 8).
+const FLANK_STRIDE: usize = 4;
+
+/// Least distance from an echo already paired, in resolution cells, for a rise to be a reflection of its
+/// own rather than that echo's change (which the pairing judges).
+pub const FLANK_CLEARANCE_CELLS: f64 = 1.0;
+
+/// Rises of the current trace over the baseline's where no echo was paired: on every bin of the current
+/// trace, its strength against the strongest the baseline shows within the alignment's tolerance there,
+/// less the calibration. Each stretch rising by [`FLANK_RISE_DB`] or more, at least [`FLANK_CLEARANCE_CELLS`]
+/// from every echo in `have`, gives one change, placed where the current trace exceeds the baseline's the
+/// most (the new reflection's own strength, in amplitude).
+fn flank_changes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
+    let (b, c, fit) = (inp.b, inp.c, inp.fit);
+    let res_s = b.resolution_s.max(c.resolution_s);
+    let alias = c.alias_free_s.min(b.alias_free_s);
+    // The map to the baseline, the tolerance and the calibration vary slowly along the trace: worked out
+    // every FLANK_STRIDE bins and interpolated between (the map is piecewise linear in delay anyway).
+    let n = c.mag.len();
+    let knot = |i: usize| {
+        let d_c = i as f64 * c.dt;
+        let x = fit.chain.position_of(d_c, Which::Current, None);
+        let d_b = fit.chain.delay_to(x, Which::Baseline, None);
+        let speed = super::place::speed_at(&fit.chain, x, Which::Current);
+        let tol = FLANK_TOLERANCE_CELLS * res_s + 2.0 * fit.report.residual_m / speed.max(1.0);
+        let cal = fit.expected_change_db(x) + cap_interval_db(inp, x).1;
+        [d_b, tol, cal]
+    };
+    let knots: Vec<[f64; 3]> = (0..n.div_ceil(FLANK_STRIDE) + 1)
+        .map(|k| knot((k * FLANK_STRIDE).min(n.saturating_sub(1))))
+        .collect();
+    // (bin, rise dB, amplitude excess)
+    let mut rise: Vec<Option<(usize, f64, f64)>> = vec![None; n];
+    for (i, &m_c) in c.mag.iter().enumerate() {
+        let d_c = i as f64 * c.dt;
+        if d_c >= ALIAS_EDGE * alias {
+            break;
+        }
+        let floor_c = NOISE_SIGMAS * c.sigma_at(d_c);
+        if m_c < floor_c {
+            continue;
+        }
+        let (k, u) = (
+            i / FLANK_STRIDE,
+            (i % FLANK_STRIDE) as f64 / FLANK_STRIDE as f64,
+        );
+        let at = |q: usize| knots[k][q] + u * (knots[k + 1][q] - knots[k][q]);
+        let (d_b, tol, cal) = (at(0), at(1), at(2));
+        let lo = ((d_b - tol) / b.dt).floor().max(0.0) as usize;
+        let hi = ((d_b + tol) / b.dt).ceil() as usize;
+        if hi >= b.mag.len() {
+            break;
+        }
+        let b_max = b.mag[lo..=hi].iter().fold(0.0f64, |a, &v| a.max(v));
+        let level_b = b_max.max(NOISE_SIGMAS * b.sigma_at(d_b));
+        let r = db(m_c) - db(level_b) - cal;
+        if r >= FLANK_RISE_DB {
+            rise[i] = Some((i, r, m_c - level_b * 10f64.powf(cal / 20.0)));
+        }
+    }
+    let mut out = Vec::new();
+    let mut k = 0;
+    while k < rise.len() {
+        if rise[k].is_none() {
+            k += 1;
+            continue;
+        }
+        let start = k;
+        while k < rise.len() && rise[k].is_some() {
+            k += 1;
+        }
+        let Some((i, _, _)) = rise[start..k]
+            .iter()
+            .flatten()
+            .copied()
+            .max_by(|p, q| p.2.total_cmp(&q.2))
+        else {
+            continue;
+        };
+        let d_c = i as f64 * c.dt;
+        let near = have
+            .iter()
+            .any(|h| (h.d_c - d_c).abs() < FLANK_CLEARANCE_CELLS * res_s);
+        // In the skirt of an echo that itself rose, far stronger than this: that echo's change, spread by
+        // what the compensation leaves of the line's dispersion, not a reflection of its own.
+        let skirt = have.iter().any(|h| {
+            (h.d_c - d_c).abs() < FLANK_SKIRT_CELLS * res_s
+                && h.raw_change_db >= CHANGE_DB
+                && db(h.mag_c) - db(c.mag[i]) >= FLANK_SKIRT_DB
+        });
+        if near || skirt {
+            continue;
+        }
+        let x = fit.chain.position_of(d_c, Which::Current, None);
+        let d_b = fit.chain.delay_to(x, Which::Baseline, None);
+        let hb = b.h(d_b);
+        let base_level =
+            (db(c.mag[i]) - rise[i].map_or(0.0, |r| r.1) - fit.expected_change_db(x)).max(-400.0);
+        let base_level = 10f64.powf(base_level / 20.0);
+        out.push(Change {
+            x,
+            d_c,
+            mag_c: c.mag[i],
+            gamma_c: c.h(d_c),
+            base: Some((base_level, hb)),
+            base_level,
+            raw_change_db: db(c.mag[i]) - db(base_level),
+            expected_db: (0.0, 0.0),
+            excess_db: 0.0,
+            phase_deg: 0.0,
+            vector_change: 0.0,
+            zone: Zone::Line,
+            ghost: false,
+            same_termination: false,
+            was_total: false,
+            snr: c.snr(c.mag[i], d_c),
+        });
     }
     out
 }

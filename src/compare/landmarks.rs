@@ -21,6 +21,22 @@ pub const MAX_LANDMARKS: usize = 24;
 /// conductors, warm and cold, known to about 30 %; common practice, no source).
 pub const MODEL_LOSS_ERROR: f64 = 0.3;
 
+/// Prior uncertainty of a segment's fitted loss change, dB, from its modelled round-trip losses in the two
+/// sweeps' states (`loss[0]` baseline, `loss[1]` current; the flat part, an attenuator's, is known).
+///
+/// In one state the model is the same for both sweeps and cancels: what is left is drift,
+/// [`LOSS_PRIOR_SIGMA_DB`]. Across a state change the conductors' surface resistance is known to about
+/// [`MODEL_LOSS_ERROR`] in each state: the error of the change is that share of the larger of the cold-side
+/// loss (the lesser of the two) and the modelled change itself. A single landmark behind the segment must
+/// not be able to pass a changed joint off as a loss change the model cannot make.
+pub fn loss_sigma_db(loss: &[super::chain::LossModel; 2], reference_hz: f64) -> f64 {
+    let l: [f64; 2] = std::array::from_fn(|k| (loss[k].db(reference_hz) - loss[k].a_flat).abs());
+    if (l[0] - l[1]).abs() <= 1e-9 * (1.0 + l[0]) {
+        return LOSS_PRIOR_SIGMA_DB;
+    }
+    LOSS_PRIOR_SIGMA_DB.max(MODEL_LOSS_ERROR * l[0].min(l[1]).max((l[0] - l[1]).abs()))
+}
+
 /// Amplitude uncertainty of one landmark in the calibration of levels, dB: a cold connector's own reflection
 /// moves by a dB or so as its parts contract (common practice, no source).
 pub const AMPLITUDE_SIGMA_DB: f64 = 1.0;
@@ -375,11 +391,7 @@ pub(super) fn fit_alignment(
         loss_sigma_db: work
             .segments
             .iter()
-            .map(|s| {
-                let l = s.loss[0].db(reference_hz) - s.loss[0].a_flat + s.loss[1].db(reference_hz)
-                    - s.loss[1].a_flat;
-                LOSS_PRIOR_SIGMA_DB.max(MODEL_LOSS_ERROR * l.abs())
-            })
+            .map(|s| loss_sigma_db(&s.loss, reference_hz))
             .collect(),
         cover: cover.clone(),
         current_delay_s: pairs.iter().map(|&(_, j)| c.events[j].delay_s).collect(),
@@ -507,4 +519,45 @@ pub(super) fn split_uniform(chain: &ChainView, xs: &[f64]) -> ChainView {
         })
         .collect();
     out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::compare::chain::LossModel;
+
+    fn sqrt_loss(db_at_1ghz: f64) -> LossModel {
+        LossModel {
+            a_sqrt: db_at_1ghz,
+            a_lin: 0.0,
+            a_flat: 0.0,
+        }
+    }
+
+    #[test]
+    fn one_state_leaves_only_drift_to_the_loss_fit() {
+        // The same model in both sweeps cancels, however lossy the segment.
+        let m = sqrt_loss(10.0);
+        assert_eq!(loss_sigma_db(&[m, m], 4e9), LOSS_PRIOR_SIGMA_DB);
+    }
+
+    #[test]
+    fn a_state_change_allows_the_models_error_of_the_cold_loss_or_the_change() {
+        // At 4 GHz: 2 dB/sqrt(GHz) warm reads 4 dB, 1 dB/sqrt(GHz) cold 2 dB; the change (2 dB) and the cold
+        // loss (2 dB) are alike: 0.3 x 2 = 0.6 dB.
+        let s = loss_sigma_db(&[sqrt_loss(2.0), sqrt_loss(1.0)], 4e9);
+        assert!((s - 0.6).abs() < 1e-12, "{s}");
+        // Copper-like: the cold loss a fifth of the warm (10 and 2 dB): the change (8 dB) rules, 2.4 dB.
+        let s = loss_sigma_db(&[sqrt_loss(5.0), sqrt_loss(1.0)], 4e9);
+        assert!((s - 2.4).abs() < 1e-12, "{s}");
+        // A flat part (an attenuator's) is known and adds nothing; a tiny loss keeps the floor.
+        let flat = LossModel {
+            a_flat: 20.0,
+            ..sqrt_loss(0.01)
+        };
+        assert_eq!(
+            loss_sigma_db(&[flat, sqrt_loss(0.02)], 4e9),
+            LOSS_PRIOR_SIGMA_DB
+        );
+    }
 }

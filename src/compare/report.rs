@@ -100,8 +100,9 @@ pub struct Finding {
     /// Set when the event sits where a multiple reflection of stronger events would land.
     pub likely_ghost: bool,
     /// How far the change stands beyond what counts as a change, in units of its threshold (1: at it): the
-    /// strength's change over `compare::difference::CHANGE_DB`, the phase turn over `PHASE_CHANGE_DEG` in one
-    /// state, the far end's move over `compare::run::FAR_END_MOVE_M`; ranks changes of equal severity and cost.
+    /// strength's change over `compare::difference::CHANGE_DB`, in one state the phase turn over
+    /// `PHASE_CHANGE_DEG` or the relative complex change over `VECTOR_CHANGE`, the far end's move over
+    /// `compare::run::FAR_END_MOVE_M`; ranks changes of equal severity and cost.
     pub significance: f64,
     /// Where it was seen: `line` (the visible line: anything may be claimed), `beyond-far-end` (behind an
     /// open or short far end), `alias-edge` (where echoes from beyond the record fold back),

@@ -14,14 +14,15 @@
 //!
 //! Decision rules (named constants, documented in docs/method.md): a change counts when the strength of an
 //! echo moved by [`CHANGE_DB`] beyond what the calibration explains, or (one state) its phase turned by
-//! [`PHASE_CHANGE_DEG`]; only changes on the visible line, in front of an open or short far end, clear of the
+//! [`PHASE_CHANGE_DEG`] or its complex response changed by [`VECTOR_CHANGE`] of itself, or the trace rose by
+//! [`FLANK_RISE_DB`] where no echo of its own formed; only changes on the visible line, in front of an open or short far end, clear of the
 //! alias edge and not likely multiple reflections are reported above info; the far end's own open or short,
 //! already one in the baseline, is never a new open or short.
 
 use super::analysis::SweepAnalysis;
 use super::chain::{ChainView, SegmentKind, Which};
 use super::difference::{self, Change, FarEnds, Zone};
-pub use super::difference::{CHANGE_DB, PHASE_CHANGE_DEG};
+pub use super::difference::{CHANGE_DB, FLANK_RISE_DB, PHASE_CHANGE_DEG, VECTOR_CHANGE};
 use super::explain::*;
 use super::far_end;
 use super::landmarks::Fitted;
@@ -332,10 +333,7 @@ pub fn explain_change(
     }
     let total_kind = matches!(kind, FaultKind::Open | FaultKind::Short);
     let mut severity = Severity::from_drop_db(hi);
-    if total_kind
-        && !ch.was_total
-        && (rising || (same_state && ch.phase_deg.abs() >= PHASE_CHANGE_DEG))
-    {
+    if total_kind && !ch.was_total && (rising || ch.one_state_significance(same_state) >= 1.0) {
         severity = Severity::Critical;
     }
     if ch.was_total {
@@ -401,13 +399,7 @@ pub fn explain_change(
         model,
         likely_ghost: ch.ghost,
         significance: (ch.excess_db.abs() / CHANGE_DB)
-            .max(
-                if same_state && ch.base.is_some() && ch.snr > difference::PHASE_SNR {
-                    ch.phase_deg.abs() / PHASE_CHANGE_DEG
-                } else {
-                    0.0
-                },
-            )
+            .max(ch.one_state_significance(same_state))
             .max(extra_significance),
         zone: if ch.same_termination || ch.was_total {
             "far-end"
@@ -545,11 +537,25 @@ pub fn rank(findings: &mut [Finding]) {
             0.0
         }
     };
+    // Among those, the reflection that appeared or vanished beyond the calibration, in amplitude: a large
+    // change of a faint echo matters less than a small change of a strong one.
+    // The far end's own echo that moved or changed kind changed as a whole.
+    let amplitude = |f: &Finding| {
+        let whole = 10f64.powf(f.reflection_db / 20.0);
+        if f.severity > Severity::Info {
+            0.0
+        } else if f.zone == "far-end" && f.significance >= 1.0 {
+            whole
+        } else {
+            whole * (1.0 - 10f64.powf(-f.change_db / 20.0)).abs()
+        }
+    };
     findings.sort_by(|a, b| {
         on_line(b)
             .cmp(&on_line(a))
             .then(b.severity.cmp(&a.severity))
             .then(cost(b).total_cmp(&cost(a)))
+            .then(amplitude(b).total_cmp(&amplitude(a)))
             .then(b.significance.total_cmp(&a.significance))
             .then(b.confidence.total_cmp(&a.confidence))
     });
