@@ -98,6 +98,17 @@ pub const SHADOW_MAX_DB: f64 = 15.0;
 /// reflections move by a dB or two as their parts contract (common practice, no source).
 pub const CHANGE_DB: f64 = 3.0;
 
+/// Reflection from which an echo is a component's (a switch, a filter, an amplifier's input, a device of
+/// the line) rather than a joint's: 0.1 (-20 dB); a good joint of 0.086-in coax reflects a few per cent at
+/// 10 GHz (common practice, no source).
+pub const COMPONENT_REFLECTION: f64 = 0.1;
+
+/// Strength change of a component's echo that counts as a change across a change of state, dB: a
+/// component's match moves by several dB on cooling (its semiconductors, ferrites and resonances move with
+/// temperature) where a joint's moves by a dB or two (common practice, no source). A component that failed
+/// changes by more (an open, a short), or shows it in one state.
+pub const COMPONENT_CHANGE_DB: f64 = 6.0;
+
 /// Phase turn that counts as a change when both sweeps are in the same state, degrees.
 pub const PHASE_CHANGE_DEG: f64 = 90.0;
 
@@ -113,7 +124,18 @@ impl Change {
     /// Whether this counts as a change: its strength moved by [`CHANGE_DB`] or more beyond what the
     /// calibration explains, or, both sweeps in one state, its phase turned by [`PHASE_CHANGE_DEG`] or more.
     pub fn changed(&self, same_state: bool) -> bool {
-        self.excess_db.abs() >= CHANGE_DB || self.one_state_significance(same_state) >= 1.0
+        self.excess_db.abs() >= self.threshold_db(same_state)
+            || self.one_state_significance(same_state) >= 1.0
+    }
+
+    /// The strength change that counts as a change here: [`CHANGE_DB`], or across a change of state
+    /// [`COMPONENT_CHANGE_DB`] for an echo the baseline already saw at [`COMPONENT_REFLECTION`] or more.
+    pub fn threshold_db(&self, same_state: bool) -> f64 {
+        if !same_state && self.base.is_some() && self.base_level >= COMPONENT_REFLECTION {
+            COMPONENT_CHANGE_DB
+        } else {
+            CHANGE_DB
+        }
     }
 
     /// In one state, how far the complex change stands beyond what counts as a change (the phase turn over

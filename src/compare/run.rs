@@ -398,7 +398,7 @@ pub fn explain_change(
         confidence: confidence(ch.snr, model.fit_error),
         model,
         likely_ghost: ch.ghost,
-        significance: (ch.excess_db.abs() / CHANGE_DB)
+        significance: (ch.excess_db.abs() / ch.threshold_db(same_state))
             .max(ch.one_state_significance(same_state))
             .max(extra_significance),
         zone: if ch.same_termination || ch.was_total {
