@@ -98,6 +98,13 @@ pub const SHADOW_MAX_DB: f64 = 15.0;
 /// reflections move by a dB or two as their parts contract (common practice, no source).
 pub const CHANGE_DB: f64 = 3.0;
 
+/// Relative complex change of a joint's echo that counts as a change across a change of state, and the least
+/// amplitude signal-to-noise for it (100: 40 dB). Each sweep's echo is read at its own peak, so the phases
+/// compare without the alignment's residual; what the compensation leaves of the line's dispersion turns
+/// them by some tens of degrees at most, |e^{j 40 deg} - 1| = 0.68 (common practice, no source).
+pub const VECTOR_CHANGE_ACROSS_STATES: f64 = 0.8;
+pub const ACROSS_STATES_SNR: f64 = 100.0;
+
 /// Reflection from which an echo is a component's (a switch, a filter, an amplifier's input, a device of
 /// the line) rather than a joint's: 0.1 (-20 dB); a good joint of 0.086-in coax reflects a few per cent at
 /// 10 GHz (common practice, no source).
@@ -138,14 +145,37 @@ impl Change {
         }
     }
 
-    /// In one state, how far the complex change stands beyond what counts as a change (the phase turn over
-    /// [`PHASE_CHANGE_DEG`], the relative complex change over [`VECTOR_CHANGE`]); 0 across a state change, for
-    /// an echo with no partner, or one too close to the noise for its phase to mean anything.
+    /// How far the complex change stands beyond what counts as a change: in one state the phase turn over
+    /// [`PHASE_CHANGE_DEG`] or the relative complex change over [`VECTOR_CHANGE`]; across a change of state,
+    /// for a joint's echo well over the noise, the relative complex change over
+    /// [`VECTOR_CHANGE_ACROSS_STATES`]; 0 for an echo with no partner, a component's across a change of
+    /// state, or one too close to the noise for its phase to mean anything.
     pub fn one_state_significance(&self, same_state: bool) -> f64 {
-        if !(same_state && self.base.is_some() && self.snr > PHASE_SNR) {
+        if self.base.is_none() {
             return 0.0;
         }
-        (self.phase_deg.abs() / PHASE_CHANGE_DEG).max(self.vector_change / VECTOR_CHANGE)
+        if same_state {
+            if self.snr <= PHASE_SNR {
+                return 0.0;
+            }
+            return (self.phase_deg.abs() / PHASE_CHANGE_DEG)
+                .max(self.vector_change / VECTOR_CHANGE);
+        }
+        if self.snr > ACROSS_STATES_SNR && self.base_level < COMPONENT_REFLECTION {
+            return self.vector_change / VECTOR_CHANGE_ACROSS_STATES;
+        }
+        0.0
+    }
+
+    /// Whether the complex responses compare here (paired, well over the noise; across a change of state
+    /// only for a joint's echo, well over the noise).
+    pub fn phases_compare(&self, same_state: bool) -> bool {
+        self.base.is_some()
+            && if same_state {
+                self.snr > PHASE_SNR
+            } else {
+                self.snr > ACROSS_STATES_SNR && self.base_level < COMPONENT_REFLECTION
+            }
     }
 
     /// Whether it may be reported above info at all.
@@ -562,6 +592,62 @@ fn flank_changes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// A paired echo of strength `base` in the baseline, `cur` now, its phase turned by `deg`, at `snr`.
+    fn paired(base: f64, cur: f64, deg: f64, snr: f64) -> Change {
+        let rel = Complex64::from_polar(cur / base, deg.to_radians());
+        Change {
+            x: 1.0,
+            d_c: 1e-8,
+            mag_c: cur,
+            gamma_c: Complex64::from_polar(cur, deg.to_radians()),
+            base: Some((base, Complex64::new(base, 0.0))),
+            base_level: base,
+            raw_change_db: db(cur) - db(base),
+            expected_db: (0.0, 0.0),
+            excess_db: db(cur) - db(base),
+            phase_deg: deg,
+            vector_change: (rel - 1.0).norm(),
+            zone: Zone::Line,
+            ghost: false,
+            same_termination: false,
+            was_total: false,
+            snr,
+        }
+    }
+
+    #[test]
+    fn a_joints_echo_turned_at_right_angles_counts_in_one_state() {
+        // 0.03 -> 0.03 * 1.08 at 40 degrees: strength +0.7 dB, complex change |1.08 e^{j40} - 1| = 0.715.
+        let ch = paired(0.03, 0.0324, 40.0, 1000.0);
+        assert!(ch.raw_change_db < CHANGE_DB);
+        assert!(ch.changed(true), "{ch:?}");
+        // Across a change of state the same turn is within what the dispersion's residue allows.
+        assert!(
+            (ch.vector_change - 0.715).abs() < 0.001,
+            "{}",
+            ch.vector_change
+        );
+        assert!(!ch.changed(false), "{ch:?}");
+        // Too close to the noise for its phase to mean anything: no.
+        assert!(!paired(0.03, 0.0324, 40.0, 5.0).changed(true));
+        // A larger turn counts across states too, but only well over the noise.
+        assert!(paired(0.03, 0.03, 80.0, 1000.0).changed(false));
+        assert!(!paired(0.03, 0.03, 80.0, 50.0).changed(false));
+    }
+
+    #[test]
+    fn a_components_echo_needs_more_across_a_change_of_state() {
+        // 0.23 -> 0.36: +3.9 dB, a change in one state, within a component's thermal move across states.
+        let ch = paired(0.23, 0.36, 0.0, 1e4);
+        assert!(ch.changed(true));
+        assert!(!ch.changed(false));
+        assert_eq!(ch.threshold_db(false), COMPONENT_CHANGE_DB);
+        // A joint's echo: 3 dB either way.
+        assert!(paired(0.03, 0.045, 0.0, 1e4).changed(false));
+        // A component that turned into an open: counts.
+        assert!(paired(0.23, 0.95, 0.0, 1e4).changed(false));
+    }
 
     #[test]
     fn shadow_of_a_joint_that_got_worse() {

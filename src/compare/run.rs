@@ -398,6 +398,18 @@ pub fn explain_change(
         confidence: confidence(ch.snr, model.fit_error),
         model,
         likely_ghost: ch.ghost,
+        changed_reflection: if ch.phases_compare(same_state) {
+            ch.vector_change
+                * ch.base_level
+                * 10f64.powf(0.5 * (ch.expected_db.0 + ch.expected_db.1) / 20.0)
+        } else {
+            ch.mag_c * (1.0 - 10f64.powf(-change_db / 20.0)).abs()
+        }
+        .max(if extra_significance >= 1.0 {
+            ch.mag_c
+        } else {
+            0.0
+        }),
         significance: (ch.excess_db.abs() / ch.threshold_db(same_state))
             .max(ch.one_state_significance(same_state))
             .max(extra_significance),
@@ -539,15 +551,11 @@ pub fn rank(findings: &mut [Finding]) {
     };
     // Among those, the reflection that appeared or vanished beyond the calibration, in amplitude: a large
     // change of a faint echo matters less than a small change of a strong one.
-    // The far end's own echo that moved or changed kind changed as a whole.
     let amplitude = |f: &Finding| {
-        let whole = 10f64.powf(f.reflection_db / 20.0);
         if f.severity > Severity::Info {
             0.0
-        } else if f.zone == "far-end" && f.significance >= 1.0 {
-            whole
         } else {
-            whole * (1.0 - 10f64.powf(-f.change_db / 20.0)).abs()
+            f.changed_reflection
         }
     };
     findings.sort_by(|a, b| {
