@@ -158,8 +158,14 @@ impl Change {
             if self.snr <= PHASE_SNR {
                 return 0.0;
             }
-            return (self.phase_deg.abs() / PHASE_CHANGE_DEG)
-                .max(self.vector_change / VECTOR_CHANGE);
+            // A component's response has structure of its own (resonances, its neighbours' skirts): only
+            // its phase turn counts.
+            let vector = if self.base_level < COMPONENT_REFLECTION {
+                self.vector_change / VECTOR_CHANGE
+            } else {
+                0.0
+            };
+            return (self.phase_deg.abs() / PHASE_CHANGE_DEG).max(vector);
         }
         if self.snr > ACROSS_STATES_SNR && self.base_level < COMPONENT_REFLECTION {
             return self.vector_change / VECTOR_CHANGE_ACROSS_STATES;
@@ -167,15 +173,15 @@ impl Change {
         0.0
     }
 
-    /// Whether the complex responses compare here (paired, well over the noise; across a change of state
-    /// only for a joint's echo, well over the noise).
+    /// Whether the complex responses compare here: a joint's echo (under [`COMPONENT_REFLECTION`]), paired,
+    /// over the noise by [`PHASE_SNR`] in one state and by [`ACROSS_STATES_SNR`] across a change of state.
     pub fn phases_compare(&self, same_state: bool) -> bool {
-        self.base.is_some()
-            && if same_state {
-                self.snr > PHASE_SNR
-            } else {
-                self.snr > ACROSS_STATES_SNR && self.base_level < COMPONENT_REFLECTION
-            }
+        let snr = if same_state {
+            PHASE_SNR
+        } else {
+            ACROSS_STATES_SNR
+        };
+        self.base.is_some() && self.base_level < COMPONENT_REFLECTION && self.snr > snr
     }
 
     /// Whether it may be reported above info at all.
