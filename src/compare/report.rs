@@ -106,8 +106,9 @@ pub struct Finding {
     pub significance: f64,
     /// The reflection that appeared or vanished beyond the calibration, linear: |G_c - g G_b| where the
     /// phases compare (the echo paired, well over the noise), otherwise from the strengths alone,
-    /// |G_c| |1 - 10^(-change_db/20)|; the whole echo for the far end that moved or changed kind. Ranks info
-    /// findings: a large change of a faint echo matters less than a small change of a strong one.
+    /// |G_c| |1 - 10^(-change_db/20)|; for the far end that moved, what the move turned
+    /// (`run::moved_reflection`). Ranks info findings: a large change of a faint echo matters less than a
+    /// small change of a strong one.
     pub changed_reflection: f64,
     /// Where it was seen: `line` (the visible line: anything may be claimed), `beyond-far-end` (behind an
     /// open or short far end), `alias-edge` (where echoes from beyond the record fold back),

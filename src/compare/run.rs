@@ -405,11 +405,7 @@ pub fn explain_change(
         } else {
             ch.mag_c * (1.0 - 10f64.powf(-change_db / 20.0)).abs()
         }
-        .max(if extra_significance >= 1.0 {
-            ch.mag_c
-        } else {
-            0.0
-        }),
+        .max(moved_reflection(ch.mag_c, extra_significance, f_ref)),
         significance: (ch.excess_db.abs() / ch.threshold_db(same_state))
             .max(ch.one_state_significance(same_state))
             .max(extra_significance),
@@ -427,6 +423,18 @@ pub fn explain_change(
         },
         explanation,
     })
+}
+
+/// The reflection that changed when an echo of strength `m` moved by `move_ratio` times
+/// [`FAR_END_MOVE_M`] of air line, at `f_ref`: m |e^{j 2 pi f_ref dt} - 1| with dt the round-trip delay of the
+/// move; a termination swapped for the other kind ([`KIND_FLIP_SIGNIFICANCE`] or more) changed by 2 m.
+fn moved_reflection(m: f64, move_ratio: f64, f_ref: f64) -> f64 {
+    if move_ratio >= KIND_FLIP_SIGNIFICANCE {
+        return 2.0 * m;
+    }
+    let dt = move_ratio * 2.0 * FAR_END_MOVE_M / crate::transform::C0_M_PER_S;
+    m * (num_complex::Complex64::from_polar(1.0, 2.0 * std::f64::consts::PI * f_ref * dt) - 1.0)
+        .norm()
 }
 
 /// The far end of both sweeps and how far it moved beyond what the alignment explains.
