@@ -2,8 +2,12 @@
 //! apply to, as Markdown tables (one per check, with a summary first).
 //!
 //! ```sh
-//! cargo run --release --example real_campaign -- CAMPAIGN_DIR [--out FILE.md] [--force]
+//! cargo run --release --example real_campaign -- CAMPAIGN_DIR [--out FILE.md] [--force] [--only SUBSTRING]
 //! ```
+//!
+//! `--only SUBSTRING` keeps only the pairs one of whose sweeps, named `TEMPERATURE/STEM` (`3k/port2_MOS4`),
+//! contains SUBSTRING (`--only port2_`, `--only 3k/port6_MOS4`), to rerun a few pairs quickly; the summary then
+//! counts those pairs only.
 //!
 //! `CAMPAIGN_DIR` holds `295k/` and `3k/`, each with the campaign's `.s1p` files (`ecal_{short,open,load}_X`
 //! for cooldowns X = A..F, `portP_MOSm` for ports P = 1..6 and standards m = 1..6; see
@@ -38,17 +42,20 @@ struct Args {
     dir: PathBuf,
     out: Option<PathBuf>,
     force: bool,
+    only: Option<String>,
 }
 
 fn parse_args() -> Result<Args, String> {
     let mut dir = None;
     let mut out = None;
     let mut force = false;
+    let mut only = None;
     let mut it = std::env::args().skip(1);
     while let Some(a) = it.next() {
         match a.as_str() {
             "--out" => out = Some(PathBuf::from(it.next().ok_or("--out needs a file name")?)),
             "--force" => force = true,
+            "--only" => only = Some(it.next().ok_or("--only needs a substring")?),
             _ if a.starts_with("--") => return Err(format!("unknown flag {a}")),
             _ if dir.is_none() => dir = Some(PathBuf::from(a)),
             _ => return Err(format!("unexpected argument {a}")),
@@ -58,6 +65,7 @@ fn parse_args() -> Result<Args, String> {
         dir: dir.ok_or("give the campaign folder (holding 295k/ and 3k/)")?,
         out,
         force,
+        only,
     })
 }
 
@@ -217,6 +225,17 @@ struct Pairs {
     air_line: Vec<(Key, Key, f64)>,
 }
 
+impl Pairs {
+    /// Only the pairs one of whose sweeps (`TEMPERATURE/STEM`) contains `only`.
+    fn keep(mut self, only: &str) -> Pairs {
+        let hit = |k: &Key| format!("{}/{}", k.0, k.1).contains(only);
+        self.cooldown.retain(|(b, c)| hit(b) || hit(c));
+        self.far_end.retain(|(b, c)| hit(b) || hit(c));
+        self.air_line.retain(|(b, c, _)| hit(b) || hit(c));
+        self
+    }
+}
+
 fn pairs(warm: &[String], cold: &[String]) -> Pairs {
     let cooldown = warm
         .iter()
@@ -268,8 +287,11 @@ fn pairs(warm: &[String], cold: &[String]) -> Pairs {
 fn run(args: &Args) -> Result<(String, bool, Vec<PathBuf>), String> {
     let warm = stems(&args.dir.join("295k"))?;
     let cold = stems(&args.dir.join("3k"))?;
-    let pairs = pairs(&warm, &cold);
-    if pairs.cooldown.is_empty() && pairs.far_end.is_empty() {
+    let mut pairs = pairs(&warm, &cold);
+    if let Some(only) = &args.only {
+        pairs = pairs.keep(only);
+    }
+    if pairs.cooldown.is_empty() && pairs.far_end.is_empty() && pairs.air_line.is_empty() {
         return Err(format!(
             "{}: no pair of sweeps found (expected 295k/ and 3k/ with .s1p files)",
             args.dir.display()
@@ -455,13 +477,16 @@ fn run(args: &Args) -> Result<(String, bool, Vec<PathBuf>), String> {
     let _ = writeln!(md, "# The comparator on the real campaign\n");
     let _ = writeln!(
         md,
-        "`cargo run --release --example real_campaign -- {}`: every pair compared through \
+        "`cargo run --release --example real_campaign -- {}{}`: every pair compared through \
          `coldtrace::compare::job::compare_networks` on a line of unknown construction of velocity factor {} \
          (`--vf {:.2}`), states not given (inferred). Positions are metres of that uniform line; far-end \
          echoes are the strongest echo of each sweep's band-pass trace (`coldtrace::transform::run_trace`, \
          default plan); moves are millimetres of air line (round-trip delay change x c0 / 2). The checks are those of \
          `tests/common/real_campaign.rs`.\n",
         args.dir.display(),
+        args.only
+            .as_ref()
+            .map_or(String::new(), |o| format!(" --only {o}")),
         checks::VF,
         checks::VF
     );
@@ -516,7 +541,7 @@ fn main() -> ExitCode {
         Ok(a) => a,
         Err(e) => {
             eprintln!(
-                "real_campaign: {e}\nusage: real_campaign CAMPAIGN_DIR [--out FILE.md] [--force]"
+                "real_campaign: {e}\nusage: real_campaign CAMPAIGN_DIR [--out FILE.md] [--force] [--only SUBSTRING]"
             );
             return ExitCode::from(coldtrace::exit::BAD_INPUT);
         }

@@ -199,3 +199,89 @@ fn an_echo_inside_the_main_lobe_of_a_stronger_one_is_found() {
         "a change away from the two steps: {found:?}"
     );
 }
+
+/// A termination moved by an air line (an offset short for a flush one) behind a joint of |rho| 0.2 less
+/// than a resolution cell in front of it (a port's connector), on a 10 MHz-20 GHz sweep: the far end's move
+/// is the air line's delay to within 0.5 mm, in one state and across a cooldown, where the line's own change
+/// in front of it must not count. (Reading each echo through a gate centred on itself, the connector's echo
+/// weighs differently in the two sweeps and biases the move by about 1 mm here.)
+#[test]
+fn far_end_moved_by_an_air_line_reads_its_delay() {
+    use coldtrace::line::State;
+    // An air line of length L delays by 2 L / c0, as L VF of this line does.
+    let build = |air_m: f64, scale_after: Option<(f64, f64)>| {
+        let short_m = 1.21 + air_m * VF;
+        // The connector 100 ps (round trip) in front of the flush short.
+        let connector_m = 1.21 - 100e-12 * C0_M_PER_S * VF / 2.0;
+        let parts = [
+            (0.30, ModelType::ImpedanceStep, 52.0),
+            (0.60, ModelType::ImpedanceStep, 51.5),
+            (connector_m, ModelType::ImpedanceStep, 75.0),
+            (short_m, ModelType::Short, 0.0),
+        ];
+        let freqs: Vec<f64> = (0..4001).map(|k| 10e6 + k as f64 * 4.9975e6).collect();
+        let s11 = freqs
+            .iter()
+            .map(|&f| {
+                parts
+                    .iter()
+                    .map(|&(x, m, v)| {
+                        let mut t = 2.0 * x / (C0_M_PER_S * VF);
+                        if let Some((x0, s)) = scale_after {
+                            let t0 = 2.0 * x0 / (C0_M_PER_S * VF);
+                            if t > t0 {
+                                t = t0 + (t - t0) * s;
+                            }
+                        }
+                        m.gamma(v, f, 50.0) * Complex64::from_polar(1.0, -2.0 * PI * f * t)
+                    })
+                    .sum::<Complex64>()
+            })
+            .collect();
+        Network::one_port(freqs, s11, 50.0)
+    };
+    let chain = ChainView::uniform("test", VF, 2.0, 50.0);
+    let mut failures = Vec::new();
+    for air_m in [0.005, 0.018] {
+        for (b_state, c_state, scale) in [
+            (State::Cold, State::Cold, None),
+            (State::Warm, State::Cold, Some((0.3, 1.003))),
+        ] {
+            let base = build(0.0, None);
+            let cur = build(air_m, scale);
+            let r = compare(
+                Sweep {
+                    name: "b",
+                    network: &base,
+                    state: b_state.name(),
+                },
+                Sweep {
+                    name: "c",
+                    network: &cur,
+                    state: c_state.name(),
+                },
+                &chain,
+                &AnalysisConfig::default(),
+                StateReport::given(b_state, c_state),
+            )
+            .unwrap();
+            // In the cooled sweep the air line is scaled with the line behind 0.3 m.
+            let expected_mm = 1e3 * air_m * scale.map_or(1.0, |s| s.1);
+            let moved_mm = r
+                .far_end
+                .as_ref()
+                .and_then(|f| f.delay_change_s)
+                .map(|d| 1e3 * d * C0_M_PER_S / 2.0);
+            eprintln!(
+                "{b_state:?} -> {c_state:?}: moved {moved_mm:?} mm, expected {expected_mm:.3} mm"
+            );
+            match moved_mm {
+                Some(mm) if (mm - expected_mm).abs() < 0.5 => {}
+                other => failures.push(format!(
+                    "{b_state:?} -> {c_state:?}: moved {other:?} mm, not {expected_mm:.3} mm"
+                )),
+            }
+        }
+    }
+    assert!(failures.is_empty(), "{}", failures.join("\n"));
+}

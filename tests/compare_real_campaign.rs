@@ -157,7 +157,6 @@ fn far_end_echoes_of_the_offset_shorts_move_by_their_air_line() {
 }
 
 #[test]
-#[ignore = "issue 8 acceptance, not met yet: run with --ignored; figures in docs/accuracy.md"]
 fn offset_shorts_move_the_far_end_by_their_air_line() {
     let flush = ("3k", "port1_MOS1");
     let f_flush = checks::far_end(&sweep(flush.0, flush.1)).unwrap();

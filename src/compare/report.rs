@@ -128,9 +128,10 @@ pub struct FarEndReport {
     /// `open`, `short` or `other` (what the echo's polarity and strength say) in each sweep.
     pub baseline_kind: &'static str,
     pub current_kind: &'static str,
-    /// Change of the far end's round-trip delay beyond what the alignment of the line in front of it
-    /// explains, s (positive: the line now ends later), from the phase slope of the two echoes' ratio;
-    /// `null` when the two echoes' polarities differ (an open against a short) or either is unclear.
+    /// Change of the far end's round-trip delay beyond what the line in front of it explains, s (positive:
+    /// the line now ends later): the lag between the two far-end echoes (`far_end::echo_lag`) less the
+    /// line's own change in front of them (none in one state); `null` when the two echoes' polarities differ
+    /// (an open against a short) or either is unclear.
     pub delay_change_s: Option<f64>,
 }
 

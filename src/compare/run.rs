@@ -437,10 +437,12 @@ fn moved_reflection(m: f64, move_ratio: f64, f_ref: f64) -> f64 {
         .norm()
 }
 
-/// The far end of both sweeps and how far it moved beyond what the alignment explains.
+/// The far end of both sweeps and how far it moved beyond what the line in front of it explains.
+/// `same_state`: both sweeps in one state, so the line in front did not change.
 fn far_end_report(
     pa: &PairAnalysis,
     fit: &Fitted,
+    same_state: bool,
     engine: &mut TraceEngine,
 ) -> Result<Option<FarEndReport>, CompareError> {
     let (Some(tb), Some(tc)) = (&pa.far.baseline, &pa.far.current) else {
@@ -462,38 +464,49 @@ fn far_end_report(
         && tb.polarity.abs() >= 0.5
         && tc.polarity.abs() >= 0.5
     {
-        // Where the baseline's far end would be in the current sweep, by the alignment; then the phase slope
-        // of the two echoes' ratio over the lower half of the band, where parasitics and dispersion are least.
-        // Anchored at the last landmark well in front of it, so an error of the fitted scales over the
-        // whole line does not enter.
-        let res = pa.b.resolution_s.max(pa.c.resolution_s);
-        let anchor = fit
-            .landmark_delays_s
-            .iter()
-            .filter(|(tb_l, _)| *tb_l < tb.delay_s - 2.0 * res)
-            .max_by(|p, q| p.0.total_cmp(&q.0))
-            .map_or(0.0, |&(tb_l, tc_l)| {
-                let xl = fit.chain.position_of(tb_l, Which::Baseline, None);
-                tc_l - fit.chain.delay_to(xl, Which::Current, None)
-            });
-        let predicted = fit.chain.delay_to(xb, Which::Current, None) + anchor;
-        // Read uncompensated: the line in front is the same in both, and each sweep's own loss estimate
-        // would add its own excess phase.
-        let mut plain = pa.chain.clone();
-        for s in &mut plain.segments {
-            s.loss = [super::chain::LossModel::default(); 2];
-        }
-        let (fb, gb) =
-            pa.b.local_reflection(tb.delay_s, xb, &plain, Which::Baseline, engine)?;
-        let (fc, gc) =
-            pa.c.local_reflection(tc.delay_s, xc, &plain, Which::Current, engine)?;
-        let n = fb.len().min(fc.len()) / 2;
-        if n >= 8 && fb[..n] == fc[..n] {
-            let ratio: Vec<num_complex::Complex64> = (0..n).map(|k| gc[k] / gb[k]).collect();
-            phase_slope_delay(&fb[..n], &ratio).map(|d| tc.delay_s - predicted + d)
+        // How much later the current echo lies than the baseline's: the lag that lines the two echoes up.
+        let lag = far_end::echo_lag(&pa.b, &pa.c, tb.delay_s, tc.delay_s, engine)?
+            .unwrap_or(tc.delay_s - tb.delay_s);
+        // Less the line's own change in front of it. In one state the line did not change (within
+        // `SAME_STATE_DRIFT`), and an anchor at a landmark would only add that landmark's own peak error.
+        // Across a change of state: the change at the last landmark well in front of the far end (measured),
+        // and behind it the stretch to the far end changing as the line in front of it did (the least-squares
+        // scale of the landmarks in front, through the last one). The far end's own pair never enters: a
+        // termination that moved by less than the pairing tolerance is a landmark of the alignment, and the
+        // fitted scale of the last stretch would swallow its move.
+        let line_change = if same_state {
+            0.0
         } else {
-            Some(tc.delay_s - predicted)
-        }
+            let res = pa.b.resolution_s.max(pa.c.resolution_s);
+            let front: Vec<(f64, f64)> = fit
+                .landmark_delays_s
+                .iter()
+                .copied()
+                .filter(|(tb_l, _)| *tb_l < tb.delay_s - 2.0 * res)
+                .collect();
+            match front.iter().copied().max_by(|p, q| p.0.total_cmp(&q.0)) {
+                Some((tb_l, tc_l)) => {
+                    let (num, den) = front.iter().filter(|p| p.0 < tb_l).fold(
+                        (0.0, 0.0),
+                        |(n, d), &(b_l, c_l)| {
+                            (n + (b_l - tb_l) * (c_l - tc_l), d + (b_l - tb_l).powi(2))
+                        },
+                    );
+                    if den > 0.0 {
+                        (tc_l - tb_l) + (num / den - 1.0) * (tb.delay_s - tb_l)
+                    } else {
+                        // One landmark in front: the alignment's own map of the stretch behind it.
+                        let xl = fit.chain.position_of(tb_l, Which::Baseline, None);
+                        (tc_l - fit.chain.delay_to(xl, Which::Current, None))
+                            + fit.chain.delay_to(xb, Which::Current, None)
+                            - tb.delay_s
+                    }
+                }
+                // No landmark in front: the alignment's own map of the line.
+                None => fit.chain.delay_to(xb, Which::Current, None) - tb.delay_s,
+            }
+        };
+        Some(lag - line_change)
     } else {
         None
     };
@@ -504,45 +517,6 @@ fn far_end_report(
         current_kind: kind(tc),
         delay_change_s,
     }))
-}
-
-/// The delay d (s) of `ratio(f)` ~ A e^{-j 2 pi f d}: the unwrapped phase's least-squares slope, sign
-/// reversed, over 2 pi.
-pub fn phase_slope_delay(freqs: &[f64], ratio: &[num_complex::Complex64]) -> Option<f64> {
-    if freqs.len() < 3 || freqs.len() != ratio.len() {
-        return None;
-    }
-    let mut ph = Vec::with_capacity(ratio.len());
-    let mut last = ratio[0].arg();
-    let mut acc = last;
-    ph.push(acc);
-    for r in &ratio[1..] {
-        let a = r.arg();
-        let mut d = a - last;
-        while d > std::f64::consts::PI {
-            d -= 2.0 * std::f64::consts::PI;
-        }
-        while d < -std::f64::consts::PI {
-            d += 2.0 * std::f64::consts::PI;
-        }
-        acc += d;
-        last = a;
-        ph.push(acc);
-    }
-    let n = freqs.len() as f64;
-    let mf = freqs.iter().sum::<f64>() / n;
-    let mp = ph.iter().sum::<f64>() / n;
-    let sff: f64 = freqs.iter().map(|f| (f - mf).powi(2)).sum();
-    if sff <= 0.0 {
-        return None;
-    }
-    let slope = freqs
-        .iter()
-        .zip(&ph)
-        .map(|(f, p)| (f - mf) * (p - mp))
-        .sum::<f64>()
-        / sff;
-    Some(-slope / (2.0 * std::f64::consts::PI))
 }
 
 /// Stage 5: rank findings by severity, then the worse plausible cost, then the size of the change.
@@ -628,7 +602,7 @@ pub fn compare(
         far: &pa.far,
     });
     let same_state = h.same_state();
-    let far_end = far_end_report(&pa, &fit, &mut engine)?;
+    let far_end = far_end_report(&pa, &fit, same_state, &mut engine)?;
     // The far end moved (a termination swapped for a longer one, a pin pulled back at the last joint).
     let moved = far_end
         .as_ref()

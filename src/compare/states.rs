@@ -4,14 +4,17 @@
 //! Signatures of a pair of sweeps (both read on uncompensated traces, so no model enters them):
 //! - `delay-scale`: the current/baseline ratio of the round-trip delays of the echoes both sweeps show, by a
 //!   bounded search and least squares. Cooling a PTFE line changes its electrical length by about -0.2 % to
-//!   +1 % ([`WARM_TO_COLD_CHANGE`]); one state keeps it within [`SAME_STATE_DRIFT`].
+//!   +1 % ([`WARM_TO_COLD_CHANGE`]); one state keeps it within [`SAME_STATE_DRIFT`]. Echoes behind an open
+//!   or short far end (multiple reflections, which move with the termination) count only when the far end
+//!   did not move against the line in front of it.
 //! - `loss-ratio` (or `loss-slope` where the far end gives no scale): how the far open or short's echo
 //!   changed across the band. Cold conductors lose less, and the conductor loss grows as sqrt(f), so the
 //!   ratio current/baseline of that echo, in dB, rises with sqrt(f) when the current is colder; against the
 //!   loss the baseline's own far end shows, it is the ratio of the two sweeps' conductor losses. A gain
 //!   change of an amplifier in front (a level change of the whole trace) leaves the slope alone. Only an open
-//!   or short far end of one kind in both sweeps is read this way: a joint's own echo changes its shape with
-//!   temperature.
+//!   or short far end of one kind in both sweeps that did not move against the line in front of it is read
+//!   this way: a joint's own echo changes its shape with temperature, and a moved far end is another
+//!   termination, whose echo has its own shape.
 //!
 //! Signature of one sweep against a line file (the model as a prior, with a generous width):
 //! - `model-loss`: an open or short far end's loss against the warm and the cold model's. (The echo delays
@@ -25,6 +28,7 @@
 
 use super::analysis::SweepAnalysis;
 use super::chain::{ChainView, Which};
+use super::difference::BEYOND_CELLS;
 use super::far_end::{self, Termination};
 use super::landmarks::{
     scale_search, strong_events, ScaleMatch, LANDMARK_SEPARATION_CELLS, MAX_LANDMARKS,
@@ -210,10 +214,38 @@ pub(super) fn pair_signatures(
             1.0 / (1.0 + WARM_TO_COLD_CHANGE.0),
         ),
     );
-    let m = scale_search(ab, ac, &strong, (c2w.0 - 2e-3, w2c.1 + 2e-3));
     let uni = ChainView::uniform("", 0.7, 1.0, 50.0);
     let tb = far_end::find(ab, &uni, Which::Baseline, engine)?;
     let tc = far_end::find(ac, &uni, Which::Current, engine)?;
+    let bounds = (c2w.0 - 2e-3, w2c.1 + 2e-3);
+    // Behind an open or short far end (of either sweep) live only multiple reflections. While the
+    // termination stays they change as the line does, and the cooled stretch's change may show nowhere else
+    // (a line whose front stays at room temperature); a termination that moved (an offset short for a flush
+    // one, a pin pulled back) by d moves the n-th round trip by n d, which reads as a change of the whole
+    // line's delay scale by d / t_far. So the line's change is first read in front of the far end; echoes
+    // behind it join only when the far end did not move against the line in front of it.
+    let wall = [&tb, &tc]
+        .iter()
+        .filter_map(|t| t.as_ref().filter(|t| t.total))
+        .map(|t| t.delay_s + BEYOND_CELLS * res)
+        .fold(f64::INFINITY, f64::min);
+    let front: Vec<usize> = strong
+        .iter()
+        .copied()
+        .filter(|&i| ab.events[i].delay_s <= wall)
+        .collect();
+    let m_front = scale_search(ab, ac, &front, bounds);
+    let moved = match (&tb, &tc, &m_front) {
+        (Some(b), Some(c), Some(m)) if b.total && c.total => {
+            far_end_moved(ab, ac, &m.pairs, b, c, (c2w.0, w2c.1))
+        }
+        _ => false,
+    };
+    let m = if moved || front.len() == strong.len() {
+        m_front
+    } else {
+        scale_search(ab, ac, &strong, bounds)
+    };
     if let Some(m) = &m {
         // The far end's own echo moves when the termination is swapped: the line's change is read on the
         // other echoes when there are enough of them.
@@ -248,8 +280,10 @@ pub(super) fn pair_signatures(
         // both sweeps (an open swapped for a short, or a load for an open, changes it by itself).
         // A joint's own reflection changes its shape with temperature (its parts contract, its
         // permittivity moves), so only an open or short far end is read this way.
+        // A far end that moved against the line in front of it is another termination (an offset short
+        // for a flush one, a pin pulled back): its echo's shape is the new termination's, not the line's loss.
         let same_end = match (&tb, &tc) {
-            (Some(b), Some(c)) => b.total && c.total && b.polarity * c.polarity > 0.0,
+            (Some(b), Some(c)) => b.total && c.total && b.polarity * c.polarity > 0.0 && !moved,
             _ => false,
         };
         if same_end {
@@ -259,6 +293,41 @@ pub(super) fn pair_signatures(
         }
     }
     Ok(out)
+}
+
+/// Whether the far end moved against the line in front of it: the stretch from the last landmark pair at
+/// least [`LANDMARK_SEPARATION_CELLS`] in front of the baseline's far end (or from the reference plane) to
+/// the far end changed its round-trip delay by more than a change of state allows (`bounds`: current over
+/// baseline) plus three standard uncertainties of the four peaks' places ([`super::landmarks::pair_sigma`]).
+fn far_end_moved(
+    ab: &SweepAnalysis,
+    ac: &SweepAnalysis,
+    pairs: &[(usize, usize)],
+    tb: &Termination,
+    tc: &Termination,
+    (lo, hi): (f64, f64),
+) -> bool {
+    let res = ab.resolution_s.max(ac.resolution_s);
+    let last = pairs
+        .iter()
+        .copied()
+        .filter(|&(i, j)| {
+            i != tb.event
+                && j != tc.event
+                && ab.events[i].delay_s < tb.delay_s - LANDMARK_SEPARATION_CELLS * res
+        })
+        .max_by(|p, q| ab.events[p.0].delay_s.total_cmp(&ab.events[q.0].delay_s));
+    let (t0b, t0c, s0) = last.map_or((0.0, 0.0, 0.0), |(i, j)| {
+        (
+            ab.events[i].delay_s,
+            ac.events[j].delay_s,
+            super::landmarks::pair_sigma(ab, ac, i, j),
+        )
+    });
+    let (db, dc) = (tb.delay_s - t0b, tc.delay_s - t0c);
+    let sigma = super::landmarks::pair_sigma(ab, ac, tb.event, tc.event).hypot(s0);
+    let allowed = dc.clamp(lo * db, hi * db);
+    (dc - allowed).abs() > 3.0 * sigma
 }
 
 /// Least-squares delay scale through the reference plane over `pairs` (less the pair of baseline event
@@ -366,8 +435,9 @@ fn ratio_db(
     Ok(Some((fb, y)))
 }
 
-/// The loss-slope signature: the far echo's current/baseline ratio against sqrt(f), relative to the
-/// nearest strong echo's; with an open or short at the far end, also as a ratio of conductor losses.
+/// The loss signature of the open or short far end `term` (the baseline's), paired in both sweeps: its
+/// echo's current/baseline ratio against sqrt(f), as a ratio of conductor losses where the baseline's own
+/// loss law gives the scale (`loss-ratio`), else as a slope (`loss-slope`). `None` when it did not pair.
 fn loss_signature(
     ab: &SweepAnalysis,
     ac: &SweepAnalysis,
@@ -375,11 +445,14 @@ fn loss_signature(
     term: Option<Termination>,
     engine: &mut TraceEngine,
 ) -> Result<Option<Signature>, CompareError> {
-    // The far echo: the baseline's open or short far end when it pairs, else the last echo both show.
-    let term_pair = term
+    // The far echo: the baseline's open or short far end, paired. One that did not pair under the line's
+    // scale moved: another termination ends the current sweep (an offset short for a flush one, a pin pulled
+    // back), and its echo's shape says nothing of the line's loss; nor does a joint's in front of it, whose
+    // shape changes with temperature by itself.
+    let Some((i_far, j_far)) = term
         .as_ref()
-        .and_then(|t| m.pairs.iter().find(|p| p.0 == t.event).copied());
-    let Some((i_far, j_far)) = term_pair.or_else(|| m.pairs.last().copied()) else {
+        .and_then(|t| m.pairs.iter().find(|p| p.0 == t.event).copied())
+    else {
         return Ok(None);
     };
     let Some((f, y_far)) = ratio_db(ab, ac, i_far, j_far, engine)? else {
