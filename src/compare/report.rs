@@ -133,6 +133,10 @@ pub struct FarEndReport {
     /// line's own change in front of them (none in one state); `null` when the two echoes' polarities differ
     /// (an open against a short) or either is unclear.
     pub delay_change_s: Option<f64>,
+    /// Least round-trip delay change counted as a move, s: 1 mm of air line (`run::FAR_END_MOVE_M`), and
+    /// across a change of state also what the thermal change of the stretch behind the last landmark leaves
+    /// unknown (`run::STRETCH_SCALE_SPREAD` of its delay).
+    pub move_tolerance_s: f64,
 }
 
 /// One discontinuity seen in a single sweep (`locate`).

@@ -46,6 +46,13 @@ pub const KIND_FLIP_SIGNIFICANCE: f64 = 10.0;
 /// phase-slope estimate resolves a fraction of it; common practice, no source).
 pub const FAR_END_MOVE_M: f64 = 1e-3;
 
+/// How much the thermal delay scale of the stretch between the last landmark and the far end may differ
+/// from what the landmarks in front of it show, across a change of state: half the width of
+/// `landmarks::WARM_TO_COLD_CHANGE` (cables of other makes and materials contract and densify differently;
+/// common practice, no source). A far end that moved by less than this share of the stretch, plus
+/// [`FAR_END_MOVE_M`], is not known to have moved.
+pub const STRETCH_SCALE_SPREAD: f64 = 0.006;
+
 /// Stage 1's result: both sweeps analysed on the chain they were compensated with, and their far ends.
 pub struct PairAnalysis {
     /// The chain as used (sized to the record for a line of unknown construction; with the loss law of its
@@ -404,8 +411,7 @@ pub fn explain_change(
                 * 10f64.powf(0.5 * (ch.expected_db.0 + ch.expected_db.1) / 20.0)
         } else {
             ch.mag_c * (1.0 - 10f64.powf(-change_db / 20.0)).abs()
-        }
-        .max(moved_reflection(ch.mag_c, extra_significance, f_ref)),
+        },
         significance: (ch.excess_db.abs() / ch.threshold_db(same_state))
             .max(ch.one_state_significance(same_state))
             .max(extra_significance),
@@ -425,14 +431,39 @@ pub fn explain_change(
     })
 }
 
-/// The reflection that changed when an echo of strength `m` moved by `move_ratio` times
-/// [`FAR_END_MOVE_M`] of air line, at `f_ref`: m |e^{j 2 pi f_ref dt} - 1| with dt the round-trip delay of the
-/// move; a termination swapped for the other kind ([`KIND_FLIP_SIGNIFICANCE`] or more) changed by 2 m.
-fn moved_reflection(m: f64, move_ratio: f64, f_ref: f64) -> f64 {
-    if move_ratio >= KIND_FLIP_SIGNIFICANCE {
+/// A discontinuity that appeared in front of the far end delays it: its transmission turns by up to
+/// asin |G| each way (a lossless step or reactance of reflection G; circuit theory, as in `lumped`). When the
+/// changes in front of the far end can turn it by the `turn_rad` (at the frequency power drops are quoted
+/// at) its move shows, the move is theirs: the far end keeps its finding but no longer ranks by it.
+fn explain_far_end_move(findings: &mut [Finding], turn_rad: f64) {
+    let Some(end_at) = findings
+        .iter()
+        .find(|f| f.zone == "far-end")
+        .map(|f| f.place.distance_m)
+    else {
+        return;
+    };
+    let in_front: f64 = findings
+        .iter()
+        .filter(|f| f.zone == "line" && !f.likely_ghost && f.significance >= 1.0)
+        .filter(|f| f.place.distance_m < end_at - f.uncertainty_m)
+        .map(|f| 2.0 * f.changed_reflection.min(1.0).asin())
+        .sum();
+    if in_front >= turn_rad {
+        for f in findings.iter_mut().filter(|f| f.zone == "far-end") {
+            f.changed_reflection = 0.0;
+            f.explanation
+                .push_str(" (the changes in front of it delay it by as much)");
+        }
+    }
+}
+
+/// The reflection that changed when an echo of strength `m` moved by `dt` round trip, at `f_ref`:
+/// m |e^{j 2 pi f_ref dt} - 1|; a termination swapped for the other kind (`kind_flip`) changed by 2 m.
+fn moved_reflection(m: f64, dt: f64, kind_flip: bool, f_ref: f64) -> f64 {
+    if kind_flip {
         return 2.0 * m;
     }
-    let dt = move_ratio * 2.0 * FAR_END_MOVE_M / crate::transform::C0_M_PER_S;
     m * (num_complex::Complex64::from_polar(1.0, 2.0 * std::f64::consts::PI * f_ref * dt) - 1.0)
         .norm()
 }
@@ -460,6 +491,9 @@ fn far_end_report(
     let xb = fit.chain.position_of(tb.delay_s, Which::Baseline, None);
     let xc = fit.chain.position_of(tc.delay_s, Which::Current, None);
     // One kind of termination (the same polarity): its move is the far end's.
+    // The baseline's round-trip delay from the last landmark in front of the far end to it (across a change
+    // of state: its own thermal change is inferred, not measured).
+    let mut stretch = 0.0;
     let delay_change_s = if tb.polarity * tc.polarity > 0.0
         && tb.polarity.abs() >= 0.5
         && tc.polarity.abs() >= 0.5
@@ -477,6 +511,14 @@ fn far_end_report(
         let line_change = if same_state {
             0.0
         } else {
+            let res = pa.b.resolution_s.max(pa.c.resolution_s);
+            let last = fit
+                .landmark_delays_s
+                .iter()
+                .map(|p| p.0)
+                .filter(|&tb_l| tb_l < tb.delay_s - 2.0 * res)
+                .fold(0.0f64, f64::max);
+            stretch = tb.delay_s - last;
             let res = pa.b.resolution_s.max(pa.c.resolution_s);
             let front: Vec<(f64, f64)> = fit
                 .landmark_delays_s
@@ -516,6 +558,8 @@ fn far_end_report(
         baseline_kind: kind(tb),
         current_kind: kind(tc),
         delay_change_s,
+        move_tolerance_s: 2.0 * FAR_END_MOVE_M / crate::transform::C0_M_PER_S
+            + STRETCH_SCALE_SPREAD * stretch,
     }))
 }
 
@@ -604,21 +648,17 @@ pub fn compare(
     let same_state = h.same_state();
     let far_end = far_end_report(&pa, &fit, same_state, &mut engine)?;
     // The far end moved (a termination swapped for a longer one, a pin pulled back at the last joint).
-    let moved = far_end
-        .as_ref()
-        .and_then(|f| f.delay_change_s)
-        .is_some_and(|d| d.abs() >= 2.0 * FAR_END_MOVE_M / crate::transform::C0_M_PER_S);
+    let move_ratio = far_end.as_ref().map_or(0.0, |f| {
+        f.delay_change_s
+            .map_or(0.0, |d| d.abs() / f.move_tolerance_s.max(1e-18))
+    });
+    let moved = move_ratio >= 1.0;
     // The termination swapped for the other kind (an open for a short).
     let kind_flip = match (&pa.far.baseline, &pa.far.current) {
         (Some(tb), Some(tc)) => tb.total && tc.total && tb.polarity * tc.polarity < 0.0,
         _ => false,
     };
-    let move_ratio = far_end
-        .as_ref()
-        .and_then(|f| f.delay_change_s)
-        .map_or(0.0, |d| {
-            d.abs() * crate::transform::C0_M_PER_S / (2.0 * FAR_END_MOVE_M)
-        });
+
     let mut findings = Vec::new();
     let mut behind = 0usize;
     for ch in &changes {
@@ -640,15 +680,17 @@ pub fn compare(
         } else {
             0.0
         };
-        findings.push(explain_change(
-            ch,
-            &pa,
-            &fit,
-            same_state,
-            f_ref,
-            extra,
-            &mut engine,
-        )?);
+        let mut f = explain_change(ch, &pa, &fit, same_state, f_ref, extra, &mut engine)?;
+        if at_end && (moved || kind_flip) {
+            let dt = far_end
+                .as_ref()
+                .and_then(|e| e.delay_change_s)
+                .unwrap_or(0.0);
+            f.changed_reflection = f
+                .changed_reflection
+                .max(moved_reflection(ch.mag_c, dt, kind_flip, f_ref));
+        }
+        findings.push(f);
     }
     if behind > 0 {
         warnings.push(Warning::new(
@@ -682,6 +724,11 @@ pub fn compare(
             ),
             "mend the open or short first, then sweep again",
         ));
+    }
+    if !kind_flip {
+        if let Some(dt) = far_end.as_ref().and_then(|f| f.delay_change_s) {
+            explain_far_end_move(&mut findings, 2.0 * std::f64::consts::PI * f_ref * dt.abs());
+        }
     }
     rank(&mut findings);
     let power = power_check(
