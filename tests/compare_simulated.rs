@@ -90,6 +90,44 @@ fn healthy_line_warm_to_cold_has_nothing_above_info() {
     );
 }
 
+/// The healthy cooldown seen through an amplifier in front of the line: the whole reflection scaled by its
+/// round-trip gain, 36 dB warm and 40 dB cold with a gentle tilt across the band (|S11| well above 1 at the
+/// far end), the states given and inferred. A gain change is a level change of the whole trace (the
+/// report's `alignment.level_change_db`), not a finding.
+#[test]
+fn an_amplifiers_gain_change_is_a_level_not_a_finding() {
+    let l = line();
+    let through = |mut n: coldtrace::Network, gain_db: f64, tilt_db: f64| {
+        let (f0, f1) = (n.freqs_hz[0], n.freqs_hz[n.len() - 1]);
+        let freqs = n.freqs_hz.clone();
+        for (s, f) in n.s.iter_mut().zip(&freqs) {
+            let g = gain_db + tilt_db * (f - f0) / (f1 - f0);
+            *s *= 10f64.powf(g / 20.0);
+        }
+        n
+    };
+    let base = through(sim(&l, State::Warm, &[], 21), 36.0, -1.0);
+    let cur = through(sim(&l, State::Cold, &[], 22), 40.0, -1.5);
+    assert!(cur.s11().iter().any(|g| g.norm() > 1.0), "the sweep should read above 1");
+    let r = run(&l, State::Warm, State::Cold, &base, &cur);
+    assert!(serious(&r).is_empty(), "{:?}", serious(&r));
+    assert!(
+        (r.alignment.level_change_db - 4.0).abs() < 1.0,
+        "level change {} dB",
+        r.alignment.level_change_db
+    );
+    let inferred = coldtrace::compare::job::compare_networks(&coldtrace::compare::job::PairRequest {
+        baseline: ("baseline", &base),
+        current: ("current", &cur),
+        line: coldtrace::compare::job::LineModel::Line(&l),
+        baseline_state: None,
+        current_state: None,
+        analysis: &AnalysisConfig::default(),
+    })
+    .unwrap();
+    assert!(serious(&inferred).is_empty(), "{:?}", serious(&inferred));
+}
+
 /// Two cold sweeps of the test chain, before and after, compared.
 fn cold_pair(l: &Line, before: &[&str], after: &[&str], seed: u64) -> CompareReport {
     let base = sim(l, State::Cold, before, seed);
