@@ -108,7 +108,10 @@ fn an_amplifiers_gain_change_is_a_level_not_a_finding() {
     };
     let base = through(sim(&l, State::Warm, &[], 21), 36.0, -1.0);
     let cur = through(sim(&l, State::Cold, &[], 22), 40.0, -1.5);
-    assert!(cur.s11().iter().any(|g| g.norm() > 1.0), "the sweep should read above 1");
+    assert!(
+        cur.s11().iter().any(|g| g.norm() > 1.0),
+        "the sweep should read above 1"
+    );
     let r = run(&l, State::Warm, State::Cold, &base, &cur);
     assert!(serious(&r).is_empty(), "{:?}", serious(&r));
     assert!(
@@ -116,15 +119,16 @@ fn an_amplifiers_gain_change_is_a_level_not_a_finding() {
         "level change {} dB",
         r.alignment.level_change_db
     );
-    let inferred = coldtrace::compare::job::compare_networks(&coldtrace::compare::job::PairRequest {
-        baseline: ("baseline", &base),
-        current: ("current", &cur),
-        line: coldtrace::compare::job::LineModel::Line(&l),
-        baseline_state: None,
-        current_state: None,
-        analysis: &AnalysisConfig::default(),
-    })
-    .unwrap();
+    let inferred =
+        coldtrace::compare::job::compare_networks(&coldtrace::compare::job::PairRequest {
+            baseline: ("baseline", &base),
+            current: ("current", &cur),
+            line: coldtrace::compare::job::LineModel::Line(&l),
+            baseline_state: None,
+            current_state: None,
+            analysis: &AnalysisConfig::default(),
+        })
+        .unwrap();
     assert!(serious(&inferred).is_empty(), "{:?}", serious(&inferred));
 }
 
