@@ -68,7 +68,8 @@ pub struct Change {
     /// Phase turn of the response, current against baseline, degrees (paired echoes only).
     pub phase_deg: f64,
     /// The complex change of the response relative to the baseline's, net of the calibration's level:
-    /// |G_c / (G_b g) - 1| with g the expected amplitude ratio (paired echoes only; 0 otherwise). In one state
+    /// |G_c / (G_b g) - 1| with g the expected amplitude ratio, the nearest edge of `expected_db` (paired
+    /// echoes only; 0 otherwise). In one state
     /// it catches what adds at right angles to an echo (a contact's resistance on a connector's capacitance),
     /// which barely moves the strength.
     pub vector_change: f64,
@@ -104,6 +105,10 @@ pub const CHANGE_DB: f64 = 3.0;
 /// them by some tens of degrees at most, |e^{j 40 deg} - 1| = 0.68 (common practice, no source).
 pub const VECTOR_CHANGE_ACROSS_STATES: f64 = 0.8;
 pub const ACROSS_STATES_SNR: f64 = 100.0;
+
+/// Widest interval of explained strength changes, dB, where phases still compare across a change of state
+/// (common practice, no source).
+pub const ACROSS_STATES_INTERVAL_DB: f64 = 1.0;
 
 /// Reflection from which an echo is a component's (a switch, a filter, an amplifier's input, a device of
 /// the line) rather than a joint's: 0.1 (-20 dB); a good joint of 0.086-in coax reflects a few per cent at
@@ -167,7 +172,7 @@ impl Change {
             };
             return (self.phase_deg.abs() / PHASE_CHANGE_DEG).max(vector);
         }
-        if self.snr > ACROSS_STATES_SNR && self.base_level < COMPONENT_REFLECTION {
+        if self.phases_compare(false) {
             return self.vector_change / VECTOR_CHANGE_ACROSS_STATES;
         }
         0.0
@@ -181,7 +186,12 @@ impl Change {
         } else {
             ACROSS_STATES_SNR
         };
-        self.base.is_some() && self.base_level < COMPONENT_REFLECTION && self.snr > snr
+        // Across a change of state, only where the calibration is sure of the strength: behind a capped
+        // compensation or a changed joint the model's error of the loss, and of the dispersion that comes
+        // with it, turns the phase too.
+        let sure =
+            same_state || self.expected_db.1 - self.expected_db.0 <= ACROSS_STATES_INTERVAL_DB;
+        self.base.is_some() && self.base_level < COMPONENT_REFLECTION && self.snr > snr && sure
     }
 
     /// Whether it may be reported above info at all.
@@ -423,15 +433,6 @@ pub fn changes(inp: &Inputs) -> Vec<Change> {
         let cal = fit.expected_change_db(ch.x);
         let caps = cap_interval_db(inp, ch.x);
         ch.expected_db = (cal + caps.0 + shadow.0, cal + caps.1 + shadow.1);
-        if let Some((level_b, _)) = ch.base {
-            // The strengths (each compensated at its own place) with the phase turn between them, against
-            // the baseline's strength moved by the calibration.
-            let g = level_b * 10f64.powf(cal / 20.0);
-            if g > 0.0 {
-                let ratio = Complex64::from_polar(ch.mag_c / g, ch.phase_deg.to_radians());
-                ch.vector_change = (ratio - 1.0).norm();
-            }
-        }
         ch.excess_db = if ch.raw_change_db < ch.expected_db.0 {
             ch.raw_change_db - ch.expected_db.0
         } else if ch.raw_change_db > ch.expected_db.1 {
@@ -439,6 +440,13 @@ pub fn changes(inp: &Inputs) -> Vec<Change> {
         } else {
             0.0
         };
+        if ch.base.is_some() {
+            // The strength's change beyond what the calibration explains (the nearest edge of its interval),
+            // with the phase turn between the two responses.
+            let ratio =
+                Complex64::from_polar(10f64.powf(ch.excess_db / 20.0), ch.phase_deg.to_radians());
+            ch.vector_change = (ratio - 1.0).norm();
+        }
         if ch.claimable() && ch.excess_db.abs() >= CHANGE_DB {
             // This joint's own change, net of the calibration, shadows what lies behind it. Levels are read
             // as reflections of at most SHADOW_MAX_REFLECTION (a compensated level near 1 is a termination's,
