@@ -67,12 +67,6 @@ pub struct Change {
     pub excess_db: f64,
     /// Phase turn of the response, current against baseline, degrees (paired echoes only).
     pub phase_deg: f64,
-    /// The complex change of the response relative to the baseline's, net of the calibration's level:
-    /// |G_c / (G_b g) - 1| with g the expected amplitude ratio, the nearest edge of `expected_db` (paired
-    /// echoes only; 0 otherwise). In one state
-    /// it catches what adds at right angles to an echo (a contact's resistance on a connector's capacitance),
-    /// which barely moves the strength.
-    pub vector_change: f64,
     pub zone: Zone,
     pub ghost: bool,
     /// True for the far end's own echo when the same open or short terminates both sweeps.
@@ -137,7 +131,23 @@ impl Change {
     /// calibration explains, or, both sweeps in one state, its phase turned by [`PHASE_CHANGE_DEG`] or more.
     pub fn changed(&self, same_state: bool) -> bool {
         self.excess_db.abs() >= self.threshold_db(same_state)
-            || self.one_state_significance(same_state) >= 1.0
+            || self.complex_significance(same_state) >= 1.0
+    }
+
+    /// The complex change of the response relative to the baseline's, net of the calibration's level:
+    /// |G_c / (G_b g) - 1| with g the expected amplitude ratio, the nearest edge of `expected_db` (so the
+    /// strength enters by `excess_db`), turned by `phase_deg`; 0 for an echo with no partner. It catches what
+    /// adds at right angles to an echo (a contact's resistance on a connector's capacitance), which barely
+    /// moves the strength.
+    pub fn vector_change(&self) -> f64 {
+        if self.base.is_none() {
+            return 0.0;
+        }
+        (Complex64::from_polar(
+            10f64.powf(self.excess_db / 20.0),
+            self.phase_deg.to_radians(),
+        ) - 1.0)
+            .norm()
     }
 
     /// The strength change that counts as a change here: [`CHANGE_DB`], or across a change of state
@@ -155,7 +165,7 @@ impl Change {
     /// for a joint's echo well over the noise, the relative complex change over
     /// [`VECTOR_CHANGE_ACROSS_STATES`]; 0 for an echo with no partner, a component's across a change of
     /// state, or one too close to the noise for its phase to mean anything.
-    pub fn one_state_significance(&self, same_state: bool) -> f64 {
+    pub fn complex_significance(&self, same_state: bool) -> f64 {
         if self.base.is_none() {
             return 0.0;
         }
@@ -166,14 +176,14 @@ impl Change {
             // A component's response has structure of its own (resonances, its neighbours' skirts): only
             // its phase turn counts.
             let vector = if self.base_level < COMPONENT_REFLECTION {
-                self.vector_change / VECTOR_CHANGE
+                self.vector_change() / VECTOR_CHANGE
             } else {
                 0.0
             };
             return (self.phase_deg.abs() / PHASE_CHANGE_DEG).max(vector);
         }
         if self.phases_compare(false) {
-            return self.vector_change / VECTOR_CHANGE_ACROSS_STATES;
+            return self.vector_change() / VECTOR_CHANGE_ACROSS_STATES;
         }
         0.0
     }
@@ -384,7 +394,6 @@ pub fn changes(inp: &Inputs) -> Vec<Change> {
             expected_db: (0.0, 0.0),
             excess_db: 0.0,
             phase_deg,
-            vector_change: 0.0,
             zone: Zone::Line,
             ghost: ec.ghost_of.is_some()
                 || pair.is_some_and(|(i, _)| b.events[i].ghost_of.is_some()),
@@ -413,7 +422,6 @@ pub fn changes(inp: &Inputs) -> Vec<Change> {
             expected_db: (0.0, 0.0),
             excess_db: 0.0,
             phase_deg: (hc / b.h(eb.delay_s)).arg().to_degrees(),
-            vector_change: 0.0,
             zone: Zone::Line,
             ghost: eb.ghost_of.is_some(),
             same_termination: false,
@@ -440,13 +448,6 @@ pub fn changes(inp: &Inputs) -> Vec<Change> {
         } else {
             0.0
         };
-        if ch.base.is_some() {
-            // The strength's change beyond what the calibration explains (the nearest edge of its interval),
-            // with the phase turn between the two responses.
-            let ratio =
-                Complex64::from_polar(10f64.powf(ch.excess_db / 20.0), ch.phase_deg.to_radians());
-            ch.vector_change = (ratio - 1.0).norm();
-        }
         if ch.claimable() && ch.excess_db.abs() >= CHANGE_DB {
             // This joint's own change, net of the calibration, shadows what lies behind it. Levels are read
             // as reflections of at most SHADOW_MAX_REFLECTION (a compensated level near 1 is a termination's,
@@ -513,8 +514,8 @@ fn flank_changes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
     let knots: Vec<[f64; 3]> = (0..n.div_ceil(FLANK_STRIDE) + 1)
         .map(|k| knot((k * FLANK_STRIDE).min(n.saturating_sub(1))))
         .collect();
-    // (bin, rise dB, amplitude excess)
-    let mut rise: Vec<Option<(usize, f64, f64)>> = vec![None; n];
+    // Per bin: (rise dB, amplitude excess).
+    let mut rise: Vec<Option<(f64, f64)>> = vec![None; n];
     for (i, &m_c) in c.mag.iter().enumerate() {
         let d_c = i as f64 * c.dt;
         if d_c >= ALIAS_EDGE * alias {
@@ -539,7 +540,7 @@ fn flank_changes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
         let level_b = b_max.max(NOISE_SIGMAS * b.sigma_at(d_b));
         let r = db(m_c) - db(level_b) - cal;
         if r >= FLANK_RISE_DB {
-            rise[i] = Some((i, r, m_c - level_b * 10f64.powf(cal / 20.0)));
+            rise[i] = Some((r, m_c - level_b * 10f64.powf(cal / 20.0)));
         }
     }
     let mut out = Vec::new();
@@ -553,11 +554,9 @@ fn flank_changes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
         while k < rise.len() && rise[k].is_some() {
             k += 1;
         }
-        let Some((i, _, _)) = rise[start..k]
-            .iter()
-            .flatten()
-            .copied()
-            .max_by(|p, q| p.2.total_cmp(&q.2))
+        let Some((i, (rise_db, _))) = (start..k)
+            .filter_map(|i| rise[i].map(|r| (i, r)))
+            .max_by(|p, q| p.1 .1.total_cmp(&q.1 .1))
         else {
             continue;
         };
@@ -578,8 +577,7 @@ fn flank_changes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
         let x = fit.chain.position_of(d_c, Which::Current, None);
         let d_b = fit.chain.delay_to(x, Which::Baseline, None);
         let hb = b.h(d_b);
-        let base_level =
-            (db(c.mag[i]) - rise[i].map_or(0.0, |r| r.1) - fit.expected_change_db(x)).max(-400.0);
+        let base_level = (db(c.mag[i]) - rise_db - fit.expected_change_db(x)).max(-400.0);
         let base_level = 10f64.powf(base_level / 20.0);
         out.push(Change {
             x,
@@ -592,7 +590,6 @@ fn flank_changes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
             expected_db: (0.0, 0.0),
             excess_db: 0.0,
             phase_deg: 0.0,
-            vector_change: 0.0,
             zone: Zone::Line,
             ghost: false,
             same_termination: false,
@@ -609,7 +606,6 @@ mod tests {
 
     /// A paired echo of strength `base` in the baseline, `cur` now, its phase turned by `deg`, at `snr`.
     fn paired(base: f64, cur: f64, deg: f64, snr: f64) -> Change {
-        let rel = Complex64::from_polar(cur / base, deg.to_radians());
         Change {
             x: 1.0,
             d_c: 1e-8,
@@ -621,7 +617,6 @@ mod tests {
             expected_db: (0.0, 0.0),
             excess_db: db(cur) - db(base),
             phase_deg: deg,
-            vector_change: (rel - 1.0).norm(),
             zone: Zone::Line,
             ghost: false,
             same_termination: false,
@@ -638,9 +633,9 @@ mod tests {
         assert!(ch.changed(true), "{ch:?}");
         // Across a change of state the same turn is within what the dispersion's residue allows.
         assert!(
-            (ch.vector_change - 0.715).abs() < 0.001,
+            (ch.vector_change() - 0.715).abs() < 0.001,
             "{}",
-            ch.vector_change
+            ch.vector_change()
         );
         assert!(!ch.changed(false), "{ch:?}");
         // Too close to the noise for its phase to mean anything: no.

@@ -15,9 +15,9 @@
 //! Decision rules (named constants, documented in docs/method.md): a change counts when the strength of an
 //! echo moved by [`CHANGE_DB`] beyond what the calibration explains, or (one state) its phase turned by
 //! [`PHASE_CHANGE_DEG`] or its complex response changed by [`VECTOR_CHANGE`] of itself, or the trace rose by
-//! [`FLANK_RISE_DB`] where no echo of its own formed; only changes on the visible line, in front of an open or short far end, clear of the
-//! alias edge and not likely multiple reflections are reported above info; the far end's own open or short,
-//! already one in the baseline, is never a new open or short.
+//! [`FLANK_RISE_DB`] where no echo of its own formed; only changes on the visible line, in front of an open
+//! or short far end, clear of the alias edge and not likely multiple reflections are reported above info;
+//! the far end's own open or short, already one in the baseline, is never a new open or short.
 
 use super::analysis::SweepAnalysis;
 use super::chain::{ChainView, SegmentKind, Which};
@@ -340,7 +340,7 @@ pub fn explain_change(
     }
     let total_kind = matches!(kind, FaultKind::Open | FaultKind::Short);
     let mut severity = Severity::from_drop_db(hi);
-    if total_kind && !ch.was_total && (rising || ch.one_state_significance(same_state) >= 1.0) {
+    if total_kind && !ch.was_total && (rising || ch.complex_significance(same_state) >= 1.0) {
         severity = Severity::Critical;
     }
     if ch.was_total {
@@ -406,14 +406,14 @@ pub fn explain_change(
         model,
         likely_ghost: ch.ghost,
         changed_reflection: if ch.phases_compare(same_state) {
-            ch.vector_change
+            ch.vector_change()
                 * ch.base_level
                 * 10f64.powf(0.5 * (ch.expected_db.0 + ch.expected_db.1) / 20.0)
         } else {
             ch.mag_c * (1.0 - 10f64.powf(-change_db / 20.0)).abs()
         },
         significance: (ch.excess_db.abs() / ch.threshold_db(same_state))
-            .max(ch.one_state_significance(same_state))
+            .max(ch.complex_significance(same_state))
             .max(extra_significance),
         zone: if ch.same_termination || ch.was_total {
             "far-end"
@@ -512,21 +512,15 @@ fn far_end_report(
             0.0
         } else {
             let res = pa.b.resolution_s.max(pa.c.resolution_s);
-            let last = fit
-                .landmark_delays_s
-                .iter()
-                .map(|p| p.0)
-                .filter(|&tb_l| tb_l < tb.delay_s - 2.0 * res)
-                .fold(0.0f64, f64::max);
-            stretch = tb.delay_s - last;
-            let res = pa.b.resolution_s.max(pa.c.resolution_s);
             let front: Vec<(f64, f64)> = fit
                 .landmark_delays_s
                 .iter()
                 .copied()
                 .filter(|(tb_l, _)| *tb_l < tb.delay_s - 2.0 * res)
                 .collect();
-            match front.iter().copied().max_by(|p, q| p.0.total_cmp(&q.0)) {
+            let last = front.iter().copied().max_by(|p, q| p.0.total_cmp(&q.0));
+            stretch = tb.delay_s - last.map_or(0.0, |p| p.0);
+            match last {
                 Some((tb_l, tc_l)) => {
                     let (num, den) = front.iter().filter(|p| p.0 < tb_l).fold(
                         (0.0, 0.0),
