@@ -88,20 +88,16 @@ pub fn find_events(
         .zip(gain)
         .map(|(m, g)| m / g.max(1e-300))
         .collect();
+    let local_max = |v: &[f64], i: usize| {
+        let left = if i == 0 { f64::NEG_INFINITY } else { v[i - 1] };
+        let right = v.get(i + 1).copied().unwrap_or(f64::NEG_INFINITY);
+        v[i] >= left && v[i] > right
+    };
+    // A peak of what the analyzer measured, or of the compensated trace. Where the compensation steps up (an
+    // attenuator) an echo just in front of the step is no maximum of the compensated trace, whose flank
+    // behind the step is lifted above it; the measured trace keeps the echo's own peak.
     let mut cands: Vec<usize> = (0..mag.len())
-        .filter(|&i| {
-            let left = if i == 0 {
-                f64::NEG_INFINITY
-            } else {
-                mag[i - 1]
-            };
-            let right = if i + 1 == mag.len() {
-                f64::NEG_INFINITY
-            } else {
-                mag[i + 1]
-            };
-            raw[i] > floor && mag[i] >= left && mag[i] > right
-        })
+        .filter(|&i| raw[i] > floor && (local_max(&raw, i) || local_max(mag, i)))
         .collect();
     // Strongest first in the uncompensated domain: precedence between neighbours is decided by what the
     // analyzer measured, not by how much a neighbour was lifted.
@@ -110,12 +106,27 @@ pub fn find_events(
     let mut accepted: Vec<Peak> = Vec::new();
     let mut accepted_raw: Vec<f64> = Vec::new();
     for i in cands {
-        let (delay, m) = refine(mag, i, t0, dt);
-        let m_raw = m / gain[i].max(1e-300);
+        // Placed on the measured trace where it peaks (the shape of an echo is the window's there), on the
+        // compensated one otherwise.
+        let (delay, m_raw) = if local_max(&raw, i) {
+            refine(&raw, i, t0, dt)
+        } else {
+            let (d, m) = refine(mag, i, t0, dt);
+            (d, m / gain[i].max(1e-300))
+        };
+        let m = m_raw * gain[i];
         let mut threshold = floor;
         let mut masked = false;
+        // A peak of the compensated trace only (the measured one still falls there) is a stronger echo's
+        // flank lifted by a step of the compensation, unless it stands clear of that echo's main lobe by as
+        // much again.
+        let reach = if local_max(&raw, i) {
+            lobe.main_lobe_half_s
+        } else {
+            2.0 * lobe.main_lobe_half_s
+        };
         for (p, &p_raw) in accepted.iter().zip(&accepted_raw) {
-            if (delay - p.delay_s).abs() < lobe.main_lobe_half_s {
+            if (delay - p.delay_s).abs() < reach {
                 masked = true;
                 break;
             }

@@ -7,7 +7,7 @@
 //! lies outside it (0 inside).
 
 use super::analysis::SweepAnalysis;
-use super::chain::{ChainView, Which};
+use super::chain::{ChainView, SegmentKind, Which};
 use super::detect::NOISE_SIGMAS;
 use super::far_end::{Termination, ALIAS_EDGE};
 use super::landmarks::{match_events, Fitted, MODEL_LOSS_ERROR};
@@ -228,6 +228,8 @@ pub struct Inputs<'a> {
     pub c: &'a SweepAnalysis,
     pub fit: &'a Fitted,
     pub far: &'a FarEnds,
+    /// Places of the joints the baseline showed, on which the chain was anchored, m.
+    pub anchors_m: &'a [f64],
 }
 
 impl Inputs<'_> {
@@ -275,6 +277,22 @@ pub fn cap_shortfall_db(chain: &ChainView, x: f64, f: f64, which: Which) -> f64 
 /// wrong (a joint turned into a near-open rises by 20 dB or more; common practice, no source).
 pub const CAPPED_MODEL_ERROR_DB: f64 = 12.0;
 
+/// How far, in resolution cells, an echo must stand from an attenuator's middle, besides the model's error
+/// since the nearest landmark, to be taken as lying on its side of the attenuator when echoes are paired:
+/// echoes are placed to a small fraction of a cell (common practice, no source).
+pub const PAIR_CLEAR_CELLS: f64 = 0.25;
+
+/// Share of the delay from the nearest landmark by which the cold model may misplace an echo: about half
+/// the physical range of a PTFE line's warm-to-cold change of electrical length
+/// ([`super::landmarks::WARM_TO_COLD_CHANGE`], 1.2 %), which a model of the cooldown gets half right at worst
+/// (common practice, no source).
+pub const COLD_DELAY_ERROR: f64 = 0.005;
+
+/// Share of an attenuator's round-trip loss its warm or cold value may be off from the line file's: a chip
+/// attenuator is specified to a few tenths of a dB and moves little on cooling, unlike a cable's conductor
+/// loss (common practice, no source).
+pub const ATTENUATOR_LOSS_ERROR: f64 = 0.1;
+
 /// Share of the band left out at each edge when the caps' shortfalls are compared: the band-pass window
 /// weighs the edges down (Kaiser beta 9 a quarter of the band in from its edge is at I0(9 sqrt(0.75)) / I0(9) =
 /// 0.32 of its peak; from the window's definition), so an echo's strength comes from the inner half.
@@ -289,7 +307,8 @@ const CAP_PROBES: usize = 9;
 /// top): the least and the most of the two shortfalls' difference over the band bound it.
 ///
 /// Where a sweep's compensation stopped at its cap somewhere in the band, the line in front of `x` is
-/// lossy enough that the model's error of that loss ([`MODEL_LOSS_ERROR`] of it, at the band centre) is no
+/// lossy enough that the model's error of that loss ([`MODEL_LOSS_ERROR`] of the cables' part at the band
+/// centre, [`ATTENUATOR_LOSS_ERROR`] of the attenuators') is no
 /// longer small next to a change: that sweep's reading is a lower bound, and the interval widens by that
 /// error on its side. (In one state both sweeps share the model, and the error cancels.)
 fn cap_interval_db(inp: &Inputs, x: f64) -> (f64, f64) {
@@ -311,7 +330,9 @@ fn cap_interval_db(inp: &Inputs, x: f64) -> (f64, f64) {
     let f_c = 0.5 * (f0 + f1);
     let capped = |which: Which| cap_shortfall_db(inp.chain, x, f1, which) > 0.0;
     let model_error = |which: Which| {
-        (MODEL_LOSS_ERROR * inp.chain.loss_to_db(x, f_c, which)).min(CAPPED_MODEL_ERROR_DB)
+        let m = inp.chain.loss_model_to(x, which);
+        (MODEL_LOSS_ERROR * (m.db(f_c) - m.a_flat) + ATTENUATOR_LOSS_ERROR * m.a_flat)
+            .min(CAPPED_MODEL_ERROR_DB)
     };
     let one_model = (inp.chain.loss_to_db(x, f_c, Which::Baseline)
         - inp.chain.loss_to_db(x, f_c, Which::Current))
@@ -335,12 +356,36 @@ pub fn changes(inp: &Inputs) -> Vec<Change> {
     let res_s = b.resolution_s.max(c.resolution_s);
     let to_x_b = |d: f64| fit.chain.position_of(d, Which::Baseline, None);
     let to_x_c = |d: f64| fit.chain.position_of(d, Which::Current, None);
+    // An echo in front of an attenuator and one behind it are two joints, however close: never one pair,
+    // once each stands clear of the attenuator's middle by more than its place could be off (a quarter cell,
+    // and the cold model's error over the distance from the nearest landmark).
+    let steps: Vec<f64> = inp
+        .chain
+        .segments
+        .iter()
+        .filter(|s| s.kind == SegmentKind::Attenuator)
+        .map(|s| 0.5 * (s.start_m + s.end_m))
+        .collect();
+    // The baseline is placed by the joints it showed (the anchors), the current through the landmarks the
+    // alignment paired.
+    let margin = |x: f64, known: &[f64]| {
+        let from = known.iter().map(|l| (l - x).abs()).fold(x.abs(), f64::min);
+        let res_m = res_s * super::place::speed_at(&fit.chain, x, Which::Current);
+        PAIR_CLEAR_CELLS * res_m + COLD_DELAY_ERROR * from
+    };
+    let apart = |xb: f64, xc: f64| {
+        steps.iter().any(|&m| {
+            (xb - m) * (xc - m) < 0.0
+                && (xb - m).abs() > margin(xb, inp.anchors_m)
+                && (xc - m).abs() > margin(xc, &fit.report.landmarks_m)
+        })
+    };
     let mut pairs = match_events(
         b,
         c,
         |d| fit.chain.delay_to(to_x_b(d), Which::Current, None),
         |_| res_s,
-        |_, _| true,
+        |i, j| !apart(to_x_b(b.events[i].delay_s), to_x_c(c.events[j].delay_s)),
     );
     // The far end is the far end in both sweeps, however far the cold line moved it: pair it outright.
     if let (Some(tb), Some(tc)) = (&inp.far.baseline, &inp.far.current) {
@@ -566,10 +611,12 @@ fn flank_changes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
             .any(|h| (h.d_c - d_c).abs() < FLANK_CLEARANCE_CELLS * res_s);
         // In the skirt of an echo that itself rose, far stronger than this: that echo's change, spread by
         // what the compensation leaves of the line's dispersion, not a reflection of its own.
+        // Strengths as measured, before compensation: a step of it (an attenuator) between the echo and
+        // the flank lifts the flank alone.
         let skirt = have.iter().any(|h| {
             (h.d_c - d_c).abs() < FLANK_SKIRT_CELLS * res_s
                 && h.raw_change_db >= CHANGE_DB
-                && db(h.mag_c) - db(c.mag[i]) >= FLANK_SKIRT_DB
+                && db(h.mag_c / c.gain_at(h.d_c)) - db(c.mag[i] / c.gain[i]) >= FLANK_SKIRT_DB
         });
         if near || skirt {
             continue;

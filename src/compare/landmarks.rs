@@ -6,7 +6,7 @@ use super::align::{AlignProblem, SegmentAlignment, LOSS_PRIOR_SIGMA_DB};
 use super::analysis::SweepAnalysis;
 use super::chain::{ChainView, Which};
 use super::far_end::ALIAS_EDGE;
-use super::place::speed_at;
+use super::place::{speed_at, LOCATION_FLOOR_CELLS};
 use super::report::Alignment;
 use super::sweep::db;
 
@@ -371,7 +371,11 @@ pub(super) fn fit_alignment(
         .map(|&(i, j)| {
             let sb = b.resolution_s / (2.0 * b.snr(b.events[i].magnitude, b.events[i].delay_s));
             let sc = c.resolution_s / (2.0 * c.snr(c.events[j].magnitude, c.events[j].delay_s));
-            (sb * sb + sc * sc).sqrt()
+            // However strong the echo, its peak is placed no better than the floor of a located position
+            // (the window's asymmetry and a reflection's own phase slope): an echo a few millimetres from the
+            // reference plane must not set the scale of the whole cable in front of the next landmark.
+            let floor = LOCATION_FLOOR_CELLS * b.resolution_s.max(c.resolution_s);
+            (sb * sb + sc * sc + floor * floor).sqrt()
         })
         .collect();
     let sigma_s = if sig.is_empty() {

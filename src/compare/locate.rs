@@ -19,7 +19,16 @@ pub fn locate(
     let f = &sweep.network.freqs_hz;
     let chain = sized(chain, &[f]);
     let mut engine = TraceEngine::new();
-    let a = analyse(&sweep, &chain, cfg, Which::Current, &mut engine)?;
+    let mut a = analyse(&sweep, &chain, cfg, Which::Current, &mut engine)?;
+    // Positions in the line file's terms: its joints pinned where the sweep shows them.
+    let anchors = super::anchor::find(&chain, &a, Which::Current);
+    let chain = if anchors.is_empty() {
+        chain
+    } else {
+        let anchored = super::anchor::anchored(&chain, &anchors, Which::Current);
+        a = analyse(&sweep, &anchored, cfg, Which::Current, &mut engine)?;
+        anchored
+    };
     let f_ref = cfg.reference_hz.unwrap_or_else(|| band_centre(f));
     let f_c = band_centre(f);
     let mut warnings = a.warnings.clone();

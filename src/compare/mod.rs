@@ -8,6 +8,7 @@
 
 pub mod align;
 pub mod analysis;
+pub mod anchor;
 pub mod chain;
 pub mod detect;
 pub mod difference;

@@ -63,6 +63,8 @@ pub struct PairAnalysis {
     pub far: FarEnds,
     /// True when a line of unknown construction was compensated with the loss its far end shows.
     pub loss_from_far_end: bool,
+    /// Places of the line file's joints that the baseline showed and the chain was anchored on, m.
+    pub anchors_m: Vec<f64>,
 }
 
 /// Stage 1: analyse both sweeps and find their far ends. On a line of unknown construction whose far end is
@@ -81,6 +83,12 @@ pub fn analyse_pair(
         &[&baseline.network.freqs_hz, &current.network.freqs_hz],
     );
     let mut b = analyse(baseline, &chain, cfg, Which::Baseline, engine)?;
+    // The line file's joints pinned where the baseline shows them, and the baseline analysed again on them.
+    let anchors = super::anchor::find(&chain, &b, Which::Baseline);
+    if !anchors.is_empty() {
+        chain = super::anchor::anchored(&chain, &anchors, Which::Baseline);
+        b = analyse(baseline, &chain, cfg, Which::Baseline, engine)?;
+    }
     let mut c = analyse(current, &chain, cfg, Which::Current, engine)?;
     let mut far = FarEnds {
         baseline: far_end::find(&b, &chain, Which::Baseline, engine)?,
@@ -127,6 +135,7 @@ pub fn analyse_pair(
         c,
         far,
         loss_from_far_end,
+        anchors_m: anchors.iter().map(|a| a.position_m).collect(),
     })
 }
 
@@ -638,6 +647,7 @@ pub fn compare(
         c: &pa.c,
         fit: &fit,
         far: &pa.far,
+        anchors_m: &pa.anchors_m,
     });
     let same_state = h.same_state();
     let far_end = far_end_report(&pa, &fit, same_state, &mut engine)?;
