@@ -12,6 +12,7 @@ use super::detect::NOISE_SIGMAS;
 use super::far_end::{Termination, ALIAS_EDGE};
 use super::landmarks::{match_events, Fitted, MODEL_LOSS_ERROR};
 use super::sweep::db;
+use crate::transform::TraceEngine;
 use num_complex::Complex64;
 
 /// Where on the record an echo lies, and so what may be claimed of it.
@@ -311,22 +312,40 @@ const CAP_PROBES: usize = 9;
 /// centre, [`ATTENUATOR_LOSS_ERROR`] of the attenuators') is no
 /// longer small next to a change: that sweep's reading is a lower bound, and the interval widens by that
 /// error on its side. (In one state both sweeps share the model, and the error cancels.)
-fn cap_interval_db(inp: &Inputs, x: f64) -> (f64, f64) {
+///
+/// With `spectrum`, the echo's own strength across the band as the current sweep shows it (frequency and
+/// window-weighted compensated |Gamma|), the caps' difference is not bounded but weighed by it: if nothing
+/// changed, the baseline shows the same reflection less its own shortfall, and the two band-weighted sums
+/// give the change the caps alone make.
+fn cap_interval_db(inp: &Inputs, x: f64, spectrum: Option<&[(f64, f64)]>) -> (f64, f64) {
     let (fa, fb) = (inp.c.freqs[0], inp.c.freqs[inp.c.freqs.len() - 1]);
     // The window weighs the band's edges down: an echo's strength comes from its inner part.
     let (f0, f1) = (
         fa + CAP_BAND_EDGE * (fb - fa),
         fb - CAP_BAND_EDGE * (fb - fa),
     );
-    let (mut lo, mut hi) = (0..CAP_PROBES)
-        .map(|k| {
-            let f = f0 + (f1 - f0) * k as f64 / (CAP_PROBES - 1) as f64;
-            cap_shortfall_db(inp.chain, x, f, Which::Baseline)
-                - cap_shortfall_db(inp.chain, x, f, Which::Current)
-        })
-        .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), d| {
-            (lo.min(d), hi.max(d))
-        });
+    let weighed = spectrum.and_then(|sp| {
+        let (mut num, mut den) = (0.0, 0.0);
+        for &(f, m) in sp {
+            let d = cap_shortfall_db(inp.chain, x, f, Which::Current)
+                - cap_shortfall_db(inp.chain, x, f, Which::Baseline);
+            num += m;
+            den += m * 10f64.powf(d / 20.0);
+        }
+        (num > 0.0 && den > 0.0).then(|| 20.0 * (num / den).log10())
+    });
+    let (mut lo, mut hi) = match weighed {
+        Some(e) => (e, e),
+        None => (0..CAP_PROBES)
+            .map(|k| {
+                let f = f0 + (f1 - f0) * k as f64 / (CAP_PROBES - 1) as f64;
+                cap_shortfall_db(inp.chain, x, f, Which::Baseline)
+                    - cap_shortfall_db(inp.chain, x, f, Which::Current)
+            })
+            .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), d| {
+                (lo.min(d), hi.max(d))
+            }),
+    };
     let f_c = 0.5 * (f0 + f1);
     let capped = |which: Which| cap_shortfall_db(inp.chain, x, f1, which) > 0.0;
     let model_error = |which: Which| {
@@ -479,12 +498,19 @@ pub fn changes(inp: &Inputs) -> Vec<Change> {
     out.sort_by(|p, q| p.x.total_cmp(&q.x));
     // Calibration and shadowing, front to back: a joint that got worse dims everything behind it.
     let mut shadow = (0.0f64, 0.0f64);
+    let mut engine = TraceEngine::new();
     for ch in &mut out {
         let res_m = res_s * super::place::speed_at(&fit.chain, ch.x, Which::Current);
         ch.zone = inp.zone(ch.x, ch.d_c, res_m);
         // Where compensation stopped at its cap, a sweep reads low by the loss it left undone.
         let cal = fit.expected_change_db(ch.x);
-        let caps = cap_interval_db(inp, ch.x);
+        // Where the caps' difference varies across the band, weigh it by the echo's own spectrum.
+        let spectrum = if cap_spread_db(inp, ch.x) > CAP_SPREAD_DB {
+            echo_spectrum(inp, ch, &mut engine)
+        } else {
+            None
+        };
+        let caps = cap_interval_db(inp, ch.x, spectrum.as_deref());
         ch.expected_db = (cal + caps.0 + shadow.0, cal + caps.1 + shadow.1);
         ch.excess_db = if ch.raw_change_db < ch.expected_db.0 {
             ch.raw_change_db - ch.expected_db.0
@@ -507,6 +533,46 @@ pub fn changes(inp: &Inputs) -> Vec<Change> {
         }
     }
     out
+}
+
+/// Spread of the caps' shortfall difference across the inner band, dB, beyond which a change's interval is
+/// weighed by its echo's own spectrum rather than bounded (common practice, no source).
+pub const CAP_SPREAD_DB: f64 = 1.0;
+
+/// How much the caps' shortfall difference varies across the inner band at `x`, dB.
+fn cap_spread_db(inp: &Inputs, x: f64) -> f64 {
+    let (fa, fb) = (inp.c.freqs[0], inp.c.freqs[inp.c.freqs.len() - 1]);
+    let (f0, f1) = (
+        fa + CAP_BAND_EDGE * (fb - fa),
+        fb - CAP_BAND_EDGE * (fb - fa),
+    );
+    let d: Vec<f64> = (0..CAP_PROBES)
+        .map(|k| {
+            let f = f0 + (f1 - f0) * k as f64 / (CAP_PROBES - 1) as f64;
+            cap_shortfall_db(inp.chain, x, f, Which::Baseline)
+                - cap_shortfall_db(inp.chain, x, f, Which::Current)
+        })
+        .collect();
+    d.iter().fold(f64::NEG_INFINITY, |a, &v| a.max(v))
+        - d.iter().fold(f64::INFINITY, |a, &v| a.min(v))
+}
+
+/// The echo of change `ch` across the band as the current sweep shows it: (frequency, window weight times
+/// its compensated |Gamma|), from its gated local reflection. `None` when the gate cannot be taken.
+fn echo_spectrum(inp: &Inputs, ch: &Change, engine: &mut TraceEngine) -> Option<Vec<(f64, f64)>> {
+    let c = inp.c;
+    let (f, g) = c
+        .local_reflection(ch.d_c, ch.x, inp.chain, Which::Current, engine)
+        .ok()?;
+    let n = c.freqs.len();
+    let skip = ((n as f64) * super::analysis::FIT_BAND_EDGE) as usize;
+    Some(
+        f.iter()
+            .zip(&g)
+            .enumerate()
+            .map(|(k, (&fk, gk))| (fk, c.window_w[skip + k] * gk.norm()))
+            .collect(),
+    )
 }
 
 /// Least rise of the current trace over the baseline's, beyond the calibration, that makes a stretch of the
@@ -553,7 +619,7 @@ fn flank_changes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
         let d_b = fit.chain.delay_to(x, Which::Baseline, None);
         let speed = super::place::speed_at(&fit.chain, x, Which::Current);
         let tol = FLANK_TOLERANCE_CELLS * res_s + 2.0 * fit.report.residual_m / speed.max(1.0);
-        let cal = fit.expected_change_db(x) + cap_interval_db(inp, x).1;
+        let cal = fit.expected_change_db(x) + cap_interval_db(inp, x, None).1;
         [d_b, tol, cal]
     };
     let knots: Vec<[f64; 3]> = (0..n.div_ceil(FLANK_STRIDE) + 1)
