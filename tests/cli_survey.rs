@@ -5,6 +5,16 @@
 use std::path::{Path, PathBuf};
 use std::process::{Command, Output};
 
+/// Fail with the command's standard error unless it exited with `code`.
+fn expect_code(o: &Output, code: i32) {
+    assert_eq!(
+        o.status.code(),
+        Some(code),
+        "{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+}
+
 fn bin() -> Command {
     let mut c = Command::new(env!("CARGO_BIN_EXE_coldtrace"));
     c.env_remove("COLDTRACE_DB");
@@ -28,12 +38,7 @@ fn the_demo_fleet_ranks_worst_first_with_compares_answers() {
         .args(["--json", "--jobs", "2"])
         .output()
         .unwrap();
-    assert_eq!(
-        o.status.code(),
-        Some(1),
-        "{}",
-        String::from_utf8_lossy(&o.stderr)
-    );
+    expect_code(&o, 1);
     assert!(
         o.stderr.is_empty(),
         "quiet with --json: {}",
@@ -133,12 +138,7 @@ fn a_broken_line_is_reported_in_its_row_and_the_run_carries_on() {
         .args(["--fail-on", "major"])
         .output()
         .unwrap();
-    assert_eq!(
-        o.status.code(),
-        Some(0),
-        "{}",
-        String::from_utf8_lossy(&o.stderr)
-    );
+    expect_code(&o, 0);
     assert!(String::from_utf8_lossy(&o.stdout).contains("north-fridge/out-03"));
 }
 
@@ -178,12 +178,7 @@ fn record_stores_each_current_sweep_once() {
             .arg(&db)
             .output()
             .unwrap();
-        assert_eq!(
-            o.status.code(),
-            Some(1),
-            "{}",
-            String::from_utf8_lossy(&o.stderr)
-        );
+        expect_code(&o, 1);
         let v = json(&o);
         assert!(v["lines"]
             .as_array()

@@ -87,6 +87,13 @@ pub enum HistoryError {
         #[source]
         source: rusqlite::Error,
     },
+    /// The database file or its folder could not be read or made.
+    #[error("{}: {source} (check that the path is right and its folder writable)", path.display())]
+    Io {
+        path: PathBuf,
+        #[source]
+        source: std::io::Error,
+    },
     /// A line the history does not know.
     #[error("{}: no records of line '{line}'{suggestion}; `coldtrace history list` shows the lines recorded", path.display())]
     UnknownLine {

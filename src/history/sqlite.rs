@@ -43,9 +43,9 @@ fn check_file(path: &Path) -> Result<bool, HistoryError> {
         Ok(f) => f,
         Err(e) if e.kind() == std::io::ErrorKind::NotFound => return Ok(false),
         Err(e) => {
-            return Err(HistoryError::Sqlite {
+            return Err(HistoryError::Io {
                 path: path.to_path_buf(),
-                source: rusqlite::Error::ToSqlConversionFailure(Box::new(e)),
+                source: e,
             })
         }
     };
@@ -86,9 +86,9 @@ impl SqliteStore {
         }
         if !exists {
             if let Some(dir) = path.parent().filter(|d| !d.as_os_str().is_empty()) {
-                std::fs::create_dir_all(dir).map_err(|e| HistoryError::Sqlite {
+                std::fs::create_dir_all(dir).map_err(|e| HistoryError::Io {
                     path: path.to_path_buf(),
-                    source: rusqlite::Error::ToSqlConversionFailure(Box::new(e)),
+                    source: e,
                 })?;
             }
         }
