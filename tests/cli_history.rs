@@ -310,8 +310,8 @@ fn a_record(sha: &str) -> NewRecord {
 /// Not a test on its own: the process `a_record_killed_mid_write_leaves_the_database_as_it_was` starts
 /// and kills inside a record's transaction.
 #[test]
-#[ignore = "a helper process of a_record_killed_mid_write_leaves_the_database_as_it_was"]
-fn helper_record_then_die() {
+#[ignore = "a child process of a_record_killed_mid_write_leaves_the_database_as_it_was"]
+fn child_record_then_die() {
     let db = std::env::var_os("COLDTRACE_TEST_KILL_DB").expect("started by the kill test");
     let mut store = SqliteStore::open(Path::new(&db), false).unwrap();
     let _ = store.insert_with(&a_record("killed"), || std::process::abort());
@@ -328,7 +328,7 @@ fn a_record_killed_mid_write_leaves_the_database_as_it_was() {
     let o = Command::new(std::env::current_exe().unwrap())
         .args([
             "--exact",
-            "helper_record_then_die",
+            "child_record_then_die",
             "--ignored",
             "--nocapture",
         ])
@@ -347,7 +347,7 @@ fn a_record_killed_mid_write_leaves_the_database_as_it_was() {
             String::from_utf8_lossy(&o.stderr)
         );
     }
-    assert!(!o.status.success(), "the helper must die mid-write");
+    assert!(!o.status.success(), "the child must die mid-write");
     assert_eq!(dump(&db), before, "the killed record left no trace");
     let c = rusqlite::Connection::open(&db).unwrap();
     let check: String = c

@@ -46,6 +46,7 @@ pub struct RecordOutcome {
     /// The baseline record the findings are against (`null`: the line has no baseline yet).
     pub compared_with: Option<i64>,
     pub worst_severity: Option<Severity>,
+    /// How many findings and landmark figures the record holds.
     pub findings: usize,
     pub landmarks: usize,
     pub warnings: Vec<Warning>,
@@ -257,6 +258,8 @@ pub fn record_sweep(store: &mut dyn HistoryStore, job: &RecordJob) -> Result<Rec
             r.at,
             r.sweep
         );
+        let stored = store.detail(r.id)?;
+        let count = |f: fn(&super::RecordDetail) -> usize| stored.as_ref().map_or(0, f);
         return Ok(RecordOutcome {
             id: r.id,
             created: false,
@@ -266,8 +269,8 @@ pub fn record_sweep(store: &mut dyn HistoryStore, job: &RecordJob) -> Result<Rec
             sha256,
             compared_with: r.compared_with,
             worst_severity: r.worst_severity,
-            findings: 0,
-            landmarks: 0,
+            findings: count(|d| d.findings.len()),
+            landmarks: count(|d| d.landmarks.len()),
             warnings: vec![Warning::new(
                 "already-recorded",
                 message,

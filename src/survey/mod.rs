@@ -239,6 +239,9 @@ pub fn render_survey(r: &SurveyReport) -> String {
             above,
             top
         );
+        if let Some(e) = &l.record_error {
+            let _ = writeln!(out, "{:<28} not recorded: {e}", "");
+        }
     }
     let broken = r.lines.iter().filter(|l| l.error.is_some()).count();
     let _ = writeln!(
