@@ -10,21 +10,9 @@ use coldtrace::touchstone::{write, WriteOptions};
 use std::path::{Path, PathBuf};
 use std::process::{Command, Output};
 
-/// Fail with the command's standard error unless it exited with `code`.
-fn expect_code(o: &Output, code: i32) {
-    assert_eq!(
-        o.status.code(),
-        Some(code),
-        "{}",
-        String::from_utf8_lossy(&o.stderr)
-    );
-}
-
-fn bin() -> Command {
-    let mut c = Command::new(env!("CARGO_BIN_EXE_coldtrace"));
-    c.env_remove("COLDTRACE_DB");
-    c
-}
+#[path = "common/history_cli.rs"]
+mod history_cli;
+use history_cli::{bin, expect_code};
 
 fn line_file() -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/line/north-fridge-in-07.toml")
