@@ -3,7 +3,8 @@
 //! The modules follow the data:
 //! [`touchstone`] (read and write sweeps) -> [`transform`] (frequency to time/distance) ->
 //! [`line`] (the chain as built, its cryogenic physics, a forward simulator) -> [`compare`]
-//! (align, detect, rank, explain) -> [`report`] (text, JSON, plots).
+//! (align, detect, rank, explain) -> [`history`] (each line's records, trends) -> [`report`] (text, JSON,
+//! plots).
 //!
 //! Conventions shared by every module (each module restates what it relies on):
 //! - SI units everywhere inside the library: Hz, s, m, ohm, K, nepers. Decibels appear only at the edges
@@ -16,11 +17,13 @@
 //! The binary (`src/main.rs`) only parses arguments into the plain config structs of this library.
 
 pub mod compare;
+pub mod history;
 pub mod line;
 pub mod network;
 pub mod numeric;
 pub mod output;
 pub mod report;
+pub mod survey;
 pub mod touchstone;
 pub mod transform;
 pub mod units;
@@ -56,6 +59,10 @@ pub enum Error {
     Report(#[from] report::ReportError),
     #[error(transparent)]
     Units(#[from] units::UnitError),
+    #[error(transparent)]
+    History(#[from] history::HistoryError),
+    #[error(transparent)]
+    Survey(#[from] survey::SurveyError),
     /// A file could not be read or written.
     #[error("{path}: {source}")]
     Io {

@@ -5,9 +5,11 @@ use clap::{Parser, Subcommand};
 
 pub mod compare;
 pub mod convert;
+pub mod history;
 pub mod inspect;
 pub mod locate;
 pub mod simulate;
+pub mod survey;
 pub mod trace;
 
 /// Locate, rank and explain faults in cryogenic RF coax lines from network-analyzer sweeps.
@@ -32,6 +34,10 @@ pub enum Command {
     Simulate(simulate::Args),
     /// Compare a baseline and a current sweep of one line: where it changed, how badly, and why.
     Compare(compare::Args),
+    /// Each line's health over its cooldowns: record sweeps, list them, follow trends, export.
+    History(history::Args),
+    /// Compare every line of a fleet (a manifest of line files and sweep pairs), worst lines first.
+    Survey(survey::Args),
 }
 
 /// Run one parsed command line; returns the process exit code.
@@ -43,6 +49,8 @@ pub fn run(cli: Cli) -> coldtrace::Result<u8> {
         Command::Locate(a) => locate::run(a),
         Command::Simulate(a) => simulate::run(a),
         Command::Compare(a) => compare::run(a),
+        Command::History(a) => history::run(a),
+        Command::Survey(a) => survey::run(a),
     }
 }
 

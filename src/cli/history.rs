@@ -1,0 +1,345 @@
+//! `coldtrace history record|list|show|trend|baseline|export`: each line's record of health, cooldown
+//! after cooldown. Flags become `coldtrace::history` calls on a `SqliteStore` opened at `--db`, else
+//! `COLDTRACE_DB`, else the default path (docs/history.md).
+
+use super::locate::parse_state;
+use coldtrace::history::text::{render_list, render_record, render_show, render_trend};
+use coldtrace::history::trend::line_trend;
+use coldtrace::history::{
+    export, record_sweep, resolve_db_path, HistoryStore, RecordJob, SqliteStore, TrendRule,
+};
+use coldtrace::line::State;
+use coldtrace::report::{write_plot, Figure, Series};
+use coldtrace::{exit, Error, Warning};
+use serde::Serialize;
+use std::path::PathBuf;
+
+#[derive(Debug, clap::Args)]
+pub struct Args {
+    #[command(subcommand)]
+    pub command: Sub,
+}
+
+/// Flags every history command takes.
+#[derive(Debug, clap::Args)]
+pub struct Common {
+    /// The history database (default: $COLDTRACE_DB, else ~/.local/share/coldtrace/history.sqlite).
+    #[arg(long, value_name = "PATH")]
+    pub db: Option<PathBuf>,
+    /// Print the result as JSON (docs/output.md) instead of a table.
+    #[arg(long)]
+    pub json: bool,
+}
+
+#[derive(Debug, clap::Subcommand)]
+pub enum Sub {
+    /// Store one sweep of a line: its landmarks' figures and the findings against the line's baseline.
+    Record(RecordArgs),
+    /// List the records, oldest first per line.
+    List(ListArgs),
+    /// Everything stored for a line's records.
+    Show(LineOnly),
+    /// Each connector's reflection over the cooldowns, and whether it is climbing.
+    Trend(TrendArgs),
+    /// Choose the record later sweeps of a line are compared against.
+    Baseline(BaselineArgs),
+    /// Write a line's history as CSV or JSON.
+    Export(ExportArgs),
+}
+
+#[derive(Debug, clap::Args)]
+pub struct RecordArgs {
+    /// The sweep, Touchstone (S11 is used).
+    #[arg(value_name = "SWEEP")]
+    pub sweep: PathBuf,
+    /// The line file (its `name` is the line's name in the history).
+    #[arg(long, value_name = "LINE")]
+    pub line: PathBuf,
+    /// State the sweep was taken in: warm or cold (inferred and stored when not given).
+    #[arg(long, value_name = "STATE")]
+    pub state: Option<String>,
+    /// When the sweep was taken, RFC 3339, e.g. 2026-11-30T14:05:00Z (default: now).
+    #[arg(long, value_name = "TIME")]
+    pub at: Option<String>,
+    /// A note stored with the record.
+    #[arg(long, value_name = "TEXT")]
+    pub note: Option<String>,
+    #[command(flatten)]
+    pub common: Common,
+}
+
+#[derive(Debug, clap::Args)]
+pub struct ListArgs {
+    /// Only this line's records.
+    #[arg(value_name = "LINE")]
+    pub line: Option<String>,
+    #[command(flatten)]
+    pub common: Common,
+}
+
+#[derive(Debug, clap::Args)]
+pub struct LineOnly {
+    /// The line's name (as in its line file).
+    #[arg(value_name = "LINE")]
+    pub line: String,
+    #[command(flatten)]
+    pub common: Common,
+}
+
+#[derive(Debug, clap::Args)]
+pub struct TrendArgs {
+    /// The line's name (as in its line file).
+    #[arg(value_name = "LINE")]
+    pub line: String,
+    /// Only this connector.
+    #[arg(long, value_name = "ELEMENT")]
+    pub element: Option<String>,
+    /// Draw the values to an .svg or .png file.
+    #[arg(long, value_name = "FILE")]
+    pub plot: Option<PathBuf>,
+    /// Which records make the cooldowns: cold (default) or warm.
+    #[arg(long, value_name = "STATE", default_value = "cold")]
+    pub state: String,
+    /// Replace a plot file that exists.
+    #[arg(long)]
+    pub force: bool,
+    #[command(flatten)]
+    pub common: Common,
+}
+
+#[derive(Debug, clap::Args)]
+pub struct BaselineArgs {
+    /// The line's name (as in its line file).
+    #[arg(value_name = "LINE")]
+    pub line: String,
+    /// The record's id (`coldtrace history list`).
+    #[arg(value_name = "RECORD")]
+    pub record: i64,
+    #[command(flatten)]
+    pub common: Common,
+}
+
+#[derive(Debug, clap::Args)]
+pub struct ExportArgs {
+    /// The line's name (as in its line file).
+    #[arg(value_name = "LINE")]
+    pub line: String,
+    /// csv or json.
+    #[arg(long, value_name = "FORMAT")]
+    pub format: String,
+    /// Write to this file instead of standard output.
+    #[arg(short, long, value_name = "FILE")]
+    pub output: Option<PathBuf>,
+    /// Replace an output file that exists.
+    #[arg(long)]
+    pub force: bool,
+    #[command(flatten)]
+    pub common: Common,
+}
+
+fn open(c: &Common, create: bool) -> coldtrace::Result<SqliteStore> {
+    let path = resolve_db_path(c.db.as_deref())?;
+    Ok(SqliteStore::open(&path, create)?)
+}
+
+fn json<T: Serialize>(value: &T) -> coldtrace::Result<()> {
+    let text = serde_json::to_string_pretty(value).map_err(|e| Error::Usage(e.to_string()))?;
+    super::print(&(text + "\n"))
+}
+
+/// `{ ..., "warnings": [...] }` around a result that has none of its own.
+#[derive(Serialize)]
+struct WithWarnings<T: Serialize> {
+    #[serde(flatten)]
+    inner: T,
+    warnings: Vec<Warning>,
+}
+
+pub fn run(args: Args) -> coldtrace::Result<u8> {
+    match args.command {
+        Sub::Record(a) => record(a),
+        Sub::List(a) => list(a),
+        Sub::Show(a) => show(a),
+        Sub::Trend(a) => trend(a),
+        Sub::Baseline(a) => baseline(a),
+        Sub::Export(a) => export_line(a),
+    }
+}
+
+fn record(a: RecordArgs) -> coldtrace::Result<u8> {
+    let job = RecordJob {
+        sweep: a.sweep,
+        line: a.line,
+        state: a
+            .state
+            .as_deref()
+            .map(|s| parse_state("--state", s))
+            .transpose()?,
+        at: a.at,
+        note: a.note,
+        analysis: Default::default(),
+    };
+    // Check the time before opening (or creating) anything.
+    if let Some(t) = &job.at {
+        coldtrace::history::parse_time(t)?;
+    }
+    let mut store = open(&a.common, true)?;
+    let outcome = record_sweep(&mut store, &job)?;
+    if a.common.json {
+        json(&outcome)?;
+    } else {
+        super::print(&render_record(&outcome))?;
+    }
+    Ok(exit::OK)
+}
+
+fn list(a: ListArgs) -> coldtrace::Result<u8> {
+    let store = open(&a.common, false)?;
+    if let Some(l) = &a.line {
+        store.line_details(l)?;
+    }
+    let records = store.list(a.line.as_deref())?;
+    if a.common.json {
+        #[derive(Serialize)]
+        struct Out<'a> {
+            records: &'a [coldtrace::history::RecordSummary],
+        }
+        json(&WithWarnings {
+            inner: Out { records: &records },
+            warnings: Vec::new(),
+        })?;
+    } else {
+        super::print(&render_list(&records))?;
+    }
+    Ok(exit::OK)
+}
+
+fn show(a: LineOnly) -> coldtrace::Result<u8> {
+    let store = open(&a.common, false)?;
+    let records = store.line_details(&a.line)?;
+    if a.common.json {
+        #[derive(Serialize)]
+        struct Out<'a> {
+            line: &'a str,
+            baseline: Option<i64>,
+            records: &'a [coldtrace::history::RecordDetail],
+        }
+        json(&WithWarnings {
+            inner: Out {
+                line: &a.line,
+                baseline: store.baseline(&a.line)?,
+                records: &records,
+            },
+            warnings: Vec::new(),
+        })?;
+    } else {
+        super::print(&render_show(&a.line, &records))?;
+    }
+    Ok(exit::OK)
+}
+
+fn trend(a: TrendArgs) -> coldtrace::Result<u8> {
+    let state: State = parse_state("--state", &a.state)?;
+    let store = open(&a.common, false)?;
+    let report = line_trend(
+        &store,
+        &a.line,
+        state,
+        a.element.as_deref(),
+        &TrendRule::default(),
+    )?;
+    if let Some(p) = &a.plot {
+        let mut fig = Figure::new(
+            format!(
+                "{}: connector reflections, {} records",
+                report.line, report.state
+            ),
+            "cooldown (record, oldest first)",
+            "reflection (dB, compensated)",
+        );
+        for l in &report.landmarks {
+            fig.series.push(Series {
+                name: if l.verdict.warning {
+                    format!("{} (climbing)", l.element)
+                } else {
+                    l.element.clone()
+                },
+                x: (0..l.values_db.len()).map(|i| i as f64).collect(),
+                y: l.values_db.clone(),
+            });
+        }
+        write_plot(p, &fig, a.force, &[store.location()])?;
+    }
+    if a.common.json {
+        json(&report)?;
+    } else {
+        super::print(&render_trend(&report))?;
+    }
+    Ok(if report.landmarks.iter().any(|l| l.verdict.warning) {
+        exit::FINDINGS
+    } else {
+        exit::OK
+    })
+}
+
+fn baseline(a: BaselineArgs) -> coldtrace::Result<u8> {
+    let mut store = open(&a.common, false)?;
+    store.set_baseline(&a.line, a.record)?;
+    let rec = store
+        .detail(a.record)?
+        .map(|d| d.summary)
+        .ok_or_else(|| Error::Usage(format!("record {} vanished", a.record)))?;
+    if a.common.json {
+        #[derive(Serialize)]
+        struct Out<'a> {
+            line: &'a str,
+            baseline: &'a coldtrace::history::RecordSummary,
+        }
+        json(&WithWarnings {
+            inner: Out {
+                line: &a.line,
+                baseline: &rec,
+            },
+            warnings: Vec::new(),
+        })?;
+    } else {
+        super::print(&format!(
+            "line {}: later sweeps are compared against record {} ({} {}, {})\n",
+            a.line,
+            rec.id,
+            rec.state.name(),
+            rec.at,
+            rec.sweep
+        ))?;
+    }
+    Ok(exit::OK)
+}
+
+fn export_line(a: ExportArgs) -> coldtrace::Result<u8> {
+    let format = a.format.to_ascii_lowercase();
+    if format != "csv" && format != "json" {
+        return Err(Error::Usage(format!(
+            "--format '{}': use csv or json",
+            a.format
+        )));
+    }
+    let store = open(&a.common, false)?;
+    let records = store.line_details(&a.line)?;
+    let text = if format == "csv" {
+        export::to_csv(&records)
+    } else {
+        serde_json::to_string_pretty(&export::Export {
+            line: &a.line,
+            records: &records,
+        })
+        .map_err(|e| Error::Usage(e.to_string()))?
+            + "\n"
+    };
+    match &a.output {
+        Some(p) => {
+            coldtrace::output::write_output(p, text.as_bytes(), a.force, &[store.location()])?
+        }
+        None => super::print(&text)?,
+    }
+    Ok(exit::OK)
+}

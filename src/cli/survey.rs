@@ -1,0 +1,97 @@
+//! `coldtrace survey MANIFEST [--jobs N] [--record] [--db PATH] [--json] [--fail-on SEVERITY]`: every line of
+//! a fleet compared in parallel, worst first. Flags become a `coldtrace::survey::SurveyConfig`; the work is
+//! `run_survey`. On a terminal (and without `--json`) a progress bar on standard error shows the lines done,
+//! the findings so far and the time left.
+
+use super::locate::parse_fail_on;
+use coldtrace::compare::Severity;
+use coldtrace::history::resolve_db_path;
+use coldtrace::survey::{read_manifest, render_survey, run_survey, SurveyConfig, SurveyLine};
+use coldtrace::{exit, Error};
+use std::io::IsTerminal;
+use std::path::PathBuf;
+use std::sync::atomic::{AtomicUsize, Ordering};
+
+#[derive(Debug, clap::Args)]
+pub struct Args {
+    /// The survey manifest (TOML: [[line]] tables of line, baseline, current; docs/history.md).
+    #[arg(value_name = "MANIFEST")]
+    pub manifest: PathBuf,
+    /// Worker threads (default: one per core).
+    #[arg(long, value_name = "N")]
+    pub jobs: Option<usize>,
+    /// Store every line's current sweep in the history (idempotent, as `history record`).
+    #[arg(long)]
+    pub record: bool,
+    /// The history database for --record (default: $COLDTRACE_DB, else the default path).
+    #[arg(long, value_name = "PATH")]
+    pub db: Option<PathBuf>,
+    /// Print the result as JSON (docs/output.md) instead of the table.
+    #[arg(long)]
+    pub json: bool,
+    /// Exit with 1 when a line's finding reaches this severity (or a line is broken): info, minor, major or
+    /// critical.
+    #[arg(long, default_value = "minor", value_name = "SEVERITY")]
+    pub fail_on: String,
+}
+
+pub fn run(args: Args) -> coldtrace::Result<u8> {
+    let fail_on = parse_fail_on(&args.fail_on)?;
+    if args.db.is_some() && !args.record {
+        return Err(Error::Usage(
+            "--db is for --record: pass --record to store the results, or leave --db out".into(),
+        ));
+    }
+    let items = read_manifest(&args.manifest)?;
+    let record_db = if args.record {
+        Some(resolve_db_path(args.db.as_deref())?)
+    } else {
+        None
+    };
+    let cfg = SurveyConfig {
+        jobs: args.jobs,
+        record_db,
+        analysis: Default::default(),
+    };
+    let bar = (!args.json && std::io::stderr().is_terminal()).then(|| {
+        let b = indicatif::ProgressBar::new(items.len() as u64);
+        b.set_style(
+            indicatif::ProgressStyle::with_template(
+                "{bar:30} {pos}/{len} lines, {msg}, {eta} left",
+            )
+            .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar()),
+        );
+        b.set_message("0 findings");
+        b
+    });
+    let found = AtomicUsize::new(0);
+    let progress = |row: &SurveyLine| {
+        if let Some(b) = &bar {
+            let n = row
+                .findings
+                .iter()
+                .filter(|f| f.severity > Severity::Info)
+                .count();
+            let total = found.fetch_add(n, Ordering::Relaxed) + n;
+            b.set_message(format!("{total} findings"));
+            b.inc(1);
+        }
+    };
+    let report = run_survey(&items, &cfg, &progress)?;
+    if let Some(b) = &bar {
+        b.finish_and_clear();
+    }
+    if args.json {
+        let text =
+            serde_json::to_string_pretty(&report).map_err(|e| Error::Usage(e.to_string()))?;
+        super::print(&(text + "\n"))?;
+    } else {
+        super::print(&render_survey(&report))?;
+    }
+    let fails = report.lines.iter().any(|l| {
+        l.error.is_some()
+            || l.record_error.is_some()
+            || l.worst_severity.is_some_and(|s| s >= fail_on)
+    });
+    Ok(if fails { exit::FINDINGS } else { exit::OK })
+}
