@@ -57,7 +57,7 @@ fn open_against_short_of_one_cooldown_differs_only_at_the_far_end() {
         );
     }
     // The far end was an open already: the line was cut there before, so its change to a short is the
-    // top change but costs nothing new (issue 8: an open or short that was one in the baseline is never a
+    // top change but costs nothing new (an open or short that was one in the baseline is never a
     // new open or short).
     assert!(
         (r.findings[0].place.distance_m - end).abs() < 0.02,

@@ -95,7 +95,7 @@ fn states_left_open_include_the_truth_on_healthy_lines_and_repeats() {
 
 /// The goal beyond honesty: the state chosen is the truth on every healthy line and repeat.
 #[test]
-#[ignore = "issue 8 acceptance, not met yet: run with --ignored; figures in docs/accuracy.md"]
+#[ignore = "accuracy goal not met yet: run with --ignored; figures in docs/accuracy.md"]
 fn states_are_inferred_right_on_healthy_lines_and_repeats() {
     let bad: Vec<String> = all()
         .iter()
@@ -106,7 +106,7 @@ fn states_are_inferred_right_on_healthy_lines_and_repeats() {
 }
 
 #[test]
-#[ignore = "issue 8 acceptance, not met yet: run with --ignored; figures in docs/accuracy.md"]
+#[ignore = "accuracy goal not met yet: run with --ignored; figures in docs/accuracy.md"]
 fn faults_over_the_noise_are_ranked_first_at_their_element() {
     let visible: Vec<&Evaluated> = all()
         .iter()
@@ -125,6 +125,34 @@ fn faults_over_the_noise_are_ranked_first_at_their_element() {
 
 // ---------------------------------------------------------------------------------------------------------
 // The generator itself.
+
+/// The guard below the goal: on the fixed subset, the share of faults over the noise ranked first at their
+/// element (states inferred and given) does not fall below what the comparator reaches today (55 of 60
+/// runs when this guard was set; docs/accuracy.md has the full figure).
+const RIGHT_ELEMENT_GUARD: f64 = 0.9;
+
+#[test]
+fn faults_over_the_noise_are_ranked_first_at_their_element_as_often_as_before() {
+    let runs: Vec<(&Evaluated, bool)> = all()
+        .iter()
+        .filter(|e| e.scenario.fault.as_ref().is_some_and(|f| f.visible()))
+        .flat_map(|e| [(e, false), (e, true)])
+        .collect();
+    let bad: Vec<String> = runs
+        .iter()
+        .filter(|(e, g)| e.right_element(*g) != Some(true))
+        .map(|(e, g)| case_line(e, *g))
+        .collect();
+    let share = 1.0 - bad.len() as f64 / runs.len().max(1) as f64;
+    assert!(
+        share >= RIGHT_ELEMENT_GUARD,
+        "right element first in {:.1} % of {} runs, under the guard of {:.0} %:\n{}",
+        100.0 * share,
+        runs.len(),
+        100.0 * RIGHT_ELEMENT_GUARD,
+        bad.join("\n")
+    );
+}
 
 #[test]
 fn generator_is_reproducible_from_its_seed() {

@@ -290,3 +290,45 @@ fn with_s21_the_observed_drop_is_set_beside_what_the_findings_explain() {
         "{p:?}"
     );
 }
+
+/// The test chain as built, its first three cables longer than the line file says (9, 8 and 7 mm: cut
+/// assemblies measured to a centimetre), so the declared delay to the attenuator's joints is 24 mm short:
+/// nearly the whole 28 mm between its two joints.
+fn as_built_longer() -> Line {
+    let path = Path::new("tests/data/compare/south-fridge-in-02.toml");
+    let text = std::fs::read_to_string(path).unwrap();
+    let text = text
+        .replacen("length_m = 0.80", "length_m = 0.809", 1)
+        .replacen("length_m = 0.25", "length_m = 0.258", 1)
+        .replacen("length_m = 0.30", "length_m = 0.307", 1);
+    coldtrace::line::file::parse(&text, path).unwrap()
+}
+
+#[test]
+fn a_joint_either_side_of_an_attenuator_is_named_right_when_declared_lengths_are_short() {
+    let (declared, built) = (line(), as_built_longer());
+    for (joint, fault) in [("J3", "J3:contact=5ohm"), ("J4", "J4:gap=30fF")] {
+        let base = sim(&built, State::Warm, &[], 1);
+        let cur = sim(&built, State::Cold, &[fault], 2);
+        let r = run(&declared, State::Warm, State::Cold, &base, &cur);
+        let top = &r.findings[0];
+        assert_eq!(
+            top.place.nearest_connector.as_deref(),
+            Some(joint),
+            "{fault}: {top:?}"
+        );
+        assert!(top.severity > Severity::Info, "{fault}: {top:?}");
+        // Placed in the line file's terms: at the joint's declared middle, within a few millimetres.
+        let want = declared
+            .elements
+            .iter()
+            .find(|e| e.name == joint)
+            .map(|e| 0.5 * (e.start_m + e.end_m()))
+            .unwrap();
+        assert!(
+            (top.place.distance_m - want).abs() < 5e-3,
+            "{fault}: at {} m, declared {want} m",
+            top.place.distance_m
+        );
+    }
+}
