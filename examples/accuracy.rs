@@ -310,10 +310,27 @@ fn main() {
     md.push_str(&worst_cases(&all, a.worst));
     emit(&md);
     if let Some(p) = &a.out {
+        // Sections other programs keep in the same page (the history's trend rule) stay as they were.
+        if let Ok(old) = std::fs::read_to_string(p) {
+            md.push_str(&foreign_sections(&old, &md));
+        }
         if let Err(e) = coldtrace::output::write_output(p, md.as_bytes(), true, &[]) {
             eprintln!("coldtrace accuracy: {e}");
             std::process::exit(2);
         }
         eprintln!("wrote {}", p.display());
     }
+}
+
+/// The part of `old` from its first `## ` section that `new` does not have, to the end (with a blank line in
+/// front); empty when it has none.
+fn foreign_sections(old: &str, new: &str) -> String {
+    let mut at = 0;
+    for line in old.split_inclusive('\n') {
+        if line.starts_with("## ") && !new.contains(line.trim_end()) {
+            return format!("\n{}", &old[at..]);
+        }
+        at += line.len();
+    }
+    String::new()
 }

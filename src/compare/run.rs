@@ -686,10 +686,12 @@ pub fn compare(
         };
         let mut f = explain_change(ch, &pa, &fit, same_state, f_ref, extra, &mut engine)?;
         if at_end && (moved || kind_flip) {
-            let dt = far_end
-                .as_ref()
-                .and_then(|e| e.delay_change_s)
-                .unwrap_or(0.0);
+            // The move beyond what the line in front explains (its tolerance), as every change is taken
+            // beyond the interval the calibration explains.
+            let dt = far_end.as_ref().map_or(0.0, |e| {
+                let d = e.delay_change_s.unwrap_or(0.0);
+                d.signum() * (d.abs() - e.move_tolerance_s).max(0.0)
+            });
             f.changed_reflection = f
                 .changed_reflection
                 .max(moved_reflection(ch.mag_c, dt, kind_flip, f_ref));
