@@ -481,6 +481,7 @@ pub(super) fn fit_alignment(
             landmarks_m: xs,
             electrical_length_change: far.unwrap_or(0.0),
             level_change_db: sol.level_db,
+            anchors: Vec::new(),
         },
         residual_loss_db: sol.loss_change_db.clone(),
         landmark_delays_s: pairs

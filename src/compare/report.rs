@@ -181,6 +181,20 @@ pub struct Alignment {
     /// Change of the whole trace's level, current over baseline, dB (an amplifier's gain, a source power):
     /// what every echo shares before the line's own loss change.
     pub level_change_db: f64,
+    /// The line file's joints the baseline showed, on which positions are anchored (docs/method.md), front
+    /// to back; empty without a line file.
+    pub anchors: Vec<JointAnchor>,
+}
+
+/// A joint of the line file found in the baseline sweep.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct JointAnchor {
+    pub element: String,
+    /// Its place in the line file, m (where findings at it are reported).
+    pub position_m: f64,
+    /// How much farther along the line the baseline shows it than the line file's model puts it, m
+    /// (negative: nearer). The declared lengths' error and, in a cold baseline, the cold model's.
+    pub shift_m: f64,
 }
 
 impl Alignment {

@@ -63,8 +63,8 @@ pub struct PairAnalysis {
     pub far: FarEnds,
     /// True when a line of unknown construction was compensated with the loss its far end shows.
     pub loss_from_far_end: bool,
-    /// Places of the line file's joints that the baseline showed and the chain was anchored on, m.
-    pub anchors_m: Vec<f64>,
+    /// The line file's joints that the baseline showed and the chain was anchored on.
+    pub anchors: Vec<JointAnchor>,
 }
 
 /// Stage 1: analyse both sweeps and find their far ends. On a line of unknown construction whose far end is
@@ -85,6 +85,15 @@ pub fn analyse_pair(
     let mut b = analyse(baseline, &chain, cfg, Which::Baseline, engine)?;
     // The line file's joints pinned where the baseline shows them, and the baseline analysed again on them.
     let anchors = super::anchor::find(&chain, &b, Which::Baseline);
+    let joints: Vec<JointAnchor> = anchors
+        .iter()
+        .map(|a| JointAnchor {
+            element: a.element.clone(),
+            position_m: a.position_m,
+            shift_m: (a.observed_delay_s - a.model_delay_s)
+                * speed_at(&chain, a.position_m, Which::Baseline),
+        })
+        .collect();
     if !anchors.is_empty() {
         chain = super::anchor::anchored(&chain, &anchors, Which::Baseline);
         b = analyse(baseline, &chain, cfg, Which::Baseline, engine)?;
@@ -135,7 +144,7 @@ pub fn analyse_pair(
         c,
         far,
         loss_from_far_end,
-        anchors_m: anchors.iter().map(|a| a.position_m).collect(),
+        anchors: joints,
     })
 }
 
@@ -640,14 +649,15 @@ pub fn compare(
         ));
     }
 
-    let fit = align_pair(&pa, h, f_ref, &mut warnings);
+    let mut fit = align_pair(&pa, h, f_ref, &mut warnings);
+    fit.report.anchors = pa.anchors.clone();
     let changes = difference::changes(&difference::Inputs {
         chain: &pa.chain,
         b: &pa.b,
         c: &pa.c,
         fit: &fit,
         far: &pa.far,
-        anchors_m: &pa.anchors_m,
+        anchors_m: &pa.anchors.iter().map(|a| a.position_m).collect::<Vec<_>>(),
     });
     let same_state = h.same_state();
     let far_end = far_end_report(&pa, &fit, same_state, &mut engine)?;

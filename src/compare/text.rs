@@ -82,6 +82,22 @@ pub fn render_compare(r: &CompareReport, show_info: bool) -> String {
         r.alignment.electrical_length_change * 100.0,
         r.reference_hz / 1e9
     );
+    if let Some(worst) = r
+        .alignment
+        .anchors
+        .iter()
+        .max_by(|a, b| a.shift_m.abs().total_cmp(&b.shift_m.abs()))
+    {
+        let _ = writeln!(
+            out,
+            "  positions anchored on {} joint(s) the baseline shows; the line file's model put them up to {:.1} mm \
+             off ({} {:+.1} mm)",
+            r.alignment.anchors.len(),
+            worst.shift_m.abs() * 1e3,
+            worst.element,
+            worst.shift_m * 1e3
+        );
+    }
     connector_line(&mut out, &r.connector_lengths);
     let shown: Vec<&Finding> = r
         .findings
