@@ -27,6 +27,19 @@ pub const LENGTH_TOLERANCE_ABS_M: f64 = 0.010;
 /// practice, no source).
 pub const LENGTH_TOLERANCE_REL: f64 = 0.01;
 
+/// Largest anchor shift, in resolution cells, for which a sweep analysed on the chain before anchoring is
+/// kept rather than analysed again on the anchored one: its compensation pieces and event levels move by
+/// far less than they are sure of (common practice, no source).
+pub const REANALYSE_CELLS: f64 = 0.05;
+
+/// True when `anchors` move the chain enough (by more than [`REANALYSE_CELLS`] of `resolution_s`) that a
+/// sweep analysed before anchoring should be analysed again.
+pub fn worth_reanalysing(anchors: &[Anchor], resolution_s: f64) -> bool {
+    anchors
+        .iter()
+        .any(|a| (a.observed_delay_s - a.model_delay_s).abs() > REANALYSE_CELLS * resolution_s)
+}
+
 /// One joint of the chain found in the baseline: its model delay and where the baseline shows it.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Anchor {

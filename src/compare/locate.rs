@@ -26,7 +26,9 @@ pub fn locate(
         chain
     } else {
         let anchored = super::anchor::anchored(&chain, &anchors, Which::Current);
-        a = analyse(&sweep, &anchored, cfg, Which::Current, &mut engine)?;
+        if super::anchor::worth_reanalysing(&anchors, a.resolution_s) {
+            a = analyse(&sweep, &anchored, cfg, Which::Current, &mut engine)?;
+        }
         anchored
     };
     let f_ref = cfg.reference_hz.unwrap_or_else(|| band_centre(f));

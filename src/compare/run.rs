@@ -96,7 +96,9 @@ pub fn analyse_pair(
         .collect();
     if !anchors.is_empty() {
         chain = super::anchor::anchored(&chain, &anchors, Which::Baseline);
-        b = analyse(baseline, &chain, cfg, Which::Baseline, engine)?;
+        if super::anchor::worth_reanalysing(&anchors, b.resolution_s) {
+            b = analyse(baseline, &chain, cfg, Which::Baseline, engine)?;
+        }
     }
     let mut c = analyse(current, &chain, cfg, Which::Current, engine)?;
     let mut far = FarEnds {
