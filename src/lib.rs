@@ -16,6 +16,7 @@
 //! The binary (`src/main.rs`) only parses arguments into the plain config structs of this library.
 
 pub mod compare;
+pub mod limits;
 pub mod line;
 pub mod network;
 pub mod numeric;

@@ -68,6 +68,15 @@ pub fn inputs<'a>(a: &'a LineArgs, sweeps: &[&'a std::path::Path]) -> Vec<&'a st
     v
 }
 
+/// Refuse a `--plot` path that cannot be written before any work is done.
+pub fn check_plot(a: &LineArgs, sweeps: &[&std::path::Path]) -> coldtrace::Result<()> {
+    if let Some(p) = &a.plot {
+        coldtrace::report::PlotFormat::from_path(p)?;
+        coldtrace::output::check_outputs(&[p], a.force, &inputs(a, sweeps))?;
+    }
+    Ok(())
+}
+
 /// `--fail-on`'s value.
 pub fn parse_fail_on(s: &str) -> coldtrace::Result<Severity> {
     Severity::parse(s).ok_or_else(|| {
@@ -151,6 +160,7 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
             .transpose()?,
         analysis: analysis_config(&args.line)?,
     };
+    check_plot(&args.line, &[&args.sweep])?;
     let report = run_locate(&job)?;
     if let Some(p) = &args.line.plot {
         write_plot(

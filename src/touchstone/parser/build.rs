@@ -134,6 +134,9 @@ impl<'a> Parser<'a> {
         for k in 0..points {
             let raw = &self.values[k * 2 * per..(k + 1) * 2 * per];
             fill_matrix(&mut m, raw, n, self.matrix_format, order, format);
+            if m.iter().any(|c| !c.is_finite()) {
+                return Err(self.not_finite(k, raw, format));
+            }
             match kind {
                 None => {
                     for i in 0..n {
@@ -164,6 +167,16 @@ impl<'a> Parser<'a> {
                             "check the values of this record",
                         )
                     })?;
+                    if sm.iter().any(|c| !c.is_finite()) {
+                        return Err(self.err(
+                            self.record_lines[k] as usize,
+                            1,
+                            ErrorKind::Unconvertible,
+                            format!("{} values whose S-parameters overflow", parameter.as_str()),
+                            "a network whose S-parameters are finite at the reference impedance",
+                            "check the values of this record",
+                        ));
+                    }
                     s.extend_from_slice(&sm);
                 }
             }
@@ -220,6 +233,33 @@ impl<'a> Parser<'a> {
             info,
             warnings: self.warnings,
         })
+    }
+}
+
+impl Parser<'_> {
+    /// The error for record `k` whose pairs make a complex number that is not finite (a dB value of 1e308,
+    /// say: 10^(1e308/20) overflows).
+    fn not_finite(&self, k: usize, raw: &[f64], format: Format) -> TouchstoneError {
+        let (a, b) = raw
+            .chunks_exact(2)
+            .map(|p| (p[0], p[1]))
+            .find(|&(a, b)| !pair_to_complex(a, b, format).is_finite())
+            .unwrap_or((raw[0], raw[1]));
+        self.err(
+            self.record_lines[k] as usize,
+            1,
+            ErrorKind::NotANumber,
+            format!(
+                "the pair {} {}",
+                crate::limits::short_number(a),
+                crate::limits::short_number(b)
+            ),
+            format!(
+                "a value whose {} number is finite (this one overflows a 64-bit float)",
+                format.as_str()
+            ),
+            "correct the value, or the format on the option line (RI, MA or DB)",
+        )
     }
 }
 
