@@ -21,7 +21,8 @@
 //! | [`MAX_ATTENUATOR_DB`] | 200 dB | an attenuator's `loss_db` |
 //! | [`MAX_CABLE_LOSS_DB_PER_M`] | 100 dB/m | a cable kind's `loss_db_per_m_1ghz` |
 //! | [`MAX_LOSS_TANGENT`] | 1 | a cable kind's `loss_tangent` |
-//! | [`MAX_FREQUENCY_HZ`] | 10 THz | `simulate --start` / `--stop` |
+//! | [`MAX_FREQUENCY_HZ`] | 10 THz | frequencies in a sweep, `simulate --start` / `--stop` |
+//! | [`MAX_VALUE_MAGNITUDE`] | 1e100 | the real and imaginary parts of each value in a sweep |
 //! | [`MAX_ECHO_CHARS`] | 40 characters | a token quoted back in an error message |
 
 use std::borrow::Cow;
@@ -65,9 +66,14 @@ pub const MAX_ATTENUATOR_DB: f64 = 200.0;
 pub const MAX_CABLE_LOSS_DB_PER_M: f64 = 100.0;
 /// Largest dielectric loss tangent a cable kind may give (PTFE is about 2e-4; common practice, no source).
 pub const MAX_LOSS_TANGENT: f64 = 1.0;
-/// Highest frequency the simulator accepts, Hz. Its material data and models are meant for microwave
-/// frequencies (docs/materials.md); beyond this they mean nothing.
+/// Highest frequency read from a sweep or given to the simulator, Hz. The material data and models are
+/// meant for microwave frequencies (docs/materials.md), and network analyzers with extenders end near
+/// 1 THz (common practice, no source); beyond this nothing of the analysis means anything.
 pub const MAX_FREQUENCY_HZ: f64 = 10e12;
+/// Largest magnitude of the real or imaginary part of a network parameter read from a sweep (after its
+/// format: a DB value of 2000 dB is 1e100). No network parameter comes near; the cap keeps every sum,
+/// square and transform of the values finite.
+pub const MAX_VALUE_MAGNITUDE: f64 = 1e100;
 /// Longest piece of the user's text quoted back in an error message, in characters; longer text is cut and
 /// ends in "...".
 pub const MAX_ECHO_CHARS: usize = 40;

@@ -327,7 +327,11 @@ fn a_frequency_overflowing_to_infinity_is_refused_with_its_line() {
     let f = dir.path().join("f.s1p");
     std::fs::write(&f, "# GHz S RI R 50\n1 0.1 0\n1e308 0.1 0\n").unwrap();
     let o = run(&["inspect", s(&f)]);
-    refused(&o, &["f.s1p:3:1", "1e308 GHz overflows"]);
+    refused(&o, &["f.s1p:3:1", "up to 1e13 Hz", "1e308 GHz is inf Hz"]);
+    // Finite but past the limit: 20 THz.
+    std::fs::write(&f, "# GHz S RI R 50\n1 0.1 0\n20000 0.1 0\n").unwrap();
+    let o = run(&["inspect", s(&f)]);
+    refused(&o, &["f.s1p:3:1", "up to 1e13 Hz"]);
 }
 
 #[test]
@@ -336,7 +340,7 @@ fn a_db_value_overflowing_is_refused_with_its_line() {
     let f = dir.path().join("d.s1p");
     std::fs::write(&f, "# GHz S DB R 50\n1 -3 0\n2 1e308 0\n").unwrap();
     let o = run(&["inspect", s(&f)]);
-    refused(&o, &["d.s1p:3:", "1e308", "finite"]);
+    refused(&o, &["d.s1p:3:", "1e308", "at most 1e100"]);
     let f = dir.path().join("v2.s1p");
     std::fs::write(
         &f,
@@ -344,7 +348,7 @@ fn a_db_value_overflowing_is_refused_with_its_line() {
     )
     .unwrap();
     let o = run(&["trace", s(&f)]);
-    refused(&o, &["v2.s1p:7:", "finite"]);
+    refused(&o, &["v2.s1p:7:", "at most 1e100"]);
 }
 
 // ---- Messages ----

@@ -268,6 +268,15 @@ impl TracePlan {
         };
         let alias_free_range_m = map.distance_m(period_s);
         let resolution_m = map.distance_m(resolution_s) - map.distance_m(0.0);
+        // A grid of absurd steps (1e-300 Hz, say) puts the time axis past the largest float.
+        if !(alias_free_range_m.is_finite() && resolution_m.is_finite() && resolution_m > 0.0) {
+            return Err(TransformError::Invalid(format!(
+                "the sweep's grid (step {} Hz over {} points) gives a time axis that is not finite; \
+                 check the frequencies and their unit",
+                short_number(grid.step_hz),
+                grid.points
+            )));
+        }
         let axis = match self.span_m {
             None => {
                 let base = match harmonics {

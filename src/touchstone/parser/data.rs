@@ -1,7 +1,7 @@
 //! Network and noise records: version 1 line by line, version 2 counted across lines.
 
 use super::*;
-use crate::limits::short_number;
+use crate::limits::{short_number, MAX_FREQUENCY_HZ};
 
 impl<'a> Parser<'a> {
     pub(super) fn record_len(&self) -> usize {
@@ -96,18 +96,20 @@ impl<'a> Parser<'a> {
             .as_ref()
             .and_then(|o| o.unit)
             .unwrap_or(FreqUnit::GHz);
-        if !(f * unit.hz()).is_finite() {
+        if f * unit.hz() > MAX_FREQUENCY_HZ {
             return Err(self.err(
                 line,
                 col,
                 ErrorKind::NonIncreasingFrequency,
                 short_number(f),
                 format!(
-                    "a frequency that is finite in Hz ({} {} overflows a 64-bit float)",
+                    "a frequency up to {} Hz (coldtrace's limit, docs/limits.md); {} {} is {} Hz",
+                    short_number(MAX_FREQUENCY_HZ),
                     short_number(f),
-                    unit.as_str()
+                    unit.as_str(),
+                    short_number(f * unit.hz())
                 ),
-                "correct the frequency or the unit on the option line",
+                "correct the frequency, or the unit on the option line",
             ));
         }
         if f < 0.0 {
