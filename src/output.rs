@@ -230,6 +230,21 @@ mod tests {
     }
 
     #[test]
+    fn placing_without_overwrite_never_replaces_what_appeared_meanwhile() {
+        let dir = tempfile::tempdir().unwrap();
+        let (tmp, _) = create_temp(dir.path(), "x.csv").unwrap();
+        std::fs::write(&tmp, b"new").unwrap();
+        let target = dir.path().join("x.csv");
+        std::fs::write(&target, b"theirs").unwrap();
+        let e = place_new(&tmp, &target).unwrap_err();
+        assert_eq!(e.kind(), std::io::ErrorKind::AlreadyExists);
+        assert_eq!(std::fs::read(&target).unwrap(), b"theirs");
+        std::fs::remove_file(&target).unwrap();
+        place_new(&tmp, &target).unwrap();
+        assert_eq!(std::fs::read(&target).unwrap(), b"new");
+    }
+
+    #[test]
     fn temporary_names_differ() {
         let dir = tempfile::tempdir().unwrap();
         let (a, _) = create_temp(dir.path(), "x.csv").unwrap();

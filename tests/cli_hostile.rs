@@ -30,6 +30,14 @@ fn refused(o: &Output, needles: &[&str]) -> String {
     err
 }
 
+/// Write `text` as a file `name` in a fresh folder, run `command` on it, expect a refusal with `needles`.
+fn file_refused(command: &str, name: &str, text: &str, needles: &[&str]) {
+    let dir = tempfile::tempdir().unwrap();
+    let f = dir.path().join(name);
+    std::fs::write(&f, text).unwrap();
+    refused(&run(&[command, s(&f)]), needles);
+}
+
 fn sweep() -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/transform/in-07-load-1.5m.s1p")
 }
@@ -194,33 +202,18 @@ fn absurd_point_counts_are_refused_before_allocating() {
 fn frequencies_past_the_simulators_limit_are_refused() {
     let dir = tempfile::tempdir().unwrap();
     let out = dir.path().join("x.s1p");
-    let o = run(&[
-        "simulate",
-        s(&line_fixture()),
-        "--stop",
-        "1e300THz",
-        "-o",
-        s(&out),
-    ]);
-    refused(&o, &["'1e300THz'", "1e300 THz overflows"]);
-    let o = run(&[
-        "simulate",
-        s(&line_fixture()),
-        "--stop",
-        "20THz",
-        "-o",
-        s(&out),
-    ]);
-    refused(&o, &["limit", "--stop"]);
-    let o = run(&[
-        "simulate",
-        s(&line_fixture()),
-        "--noise-db",
-        "NaN",
-        "-o",
-        s(&out),
-    ]);
-    refused(&o, &["--noise-db"]);
+    for (flag, value, needles) in [
+        (
+            "--stop",
+            "1e300THz",
+            &["'1e300THz'", "1e300 THz overflows"][..],
+        ),
+        ("--stop", "20THz", &["limit", "--stop"][..]),
+        ("--noise-db", "NaN", &["--noise-db"][..]),
+    ] {
+        let o = run(&["simulate", s(&line_fixture()), flag, value, "-o", s(&out)]);
+        refused(&o, needles);
+    }
     assert!(!out.exists());
 }
 
@@ -232,27 +225,24 @@ fn a_power_drop_that_is_not_finite_is_refused() {
 
 #[test]
 fn port_counts_past_the_limit_state_it() {
-    let dir = tempfile::tempdir().unwrap();
-    let f = dir.path().join("ports.s1p");
-    std::fs::write(
-        &f,
+    file_refused(
+        "inspect",
+        "ports.s1p",
         "[Version] 2.0\n# GHz S RI R 50\n[Number of Ports] 1001\n",
-    )
-    .unwrap();
-    let o = run(&["inspect", s(&f)]);
-    refused(&o, &["ports.s1p:3:19", "at most 1000 ports"]);
-    let f = dir.path().join("wide.s1001p");
-    std::fs::write(&f, "# GHz S RI R 50\n1 0 0\n").unwrap();
-    let o = run(&["inspect", s(&f)]);
-    refused(&o, &["wide.s1001p:1:1", "at most 1000 ports"]);
-    let f = dir.path().join("count.s1p");
-    std::fs::write(
-        &f,
+        &["ports.s1p:3:19", "at most 1000 ports"],
+    );
+    file_refused(
+        "inspect",
+        "wide.s1001p",
+        "# GHz S RI R 50\n1 0 0\n",
+        &["wide.s1001p:1:1", "at most 1000 ports"],
+    );
+    file_refused(
+        "inspect",
+        "count.s1p",
         "[Version] 2.0\n# GHz S RI R 50\n[Number of Ports] 1\n[Number of Frequencies] 99999999999999999999999\n",
-    )
-    .unwrap();
-    let o = run(&["inspect", s(&f)]);
-    refused(&o, &["count.s1p:4:25", "at most 1000000 frequencies"]);
+        &["count.s1p:4:25", "at most 1000000 frequencies"],
+    );
 }
 
 // ---- Bounded reads ----
@@ -323,32 +313,45 @@ fn a_fifo_is_read_as_a_sweep() {
 
 #[test]
 fn a_frequency_overflowing_to_infinity_is_refused_with_its_line() {
-    let dir = tempfile::tempdir().unwrap();
-    let f = dir.path().join("f.s1p");
-    std::fs::write(&f, "# GHz S RI R 50\n1 0.1 0\n1e308 0.1 0\n").unwrap();
-    let o = run(&["inspect", s(&f)]);
-    refused(&o, &["f.s1p:3:1", "up to 1e13 Hz", "1e308 GHz is inf Hz"]);
+    file_refused(
+        "inspect",
+        "f.s1p",
+        "# GHz S RI R 50\n1 0.1 0\n1e308 0.1 0\n",
+        &["f.s1p:3:1", "up to 1e13 Hz", "1e308 GHz is inf Hz"],
+    );
     // Finite but past the limit: 20 THz.
-    std::fs::write(&f, "# GHz S RI R 50\n1 0.1 0\n20000 0.1 0\n").unwrap();
-    let o = run(&["inspect", s(&f)]);
-    refused(&o, &["f.s1p:3:1", "up to 1e13 Hz"]);
+    file_refused(
+        "inspect",
+        "f.s1p",
+        "# GHz S RI R 50\n1 0.1 0\n20000 0.1 0\n",
+        &["f.s1p:3:1", "up to 1e13 Hz"],
+    );
 }
 
 #[test]
 fn a_db_value_overflowing_is_refused_with_its_line() {
-    let dir = tempfile::tempdir().unwrap();
-    let f = dir.path().join("d.s1p");
-    std::fs::write(&f, "# GHz S DB R 50\n1 -3 0\n2 1e308 0\n").unwrap();
-    let o = run(&["inspect", s(&f)]);
-    refused(&o, &["d.s1p:3:", "1e308", "at most 1e100"]);
-    let f = dir.path().join("v2.s1p");
-    std::fs::write(
-        &f,
+    file_refused(
+        "inspect",
+        "d.s1p",
+        "# GHz S DB R 50\n1 -3 0\n2 1e308 0\n",
+        &["d.s1p:3:", "1e308", "at most 1e100"],
+    );
+    file_refused(
+        "trace",
+        "v2.s1p",
         "[Version] 2.0\n# GHz S DB R 50\n[Number of Ports] 1\n[Number of Frequencies] 2\n[Network Data]\n1 -3 0\n2 1e308 0\n[End]\n",
-    )
-    .unwrap();
-    let o = run(&["trace", s(&f)]);
-    refused(&o, &["v2.s1p:7:", "at most 1e100"]);
+        &["v2.s1p:7:", "at most 1e100"],
+    );
+}
+
+#[test]
+fn a_number_that_overflows_when_read_is_refused_at_its_column() {
+    file_refused(
+        "inspect",
+        "o.s1p",
+        "# GHz S RI R 50\n1 0.1 0\n2 1e400 0\n",
+        &["o.s1p:3:3", "'1e400'"],
+    );
 }
 
 // ---- Messages ----
