@@ -412,6 +412,22 @@ fn a_megabyte_token_is_quoted_short() {
     let span = format!("0m..{}m", &token[..100_000]);
     let err = refused(&run(&["trace", s(&sweep()), "--span", &span]), &["..."]);
     assert!(err.len() < 1000, "{} bytes of error", err.len());
+    for fault in [
+        format!("{}:gap=30fF", &token[..100_000]),
+        format!("J2:{}", &token[..100_000]),
+        format!("J2:gap={}", &token[..100_000]),
+    ] {
+        let o = run(&[
+            "simulate",
+            s(&line_fixture()),
+            "--fault",
+            &fault,
+            "-o",
+            s(&dir.path().join("f.s1p")),
+        ]);
+        let err = refused(&o, &["fault '", "..."]);
+        assert!(err.len() < 1000, "{} bytes of error", err.len());
+    }
 }
 
 // ---- Safe writing ----
