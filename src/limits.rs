@@ -13,15 +13,16 @@
 //! | [`MAX_SWEEP_POINTS`] | 1,000,000 | frequencies in a file (`[Number of Frequencies]`, records), `simulate --points` |
 //! | [`MAX_SWEEP_VALUES`] | 16,777,216 | complex values (frequencies x ports^2) in one sweep |
 //! | [`MAX_TRACE_POINTS`] | 2,000,001 | output points of a trace (`--span` / `--step`) |
+//! | [`MAX_SIMULATION_WORK`] | 1e9 | sections x frequencies of one simulation |
 //! | [`MAX_FFT_POINTS`] | 16,777,216 | a whole-range trace's FFT (points x `--padding`) |
-//! | [`MAX_ELEMENTS`] | 10,000 | `[[element]]` entries in a line file |
+//! | [`MAX_ELEMENTS`] | 1000 | `[[element]]` entries in a line file |
 //! | [`MAX_LINE_LENGTH_M`] | 1000 m | one element's `length_m`, and the line's as-built length |
 //! | [`IMPEDANCE_RANGE_OHM`] | 1 to 1000 ohm | `impedance_ohm` in a line file |
 //! | [`RADIUS_RANGE_M`] | 1e-6 to 1 m | `inner_radius_m`, `outer_radius_m`, `pin_radius_m` |
 //! | [`MAX_ATTENUATOR_DB`] | 200 dB | an attenuator's `loss_db` |
 //! | [`MAX_CABLE_LOSS_DB_PER_M`] | 100 dB/m | a cable kind's `loss_db_per_m_1ghz` |
 //! | [`MAX_LOSS_TANGENT`] | 1 | a cable kind's `loss_tangent` |
-//! | [`MAX_FREQUENCY_HZ`] | 10 THz | frequencies in a sweep, `simulate --start` / `--stop` |
+//! | [`MAX_FREQUENCY_HZ`] | 10 THz | frequencies in a sweep, `simulate --start` / `--stop`, `--at` |
 //! | [`MAX_VALUE_MAGNITUDE`] | 1e100 | the real and imaginary parts of each value in a sweep |
 //! | [`MAX_ECHO_CHARS`] | 40 characters | a token quoted back in an error message |
 
@@ -44,10 +45,18 @@ pub const MAX_SWEEP_POINTS: usize = 1_000_000;
 pub const MAX_SWEEP_VALUES: usize = 1 << 24;
 /// Most output points of one trace (a `--span` at a `--step`).
 pub const MAX_TRACE_POINTS: usize = 2_000_001;
+/// Most sections times frequencies one simulation evaluates (each cable is cut into temperature slices,
+/// each slice a section). A section at one frequency took about 120 ns (release build, 2026-12-02): a line of
+/// 1000 cables from room temperature to 3.5 K, cold, is 58,000 sections and took 11 s at 1601 points
+/// (docs/performance.md); this limit stops at about two minutes.
+pub const MAX_SIMULATION_WORK: usize = 1_000_000_000;
 /// Largest FFT of a whole-range trace (points times `--padding`): 256 MiB of complex numbers.
 pub const MAX_FFT_POINTS: usize = 1 << 24;
-/// Most elements in a line file. A cryostat line has tens (common practice, no source).
-pub const MAX_ELEMENTS: usize = 10_000;
+/// Most elements in a line file. A cryostat line has tens (common practice, no source). The comparator's
+/// work grows faster than the element count: `compare` of two sweeps on a line of 1000 elements took 1.3 s,
+/// of 2000 elements 5.8 s, of 9,999 elements 225 s and 2.4 GB (release build, 2026-12-02,
+/// docs/performance.md).
+pub const MAX_ELEMENTS: usize = 1000;
 /// Longest as-built length of one element and of a whole line, m. A cryostat line is a few metres and its
 /// room-temperature cabling tens of metres (common practice, no source); the analysis walks a line in
 /// steps of centimetres, so this also bounds its work.

@@ -140,7 +140,7 @@ fn more_elements_than_the_limit_are_refused() {
     let lengths = vec!["0.01"; limits::MAX_ELEMENTS + 1];
     std::fs::write(&line, line_text(&lengths, "ss-086")).unwrap();
     let o = run(&["simulate", s(&line), "-o", s(&dir.path().join("x.s1p"))]);
-    refused(&o, &["many.toml:", "more than 10000 [[element]] entries"]);
+    refused(&o, &["many.toml:", "more than 1000 [[element]] entries"]);
 }
 
 /// The error locator once rescanned the text for every element (a bad 40,000-element file took 107 s).
@@ -199,6 +199,39 @@ fn absurd_point_counts_are_refused_before_allocating() {
 }
 
 #[test]
+fn a_simulation_of_minutes_is_refused_before_it_starts() {
+    // 1000 cables between room temperature and 3.5 K, cut into 5 K slices when cold: about 59,000 sections,
+    // which at 100,000 points would take about 12 minutes.
+    let mut text = String::from("name = \"test/slices\"\n[stages]\nk4 = 3.5\n");
+    for i in 0..limits::MAX_ELEMENTS {
+        let (from, to) = if i % 2 == 0 {
+            ("room", "k4")
+        } else {
+            ("k4", "room")
+        };
+        text += &format!(
+            "\n[[element]]\nkind = \"cable\"\nname = \"c{i}\"\ncable = \"ss-086\"\nlength_m = 0.999\nfrom = \"{from}\"\nto = \"{to}\"\n"
+        );
+    }
+    let dir = tempfile::tempdir().unwrap();
+    let line = dir.path().join("slices.toml");
+    std::fs::write(&line, text).unwrap();
+    let out = dir.path().join("x.s1p");
+    let o = run(&[
+        "simulate",
+        s(&line),
+        "--state",
+        "cold",
+        "--points",
+        "100000",
+        "-o",
+        s(&out),
+    ]);
+    refused(&o, &["section-frequencies", "limit of 1e9", "--points"]);
+    assert!(!out.exists());
+}
+
+#[test]
 fn frequencies_past_the_simulators_limit_are_refused() {
     let dir = tempfile::tempdir().unwrap();
     let out = dir.path().join("x.s1p");
@@ -221,6 +254,14 @@ fn frequencies_past_the_simulators_limit_are_refused() {
 fn a_power_drop_that_is_not_finite_is_refused() {
     let o = run(&["compare", s(&sweep()), s(&sweep()), "--power-drop", "inf"]);
     refused(&o, &["--power-drop"]);
+}
+
+#[test]
+fn a_quoting_frequency_past_the_limit_is_refused() {
+    let o = run(&["locate", s(&sweep()), "--at", "1e12THz"]);
+    refused(&o, &["--at 1e24", "1e13 Hz"]);
+    let o = run(&["compare", s(&sweep()), s(&sweep()), "--at", "1e12THz"]);
+    refused(&o, &["--at 1e24"]);
 }
 
 #[test]

@@ -6,6 +6,7 @@ use coldtrace::compare::job::{run_locate, LineSource, LocateJob};
 use coldtrace::compare::report::PlotData;
 use coldtrace::compare::text::render_locate;
 use coldtrace::compare::{AnalysisConfig, Severity};
+use coldtrace::limits::{short_number, MAX_FREQUENCY_HZ};
 use coldtrace::line::State;
 use coldtrace::report::{write_plot, Figure, Marker, Series};
 use coldtrace::transform::{Window, DEFAULT_VELOCITY_FACTOR};
@@ -106,6 +107,13 @@ pub fn analysis_config(a: &LineArgs) -> coldtrace::Result<AnalysisConfig> {
         a.at.as_deref()
             .map(|s| units::parse(s, Family::Frequency))
             .transpose()?;
+    if let Some(f) = reference_hz.filter(|f| !(0.0..=MAX_FREQUENCY_HZ).contains(f)) {
+        return Err(Error::Usage(format!(
+            "--at {}: give a frequency from 0 to {} Hz (coldtrace's limit, docs/limits.md), e.g. --at 6GHz",
+            short_number(f),
+            short_number(MAX_FREQUENCY_HZ)
+        )));
+    }
     Ok(AnalysisConfig {
         window,
         reference_hz,

@@ -20,7 +20,7 @@ use super::physics::SectionCoeffs;
 use super::position::slices;
 use super::rng::Rng;
 use super::LineError;
-use crate::limits::{MAX_FREQUENCY_HZ, MAX_SWEEP_POINTS};
+use crate::limits::{short_number, MAX_FREQUENCY_HZ, MAX_SIMULATION_WORK, MAX_SWEEP_POINTS};
 use crate::network::Network;
 use num_complex::Complex64;
 use std::f64::consts::PI;
@@ -289,6 +289,17 @@ pub fn simulate(line: &Line, config: &SimConfig) -> Result<Network, LineError> {
         config.two_port,
         &config.perturbation,
     );
+    let work = blocks.len().saturating_mul(config.freqs_hz.len());
+    if work > MAX_SIMULATION_WORK {
+        return Err(LineError::Invalid(format!(
+            "simulating {} sections (cables are cut into temperature slices) at {} frequencies is {} \
+             section-frequencies, above the limit of {} (docs/limits.md; minutes of work): give fewer --points",
+            blocks.len(),
+            config.freqs_hz.len(),
+            short_number(work as f64),
+            short_number(MAX_SIMULATION_WORK as f64)
+        )));
+    }
     let z_ref = line.impedance_ohm;
     let ports = if config.two_port { 2 } else { 1 };
     let mut s = Vec::with_capacity(config.freqs_hz.len() * ports * ports);
