@@ -136,7 +136,7 @@ impl<'a> Parser<'a> {
             let raw = &self.values[k * 2 * per..(k + 1) * 2 * per];
             fill_matrix(&mut m, raw, n, self.matrix_format, order, format);
             if m.iter().any(|&c| !bounded(c)) {
-                return Err(self.not_finite(k, raw, format));
+                return Err(self.out_of_range(k, raw, format));
             }
             match kind {
                 None => {
@@ -176,9 +176,12 @@ impl<'a> Parser<'a> {
                             self.record_lines[k] as usize,
                             1,
                             ErrorKind::Unconvertible,
-                            format!("{} values whose S-parameters overflow", parameter.as_str()),
-                            "a network whose S-parameters are finite at the reference impedance",
-                            "check the values of this record",
+                            format!(
+                                "{} values whose S-parameters exceed {MAX_VALUE_MAGNITUDE:e} in magnitude",
+                                parameter.as_str()
+                            ),
+                            "a network whose S-parameters at the reference impedance are within coldtrace's limit (docs/limits.md)",
+                            "check the values of this record and the reference impedance",
                         ));
                     }
                     s.extend_from_slice(&sm);
@@ -253,7 +256,7 @@ fn bounded(c: C) -> bool {
 impl Parser<'_> {
     /// The error for record `k` whose pairs make a complex number past [`MAX_VALUE_MAGNITUDE`] or not
     /// finite (a dB value of 1e308, say: 10^(1e308/20) overflows).
-    fn not_finite(&self, k: usize, raw: &[f64], format: Format) -> TouchstoneError {
+    fn out_of_range(&self, k: usize, raw: &[f64], format: Format) -> TouchstoneError {
         let (a, b) = raw
             .chunks_exact(2)
             .map(|p| (p[0], p[1]))
