@@ -17,6 +17,7 @@
 //! | [`MAX_FFT_POINTS`] | 16,777,216 | a whole-range trace's FFT (points x `--padding`) |
 //! | [`MAX_ELEMENTS`] | 1000 | `[[element]]` entries in a line file |
 //! | [`MAX_LINE_LENGTH_M`] | 1000 m | one element's `length_m`, and the line's as-built length |
+//! | [`REFERENCE_RANGE_OHM`] | 1e-6 to 1e9 ohm | a sweep's reference resistances (`R`, `[Reference]`) |
 //! | [`IMPEDANCE_RANGE_OHM`] | 1 to 1000 ohm | `impedance_ohm` in a line file |
 //! | [`RADIUS_RANGE_M`] | 1e-6 to 1 m | `inner_radius_m`, `outer_radius_m`, `pin_radius_m` |
 //! | [`MAX_ATTENUATOR_DB`] | 200 dB | an attenuator's `loss_db` |
@@ -61,6 +62,9 @@ pub const MAX_ELEMENTS: usize = 1000;
 /// room-temperature cabling tens of metres (common practice, no source); the analysis walks a line in
 /// steps of centimetres, so this also bounds its work.
 pub const MAX_LINE_LENGTH_M: f64 = 1000.0;
+/// Reference resistances a sweep may give (option line `R`, `[Reference]`), ohm. 50 and 75 ohm are the
+/// usual ones (common practice, no source); outside this range conversions and impedance profiles overflow.
+pub const REFERENCE_RANGE_OHM: (f64, f64) = (1e-6, 1e9);
 /// Characteristic impedances a line file may give (line, cable kind, element), ohm. Coax is made from
 /// about 10 to 200 ohm (common practice, no source); outside this range the section's geometry, worked out
 /// from the impedance, overflows.

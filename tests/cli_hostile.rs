@@ -386,6 +386,22 @@ fn a_db_value_overflowing_is_refused_with_its_line() {
 }
 
 #[test]
+fn reference_resistances_past_the_limit_are_refused() {
+    file_refused(
+        "inspect",
+        "r.s1p",
+        "# GHz S RI R 1e308\n1 0.1 0\n",
+        &["r.s1p:1:", "1e-6 to 1e9 ohm"],
+    );
+    file_refused(
+        "trace",
+        "r2.s1p",
+        "[Version] 2.0\n# GHz S RI R 50\n[Number of Ports] 1\n[Reference] 1e-300\n[Number of Frequencies] 1\n[Network Data]\n1 0 0\n[End]\n",
+        &["r2.s1p:4:13", "1e-6 to 1e9 ohm"],
+    );
+}
+
+#[test]
 fn a_number_that_overflows_when_read_is_refused_at_its_column() {
     file_refused(
         "inspect",

@@ -2,6 +2,7 @@
 //! section "Keywords" and one section per keyword; titles from memory).
 
 use super::*;
+use crate::limits::REFERENCE_RANGE_OHM;
 
 impl<'a> Parser<'a> {
     /// `[Version]` as the first non-comment line: a version 2 file.
@@ -453,13 +454,13 @@ impl<'a> Parser<'a> {
                     "give exactly one reference resistance per port",
                 ));
             }
-            if v <= 0.0 {
+            if !(REFERENCE_RANGE_OHM.0..=REFERENCE_RANGE_OHM.1).contains(&v) {
                 return Err(self.err(
                     line,
                     c as usize,
                     ErrorKind::BadKeywordValue,
-                    format!("{v}"),
-                    "a positive reference resistance in ohm",
+                    crate::limits::short_number(v),
+                    super::super::options::reference_expected(),
                     "write positive reference resistances after [Reference]",
                 ));
             }
