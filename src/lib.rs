@@ -18,6 +18,7 @@
 
 pub mod compare;
 pub mod history;
+pub mod limits;
 pub mod line;
 pub mod network;
 pub mod numeric;

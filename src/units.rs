@@ -83,7 +83,7 @@ fn prefix_factor(p: &str) -> Option<f64> {
 pub fn parse(text: &str, family: Family) -> Result<f64, UnitError> {
     let err = |reason: String| UnitError {
         what: family.what(),
-        text: text.to_string(),
+        text: crate::limits::clip(text).into_owned(),
         reason,
         example: family.example(),
     };
@@ -106,7 +106,7 @@ pub fn parse(text: &str, family: Family) -> Result<f64, UnitError> {
     let (num, suffix) = t.split_at(split);
     let value: f64 = num
         .parse()
-        .map_err(|_| err(format!("'{num}' is not a number")))?;
+        .map_err(|_| err(format!("'{}' is not a number", crate::limits::clip(num))))?;
     if !value.is_finite() {
         return Err(err("the number is not finite".into()));
     }
@@ -131,19 +131,30 @@ pub fn parse(text: &str, family: Family) -> Result<f64, UnitError> {
             } else {
                 prefix
             };
-            return prefix_factor(prefix)
-                .map(|f| value * f)
-                .ok_or_else(|| err(format!("unknown prefix '{prefix}'")));
+            let factor = prefix_factor(prefix)
+                .ok_or_else(|| err(format!("unknown prefix '{}'", crate::limits::clip(prefix))))?;
+            let si = value * factor;
+            if !si.is_finite() {
+                return Err(err(format!(
+                    "{} {} overflows a 64-bit float in SI units",
+                    crate::limits::short_number(value),
+                    crate::limits::clip(suffix)
+                )));
+            }
+            return Ok(si);
         }
     }
-    Err(err(format!("unknown unit '{suffix}'")))
+    Err(err(format!(
+        "unknown unit '{}'",
+        crate::limits::clip(suffix)
+    )))
 }
 
 /// Parse a range written `a..b` (both ends in `family`), returning `(a, b)` with `a < b`.
 pub fn parse_range(text: &str, family: Family) -> Result<(f64, f64), UnitError> {
     let (a, b) = text.split_once("..").ok_or_else(|| UnitError {
         what: "a range",
-        text: text.to_string(),
+        text: crate::limits::clip(text).into_owned(),
         reason: "no '..' between the two ends".into(),
         example: "'0m..3m' or '0.9m..1.1m'",
     })?;
@@ -151,7 +162,7 @@ pub fn parse_range(text: &str, family: Family) -> Result<(f64, f64), UnitError> 
     if a >= b {
         return Err(UnitError {
             what: "a range",
-            text: text.to_string(),
+            text: crate::limits::clip(text).into_owned(),
             reason: "the first end must be below the second".into(),
             example: "'0m..3m' or '0.9m..1.1m'",
         });
@@ -170,6 +181,16 @@ mod tests {
         assert_eq!(parse("10khz", Family::Frequency).unwrap(), 1e4);
         assert_eq!(parse("5e8", Family::Frequency).unwrap(), 5e8);
         assert!(parse("5 furlongs", Family::Frequency).is_err());
+    }
+
+    #[test]
+    fn overflow_and_long_text_are_refused_short() {
+        // 1e300 THz is 1e312 Hz, past the largest 64-bit float (about 1.8e308).
+        let e = parse("1e300THz", Family::Frequency).unwrap_err();
+        assert!(e.reason.contains("overflows"), "{e}");
+        let long = format!("{}GHz", "9".repeat(100_000));
+        let e = parse(&long, Family::Frequency).unwrap_err();
+        assert!(e.to_string().len() < 400, "{} bytes", e.to_string().len());
     }
 
     #[test]

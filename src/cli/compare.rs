@@ -3,7 +3,7 @@
 //! Flags become a `coldtrace::compare::job::CompareJob`; the work is `run_compare`.
 
 use super::locate::{
-    analysis_config, figure, inputs, line_source, parse_fail_on, parse_state, LineArgs,
+    analysis_config, check_plot, figure, inputs, line_source, parse_fail_on, parse_state, LineArgs,
 };
 use coldtrace::compare::job::{run_compare, CompareJob};
 use coldtrace::compare::text::render_compare;
@@ -38,6 +38,11 @@ pub struct Args {
 pub fn run(args: Args) -> coldtrace::Result<u8> {
     let fail_on = parse_fail_on(&args.fail_on)?;
     let mut analysis = analysis_config(&args.line)?;
+    if let Some(db) = args.power_drop.filter(|d| !d.is_finite()) {
+        return Err(Error::Usage(format!(
+            "--power-drop {db}: give the measured drop in dB as a finite number, e.g. --power-drop 1.5"
+        )));
+    }
     analysis.observed_drop_db = args.power_drop;
     let job = CompareJob {
         baseline: args.baseline.clone(),
@@ -55,6 +60,7 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
             .transpose()?,
         analysis,
     };
+    check_plot(&args.line, &[&args.baseline, &args.current])?;
     let report = run_compare(&job)?;
     if let Some(p) = &args.line.plot {
         let title = format!("{}: baseline and current", report.line);

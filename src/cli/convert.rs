@@ -55,6 +55,7 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
             ))
         })?),
     };
+    coldtrace::output::check_outputs(&[&args.output], args.force, &[&args.input])?;
     let ts = read_file(&args.input)?;
     for w in &ts.warnings {
         eprintln!("coldtrace: warning: {w}");

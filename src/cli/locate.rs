@@ -6,6 +6,7 @@ use coldtrace::compare::job::{run_locate, LineSource, LocateJob};
 use coldtrace::compare::report::PlotData;
 use coldtrace::compare::text::render_locate;
 use coldtrace::compare::{AnalysisConfig, Severity};
+use coldtrace::limits::{short_number, MAX_FREQUENCY_HZ};
 use coldtrace::line::State;
 use coldtrace::report::{write_plot, Figure, Marker, Series};
 use coldtrace::transform::{Window, DEFAULT_VELOCITY_FACTOR};
@@ -68,6 +69,15 @@ pub fn inputs<'a>(a: &'a LineArgs, sweeps: &[&'a std::path::Path]) -> Vec<&'a st
     v
 }
 
+/// Refuse a `--plot` path that cannot be written before any work is done.
+pub fn check_plot(a: &LineArgs, sweeps: &[&std::path::Path]) -> coldtrace::Result<()> {
+    if let Some(p) = &a.plot {
+        coldtrace::report::PlotFormat::from_path(p)?;
+        coldtrace::output::check_outputs(&[p], a.force, &inputs(a, sweeps))?;
+    }
+    Ok(())
+}
+
 /// `--fail-on`'s value.
 pub fn parse_fail_on(s: &str) -> coldtrace::Result<Severity> {
     Severity::parse(s).ok_or_else(|| {
@@ -97,6 +107,13 @@ pub fn analysis_config(a: &LineArgs) -> coldtrace::Result<AnalysisConfig> {
         a.at.as_deref()
             .map(|s| units::parse(s, Family::Frequency))
             .transpose()?;
+    if let Some(f) = reference_hz.filter(|f| !(0.0..=MAX_FREQUENCY_HZ).contains(f)) {
+        return Err(Error::Usage(format!(
+            "--at {}: give a frequency from 0 to {} Hz (coldtrace's limit, docs/limits.md), e.g. --at 6GHz",
+            short_number(f),
+            short_number(MAX_FREQUENCY_HZ)
+        )));
+    }
     Ok(AnalysisConfig {
         window,
         reference_hz,
@@ -151,6 +168,7 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
             .transpose()?,
         analysis: analysis_config(&args.line)?,
     };
+    check_plot(&args.line, &[&args.sweep])?;
     let report = run_locate(&job)?;
     if let Some(p) = &args.line.plot {
         write_plot(

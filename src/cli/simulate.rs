@@ -1,6 +1,7 @@
 //! `coldtrace simulate LINE --state warm|cold --start 0.5GHz --stop 10GHz --points 1601 [--noise-db -90]
 //! [--seed N] [--fault SPEC]... [--s21] -o out.s1p [--force]`: a realistic sweep of a line from its model.
 
+use coldtrace::limits::{MAX_FREQUENCY_HZ, MAX_SWEEP_POINTS};
 use coldtrace::line::{file, simulate, Fault, SimConfig, State};
 use coldtrace::touchstone::{write_file, WriteOptions};
 use coldtrace::units::{self, Family};
@@ -50,10 +51,23 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
         .map_err(|e: String| coldtrace::Error::Usage(format!("--state: {e}")))?;
     let start = units::parse(&args.start, Family::Frequency)?;
     let stop = units::parse(&args.stop, Family::Frequency)?;
-    if args.points == 0 {
-        return Err(coldtrace::Error::Usage(
-            "--points must be at least 1".into(),
-        ));
+    if let Some(db) = args.noise_db.filter(|d| !d.is_finite()) {
+        return Err(coldtrace::Error::Usage(format!(
+            "--noise-db {db}: give the noise power in dB as a finite number, e.g. --noise-db -90"
+        )));
+    }
+    if args.points == 0 || args.points > MAX_SWEEP_POINTS {
+        return Err(coldtrace::Error::Usage(format!(
+            "--points {}: give 1 to {MAX_SWEEP_POINTS} points (coldtrace's limit, docs/limits.md)",
+            args.points
+        )));
+    }
+    if stop > MAX_FREQUENCY_HZ || start > MAX_FREQUENCY_HZ {
+        return Err(coldtrace::Error::Usage(format!(
+            "--start/--stop: {} Hz is above the simulator's limit of {MAX_FREQUENCY_HZ} Hz \
+             (docs/limits.md); give e.g. --stop 10GHz",
+            start.max(stop)
+        )));
     }
     if args.points > 1 && stop <= start {
         return Err(coldtrace::Error::Usage(format!(
@@ -76,6 +90,7 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
             }
         )));
     }
+    coldtrace::output::check_outputs(&[&args.output], args.force, &[&args.line])?;
     let line = file::read_file(&args.line)?;
     for w in &line.warnings {
         eprintln!("coldtrace: warning: {w}");

@@ -6,15 +6,16 @@
 //! connectors, attenuators and device marked.
 
 use coldtrace::line::{file::read_file as line_file, LineMap, State};
-use coldtrace::report::write_plot;
-use coldtrace::touchstone::{read_file, write_file, WriteOptions};
+use coldtrace::output::{check_outputs, write_output};
+use coldtrace::report::{plot_bytes, PlotFormat};
+use coldtrace::touchstone::{read_file, write, WriteOptions};
 use coldtrace::transform::{
     run_trace, DistanceMap, Mode, TraceConfig, TraceEngine, TracePlan, UniformLine, Window,
     DEFAULT_VELOCITY_FACTOR,
 };
 use coldtrace::units::{self, Family};
 use coldtrace::{Error, Network, Warning};
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 
 #[derive(Debug, clap::Args)]
 pub struct Args {
@@ -120,6 +121,18 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
         None => &uniform,
     };
 
+    let mut inputs = vec![args.input.as_path()];
+    inputs.extend(args.line.as_deref());
+    let outputs: Vec<&Path> = [&args.out, &args.csv, &args.plot]
+        .into_iter()
+        .flatten()
+        .map(PathBuf::as_path)
+        .collect();
+    check_outputs(&outputs, args.force, &inputs)?;
+    if let Some(plot) = &args.plot {
+        PlotFormat::from_path(plot)?;
+    }
+
     let ts = read_file(&args.input)?;
     let net = &ts.network;
     let mut extra = Vec::new();
@@ -158,8 +171,8 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
     warnings.append(&mut outcome.trace.warnings);
     outcome.trace.warnings = warnings;
 
-    let mut inputs = vec![args.input.as_path()];
-    inputs.extend(args.line.as_deref());
+    // Every output is made before any is written, so a failure leaves nothing half done.
+    let mut files: Vec<(&Path, Vec<u8>)> = Vec::new();
     if let (Some(out), Some(g)) = (&args.out, &outcome.gated) {
         let gated = Network::one_port(net.freqs_hz.clone(), g.values.clone(), reference_ohm);
         let mut opts = WriteOptions::default();
@@ -169,10 +182,10 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
             args.gate.as_deref().unwrap_or(""),
             config.gate_shape.label()
         ));
-        write_file(out, &gated, &opts, args.force, &inputs)?;
+        files.push((out, write(&gated, &opts)?.into_bytes()));
     }
     if let Some(csv) = &args.csv {
-        coldtrace::output::write_output(csv, outcome.trace.csv().as_bytes(), args.force, &inputs)?;
+        files.push((csv, outcome.trace.csv().into_bytes()));
     }
     if let Some(plot) = &args.plot {
         let title = format!(
@@ -183,7 +196,10 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
                 .unwrap_or_default(),
             mode.name()
         );
-        write_plot(plot, &outcome.trace.figure(&title), args.force, &inputs)?;
+        files.push((plot, plot_bytes(plot, &outcome.trace.figure(&title))?));
+    }
+    for (path, bytes) in &files {
+        write_output(path, bytes, args.force, &inputs)?;
     }
     let text = if args.json {
         serde_json::to_string_pretty(&outcome.trace)

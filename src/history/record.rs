@@ -248,7 +248,12 @@ fn parse_sweep(bytes: &[u8], path: &Path) -> Result<(Network, Vec<Warning>)> {
 
 /// Record one sweep: the work of `history record`.
 pub fn record_sweep(store: &mut dyn HistoryStore, job: &RecordJob) -> Result<RecordOutcome> {
-    let bytes = std::fs::read(&job.sweep).map_err(|e| Error::io(&job.sweep, e))?;
+    let bytes = crate::limits::read_capped(
+        &job.sweep,
+        crate::limits::MAX_SWEEP_FILE_BYTES,
+        "sweep file",
+    )
+    .map_err(|e| Error::io(&job.sweep, e))?;
     let sha256 = sha256_hex(&bytes);
     if let Some(r) = store.find_sha256(&sha256)? {
         let message = format!(
@@ -367,7 +372,11 @@ fn load_baseline(
              history baseline LINE RECORD`",
         )
     };
-    let bytes = match std::fs::read(&path) {
+    let bytes = match crate::limits::read_capped(
+        &path,
+        crate::limits::MAX_SWEEP_FILE_BYTES,
+        "sweep file",
+    ) {
         Ok(b) => b,
         Err(e) => return Ok(Err(unavailable(e.to_string()))),
     };

@@ -67,7 +67,7 @@ pub struct Fault {
 
 fn err(spec: &str, message: impl Into<String>) -> LineError {
     LineError::Fault {
-        spec: spec.to_string(),
+        spec: crate::limits::clip(spec).into_owned(),
         message: message.into(),
     }
 }
@@ -111,9 +111,10 @@ impl Fault {
             Some((w, v)) => (w.trim().to_ascii_lowercase(), Some(v.trim())),
             None => (kind.to_ascii_lowercase(), None),
         };
+        let shown = crate::limits::clip(&word);
         let need = |v: Option<&str>| -> Result<String, LineError> {
             v.map(str::to_string)
-                .ok_or_else(|| err(spec, format!("'{word}' needs a value, e.g. {word}=...")))
+                .ok_or_else(|| err(spec, format!("'{shown}' needs a value, e.g. {shown}=...")))
         };
         let positive = |x: f64, what: &str| -> Result<f64, LineError> {
             if x > 0.0 && x.is_finite() {
@@ -225,11 +226,16 @@ impl Fault {
                 }
             }
             "open" | "short" if value.is_some() => {
-                return Err(err(spec, format!("'{word}' takes no value")))
+                return Err(err(spec, format!("'{shown}' takes no value")))
             }
             "open" => FaultKind::Open,
             "short" => FaultKind::Short,
-            other => return Err(err(spec, format!("unknown fault kind '{other}'"))),
+            other => {
+                return Err(err(
+                    spec,
+                    format!("unknown fault kind '{}'", crate::limits::clip(other)),
+                ))
+            }
         };
         Ok(Fault {
             spec: spec.to_string(),
@@ -253,16 +259,17 @@ impl Fault {
             FaultTarget::Connector { name } => (name.clone(), None),
             FaultTarget::Offset { element, offset_m } => (element.clone(), Some(*offset_m)),
         };
+        let shown = crate::limits::clip(&name);
         let (idx, e) = line.element(&name).ok_or_else(|| {
             err(
                 &self.spec,
-                format!("no element named '{name}'; the line has: {}", names()),
+                format!("no element named '{shown}'; the line has: {}", names()),
             )
         })?;
         if line.first_device().is_some_and(|d| idx > d) {
             return Err(err(
                 &self.spec,
-                format!("'{name}' lies beyond the device that ends what reflection can see"),
+                format!("'{shown}' lies beyond the device that ends what reflection can see"),
             ));
         }
         let offset = match offset {
@@ -270,7 +277,8 @@ impl Fault {
                 return Err(err(
                     &self.spec,
                     format!(
-                        "offset {o} m is past the end of '{name}' ({} m long)",
+                        "offset {} m is past the end of '{shown}' ({} m long)",
+                        crate::limits::short_number(o),
                         e.length_m
                     ),
                 ))
@@ -280,7 +288,7 @@ impl Fault {
                 ElementKind::Cable { .. } => {
                     return Err(err(
                         &self.spec,
-                        format!("'{name}' is a cable: give an offset, e.g. '{name}@0.1m:...'"),
+                        format!("'{shown}' is a cable: give an offset, e.g. '{shown}@0.1m:...'"),
                     ))
                 }
                 _ => 0.5 * e.length_m,

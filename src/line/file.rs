@@ -14,6 +14,11 @@ use super::chain::{ConnectorLengths, Element, ElementKind, Line, Load, Stage, RO
 use super::materials::{Material, PtfeModel, ROOM_K};
 use super::names;
 use super::LineError;
+use crate::limits::{
+    clip, clip_to, read_capped, short_number, IMPEDANCE_RANGE_OHM, MAX_ATTENUATOR_DB,
+    MAX_CABLE_LOSS_DB_PER_M, MAX_ECHO_CHARS, MAX_ELEMENTS, MAX_LINE_FILE_BYTES, MAX_LINE_LENGTH_M,
+    MAX_LOSS_TANGENT, RADIUS_RANGE_M,
+};
 use serde::de::{self, Deserializer, Visitor};
 use serde::Deserialize;
 use std::collections::BTreeMap;
@@ -119,19 +124,30 @@ struct RawCable {
 struct Ctx<'a> {
     path: &'a Path,
     text: &'a str,
+    /// Byte offset where each line starts, built once so that placing a span costs a binary search, not a
+    /// scan of the text (a file of thousands of elements is placed once per element).
+    line_starts: Vec<usize>,
 }
 
-impl Ctx<'_> {
+impl<'a> Ctx<'a> {
+    fn new(path: &'a Path, text: &'a str) -> Self {
+        let line_starts = std::iter::once(0)
+            .chain(memchr::memchr_iter(b'\n', text.as_bytes()).map(|i| i + 1))
+            .collect();
+        Ctx {
+            path,
+            text,
+            line_starts,
+        }
+    }
+
+    /// 1-based line and column (in characters) of byte offset `pos`.
     fn line_col(&self, pos: usize) -> (usize, usize) {
         let pos = pos.min(self.text.len());
-        let before = &self.text[..pos];
-        let line = before.matches('\n').count() + 1;
-        let col = before
-            .rsplit('\n')
-            .next()
-            .map(|s| s.chars().count())
-            .unwrap_or(0)
-            + 1;
+        // The last line start at or before `pos`.
+        let line = self.line_starts.partition_point(|&s| s <= pos);
+        let start = self.line_starts[line - 1];
+        let col = self.text.get(start..pos).map_or(0, |s| s.chars().count()) + 1;
         (line, col)
     }
 
@@ -147,15 +163,42 @@ impl Ctx<'_> {
     }
 }
 
-/// Read and resolve a line file.
+/// Read and resolve a line file. Files above [`MAX_LINE_FILE_BYTES`] and devices are refused before
+/// anything is read; a pipe is read up to that limit.
 pub fn read_file(path: &Path) -> crate::Result<Line> {
-    let text = std::fs::read_to_string(path).map_err(|e| crate::Error::io(path, e))?;
+    let bytes = read_capped(path, MAX_LINE_FILE_BYTES, "line file")
+        .map_err(|e| crate::Error::io(path, e))?;
+    let text = String::from_utf8(bytes).map_err(|e| {
+        let good = &e.as_bytes()[..e.utf8_error().valid_up_to()];
+        let line = 1 + memchr::memchr_iter(b'\n', good).count();
+        LineError::File {
+            path: path.to_path_buf(),
+            line,
+            column: 0,
+            key: None,
+            message: "the file is not UTF-8 text (TOML files are UTF-8); save it as UTF-8".into(),
+        }
+    })?;
     Ok(parse(&text, path)?)
 }
 
-/// Parse and resolve line-file text; `path` names it in errors.
+/// Parse and resolve line-file text; `path` names it in errors. A UTF-8 byte-order mark at the start is
+/// skipped with a `byte-order-mark` warning.
 pub fn parse(text: &str, path: &Path) -> Result<Line, LineError> {
-    let ctx = Ctx { path, text };
+    if let Some(rest) = text.strip_prefix(crate::touchstone::BYTE_ORDER_MARK) {
+        let mut line = parse(rest, path)?;
+        line.warnings.insert(
+            0,
+            crate::Warning::new(
+                "byte-order-mark",
+                "the file starts with a UTF-8 byte-order mark (an invisible character some editors add); it was skipped",
+                "save the file as UTF-8 without a byte-order mark",
+            )
+            .at(format!("{}:1", path.display())),
+        );
+        return Ok(line);
+    }
+    let ctx = Ctx::new(path, text);
     let raw: RawFile = toml::from_str(text).map_err(|e| {
         let span = e.span().unwrap_or(0..0);
         let msg = e.message().to_string();
@@ -169,9 +212,56 @@ pub fn parse(text: &str, path: &Path) -> Result<Line, LineError> {
         } else {
             ""
         };
-        ctx.err(span, key.as_deref(), format!("{msg}{hint}"))
+        ctx.err(
+            span,
+            key.as_deref(),
+            format!("{}{hint}", clip_to(&msg, 10 * MAX_ECHO_CHARS)),
+        )
     })?;
+    if let Some(extra) = raw.elements.get(MAX_ELEMENTS) {
+        return Err(ctx.err(
+            extra.span(),
+            Some("element"),
+            format!(
+                "more than {MAX_ELEMENTS} [[element]] entries (coldtrace's limit, docs/limits.md); \
+                 a cryostat line has tens: check that the file is the line you meant"
+            ),
+        ));
+    }
     resolve(&ctx, raw)
+}
+
+/// A positive number (`positive`) that must also lie in `lo..=hi` (`unit` for the message): the ranges of
+/// docs/limits.md, beyond which the physics overflows or means nothing.
+fn ranged(
+    ctx: &Ctx,
+    v: &Spanned<Num>,
+    key: &str,
+    allow_zero: bool,
+    (lo, hi): (f64, f64),
+    unit: &str,
+) -> Result<f64, LineError> {
+    let x = positive(ctx, v, key, allow_zero)?;
+    let unit = if unit.is_empty() {
+        String::new()
+    } else {
+        format!(" {unit}")
+    };
+    if (lo..=hi).contains(&x) || (allow_zero && x == 0.0) {
+        Ok(x)
+    } else {
+        Err(ctx.err(
+            v.span(),
+            Some(key),
+            format!(
+                "{}{unit} is outside {} to {}{unit}, the range coldtrace accepts here (docs/limits.md); \
+                 check the value and its unit",
+                short_number(x),
+                short_number(lo),
+                short_number(hi)
+            ),
+        ))
+    }
 }
 
 fn positive(ctx: &Ctx, v: &Spanned<Num>, key: &str, allow_zero: bool) -> Result<f64, LineError> {
@@ -184,7 +274,8 @@ fn positive(ctx: &Ctx, v: &Spanned<Num>, key: &str, allow_zero: bool) -> Result<
             v.span(),
             Some(key),
             format!(
-                "{x} is not allowed: give a {} number",
+                "{} is not allowed: give a {} number",
+                short_number(x),
                 if allow_zero {
                     "non-negative"
                 } else {
@@ -202,7 +293,7 @@ fn material(ctx: &Ctx, v: &Spanned<String>, key: &str) -> Result<Material, LineE
             Some(key),
             format!(
                 "unknown material '{}'{}; known (aliases in brackets, any case): {}",
-                v.get_ref(),
+                clip(v.get_ref()),
                 names::did_you_mean(Material::closest(v.get_ref())),
                 Material::listing()
             ),
@@ -217,6 +308,7 @@ fn user_cable(
     z_line: f64,
 ) -> Result<CableKind, LineError> {
     let r = raw.get_ref();
+    let shown = clip(name);
     if let Some(b) = catalogue::built_in_name(name) {
         return Err(ctx.err(
             raw.span(),
@@ -243,7 +335,7 @@ fn user_cable(
             return Err(ctx.err(
                 raw.span(),
                 Some("velocity_factor"),
-                format!("cable kind '{name}' needs velocity_factor (e.g. 0.70)"),
+                format!("cable kind '{shown}' needs velocity_factor (e.g. 0.70)"),
             ))
         }
     };
@@ -283,7 +375,7 @@ fn user_cable(
         None => Material::Ptfe,
     };
     let a = match &r.inner_radius_m {
-        Some(v) => positive(ctx, v, "inner_radius_m", false)?,
+        Some(v) => ranged(ctx, v, "inner_radius_m", false, RADIUS_RANGE_M, "m")?,
         None => catalogue::A_086,
     };
     let b = match (&r.outer_radius_m, &r.impedance_ohm) {
@@ -295,7 +387,7 @@ fn user_cable(
             ))
         }
         (Some(v), None) => {
-            let b = positive(ctx, v, "outer_radius_m", false)?;
+            let b = ranged(ctx, v, "outer_radius_m", false, RADIUS_RANGE_M, "m")?;
             if b <= a {
                 return Err(ctx.err(
                     v.span(),
@@ -307,7 +399,7 @@ fn user_cable(
         }
         (None, z) => {
             let z0 = match z {
-                Some(z) => positive(ctx, z, "impedance_ohm", false)?,
+                Some(z) => ranged(ctx, z, "impedance_ohm", false, IMPEDANCE_RANGE_OHM, "ohm")?,
                 None => z_line,
             };
             a * (z0 * er.sqrt() / catalogue::ETA0_OVER_2PI).exp()
@@ -322,11 +414,18 @@ fn user_cable(
         inner,
         outer,
         loss_tangent: match &r.loss_tangent {
-            Some(v) => positive(ctx, v, "loss_tangent", true)?,
+            Some(v) => ranged(ctx, v, "loss_tangent", true, (0.0, MAX_LOSS_TANGENT), "")?,
             None => catalogue::PTFE_TAN_D,
         },
         loss_db_per_m_1ghz: match &r.loss_db_per_m_1ghz {
-            Some(v) => Some(positive(ctx, v, "loss_db_per_m_1ghz", false)?),
+            Some(v) => Some(ranged(
+                ctx,
+                v,
+                "loss_db_per_m_1ghz",
+                false,
+                (0.0, MAX_CABLE_LOSS_DB_PER_M),
+                "dB/m",
+            )?),
             None => None,
         },
     })
@@ -375,7 +474,7 @@ const KEYS: &[(&str, &[&str])] = &[
 
 fn resolve(ctx: &Ctx, raw: RawFile) -> Result<Line, LineError> {
     let z_line = match &raw.impedance_ohm {
-        Some(v) => positive(ctx, v, "impedance_ohm", false)?,
+        Some(v) => ranged(ctx, v, "impedance_ohm", false, IMPEDANCE_RANGE_OHM, "ohm")?,
         None => 50.0,
     };
     if raw.name.get_ref().trim().is_empty() {
@@ -395,7 +494,10 @@ fn resolve(ctx: &Ctx, raw: RawFile) -> Result<Line, LineError> {
                 return Err(ctx.err(
                     v.span(),
                     Some("ptfe_model"),
-                    format!("unknown PTFE model '{other}'; use free, filled or gapped"),
+                    format!(
+                        "unknown PTFE model '{}'; use free, filled or gapped",
+                        clip(other)
+                    ),
                 ))
             }
         },
@@ -410,7 +512,7 @@ fn resolve(ctx: &Ctx, raw: RawFile) -> Result<Line, LineError> {
                     "unknown value '{}'; use \"in-cables\" (the default: cable lengths include their \
                      connectors, so a connector without length_m adds no length) or \"added\" (every \
                      connector adds its length, default {} mm)",
-                    v.get_ref(),
+                    clip(v.get_ref()),
                     CONNECTOR_LENGTH_M * 1e3
                 ),
             )
@@ -455,7 +557,7 @@ fn resolve(ctx: &Ctx, raw: RawFile) -> Result<Line, LineError> {
                     Some(key),
                     format!(
                         "unknown stage '{}'; known: {} (define more under [stages])",
-                        v.get_ref(),
+                        clip(v.get_ref()),
                         stages
                             .iter()
                             .map(|s| s.name.as_str())
@@ -526,7 +628,8 @@ fn resolve(ctx: &Ctx, raw: RawFile) -> Result<Line, LineError> {
                     el.kind.span(),
                     Some("kind"),
                     format!(
-                        "unknown element kind '{kind}'; use cable, connector, attenuator or device"
+                        "unknown element kind '{}'; use cable, connector, attenuator or device",
+                        clip(kind)
                     ),
                 )
             })?;
@@ -574,10 +677,11 @@ fn resolve(ctx: &Ctx, raw: RawFile) -> Result<Line, LineError> {
             return Err(ctx.err(
                 el.name.span(),
                 Some("name"),
-                format!("duplicate element name '{name}' (first used on line {first}); names must be unique"),
+                format!("duplicate element name '{}' (first used on line {first}); names must be unique", clip(&name)),
             ));
         }
         seen.insert(name.clone(), line_no);
+        let shown = clip(&name);
         let at_stage = |v: &Option<Spanned<String>>| -> Result<(String, f64), LineError> {
             match v {
                 Some(s) => stage_k(s, "stage"),
@@ -586,17 +690,38 @@ fn resolve(ctx: &Ctx, raw: RawFile) -> Result<Line, LineError> {
         };
         let length = |default: Option<f64>| -> Result<f64, LineError> {
             match (&el.length_m, default) {
-                (Some(v), _) => positive(ctx, v, "length_m", default.is_some()),
+                (Some(v), _) => {
+                    let l = positive(ctx, v, "length_m", default.is_some())?;
+                    if l > MAX_LINE_LENGTH_M {
+                        return Err(ctx.err(
+                            v.span(),
+                            Some("length_m"),
+                            format!(
+                                "{} m is longer than the {MAX_LINE_LENGTH_M} m limit for one element \
+                                 (docs/limits.md); give the as-built length in metres",
+                                short_number(l)
+                            ),
+                        ));
+                    }
+                    Ok(l)
+                }
                 (None, Some(d)) => Ok(d),
                 (None, None) => Err(ctx.err(
                     sel.span(),
                     Some("length_m"),
-                    format!("cable '{name}' needs length_m (as-built metres)"),
+                    format!("cable '{shown}' needs length_m (as-built metres)"),
                 )),
             }
         };
         let z_el = match &el.impedance_ohm {
-            Some(v) => Some(positive(ctx, v, "impedance_ohm", false)?),
+            Some(v) => Some(ranged(
+                ctx,
+                v,
+                "impedance_ohm",
+                false,
+                IMPEDANCE_RANGE_OHM,
+                "ohm",
+            )?),
             None => None,
         };
         let (kind_v, length_m, from, to) = match kind {
@@ -606,7 +731,7 @@ fn resolve(ctx: &Ctx, raw: RawFile) -> Result<Line, LineError> {
                         sel.span(),
                         Some("cable"),
                         format!(
-                            "cable '{name}' needs cable = KIND; known kinds: {}",
+                            "cable '{shown}' needs cable = KIND; known kinds: {}",
                             known_kinds()
                         ),
                     )
@@ -618,7 +743,7 @@ fn resolve(ctx: &Ctx, raw: RawFile) -> Result<Line, LineError> {
                         format!(
                             "unknown cable kind '{}'{}; known kinds (any case): {} (or define one under \
                              [cables.NAME])",
-                            c.get_ref(),
+                            clip(c.get_ref()),
                             names::did_you_mean(closest_kind(c.get_ref()).as_deref()),
                             known_kinds()
                         ),
@@ -634,7 +759,7 @@ fn resolve(ctx: &Ctx, raw: RawFile) -> Result<Line, LineError> {
                             None => Err(ctx.err(
                                 sel.span(),
                                 Some(key),
-                                format!("cable '{name}' needs '{key}' (a stage name)"),
+                                format!("cable '{shown}' needs '{key}' (a stage name)"),
                             )),
                         }
                     };
@@ -645,7 +770,7 @@ fn resolve(ctx: &Ctx, raw: RawFile) -> Result<Line, LineError> {
             "connector" => {
                 let st = at_stage(&el.stage)?;
                 let pin = match &el.pin_radius_m {
-                    Some(v) => positive(ctx, v, "pin_radius_m", false)?,
+                    Some(v) => ranged(ctx, v, "pin_radius_m", false, RADIUS_RANGE_M, "m")?,
                     None => elements
                         .iter()
                         .rev()
@@ -675,12 +800,12 @@ fn resolve(ctx: &Ctx, raw: RawFile) -> Result<Line, LineError> {
             "attenuator" => {
                 let st = at_stage(&el.stage)?;
                 let loss_db = match &el.loss_db {
-                    Some(v) => positive(ctx, v, "loss_db", true)?,
+                    Some(v) => ranged(ctx, v, "loss_db", true, (0.0, MAX_ATTENUATOR_DB), "dB")?,
                     None => {
                         return Err(ctx.err(
                             sel.span(),
                             Some("loss_db"),
-                            format!("attenuator '{name}' needs loss_db (e.g. 20.0)"),
+                            format!("attenuator '{shown}' needs loss_db (e.g. 20.0)"),
                         ))
                     }
                 };
@@ -707,10 +832,10 @@ fn resolve(ctx: &Ctx, raw: RawFile) -> Result<Line, LineError> {
                             "open" => Load::Open,
                             "short" => Load::Short,
                             other => {
-                                return Err(ctx.err(l.span(), Some("load"), format!("unknown load '{other}'; use \"match\", \"open\", \"short\" or a resistance in ohm")))
+                                return Err(ctx.err(l.span(), Some("load"), format!("unknown load '{}'; use \"match\", \"open\", \"short\" or a resistance in ohm", clip(other))))
                             }
                         },
-                        RawLoad::Ohms(r) if *r > 0.0 => Load::Ohms(*r),
+                        RawLoad::Ohms(r) if *r > 0.0 && r.is_finite() => Load::Ohms(*r),
                         RawLoad::Int(r) if *r > 0 => Load::Ohms(*r as f64),
                         _ => return Err(ctx.err(l.span(), Some("load"), "a load resistance must be positive")),
                     },
@@ -743,6 +868,21 @@ fn resolve(ctx: &Ctx, raw: RawFile) -> Result<Line, LineError> {
             Some("element"),
             "the line has no [[element]] entries; add at least one",
         ));
+    }
+    let mut total_m = 0.0;
+    for (e, (name_span, _)) in elements.iter().zip(&spans) {
+        total_m += e.length_m;
+        if total_m > MAX_LINE_LENGTH_M {
+            return Err(ctx.err(
+                name_span.clone(),
+                Some("length_m"),
+                format!(
+                    "the line is longer than the {MAX_LINE_LENGTH_M} m limit (docs/limits.md) by the end of \
+                     '{}'; check the lengths, which are as-built metres",
+                    clip(&e.name)
+                ),
+            ));
+        }
     }
     if connector_lengths == ConnectorLengths::InCables {
         carve_connectors(ctx, &mut elements, &spans)?;

@@ -20,6 +20,7 @@ use super::physics::SectionCoeffs;
 use super::position::slices;
 use super::rng::Rng;
 use super::LineError;
+use crate::limits::{short_number, MAX_FREQUENCY_HZ, MAX_SIMULATION_WORK, MAX_SWEEP_POINTS};
 use crate::network::Network;
 use num_complex::Complex64;
 use std::f64::consts::PI;
@@ -255,6 +256,19 @@ pub fn simulate(line: &Line, config: &SimConfig) -> Result<Network, LineError> {
             "frequencies must be >= 0 and strictly increasing: check --start and --stop".into(),
         ));
     }
+    if config.freqs_hz.len() > MAX_SWEEP_POINTS {
+        return Err(LineError::Invalid(format!(
+            "{} frequencies asked, above the limit of {MAX_SWEEP_POINTS} (docs/limits.md): give --points \
+             {MAX_SWEEP_POINTS} or fewer",
+            config.freqs_hz.len()
+        )));
+    }
+    if let Some(&f) = config.freqs_hz.last().filter(|&&f| f > MAX_FREQUENCY_HZ) {
+        return Err(LineError::Invalid(format!(
+            "{f} Hz is above the simulator's limit of {MAX_FREQUENCY_HZ} Hz (docs/limits.md), beyond which \
+             its material data mean nothing: give a lower --stop"
+        )));
+    }
     if line.visible().is_empty() {
         return Err(LineError::Invalid(format!(
             "line '{}' has no elements to simulate",
@@ -275,6 +289,17 @@ pub fn simulate(line: &Line, config: &SimConfig) -> Result<Network, LineError> {
         config.two_port,
         &config.perturbation,
     );
+    let work = blocks.len().saturating_mul(config.freqs_hz.len());
+    if work > MAX_SIMULATION_WORK {
+        return Err(LineError::Invalid(format!(
+            "simulating {} sections (cables are cut into temperature slices) at {} frequencies is {} \
+             section-frequencies, above the limit of {} (docs/limits.md; minutes of work): give fewer --points",
+            blocks.len(),
+            config.freqs_hz.len(),
+            short_number(work as f64),
+            short_number(MAX_SIMULATION_WORK as f64)
+        )));
+    }
     let z_ref = line.impedance_ohm;
     let ports = if config.two_port { 2 } else { 1 };
     let mut s = Vec::with_capacity(config.freqs_hz.len() * ports * ports);
@@ -313,6 +338,17 @@ pub fn simulate(line: &Line, config: &SimConfig) -> Result<Network, LineError> {
             let (a, b) = rng.normal_pair();
             *v += Complex64::new(a * sigma, b * sigma);
         }
+    }
+    if let Some(k) = s.iter().position(|v| !v.is_finite()) {
+        return Err(LineError::Invalid(format!(
+            "the simulated sweep is not finite at {} Hz{}; check the line file's values and the faults",
+            config.freqs_hz[k / (ports * ports)],
+            if config.noise_db.is_some() {
+                " (or --noise-db, which is relative to |S| = 1: -90 is typical)"
+            } else {
+                ""
+            }
+        )));
     }
     Ok(Network {
         ports,

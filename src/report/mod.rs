@@ -2,7 +2,9 @@
 
 pub mod plot;
 
-pub use plot::{render_png, render_svg, write_plot, Figure, Marker, PlotFormat, Series};
+pub use plot::{
+    plot_bytes, render_png, render_svg, write_plot, Figure, Marker, PlotFormat, Series,
+};
 
 /// Errors of this layer.
 #[derive(Debug, thiserror::Error)]

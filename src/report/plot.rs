@@ -322,9 +322,14 @@ pub fn write_plot(
     overwrite: bool,
     inputs: &[&Path],
 ) -> crate::Result<()> {
-    let bytes = match PlotFormat::from_path(path)? {
+    write_output(path, &plot_bytes(path, fig)?, overwrite, inputs)
+}
+
+/// `fig` rendered as the file `path` asks for: SVG or PNG by extension. For a command that renders every
+/// output before it writes any.
+pub fn plot_bytes(path: &Path, fig: &Figure) -> crate::Result<Vec<u8>> {
+    Ok(match PlotFormat::from_path(path)? {
         PlotFormat::Svg => render_svg(fig)?.into_bytes(),
         PlotFormat::Png => render_png(fig)?,
-    };
-    write_output(path, &bytes, overwrite, inputs)
+    })
 }

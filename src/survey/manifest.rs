@@ -57,12 +57,17 @@ fn line_col(text: &str, offset: usize) -> (usize, usize) {
 
 /// Read a manifest; every error names the manifest, the line and column, and the fix.
 pub fn read_manifest(path: &Path) -> Result<Vec<SurveyItem>, SurveyError> {
-    let text = std::fs::read_to_string(path).map_err(|e| SurveyError::Manifest {
+    let manifest_error = |e: String| SurveyError::Manifest {
         path: path.to_path_buf(),
         line: 0,
         column: 0,
-        message: format!("{e}; give the path of a survey manifest (TOML, docs/survey.md)"),
-    })?;
+        message: format!("{e}; give the path of a survey manifest (TOML, docs/history.md)"),
+    };
+    // A manifest is a short list of lines: the line file's size limit bounds it too.
+    let bytes =
+        crate::limits::read_capped(path, crate::limits::MAX_LINE_FILE_BYTES, "survey manifest")
+            .map_err(|e| manifest_error(e.to_string()))?;
+    let text = String::from_utf8(bytes).map_err(|e| manifest_error(e.to_string()))?;
     parse_manifest(&text, path)
 }
 

@@ -201,19 +201,40 @@ pub enum MatrixFormat {
 }
 
 /// Read a Touchstone file. The port count comes from `[Number of Ports]` (version 2) or the `.sNp`
-/// extension (version 1).
+/// extension (version 1). Files above [`crate::limits::MAX_SWEEP_FILE_BYTES`] and devices are refused
+/// before anything is read; a pipe is read up to that limit.
 pub fn read_file(path: &Path) -> Result<Touchstone, TouchstoneError> {
-    let bytes = std::fs::read(path).map_err(|source| TouchstoneError::Io {
-        path: path.to_path_buf(),
-        source,
-    })?;
+    let bytes = crate::limits::read_capped(path, crate::limits::MAX_SWEEP_FILE_BYTES, "sweep")
+        .map_err(|source| TouchstoneError::Io {
+            path: path.to_path_buf(),
+            source,
+        })?;
     read_bytes(&bytes, path)
 }
 
 /// Read Touchstone text; `path` names it in messages and gives the `.sNp` extension.
+/// A UTF-8 byte-order mark at the start is skipped with a `byte-order-mark` warning.
 pub fn read_str(text: &str, path: &Path) -> Result<Touchstone, TouchstoneError> {
-    parser::parse(text, path)
+    match text.strip_prefix(BYTE_ORDER_MARK) {
+        None => parser::parse(text, path),
+        Some(rest) => {
+            let mut ts = parser::parse(rest, path)?;
+            ts.warnings.insert(
+                0,
+                Warning::new(
+                    "byte-order-mark",
+                    "the file starts with a UTF-8 byte-order mark (an invisible character some editors add); it was skipped",
+                    "save the file as plain ASCII text without a byte-order mark",
+                )
+                .at(format!("{}:1", path.display())),
+            );
+            Ok(ts)
+        }
+    }
 }
+
+/// The UTF-8 byte-order mark, U+FEFF, which some editors put at the start of a text file.
+pub const BYTE_ORDER_MARK: char = '\u{feff}';
 
 /// Read raw bytes (checked to be text first); `path` as in [`read_str`].
 pub fn read_bytes(bytes: &[u8], path: &Path) -> Result<Touchstone, TouchstoneError> {

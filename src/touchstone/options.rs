@@ -5,12 +5,21 @@
 //! the number must follow `R` directly. A bare `#` is legal.
 
 use super::{Format, FreqUnit, Parameter};
+use crate::limits::REFERENCE_RANGE_OHM;
 use nom::bytes::complete::{tag, take_while1};
 use nom::character::complete::space0;
 use nom::combinator::{all_consuming, map};
 use nom::multi::many0;
 use nom::sequence::preceded;
 use nom::{IResult, Parser};
+
+/// What a reference resistance must be: positive and within coldtrace's limit.
+pub(crate) fn reference_expected() -> String {
+    format!(
+        "a positive reference resistance from {:e} to {:e} ohm (coldtrace's limit, docs/limits.md)",
+        REFERENCE_RANGE_OHM.0, REFERENCE_RANGE_OHM.1
+    )
+}
 
 /// Default reference resistance when the option line gives none, ohm (Touchstone 1.1, "Option Line").
 pub const DEFAULT_REFERENCE_OHM: f64 = 50.0;
@@ -110,11 +119,11 @@ pub(crate) fn parse_option_line(line: &str) -> Result<OptionLine, OptionError> {
                 while i < toks.len() {
                     match super::lexer::parse_number(toks[i]) {
                         Some(v) => {
-                            if v <= 0.0 {
+                            if !(REFERENCE_RANGE_OHM.0..=REFERENCE_RANGE_OHM.1).contains(&v) {
                                 return Err(OptionError {
                                     offset: offset_of(toks[i]),
                                     found: toks[i].to_string(),
-                                    expected: "a positive reference resistance in ohm".into(),
+                                    expected: reference_expected(),
                                 });
                             }
                             out.reference.push(v);

@@ -9,6 +9,7 @@
 
 use super::czt::fast_len;
 use super::{DistanceMap, TransformError, Window};
+use crate::limits::short_number;
 use crate::Warning;
 use serde::Serialize;
 
@@ -18,8 +19,8 @@ use serde::Serialize;
 pub const UNIFORM_TOLERANCE: f64 = 1e-4;
 /// Tolerance on `f_start / df` being an integer (0 or 1) for a harmonic grid.
 pub const HARMONIC_TOLERANCE: f64 = 1e-3;
-/// Largest number of output points a plan may ask for.
-pub const MAX_POINTS: usize = 2_000_001;
+/// Largest number of output points a plan may ask for ([`crate::limits::MAX_TRACE_POINTS`]).
+pub const MAX_POINTS: usize = crate::limits::MAX_TRACE_POINTS;
 /// Default output step with a span and no step: this fraction of the resolution.
 pub const DEFAULT_STEP_FRACTION: f64 = 0.1;
 /// A step finer than this fraction of the resolution earns a "finer than needed" warning.
@@ -267,13 +268,34 @@ impl TracePlan {
         };
         let alias_free_range_m = map.distance_m(period_s);
         let resolution_m = map.distance_m(resolution_s) - map.distance_m(0.0);
+        // A grid of absurd steps (1e-300 Hz, say) puts the time axis past the largest float.
+        if !(alias_free_range_m.is_finite() && resolution_m.is_finite() && resolution_m > 0.0) {
+            return Err(TransformError::Invalid(format!(
+                "the sweep's grid (step {} Hz over {} points) gives a time axis that is not finite; \
+                 check the frequencies and their unit",
+                short_number(grid.step_hz),
+                grid.points
+            )));
+        }
         let axis = match self.span_m {
             None => {
                 let base = match harmonics {
                     Some(k) => 2 * k + 1,
                     None => grid.points,
                 };
-                let len = fast_len(self.padding * base);
+                let len = self
+                    .padding
+                    .checked_mul(base)
+                    .filter(|&n| n <= crate::limits::MAX_FFT_POINTS)
+                    .map(fast_len)
+                    .ok_or_else(|| {
+                        TransformError::Invalid(format!(
+                            "{base} points padded {} times exceed the {} points of the largest FFT \
+                             (docs/limits.md); give a smaller --padding or a sweep with fewer points",
+                            self.padding,
+                            crate::limits::MAX_FFT_POINTS
+                        ))
+                    })?;
                 TimeAxis {
                     start_s: 0.0,
                     step_s: period_s / len as f64,
@@ -293,13 +315,19 @@ impl TracePlan {
                         "step {step} m must be positive, e.g. 1mm"
                     )));
                 }
-                let points = ((x1 - x0) / step).floor() as usize + 1;
-                if points > MAX_POINTS {
+                // Counted in floating point first (finite span and step: never NaN), so a huge span over a
+                // fine step cannot wrap a usize.
+                let count = ((x1 - x0) / step).floor() + 1.0;
+                if count > MAX_POINTS as f64 {
                     return Err(TransformError::Invalid(format!(
-                        "span {x0} m..{x1} m at step {step} m needs {points} points (at most {MAX_POINTS}); \
-                         give a coarser --step or a shorter --span"
+                        "span {} m..{} m at step {} m needs {count:.3e} points (at most {MAX_POINTS}, \
+                         docs/limits.md); give a coarser --step or a shorter --span",
+                        short_number(x0),
+                        short_number(x1),
+                        short_number(step)
                     )));
                 }
+                let points = count as usize;
                 if x1 > alias_free_range_m || x0 < 0.0 {
                     warnings.push(Warning::new(
                         "span-past-alias-free-range",

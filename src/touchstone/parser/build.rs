@@ -1,6 +1,7 @@
 //! End of file checks and the final network: pairs to complex, matrix layout, Y/Z/H/G to S, units to Hz.
 
 use super::*;
+use crate::limits::MAX_VALUE_MAGNITUDE;
 
 impl<'a> Parser<'a> {
     pub(super) fn finish(mut self) -> Res<Touchstone> {
@@ -134,13 +135,19 @@ impl<'a> Parser<'a> {
         for k in 0..points {
             let raw = &self.values[k * 2 * per..(k + 1) * 2 * per];
             fill_matrix(&mut m, raw, n, self.matrix_format, order, format);
+            if m.iter().any(|&c| !bounded(c)) {
+                return Err(self.out_of_range(k, raw, format));
+            }
             match kind {
                 None => {
                     for i in 0..n {
-                        // |S|^2 avoids a square root per point; the maximum is kept squared.
-                        let mag = m[i * n + i].norm_sqr();
-                        if mag > max_reflection.0 && mag > 1.0 {
-                            max_reflection = (mag, k);
+                        // |S|^2 avoids a square root per point; the magnitude itself (which cannot
+                        // overflow where its square would) only for the rare values above 1.
+                        if m[i * n + i].norm_sqr() > 1.0 {
+                            let mag = m[i * n + i].norm();
+                            if mag > max_reflection.0 {
+                                max_reflection = (mag, k);
+                            }
                         }
                     }
                     s.extend_from_slice(&m);
@@ -164,6 +171,19 @@ impl<'a> Parser<'a> {
                             "check the values of this record",
                         )
                     })?;
+                    if sm.iter().any(|&c| !bounded(c)) {
+                        return Err(self.err(
+                            self.record_lines[k] as usize,
+                            1,
+                            ErrorKind::Unconvertible,
+                            format!(
+                                "{} values whose S-parameters exceed {MAX_VALUE_MAGNITUDE:e} in magnitude",
+                                parameter.as_str()
+                            ),
+                            "a network whose S-parameters at the reference impedance are within coldtrace's limit (docs/limits.md)",
+                            "check the values of this record and the reference impedance",
+                        ));
+                    }
                     s.extend_from_slice(&sm);
                 }
             }
@@ -171,12 +191,17 @@ impl<'a> Parser<'a> {
         if max_reflection.0 > 1.0 {
             let line = self.record_lines[max_reflection.1] as usize;
             let f = self.freqs[max_reflection.1];
+            let largest = if max_reflection.0 > 1e6 {
+                format!("{:e}", max_reflection.0)
+            } else {
+                format!("{:.6}", max_reflection.0)
+            };
             self.warn(
                 line,
                 "reflection-above-one",
                 format!(
-                    "a reflection coefficient exceeds 1 in magnitude (largest {:.6} at {f} {}); a passive port reflects at most 1",
-                    max_reflection.0.sqrt(),
+                    "a reflection coefficient exceeds 1 in magnitude (largest {} at {f} {}); a passive port reflects at most 1",
+                    largest,
                     unit.as_str()
                 ),
                 "usually calibration drift at the band edge; recalibrate if it is large",
@@ -220,6 +245,39 @@ impl<'a> Parser<'a> {
             info,
             warnings: self.warnings,
         })
+    }
+}
+
+/// A value whose parts are finite and within [`MAX_VALUE_MAGNITUDE`].
+fn bounded(c: C) -> bool {
+    c.re.abs() <= MAX_VALUE_MAGNITUDE && c.im.abs() <= MAX_VALUE_MAGNITUDE
+}
+
+impl Parser<'_> {
+    /// The error for record `k` whose pairs make a complex number past [`MAX_VALUE_MAGNITUDE`] or not
+    /// finite (a dB value of 1e308, say: 10^(1e308/20) overflows).
+    fn out_of_range(&self, k: usize, raw: &[f64], format: Format) -> TouchstoneError {
+        let (a, b) = raw
+            .chunks_exact(2)
+            .map(|p| (p[0], p[1]))
+            .find(|&(a, b)| !bounded(pair_to_complex(a, b, format)))
+            .unwrap_or((raw[0], raw[1]));
+        self.err(
+            self.record_lines[k] as usize,
+            1,
+            ErrorKind::NotANumber,
+            format!(
+                "the pair {} {}",
+                crate::limits::short_number(a),
+                crate::limits::short_number(b)
+            ),
+            format!(
+                "a value whose {} number is at most {:e} in magnitude (coldtrace's limit, docs/limits.md)",
+                format.as_str(),
+                MAX_VALUE_MAGNITUDE
+            ),
+            "correct the value, or the format on the option line (RI, MA or DB)",
+        )
     }
 }
 

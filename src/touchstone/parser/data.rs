@@ -1,6 +1,7 @@
 //! Network and noise records: version 1 line by line, version 2 counted across lines.
 
 use super::*;
+use crate::limits::{short_number, MAX_FREQUENCY_HZ};
 
 impl<'a> Parser<'a> {
     pub(super) fn record_len(&self) -> usize {
@@ -67,6 +68,21 @@ impl<'a> Parser<'a> {
         Ok(())
     }
 
+    /// Every number of a data line must be finite: `1e400` overflows to infinity when read.
+    pub(super) fn check_finite(&self, vals: &[f64], cols: &[u32], line: usize) -> Res<()> {
+        match vals.iter().position(|v| !v.is_finite()) {
+            None => Ok(()),
+            Some(i) => Err(self.err(
+                line,
+                cols[i] as usize,
+                ErrorKind::NotANumber,
+                short_number(vals[i]),
+                "a finite number (this one overflows a 64-bit float, beyond about 1.8e308)",
+                "correct the number; the file may be damaged",
+            )),
+        }
+    }
+
     pub(super) fn check_freq(
         &self,
         f: f64,
@@ -75,6 +91,27 @@ impl<'a> Parser<'a> {
         col: usize,
         noise: bool,
     ) -> Res<()> {
+        let unit = self
+            .options
+            .as_ref()
+            .and_then(|o| o.unit)
+            .unwrap_or(FreqUnit::GHz);
+        if f * unit.hz() > MAX_FREQUENCY_HZ {
+            return Err(self.err(
+                line,
+                col,
+                ErrorKind::NonIncreasingFrequency,
+                short_number(f),
+                format!(
+                    "a frequency up to {} Hz (coldtrace's limit, docs/limits.md); {} {} is {} Hz",
+                    short_number(MAX_FREQUENCY_HZ),
+                    short_number(f),
+                    unit.as_str(),
+                    short_number(f * unit.hz())
+                ),
+                "correct the frequency, or the unit on the option line",
+            ));
+        }
         if f < 0.0 {
             return Err(self.err(
                 line,
@@ -105,14 +142,39 @@ impl<'a> Parser<'a> {
         Ok(())
     }
 
-    pub(super) fn push_record(&mut self, rec: &[f64], line: usize) {
+    /// Keep one complete record; refused past [`MAX_SWEEP_POINTS`] records or [`MAX_SWEEP_VALUES`] values.
+    pub(super) fn push_record(&mut self, rec: &[f64], line: usize) -> Res<()> {
+        let values = (self.values.len() + rec.len() - 1) / 2;
+        if self.freqs.len() >= MAX_SWEEP_POINTS || values > MAX_SWEEP_VALUES {
+            let (found, expected) = if self.freqs.len() >= MAX_SWEEP_POINTS {
+                (
+                    format!("record {}", self.freqs.len() + 1),
+                    format!("at most {MAX_SWEEP_POINTS} frequencies in one sweep (coldtrace's limit, docs/limits.md)"),
+                )
+            } else {
+                (
+                    format!("{values} complex values so far"),
+                    format!("at most {MAX_SWEEP_VALUES} complex values (frequencies x ports^2) in one sweep (coldtrace's limit, docs/limits.md)"),
+                )
+            };
+            return Err(self.err(
+                line,
+                1,
+                ErrorKind::CountMismatch,
+                found,
+                expected,
+                "split the sweep into several files, or keep only the band and ports you need",
+            ));
+        }
         self.freqs.push(rec[0]);
         self.values.extend_from_slice(&rec[1..]);
         self.record_lines.push(line as u32);
+        Ok(())
     }
 
     /// One data line of a version 1 file.
     pub(super) fn v1_line(&mut self, vals: &[f64], cols: &[u32], line: usize) -> Res<()> {
+        self.check_finite(vals, cols, line)?;
         self.seen_data = true;
         let n = self.ports.unwrap_or(1);
         let rl = 1 + 2 * n * n;
@@ -148,7 +210,7 @@ impl<'a> Parser<'a> {
                         "complete the line, or check that the file extension (.sNp) gives the right port count",
                     ));
                 }
-                self.push_record(vals, line);
+                self.push_record(vals, line)?;
                 return Ok(());
             }
             self.pending_start = (line, col0);
@@ -180,7 +242,7 @@ impl<'a> Parser<'a> {
         if self.pending.len() == rl {
             let rec = std::mem::take(&mut self.pending);
             let start = self.pending_start.0;
-            self.push_record(&rec, start);
+            self.push_record(&rec, start)?;
             self.pending = rec;
             self.pending.clear();
         }
@@ -208,6 +270,7 @@ impl<'a> Parser<'a> {
 
     /// Values of a version 2 data line; records are counted across lines.
     pub(super) fn v2_values(&mut self, vals: &[f64], cols: &[u32], line: usize) -> Res<()> {
+        self.check_finite(vals, cols, line)?;
         let (rl, noise) = match self.section {
             Section::Network => (self.record_len(), false),
             Section::Noise => (NOISE_VALUES, true),
@@ -272,7 +335,7 @@ impl<'a> Parser<'a> {
                     self.noise.push(r);
                 } else {
                     let rec = std::mem::take(&mut self.pending);
-                    self.push_record(&rec, self.pending_start.0);
+                    self.push_record(&rec, self.pending_start.0)?;
                     self.pending = rec;
                 }
                 self.pending.clear();

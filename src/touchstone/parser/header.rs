@@ -2,6 +2,7 @@
 //! section "Keywords" and one section per keyword; titles from memory).
 
 use super::*;
+use crate::limits::REFERENCE_RANGE_OHM;
 
 impl<'a> Parser<'a> {
     /// `[Version]` as the first non-comment line: a version 2 file.
@@ -155,6 +156,8 @@ impl<'a> Parser<'a> {
         })
     }
 
+    /// A count after a keyword: a whole number from `min` to the keyword's limit
+    /// ([`crate::limits::MAX_PORTS`] ports, [`crate::limits::MAX_SWEEP_POINTS`] frequencies).
     pub(super) fn count_argument(
         &self,
         arg: &str,
@@ -163,26 +166,51 @@ impl<'a> Parser<'a> {
         k: Keyword,
         min: usize,
     ) -> Res<usize> {
+        let (max, what) = match k {
+            Keyword::NumberOfPorts => (MAX_PORTS, "ports"),
+            _ => (MAX_SWEEP_POINTS, "frequencies"),
+        };
+        let digits = !arg.is_empty() && arg.bytes().all(|b| b.is_ascii_digit());
         match arg.parse::<usize>() {
-            Ok(n)
-                if n >= min
-                    && n <= if k == Keyword::NumberOfPorts {
-                        MAX_PORTS
-                    } else {
-                        usize::MAX
-                    } =>
-            {
-                Ok(n)
-            }
+            Ok(n) if (min..=max).contains(&n) => Ok(n),
+            // Past the limit, or too many digits to hold at all.
+            Ok(n) if n > max => self.count_too_large(arg, off, line, k, max, what),
+            Err(_) if digits => self.count_too_large(arg, off, line, k, max, what),
             _ => Err(self.err(
                 line,
                 off + 1,
                 ErrorKind::BadKeywordValue,
                 if arg.is_empty() { "nothing" } else { arg },
-                format!("a whole number >= {min} after {}", k.name()),
+                format!("a whole number from {min} to {max} after {}", k.name()),
                 format!("write '{} <count>'", k.name()),
             )),
         }
+    }
+
+    fn count_too_large(
+        &self,
+        arg: &str,
+        off: usize,
+        line: usize,
+        k: Keyword,
+        max: usize,
+        what: &str,
+    ) -> Res<usize> {
+        Err(self.err(
+            line,
+            off + 1,
+            ErrorKind::BadKeywordValue,
+            arg,
+            format!(
+                "at most {max} {what} after {} (coldtrace's limit, docs/limits.md)",
+                k.name()
+            ),
+            if k == Keyword::NumberOfPorts {
+                format!("check the count; coldtrace reads files of up to {max} ports, so extract the ports you need into a smaller file")
+            } else {
+                format!("check the count; coldtrace reads sweeps of up to {max} frequencies, so split the sweep into several files")
+            },
+        ))
     }
 
     pub(super) fn keyword(&mut self, body: &str, line: usize, lead: usize) -> Res<()> {
@@ -426,13 +454,13 @@ impl<'a> Parser<'a> {
                     "give exactly one reference resistance per port",
                 ));
             }
-            if v <= 0.0 {
+            if !(REFERENCE_RANGE_OHM.0..=REFERENCE_RANGE_OHM.1).contains(&v) {
                 return Err(self.err(
                     line,
                     c as usize,
                     ErrorKind::BadKeywordValue,
-                    format!("{v}"),
-                    "a positive reference resistance in ohm",
+                    crate::limits::short_number(v),
+                    super::super::options::reference_expected(),
                     "write positive reference resistances after [Reference]",
                 ));
             }

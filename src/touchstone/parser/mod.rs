@@ -28,9 +28,7 @@ const SPACES: &[char] = &[' ', '\t'];
 /// Parameter Data"; section title from memory).
 const NOISE_VALUES: usize = 5;
 
-/// Largest port count accepted, to keep `1 + 2 N^2` values per record sane (a guard against garbage, not a
-/// rule of the specification).
-const MAX_PORTS: usize = 1000;
+use crate::limits::{clip, MAX_PORTS, MAX_SWEEP_POINTS, MAX_SWEEP_VALUES};
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 enum Section {
@@ -155,7 +153,17 @@ pub(crate) fn parse(text: &str, path: &Path) -> Res<Touchstone> {
                 p.start_v2(body, line.number)?;
                 continue;
             }
-            p.ports = ports_from_extension(path).filter(|&n| n <= MAX_PORTS);
+            if let Some(n) = ports_from_extension(path).filter(|&n| n > MAX_PORTS) {
+                return Err(p.err(
+                    line.number,
+                    1,
+                    ErrorKind::BadPortCount,
+                    format!("file name '{}' ({n} ports)", display_name(path)),
+                    format!("at most {MAX_PORTS} ports (coldtrace's limit, docs/limits.md)"),
+                    format!("rename the file if its extension is wrong, or extract the ports you need into a file of at most {MAX_PORTS} ports"),
+                ));
+            }
+            p.ports = ports_from_extension(path);
             if p.ports.is_none() {
                 return Err(p.err(
                     line.number,
@@ -257,12 +265,14 @@ impl<'a> Parser<'a> {
         expected: impl Into<String>,
         fix: impl Into<String>,
     ) -> TouchstoneError {
+        // A token is quoted back short: a damaged file can hold a token of megabytes.
+        let found: String = found.into();
         TouchstoneError::Parse {
             path: self.path.to_path_buf(),
             line,
             col,
             kind,
-            found: found.into(),
+            found: clip(&found).into_owned(),
             expected: expected.into(),
             fix: fix.into(),
         }
