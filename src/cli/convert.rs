@@ -1,4 +1,4 @@
-//! `coldtrace convert FILE -o OUT [--version 1|2] [--format RI|MA|DB] [--unit GHZ] [--force]`: rewrite a
+//! `coldtrace convert FILE -o OUT [--touchstone-version 1|2] [--format RI|MA|DB] [--unit GHZ] [--force]`: rewrite a
 //! Touchstone file as S-parameters (Y, Z, H, G are converted) at the file's reference impedances.
 //! Unset choices keep the input's: its major version, format and frequency unit.
 
@@ -15,7 +15,7 @@ pub struct Args {
     pub output: PathBuf,
     /// Touchstone major version to write: 1 or 2 (2 writes [Version] 2.0). Default: the input's.
     #[arg(long, value_name = "1|2")]
-    pub version: Option<String>,
+    pub touchstone_version: Option<String>,
     /// Number format: RI, MA or DB. Default: the input's.
     #[arg(long, value_name = "RI|MA|DB")]
     pub format: Option<String>,
@@ -29,13 +29,13 @@ pub struct Args {
 
 pub fn run(args: Args) -> coldtrace::Result<u8> {
     let usage = coldtrace::Error::Usage;
-    let version = match args.version.as_deref() {
+    let version = match args.touchstone_version.as_deref() {
         None => None,
         Some("1") => Some(WriteVersion::V1),
         Some("2") => Some(WriteVersion::V2),
         Some(v) => {
             return Err(usage(format!(
-                "--version {v}: expected 1 or 2; write --version 1 or --version 2"
+                "--touchstone-version {v}: expected 1 or 2; write --touchstone-version 1 or --touchstone-version 2"
             )))
         }
     };
