@@ -41,6 +41,10 @@ pub const MAX_PORTS: usize = 1000;
 /// Most frequency points in one sweep, read or simulated. Analyzers stop at 100,001 points per sweep
 /// (common practice, no source); ten times that leaves room for stitched sweeps.
 pub const MAX_SWEEP_POINTS: usize = 1_000_000;
+/// Fewest frequency points `locate`, `compare` and `history record` analyse a sweep from, and so the fewest
+/// `simulate --points` writes: a trace of fewer has no resolution to place anything with (201 or more is
+/// usual; common practice, no source).
+pub const MIN_TRACE_POINTS: usize = 16;
 /// Most complex values (frequencies x ports^2) in one sweep: 256 MiB as complex numbers. A 4-port sweep of
 /// a million points fills it.
 pub const MAX_SWEEP_VALUES: usize = 1 << 24;

@@ -257,3 +257,39 @@ fn quantities_need_their_units_and_at_stays_in_the_band() {
         .unwrap()
         .contains("noise -90 dB"));
 }
+
+#[test]
+fn simulate_refuses_a_sweep_too_short_for_locate() {
+    let dir = tempfile::tempdir().unwrap();
+    let line = sample("in-07.toml");
+    let short = dir.path().join("short.s1p");
+    let o = run(&["simulate", s(&line), "--points", "5", "-o", s(&short)]);
+    refused(&o, &["--points 5", "16"]);
+    assert!(!short.exists());
+    // The fewest points simulate writes are enough for locate.
+    let least = dir.path().join("least.s1p");
+    let o = run(&["simulate", s(&line), "--points", "16", "-o", s(&least)]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let o = run(&["locate", s(&least), "--line", s(&line)]);
+    assert!(o.status.success(), "{}", stderr(&o));
+}
+
+#[test]
+fn trace_refuses_an_output_whose_extension_does_not_fit_even_with_force() {
+    let dir = tempfile::tempdir().unwrap();
+    let other = dir.path().join("other.s1p");
+    std::fs::copy(sample("in-07-warm.s1p"), &other).unwrap();
+    let before = std::fs::read(&other).unwrap();
+    let cold = sample("in-07-cold.s1p");
+    let o = run(&["trace", s(&cold), "--csv", s(&other), "--force"]);
+    refused(&o, &["other.s1p", "--csv", ".csv"]);
+    assert_eq!(std::fs::read(&other).unwrap(), before, "the sweep is kept");
+    let g = dir.path().join("gated.csv");
+    let o = run(&["trace", s(&cold), "--gate", "1.5m..2.1m", "-o", s(&g)]);
+    refused(&o, &["gated.csv", ".s1p"]);
+    assert!(!g.exists());
+    let csv = dir.path().join("t.CSV");
+    let o = run(&["trace", s(&cold), "--csv", s(&csv)]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    assert!(csv.exists());
+}

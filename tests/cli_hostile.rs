@@ -436,7 +436,7 @@ fn a_byte_order_mark_is_skipped_with_a_warning() {
     bytes.extend_from_slice(&std::fs::read(line_fixture()).unwrap());
     std::fs::write(&line, bytes).unwrap();
     let out = dir.path().join("x.s1p");
-    let o = run(&["simulate", s(&line), "--points", "11", "-o", s(&out)]);
+    let o = run(&["simulate", s(&line), "--points", "16", "-o", s(&out)]);
     assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
     assert!(stderr(&o).contains("byte-order mark"), "{}", stderr(&o));
     // Positions in a line file with a mark still name the right line and column.

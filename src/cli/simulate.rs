@@ -1,7 +1,7 @@
 //! `coldtrace simulate LINE [--state warm|cold] --start 0.5GHz --stop 10GHz --points 1601 [--noise-db -90]
 //! [--seed N] [--fault SPEC]... [--s21] -o out.s1p [--force]`: a realistic sweep of a line from its model.
 
-use coldtrace::limits::{MAX_FREQUENCY_HZ, MAX_SWEEP_POINTS};
+use coldtrace::limits::{MAX_FREQUENCY_HZ, MAX_SWEEP_POINTS, MIN_TRACE_POINTS};
 use coldtrace::line::{file, simulate, Fault, SimConfig, State};
 use coldtrace::touchstone::{write_file, WriteOptions};
 use coldtrace::units::{self, Family};
@@ -22,7 +22,7 @@ pub struct Args {
     /// Last frequency, with its unit, e.g. 10GHz.
     #[arg(long, default_value = "10GHz")]
     pub stop: String,
-    /// Number of points, linearly spaced.
+    /// Number of points, linearly spaced: at least 16, the fewest locate and compare read.
     #[arg(long, default_value_t = 1601)]
     pub points: usize,
     /// Complex Gaussian noise power per point relative to |S| = 1, dB (e.g. -90).
@@ -58,9 +58,10 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
         .as_deref()
         .map(|t| units::parse_flag_db("--noise-db", t))
         .transpose()?;
-    if args.points == 0 || args.points > MAX_SWEEP_POINTS {
+    if !(MIN_TRACE_POINTS..=MAX_SWEEP_POINTS).contains(&args.points) {
         return Err(coldtrace::Error::Usage(format!(
-            "--points {}: give 1 to {MAX_SWEEP_POINTS} points (coldtrace's limit, docs/limits.md)",
+            "--points {}: give {MIN_TRACE_POINTS} to {MAX_SWEEP_POINTS} points (locate and compare need at \
+             least {MIN_TRACE_POINTS}, 201 or more is usual; docs/limits.md), e.g. --points 1601",
             args.points
         )));
     }
@@ -71,7 +72,7 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
             start.max(stop)
         )));
     }
-    if args.points > 1 && stop <= start {
+    if stop <= start {
         return Err(coldtrace::Error::Usage(format!(
             "--stop ({stop} Hz) must be above --start ({start} Hz)"
         )));

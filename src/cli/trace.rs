@@ -6,7 +6,7 @@
 //! connectors, attenuators and device marked.
 
 use coldtrace::line::{file::read_file as line_file, LineMap, State};
-use coldtrace::output::{check_outputs, write_output};
+use coldtrace::output::{check_extension, check_outputs, write_output};
 use coldtrace::report::{plot_bytes, PlotFormat};
 use coldtrace::touchstone::{read_file, write, WriteOptions};
 use coldtrace::transform::{
@@ -139,6 +139,12 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
         .map(PathBuf::as_path)
         .collect();
     check_outputs(&outputs, args.force, &inputs)?;
+    if let Some(out) = &args.output {
+        check_extension(out, "--output", "s1p", "a 1-port Touchstone sweep")?;
+    }
+    if let Some(csv) = &args.csv {
+        check_extension(csv, "--csv", "csv", "CSV")?;
+    }
     if let Some(plot) = &args.plot {
         PlotFormat::from_path(plot)?;
     }
