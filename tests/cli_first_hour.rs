@@ -293,3 +293,107 @@ fn trace_refuses_an_output_whose_extension_does_not_fit_even_with_force() {
     assert!(o.status.success(), "{}", stderr(&o));
     assert!(csv.exists());
 }
+
+/// The demo line file with `edits` (from, to) applied, written into `dir` as `name`.
+fn edited_line(dir: &Path, name: &str, edits: &[(&str, &str)]) -> PathBuf {
+    let mut text = std::fs::read_to_string(sample("in-07.toml")).unwrap();
+    for (from, to) in edits {
+        assert!(text.contains(from), "{from}");
+        text = text.replacen(from, to, 1);
+    }
+    let p = dir.join(name);
+    std::fs::write(&p, text).unwrap();
+    p
+}
+
+/// The data lines of a simulated sweep (its comments name the line file's path).
+fn data_lines(p: &Path) -> Vec<String> {
+    std::fs::read_to_string(p)
+        .unwrap()
+        .lines()
+        .filter(|l| !l.starts_with('!'))
+        .map(str::to_string)
+        .collect()
+}
+
+#[test]
+fn stage_names_match_in_any_case_and_room_has_its_common_spellings() {
+    let dir = tempfile::tempdir().unwrap();
+    let simulate = |line: &Path, out: &str| {
+        let out = dir.path().join(out);
+        let o = run(&["simulate", s(line), "--points", "101", "-o", s(&out)]);
+        (o, out)
+    };
+    let (o, plain) = simulate(&sample("in-07.toml"), "plain.s1p");
+    assert!(o.status.success(), "{}", stderr(&o));
+    let spelled = edited_line(
+        dir.path(),
+        "spelled.toml",
+        &[
+            ("from = \"room\"", "from = \"RT\""),
+            ("stage = \"room\"", "stage = \"Room-Temperature\""),
+            ("to = \"k50\"", "to = \"K50\""),
+        ],
+    );
+    let (o, other) = simulate(&spelled, "spelled.s1p");
+    assert!(o.status.success(), "{}", stderr(&o));
+    assert_eq!(data_lines(&plain), data_lines(&other));
+    // A stage spelled twice, or room defined again, is refused with the key.
+    let twice = edited_line(
+        dir.path(),
+        "twice.toml",
+        &[("k4 = 3.5", "k4 = 3.5\nK4 = 3.0")],
+    );
+    let (o, _) = simulate(&twice, "x.s1p");
+    refused(&o, &["twice.toml:", "again", "matched in any case"]);
+    let room = edited_line(
+        dir.path(),
+        "room.toml",
+        &[("k50 = 45.0", "RT = 300.0\nk50 = 45.0")],
+    );
+    let (o, _) = simulate(&room, "x.s1p");
+    refused(&o, &["room.toml:", "stages.RT", "built-in stage 'room'"]);
+}
+
+#[test]
+fn stage_temperatures_that_cannot_be_right_are_warned_of() {
+    let dir = tempfile::tempdir().unwrap();
+    for (edit, needle) in [
+        (
+            ("mxc = 0.015", "mxc = 0.0"),
+            "stage 'mxc' at 0 K cannot be reached",
+        ),
+        (
+            ("k50 = 45.0", "k50 = 400.0"),
+            "stage 'k50' at 400 K is warmer than the room stage",
+        ),
+    ] {
+        let line = edited_line(dir.path(), "warm.toml", &[edit]);
+        let out = dir.path().join("w.s1p");
+        let o = run(&[
+            "simulate",
+            s(&line),
+            "--points",
+            "101",
+            "-o",
+            s(&out),
+            "--force",
+        ]);
+        assert!(o.status.success(), "{}", stderr(&o));
+        let err = stderr(&o);
+        assert!(err.contains(needle), "{err}");
+        assert!(
+            err.contains("warm.toml:"),
+            "the warning names the file and line: {err}"
+        );
+    }
+    let o = run(&[
+        "simulate",
+        s(&sample("in-07.toml")),
+        "--points",
+        "101",
+        "-o",
+        s(&dir.path().join("ok.s1p")),
+    ]);
+    assert!(!stderr(&o).contains("stage-temperature") && !stderr(&o).contains("cannot be reached"));
+}
