@@ -8,6 +8,8 @@
 //!   `--force`), and then only if it is a regular file or a symbolic link: a link is replaced itself, its
 //!   target is never touched; a folder, device, FIFO or socket is refused even with `overwrite`;
 //! - two outputs of one run may not name the same file;
+//! - a new output's folder must exist, and the refusal names it (a missing input is told apart by
+//!   `limits::read_capped`: "the sweep to read does not exist");
 //! - an output named by a flag carries the extension of what is written into it ([`check_extension`]), so
 //!   `--csv cold.s1p` cannot put CSV where a sweep was;
 //! - the bytes go to a temporary file in the target's folder, created exclusively (`O_CREAT | O_EXCL`,
@@ -147,6 +149,18 @@ fn random_u64() -> u64 {
     h.finish()
 }
 
+/// Refuse a new output whose folder does not exist, naming the folder.
+fn check_folder(path: &Path) -> Result<()> {
+    match path.parent() {
+        Some(dir) if !dir.as_os_str().is_empty() && !dir.is_dir() => Err(Error::Usage(format!(
+            "{}: the output's folder {} does not exist; create it first, or write the output elsewhere",
+            path.display(),
+            dir.display()
+        ))),
+        _ => Ok(()),
+    }
+}
+
 fn check_one(path: &Path, overwrite: bool, inputs: &[&Path]) -> Result<()> {
     for input in inputs {
         if same_file(path, input) {
@@ -158,7 +172,7 @@ fn check_one(path: &Path, overwrite: bool, inputs: &[&Path]) -> Result<()> {
     }
     let meta = match std::fs::symlink_metadata(path) {
         Ok(m) => m,
-        Err(e) if e.kind() == std::io::ErrorKind::NotFound => return Ok(()),
+        Err(e) if e.kind() == std::io::ErrorKind::NotFound => return check_folder(path),
         Err(e) => return Err(Error::io(path, e)),
     };
     let ft = meta.file_type();

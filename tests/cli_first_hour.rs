@@ -397,3 +397,38 @@ fn stage_temperatures_that_cannot_be_right_are_warned_of() {
     ]);
     assert!(!stderr(&o).contains("stage-temperature") && !stderr(&o).contains("cannot be reached"));
 }
+
+#[test]
+fn a_missing_input_and_a_missing_output_folder_are_told_apart() {
+    let dir = tempfile::tempdir().unwrap();
+    let gone = dir.path().join("gone.s1p");
+    let o = run(&["inspect", s(&gone)]);
+    refused(&o, &["gone.s1p", "the sweep to read does not exist"]);
+    let o = run(&[
+        "simulate",
+        s(&dir.path().join("gone.toml")),
+        "-o",
+        s(&dir.path().join("x.s1p")),
+    ]);
+    refused(&o, &["gone.toml", "the line file to read does not exist"]);
+    let folder = dir.path().join("no-such-folder");
+    let out = folder.join("x.s1p");
+    let o = run(&["convert", s(&sample("in-07-cold.s1p")), "-o", s(&out)]);
+    let err = refused(
+        &o,
+        &[
+            "x.s1p",
+            "the output's folder",
+            "no-such-folder",
+            "does not exist",
+        ],
+    );
+    assert!(!err.contains("to read"), "{err}");
+    let o = run(&[
+        "trace",
+        s(&sample("in-07-cold.s1p")),
+        "--csv",
+        s(&folder.join("t.csv")),
+    ]);
+    refused(&o, &["the output's folder", "no-such-folder"]);
+}
