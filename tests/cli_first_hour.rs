@@ -432,3 +432,41 @@ fn a_missing_input_and_a_missing_output_folder_are_told_apart() {
     ]);
     refused(&o, &["the output's folder", "no-such-folder"]);
 }
+
+#[test]
+fn convert_checks_the_extension_against_the_ports_and_keeps_the_comments() {
+    let dir = tempfile::tempdir().unwrap();
+    let input = sample("in-07-cold.s1p");
+    let wrong = dir.path().join("out.s2p");
+    let o = run(&["convert", s(&input), "-o", s(&wrong)]);
+    refused(&o, &["out.s2p", "1 port(s)", ".s1p"]);
+    assert!(!wrong.exists());
+    let o = run(&["convert", s(&input), "-o", s(&dir.path().join("out.ts"))]);
+    refused(&o, &["out.ts", ".s1p"]);
+    let ts = dir.path().join("out.ts");
+    let o = run(&[
+        "convert",
+        s(&input),
+        "-o",
+        s(&ts),
+        "--touchstone-version",
+        "2",
+    ]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let o = run(&["inspect", s(&ts)]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let out = dir.path().join("out.S1P");
+    let o = run(&["convert", s(&input), "-o", s(&out), "--format", "DB"]);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let text = std::fs::read_to_string(&out).unwrap();
+    // The input's provenance comments come through, before the conversion's own note.
+    let input_text = std::fs::read_to_string(&input).unwrap();
+    let original: Vec<&str> = input_text
+        .lines()
+        .take_while(|l| l.starts_with('!'))
+        .collect();
+    assert!(!original.is_empty());
+    let comments: Vec<&str> = text.lines().take_while(|l| l.starts_with('!')).collect();
+    assert_eq!(&comments[..original.len()], &original[..], "{text}");
+    assert!(comments[original.len()].contains("converted by coldtrace"));
+}

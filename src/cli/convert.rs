@@ -57,26 +57,35 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
     };
     coldtrace::output::check_outputs(&[&args.output], args.force, &[&args.input])?;
     let ts = read_file(&args.input)?;
+    let version = version.unwrap_or(if ts.info.version.is_v2() {
+        WriteVersion::V2
+    } else {
+        WriteVersion::V1
+    });
+    check_output_extension(&args.output, ts.network.ports, version)?;
     for w in &ts.warnings {
         eprintln!("coldtrace: warning: {w}");
     }
     let options = WriteOptions {
-        version: version.unwrap_or(if ts.info.version.is_v2() {
-            WriteVersion::V2
-        } else {
-            WriteVersion::V1
-        }),
+        version,
         format: format.unwrap_or(ts.info.format),
         unit: unit.unwrap_or(ts.info.unit),
-        comments: vec![format!(
-            "converted by coldtrace from {} (Touchstone {}, {} parameters)",
-            args.input
-                .file_name()
-                .map(|n| n.to_string_lossy().into_owned())
-                .unwrap_or_default(),
-            ts.info.version.as_str(),
-            ts.info.parameter.as_str()
-        )],
+        // The input's own comments first: they carry the sweep's provenance.
+        comments: ts
+            .info
+            .header_comments
+            .iter()
+            .cloned()
+            .chain([format!(
+                "converted by coldtrace from {} (Touchstone {}, {} parameters)",
+                args.input
+                    .file_name()
+                    .map(|n| n.to_string_lossy().into_owned())
+                    .unwrap_or_default(),
+                ts.info.version.as_str(),
+                ts.info.parameter.as_str()
+            )])
+            .collect(),
     };
     write_file(
         &args.output,
@@ -86,4 +95,31 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
         &[args.input.as_path()],
     )?;
     Ok(coldtrace::exit::OK)
+}
+
+/// Refuse an output whose extension does not fit what is written: `.sNp` with N the port count, or, for
+/// version 2, also `.ts` (Touchstone 2.0 allows it, the port count being in `[Number of Ports]`).
+fn check_output_extension(
+    out: &std::path::Path,
+    ports: usize,
+    version: WriteVersion,
+) -> coldtrace::Result<()> {
+    let ext = out
+        .extension()
+        .map(|e| e.to_string_lossy().to_ascii_lowercase())
+        .unwrap_or_default();
+    let want = format!("s{ports}p");
+    if ext == want || (version == WriteVersion::V2 && ext == "ts") {
+        return Ok(());
+    }
+    Err(coldtrace::Error::Usage(format!(
+        "{}: the data has {ports} port(s), so the output needs the extension .{want}{}; write e.g. -o {}",
+        out.display(),
+        if version == WriteVersion::V2 {
+            " (or .ts for version 2)"
+        } else {
+            ""
+        },
+        out.with_extension(&want).display()
+    )))
 }
