@@ -41,6 +41,10 @@ pub const MAX_PORTS: usize = 1000;
 /// Most frequency points in one sweep, read or simulated. Analyzers stop at 100,001 points per sweep
 /// (common practice, no source); ten times that leaves room for stitched sweeps.
 pub const MAX_SWEEP_POINTS: usize = 1_000_000;
+/// Fewest frequency points `locate`, `compare` and `history record` analyse a sweep from, and so the fewest
+/// `simulate --points` writes: a trace of fewer has no resolution to place anything with (201 or more is
+/// usual; common practice, no source).
+pub const MIN_TRACE_POINTS: usize = 16;
 /// Most complex values (frequencies x ports^2) in one sweep: 256 MiB as complex numbers. A 4-port sweep of
 /// a million points fills it.
 pub const MAX_SWEEP_VALUES: usize = 1 << 24;
@@ -133,7 +137,7 @@ pub fn bytes_text(n: u64) -> String {
 /// bytes: one byte past it and the read stops with an error. The error is an `std::io::Error` whose message
 /// states the limit and the fix; callers wrap it with the path as they wrap any I/O error.
 pub fn read_capped(path: &Path, limit: u64, what: &str) -> std::io::Result<Vec<u8>> {
-    let meta = std::fs::metadata(path)?;
+    let meta = std::fs::metadata(path).map_err(|e| missing_input(e, what))?;
     let ft = meta.file_type();
     if ft.is_dir() {
         return Err(refusal(format!(
@@ -159,6 +163,18 @@ pub fn read_capped(path: &Path, limit: u64, what: &str) -> std::io::Result<Vec<u
         Overflow::TooLarge => too_large(what, limit, None),
     })?;
     Ok(bytes)
+}
+
+/// A missing input said as such: the caller puts the path in front ("in.s1p: the sweep does not exist").
+fn missing_input(e: std::io::Error, what: &str) -> std::io::Error {
+    if e.kind() == std::io::ErrorKind::NotFound {
+        std::io::Error::new(
+            std::io::ErrorKind::NotFound,
+            format!("the {what} to read does not exist (no such file); check the path"),
+        )
+    } else {
+        e
+    }
 }
 
 /// Why [`read_at_most`] stopped.

@@ -8,6 +8,10 @@
 //!   `--force`), and then only if it is a regular file or a symbolic link: a link is replaced itself, its
 //!   target is never touched; a folder, device, FIFO or socket is refused even with `overwrite`;
 //! - two outputs of one run may not name the same file;
+//! - a new output's folder must exist, and the refusal names it (a missing input is told apart by
+//!   `limits::read_capped`: "the sweep to read does not exist");
+//! - an output named by a flag carries the extension of what is written into it ([`check_extension`]), so
+//!   `--csv cold.s1p` cannot put CSV where a sweep was;
 //! - the bytes go to a temporary file in the target's folder, created exclusively (`O_CREAT | O_EXCL`,
 //!   which never follows a symbolic link) under an unpredictable name, synced, then moved into place, so
 //!   an interrupted run never leaves half a file under the requested name. Without `overwrite` the move is
@@ -25,6 +29,21 @@ const TEMP_NAME_TRIES: usize = 16;
 /// Longest part of the output's name kept in the temporary file's name, characters (file names are limited
 /// to 255 bytes on common file systems).
 const TEMP_NAME_KEEP: usize = 64;
+
+/// Refuse an output path given to `flag` whose extension (any case) is not `ext`, naming the fix.
+pub fn check_extension(path: &Path, flag: &str, ext: &str, what: &str) -> Result<()> {
+    let got = path
+        .extension()
+        .map(|e| e.to_string_lossy().to_ascii_lowercase());
+    if got.as_deref() == Some(ext) {
+        return Ok(());
+    }
+    Err(Error::Usage(format!(
+        "{}: {flag} writes {what}, so the file needs the extension .{ext}; write e.g. {flag} {}",
+        path.display(),
+        path.with_extension(ext).display()
+    )))
+}
 
 /// Check, before anything is written, that every one of `outputs` may be written: no two the same file,
 /// none an input, none an existing path unless `overwrite`, none anything but a regular file or a link.
@@ -130,6 +149,18 @@ fn random_u64() -> u64 {
     h.finish()
 }
 
+/// Refuse a new output whose folder does not exist, naming the folder.
+fn check_folder(path: &Path) -> Result<()> {
+    match path.parent() {
+        Some(dir) if !dir.as_os_str().is_empty() && !dir.is_dir() => Err(Error::Usage(format!(
+            "{}: the output's folder {} does not exist; create it first, or write the output elsewhere",
+            path.display(),
+            dir.display()
+        ))),
+        _ => Ok(()),
+    }
+}
+
 fn check_one(path: &Path, overwrite: bool, inputs: &[&Path]) -> Result<()> {
     for input in inputs {
         if same_file(path, input) {
@@ -141,7 +172,7 @@ fn check_one(path: &Path, overwrite: bool, inputs: &[&Path]) -> Result<()> {
     }
     let meta = match std::fs::symlink_metadata(path) {
         Ok(m) => m,
-        Err(e) if e.kind() == std::io::ErrorKind::NotFound => return Ok(()),
+        Err(e) if e.kind() == std::io::ErrorKind::NotFound => return check_folder(path),
         Err(e) => return Err(Error::io(path, e)),
     };
     let ft = meta.file_type();

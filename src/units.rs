@@ -3,6 +3,11 @@
 //! Every parser returns SI base units (Hz, m, s, ohm, F, H). A bare number takes the family's base unit.
 //! SI prefixes: f p n u (or µ) m c k M G T; unit symbols are case-insensitive except that `M` (mega) and
 //! `m` (milli) are told apart by case when a prefix is followed by a unit symbol.
+//!
+//! On the command line a frequency, length or time must carry its unit (`parse_flag`, `parse_flag_range`):
+//! `--at 6` is refused with the fix `write 6GHz`, since a bare number read as Hz is almost never what was
+//! meant. Line files keep the bare number in the family's base unit (docs/line-file.md). Levels in dB
+//! (`parse_db`) take `6` or `6dB`.
 
 use thiserror::Error;
 
@@ -150,6 +155,90 @@ pub fn parse(text: &str, family: Family) -> Result<f64, UnitError> {
     )))
 }
 
+impl Family {
+    /// Whether a bare number is refused on the command line: a frequency, a length or a time, whose base
+    /// unit (Hz, m, s) is rarely the one meant.
+    fn needs_unit_on_flag(self) -> bool {
+        matches!(self, Family::Frequency | Family::Length | Family::Time)
+    }
+
+    /// The unit suggested in the fix for a bare number on the command line, and another example.
+    fn usual_unit(self) -> (&'static str, &'static str) {
+        match self {
+            Family::Frequency => ("GHz", "500MHz"),
+            Family::Length => ("m", "30cm"),
+            Family::Time => ("ns", "150ps"),
+            Family::Resistance => ("ohm", "1.5kohm"),
+            Family::Capacitance => ("fF", "0.2pF"),
+            Family::Inductance => ("nH", "200pH"),
+        }
+    }
+}
+
+/// Whether `text` is a number with no unit after it.
+fn is_bare_number(text: &str) -> bool {
+    text.trim().parse::<f64>().is_ok()
+}
+
+/// The refusal of a bare number given to `flag`.
+fn bare_number_error(flag: &str, text: &str, family: Family) -> crate::Error {
+    let t = crate::limits::clip(text.trim());
+    let (unit, other) = family.usual_unit();
+    crate::Error::Usage(format!(
+        "{flag} {t}: {} needs its unit; write {t}{unit} (or another unit, e.g. {other})",
+        family.what()
+    ))
+}
+
+/// Parse the value of the command-line flag `flag` (named in the error). A frequency, length or time
+/// without a unit is refused with the fix; use this only for flags whose name does not state the unit.
+pub fn parse_flag(flag: &str, text: &str, family: Family) -> crate::Result<f64> {
+    if family.needs_unit_on_flag() && is_bare_number(text) {
+        return Err(bare_number_error(flag, text, family));
+    }
+    parse(text, family).map_err(|e| crate::Error::Usage(format!("{flag}: {e}")))
+}
+
+/// [`parse_range`] for the command-line flag `flag`: each end needs its unit as in [`parse_flag`].
+pub fn parse_flag_range(flag: &str, text: &str, family: Family) -> crate::Result<(f64, f64)> {
+    if family.needs_unit_on_flag() {
+        if let Some((a, b)) = text.split_once("..") {
+            if let Some(bare) = [a, b].into_iter().find(|e| is_bare_number(e)) {
+                return Err(bare_number_error(flag, bare, family));
+            }
+        }
+    }
+    parse_range(text, family).map_err(|e| crate::Error::Usage(format!("{flag}: {e}")))
+}
+
+/// A level in decibels, written `6`, `6dB` or `-90 dB` (the unit in any case).
+pub fn parse_db(text: &str) -> Result<f64, UnitError> {
+    let err = |reason: String| UnitError {
+        what: "a level in dB",
+        text: crate::limits::clip(text).into_owned(),
+        reason,
+        example: "'6', '6dB' or '-90 dB'",
+    };
+    let t = text.trim();
+    let cut = t.len().saturating_sub(2);
+    let num = match t.get(cut..) {
+        Some(unit) if unit.eq_ignore_ascii_case("db") => t[..cut].trim_end(),
+        _ => t,
+    };
+    let value: f64 = num
+        .parse()
+        .map_err(|_| err(format!("'{}' is not a number", crate::limits::clip(num))))?;
+    if !value.is_finite() {
+        return Err(err("the number is not finite".into()));
+    }
+    Ok(value)
+}
+
+/// [`parse_db`] for the command-line flag `flag`, named in the error.
+pub fn parse_flag_db(flag: &str, text: &str) -> crate::Result<f64> {
+    parse_db(text).map_err(|e| crate::Error::Usage(format!("{flag}: {e}")))
+}
+
 /// Parse a range written `a..b` (both ends in `family`), returning `(a, b)` with `a < b`.
 pub fn parse_range(text: &str, family: Family) -> Result<(f64, f64), UnitError> {
     let (a, b) = text.split_once("..").ok_or_else(|| UnitError {
@@ -202,6 +291,31 @@ mod tests {
         assert_eq!(parse("1.5kohm", Family::Resistance).unwrap(), 1500.0);
         assert!((parse("0.5nH", Family::Inductance).unwrap() - 0.5e-9).abs() < 1e-21);
         assert!((parse("1.2e-3m", Family::Length).unwrap() - 1.2e-3).abs() < 1e-15);
+    }
+
+    #[test]
+    fn flags_need_units_for_frequency_length_and_time() {
+        let e = parse_flag("--at", "6", Family::Frequency).unwrap_err();
+        assert!(e.to_string().contains("write 6GHz"), "{e}");
+        assert_eq!(parse_flag("--at", "6GHz", Family::Frequency).unwrap(), 6e9);
+        let e = parse_flag_range("--span", "0..3m", Family::Length).unwrap_err();
+        assert!(e.to_string().contains("write 0m"), "{e}");
+        assert_eq!(
+            parse_flag_range("--span", "0m..3m", Family::Length).unwrap(),
+            (0.0, 3.0)
+        );
+        // A resistance's bare number is ohms, as everyone writes it.
+        assert_eq!(parse_flag("--r", "50", Family::Resistance).unwrap(), 50.0);
+    }
+
+    #[test]
+    fn decibels_with_or_without_the_unit() {
+        assert_eq!(parse_db("6").unwrap(), 6.0);
+        assert_eq!(parse_db("6dB").unwrap(), 6.0);
+        assert_eq!(parse_db("-90 DB").unwrap(), -90.0);
+        assert!(parse_db("6 dBm").is_err());
+        assert!(parse_db("inf").is_err());
+        assert!(parse_db("dB").is_err());
     }
 
     #[test]

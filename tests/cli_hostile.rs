@@ -436,7 +436,7 @@ fn a_byte_order_mark_is_skipped_with_a_warning() {
     bytes.extend_from_slice(&std::fs::read(line_fixture()).unwrap());
     std::fs::write(&line, bytes).unwrap();
     let out = dir.path().join("x.s1p");
-    let o = run(&["simulate", s(&line), "--points", "11", "-o", s(&out)]);
+    let o = run(&["simulate", s(&line), "--points", "16", "-o", s(&out)]);
     assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
     assert!(stderr(&o).contains("byte-order mark"), "{}", stderr(&o));
     // Positions in a line file with a mark still name the right line and column.
@@ -516,7 +516,7 @@ fn the_same_path_for_two_outputs_is_refused_before_writing() {
         s(&sweep()),
         "--gate",
         "1m..2m",
-        "--out",
+        "-o",
         s(&dir.path().join("g.s1p")),
         "--csv",
         s(&x),
@@ -630,7 +630,7 @@ fn no_temporary_file_is_left_behind() {
         s(&sweep()),
         "--gate",
         "1m..2m",
-        "--out",
+        "-o",
         s(&out),
         "--csv",
         s(&csv),

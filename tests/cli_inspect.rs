@@ -189,7 +189,7 @@ fn convert_z_file_to_s_v2_and_refuse_overwrites() {
         "-o",
         o,
         "--force",
-        "--version",
+        "--touchstone-version",
         "2",
         "--unit",
         "MHZ",
@@ -218,7 +218,7 @@ fn convert_v1_2port_to_v1_and_bad_flags() {
         input.to_str().unwrap(),
         "-o",
         o.to_str().unwrap(),
-        "--version",
+        "--touchstone-version",
         "1",
     ]);
     assert_eq!(
@@ -248,7 +248,7 @@ fn convert_v1_2port_to_v1_and_bad_flags() {
         input.to_str().unwrap(),
         "-o",
         "x.s2p",
-        "--version",
+        "--touchstone-version",
         "3",
     ]);
     assert_eq!(bad.status.code(), Some(2));

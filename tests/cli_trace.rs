@@ -67,7 +67,7 @@ fn json_is_the_trace_contract() {
     }
     assert_eq!(v["unit"], "dB");
     assert_eq!(v["window"]["name"], "kaiser");
-    assert_eq!(v["window"]["beta"], 6.0);
+    assert_eq!(v["window"]["beta"], 9.0);
     assert_eq!(v["axis_m"].as_array().unwrap().len(), 1001);
     let peak = v["peaks"][0]["distance_m"].as_f64().unwrap();
     assert!((peak - 1.5).abs() < 1e-4, "{peak}");
@@ -126,7 +126,7 @@ fn outputs_gate_plot_and_force() {
             f.to_str().unwrap().to_string(),
             "--gate".into(),
             "1.3m..1.7m".into(),
-            "--out".into(),
+            "--output".into(),
             gated.to_str().unwrap().to_string(),
             "--plot".into(),
             p.to_str().unwrap().to_string(),

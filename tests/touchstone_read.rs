@@ -344,7 +344,7 @@ fn writer_refuses_v1_noise_above_the_band() {
         rn_ohm: 10.0,
     });
     let e = write(&n, &WriteOptions::default()).unwrap_err();
-    assert!(e.to_string().contains("--version 2"), "{e}");
+    assert!(e.to_string().contains("--touchstone-version 2"), "{e}");
     let v2 = write(
         &n,
         &WriteOptions {

@@ -3,11 +3,13 @@
 //! Flags become a `coldtrace::compare::job::CompareJob`; the work is `run_compare`.
 
 use super::locate::{
-    analysis_config, check_plot, figure, inputs, line_source, parse_fail_on, parse_state, LineArgs,
+    analysis_config, check_at_in_band, check_plot, figure, inputs, line_source, parse_fail_on,
+    parse_state, LineArgs,
 };
 use coldtrace::compare::job::{run_compare, CompareJob};
 use coldtrace::compare::text::render_compare;
 use coldtrace::report::write_plot;
+use coldtrace::units;
 use coldtrace::{exit, Error};
 use std::path::PathBuf;
 
@@ -30,20 +32,23 @@ pub struct Args {
     /// Exit with 1 when a finding reaches this severity: info, minor, major or critical.
     #[arg(long, default_value = "minor", value_name = "SEVERITY")]
     pub fail_on: String,
-    /// A measured drop of transmitted power to compare with what the findings explain, in dB.
+    /// A measured drop of transmitted power to compare with what the findings explain: 1.5 or 1.5dB.
     #[arg(long, value_name = "DB")]
-    pub power_drop: Option<f64>,
+    pub power_drop: Option<String>,
+    /// Show every finding in the table, the harmless changes at severity info as well; without it they are
+    /// counted under the table.
+    #[arg(long)]
+    pub all: bool,
 }
 
 pub fn run(args: Args) -> coldtrace::Result<u8> {
     let fail_on = parse_fail_on(&args.fail_on)?;
     let mut analysis = analysis_config(&args.line)?;
-    if let Some(db) = args.power_drop.filter(|d| !d.is_finite()) {
-        return Err(Error::Usage(format!(
-            "--power-drop {db}: give the measured drop in dB as a finite number, e.g. --power-drop 1.5"
-        )));
-    }
-    analysis.observed_drop_db = args.power_drop;
+    analysis.observed_drop_db = args
+        .power_drop
+        .as_deref()
+        .map(|t| units::parse_flag_db("--power-drop", t))
+        .transpose()?;
     let job = CompareJob {
         baseline: args.baseline.clone(),
         current: args.current.clone(),
@@ -61,6 +66,7 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
         analysis,
     };
     check_plot(&args.line, &[&args.baseline, &args.current])?;
+    check_at_in_band(&args.line, &[&args.baseline, &args.current])?;
     let report = run_compare(&job)?;
     if let Some(p) = &args.line.plot {
         let title = format!("{}: baseline and current", report.line);
@@ -76,7 +82,7 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
             serde_json::to_string_pretty(&report).map_err(|e| Error::Usage(e.to_string()))?;
         super::print(&(text + "\n"))?;
     } else {
-        super::print(&render_compare(&report, args.line.all))?;
+        super::print(&render_compare(&report, args.all))?;
     }
     Ok(if report.findings.iter().any(|f| f.severity >= fail_on) {
         exit::FINDINGS

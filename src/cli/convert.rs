@@ -1,4 +1,4 @@
-//! `coldtrace convert FILE -o OUT [--version 1|2] [--format RI|MA|DB] [--unit GHZ] [--force]`: rewrite a
+//! `coldtrace convert FILE -o OUT [--touchstone-version 1|2] [--format RI|MA|DB] [--unit GHZ] [--force]`: rewrite a
 //! Touchstone file as S-parameters (Y, Z, H, G are converted) at the file's reference impedances.
 //! Unset choices keep the input's: its major version, format and frequency unit.
 
@@ -15,7 +15,7 @@ pub struct Args {
     pub output: PathBuf,
     /// Touchstone major version to write: 1 or 2 (2 writes [Version] 2.0). Default: the input's.
     #[arg(long, value_name = "1|2")]
-    pub version: Option<String>,
+    pub touchstone_version: Option<String>,
     /// Number format: RI, MA or DB. Default: the input's.
     #[arg(long, value_name = "RI|MA|DB")]
     pub format: Option<String>,
@@ -29,13 +29,13 @@ pub struct Args {
 
 pub fn run(args: Args) -> coldtrace::Result<u8> {
     let usage = coldtrace::Error::Usage;
-    let version = match args.version.as_deref() {
+    let version = match args.touchstone_version.as_deref() {
         None => None,
         Some("1") => Some(WriteVersion::V1),
         Some("2") => Some(WriteVersion::V2),
         Some(v) => {
             return Err(usage(format!(
-                "--version {v}: expected 1 or 2; write --version 1 or --version 2"
+                "--touchstone-version {v}: expected 1 or 2; write --touchstone-version 1 or --touchstone-version 2"
             )))
         }
     };
@@ -57,26 +57,35 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
     };
     coldtrace::output::check_outputs(&[&args.output], args.force, &[&args.input])?;
     let ts = read_file(&args.input)?;
+    let version = version.unwrap_or(if ts.info.version.is_v2() {
+        WriteVersion::V2
+    } else {
+        WriteVersion::V1
+    });
+    check_output_extension(&args.output, ts.network.ports, version)?;
     for w in &ts.warnings {
         eprintln!("coldtrace: warning: {w}");
     }
     let options = WriteOptions {
-        version: version.unwrap_or(if ts.info.version.is_v2() {
-            WriteVersion::V2
-        } else {
-            WriteVersion::V1
-        }),
+        version,
         format: format.unwrap_or(ts.info.format),
         unit: unit.unwrap_or(ts.info.unit),
-        comments: vec![format!(
-            "converted by coldtrace from {} (Touchstone {}, {} parameters)",
-            args.input
-                .file_name()
-                .map(|n| n.to_string_lossy().into_owned())
-                .unwrap_or_default(),
-            ts.info.version.as_str(),
-            ts.info.parameter.as_str()
-        )],
+        // The input's own comments first: they carry the sweep's provenance.
+        comments: ts
+            .info
+            .header_comments
+            .iter()
+            .cloned()
+            .chain([format!(
+                "converted by coldtrace from {} (Touchstone {}, {} parameters)",
+                args.input
+                    .file_name()
+                    .map(|n| n.to_string_lossy().into_owned())
+                    .unwrap_or_default(),
+                ts.info.version.as_str(),
+                ts.info.parameter.as_str()
+            )])
+            .collect(),
     };
     write_file(
         &args.output,
@@ -86,4 +95,31 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
         &[args.input.as_path()],
     )?;
     Ok(coldtrace::exit::OK)
+}
+
+/// Refuse an output whose extension does not fit what is written: `.sNp` with N the port count, or, for
+/// version 2, also `.ts` (Touchstone 2.0 allows it, the port count being in `[Number of Ports]`).
+fn check_output_extension(
+    out: &std::path::Path,
+    ports: usize,
+    version: WriteVersion,
+) -> coldtrace::Result<()> {
+    let ext = out
+        .extension()
+        .map(|e| e.to_string_lossy().to_ascii_lowercase())
+        .unwrap_or_default();
+    let want = format!("s{ports}p");
+    if ext == want || (version == WriteVersion::V2 && ext == "ts") {
+        return Ok(());
+    }
+    Err(coldtrace::Error::Usage(format!(
+        "{}: the data has {ports} port(s), so the output needs the extension .{want}{}; write e.g. -o {}",
+        out.display(),
+        if version == WriteVersion::V2 {
+            " (or .ts for version 2)"
+        } else {
+            ""
+        },
+        out.with_extension(&want).display()
+    )))
 }

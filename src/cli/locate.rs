@@ -12,7 +12,9 @@ use coldtrace::report::{write_plot, Figure, Marker, Series};
 use coldtrace::transform::{Window, DEFAULT_VELOCITY_FACTOR};
 use coldtrace::units::{self, Family};
 use coldtrace::{exit, Error};
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
+
+use super::DEFAULT_WINDOW;
 
 /// Flags shared by `locate` and `compare`.
 #[derive(Debug, clap::Args)]
@@ -24,10 +26,12 @@ pub struct LineArgs {
     /// solid PTFE).
     #[arg(long, value_name = "VF")]
     pub vf: Option<f64>,
-    /// Band-pass window: rect, hann, hamming, blackman-harris or kaiser:BETA.
-    #[arg(long, default_value = "kaiser:9", value_name = "WINDOW")]
+    /// Band-pass window: rect, hann, hamming, blackman-harris or kaiser:BETA. Default kaiser:9, as in
+    /// every command (docs/method.md, Windows).
+    #[arg(long, default_value = DEFAULT_WINDOW, value_name = "WINDOW")]
     pub window: String,
-    /// Frequency at which power drops are quoted, e.g. 6GHz (default: the band centre).
+    /// Frequency at which power drops are quoted, with its unit, e.g. 6GHz; inside the sweep's band
+    /// (default: the band centre).
     #[arg(long, value_name = "FREQ")]
     pub at: Option<String>,
     /// Print the result as JSON (docs/output.md) instead of the table.
@@ -36,10 +40,6 @@ pub struct LineArgs {
     /// Draw the traces to an .svg or .png file.
     #[arg(long, value_name = "FILE")]
     pub plot: Option<PathBuf>,
-    /// Show every entry in the table; without it compare hides info findings, and locate shows only
-    /// events above info or stronger than -40 dB.
-    #[arg(long)]
-    pub all: bool,
     /// Replace output files that exist (inputs are never replaced).
     #[arg(long)]
     pub force: bool,
@@ -52,9 +52,14 @@ pub struct Args {
     pub sweep: PathBuf,
     #[command(flatten)]
     pub line: LineArgs,
-    /// State the sweep was taken in: warm or cold (default cold).
+    /// State the sweep was taken in: warm or cold. Default: inferred where the data allow (with a line
+    /// file, from the far end's loss against the warm and cold model; reported with its basis), else
+    /// cold, as in trace and simulate.
     #[arg(long, value_name = "STATE")]
     pub state: Option<String>,
+    /// Show every event in the table; without it, only events above info or stronger than -40 dB.
+    #[arg(long)]
+    pub all: bool,
     /// Exit with 1 when an event reaches this severity: info, minor, major or critical.
     #[arg(long, value_name = "SEVERITY")]
     pub fail_on: Option<String>,
@@ -105,7 +110,7 @@ pub fn analysis_config(a: &LineArgs) -> coldtrace::Result<AnalysisConfig> {
     let window = Window::parse(&a.window).map_err(|e| Error::Usage(format!("--window: {e}")))?;
     let reference_hz =
         a.at.as_deref()
-            .map(|s| units::parse(s, Family::Frequency))
+            .map(|s| units::parse_flag("--at", s, Family::Frequency))
             .transpose()?;
     if let Some(f) = reference_hz.filter(|f| !(0.0..=MAX_FREQUENCY_HZ).contains(f)) {
         return Err(Error::Usage(format!(
@@ -119,6 +124,36 @@ pub fn analysis_config(a: &LineArgs) -> coldtrace::Result<AnalysisConfig> {
         reference_hz,
         observed_drop_db: None,
     })
+}
+
+/// Refuse `--at` outside the band of any of `sweeps` (read here only when `--at` is given), naming the band.
+pub fn check_at_in_band(a: &LineArgs, sweeps: &[&Path]) -> coldtrace::Result<()> {
+    let Some(at) = a.at.as_deref() else {
+        return Ok(());
+    };
+    let f = units::parse_flag("--at", at, Family::Frequency)?;
+    for sweep in sweeps {
+        let ts = coldtrace::touchstone::read_file(sweep)?;
+        let freqs = &ts.network.freqs_hz;
+        let (Some(&lo), Some(&hi)) = (freqs.first(), freqs.last()) else {
+            continue;
+        };
+        if !(lo..=hi).contains(&f) {
+            return Err(Error::Usage(format!(
+                "--at {at}: outside the band of {} ({} to {}); give a frequency inside it, e.g. --at {}",
+                sweep.display(),
+                ghz(lo),
+                ghz(hi),
+                ghz(0.5 * (lo + hi))
+            )));
+        }
+    }
+    Ok(())
+}
+
+/// A frequency written in GHz, shortest form, with its unit.
+fn ghz(hz: f64) -> String {
+    format!("{}GHz", short_number(hz / 1e9))
 }
 
 /// A figure of the traces in as-built metres with the chain's marks.
@@ -169,6 +204,7 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
         analysis: analysis_config(&args.line)?,
     };
     check_plot(&args.line, &[&args.sweep])?;
+    check_at_in_band(&args.line, &[&args.sweep])?;
     let report = run_locate(&job)?;
     if let Some(p) = &args.line.plot {
         write_plot(
@@ -183,7 +219,7 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
             serde_json::to_string_pretty(&report).map_err(|e| Error::Usage(e.to_string()))?;
         super::print(&(text + "\n"))?;
     } else {
-        super::print(&render_locate(&report, args.line.all))?;
+        super::print(&render_locate(&report, args.all))?;
     }
     let fails = fail_on.is_some_and(|s| report.events.iter().any(|e| e.visible && e.severity >= s));
     Ok(if fails { exit::FINDINGS } else { exit::OK })

@@ -12,9 +12,14 @@ pub mod simulate;
 pub mod survey;
 pub mod trace;
 
+/// The window every command uses unless `--window` is given: Kaiser, beta 9 (highest sidelobe about
+/// -66 dB, measured by `transform::Window::figures`; reasoning in docs/method.md, Windows). The comparator's
+/// own default (`compare::AnalysisConfig::default`) is the same window.
+pub const DEFAULT_WINDOW: &str = "kaiser:9";
+
 /// Locate, rank and explain faults in cryogenic RF coax lines from network-analyzer sweeps.
 #[derive(Debug, Parser)]
-#[command(name = "coldtrace", version, about, long_about = None)]
+#[command(name = "coldtrace", version, propagate_version = true, about, long_about = None)]
 pub struct Cli {
     #[command(subcommand)]
     pub command: Command,

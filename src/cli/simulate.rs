@@ -1,7 +1,7 @@
-//! `coldtrace simulate LINE --state warm|cold --start 0.5GHz --stop 10GHz --points 1601 [--noise-db -90]
+//! `coldtrace simulate LINE [--state warm|cold] --start 0.5GHz --stop 10GHz --points 1601 [--noise-db -90]
 //! [--seed N] [--fault SPEC]... [--s21] -o out.s1p [--force]`: a realistic sweep of a line from its model.
 
-use coldtrace::limits::{MAX_FREQUENCY_HZ, MAX_SWEEP_POINTS};
+use coldtrace::limits::{MAX_FREQUENCY_HZ, MAX_SWEEP_POINTS, MIN_TRACE_POINTS};
 use coldtrace::line::{file, simulate, Fault, SimConfig, State};
 use coldtrace::touchstone::{write_file, WriteOptions};
 use coldtrace::units::{self, Family};
@@ -12,21 +12,23 @@ pub struct Args {
     /// The line file (TOML, see docs/line-file.md).
     #[arg(value_name = "LINE")]
     pub line: PathBuf,
-    /// warm (everything at 295 K) or cold (every stage at its temperature).
-    #[arg(long, default_value = "warm")]
+    /// warm (everything at 295 K) or cold (every stage at its temperature). Default cold, as in trace and
+    /// locate (which infers it where the data allow): cold is what is swept after a cooldown.
+    #[arg(long, default_value = "cold")]
     pub state: String,
-    /// First frequency, e.g. 0.5GHz.
+    /// First frequency, with its unit, e.g. 0.5GHz.
     #[arg(long, default_value = "0.5GHz")]
     pub start: String,
-    /// Last frequency, e.g. 10GHz.
+    /// Last frequency, with its unit, e.g. 10GHz.
     #[arg(long, default_value = "10GHz")]
     pub stop: String,
-    /// Number of points, linearly spaced.
+    /// Number of points, linearly spaced: at least 16, the fewest locate and compare read.
     #[arg(long, default_value_t = 1601)]
     pub points: usize,
     /// Complex Gaussian noise power per point relative to |S| = 1, dB (e.g. -90).
-    #[arg(long, allow_negative_numbers = true)]
-    pub noise_db: Option<f64>,
+    /// The unit may be written: -90 or -90dB.
+    #[arg(long, allow_hyphen_values = true, value_name = "DB")]
+    pub noise_db: Option<String>,
     /// Seed for the noise.
     #[arg(long, default_value_t = 1)]
     pub seed: u64,
@@ -49,16 +51,17 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
         .state
         .parse()
         .map_err(|e: String| coldtrace::Error::Usage(format!("--state: {e}")))?;
-    let start = units::parse(&args.start, Family::Frequency)?;
-    let stop = units::parse(&args.stop, Family::Frequency)?;
-    if let Some(db) = args.noise_db.filter(|d| !d.is_finite()) {
+    let start = units::parse_flag("--start", &args.start, Family::Frequency)?;
+    let stop = units::parse_flag("--stop", &args.stop, Family::Frequency)?;
+    let noise_db = args
+        .noise_db
+        .as_deref()
+        .map(|t| units::parse_flag_db("--noise-db", t))
+        .transpose()?;
+    if !(MIN_TRACE_POINTS..=MAX_SWEEP_POINTS).contains(&args.points) {
         return Err(coldtrace::Error::Usage(format!(
-            "--noise-db {db}: give the noise power in dB as a finite number, e.g. --noise-db -90"
-        )));
-    }
-    if args.points == 0 || args.points > MAX_SWEEP_POINTS {
-        return Err(coldtrace::Error::Usage(format!(
-            "--points {}: give 1 to {MAX_SWEEP_POINTS} points (coldtrace's limit, docs/limits.md)",
+            "--points {}: give {MIN_TRACE_POINTS} to {MAX_SWEEP_POINTS} points (locate and compare need at \
+             least {MIN_TRACE_POINTS}, 201 or more is usual; docs/limits.md), e.g. --points 1601",
             args.points
         )));
     }
@@ -69,7 +72,7 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
             start.max(stop)
         )));
     }
-    if args.points > 1 && stop <= start {
+    if stop <= start {
         return Err(coldtrace::Error::Usage(format!(
             "--stop ({stop} Hz) must be above --start ({start} Hz)"
         )));
@@ -96,7 +99,7 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
         eprintln!("coldtrace: warning: {w}");
     }
     let mut config = SimConfig::linear(state, start, stop, args.points);
-    config.noise_db = args.noise_db;
+    config.noise_db = noise_db;
     config.seed = args.seed;
     config.two_port = args.s21;
     for spec in &args.faults {
@@ -113,7 +116,7 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
     for spec in &args.faults {
         options.comments.push(format!("fault {spec}"));
     }
-    if let Some(db) = args.noise_db {
+    if let Some(db) = noise_db {
         options
             .comments
             .push(format!("noise {db} dB per point, seed {}", args.seed));

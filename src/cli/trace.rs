@@ -1,4 +1,4 @@
-//! `coldtrace trace FILE [--mode M] [--window W] [--span A..B] [--step S] [--vf V] [--gate A..B --out F]
+//! `coldtrace trace FILE [--mode M] [--window W] [--span A..B] [--step S] [--vf V] [--gate A..B -o F]
 //! [--gate-window W] [--csv F] [--json] [--plot F.svg|F.png] [--resample] [--padding N] [--force]
 //! [--line LINE [--state warm|cold]]`: time-domain trace of S11.
 //! Flags become a `coldtrace::transform::TraceConfig`; the work is `coldtrace::transform::run_trace`.
@@ -6,7 +6,7 @@
 //! connectors, attenuators and device marked.
 
 use coldtrace::line::{file::read_file as line_file, LineMap, State};
-use coldtrace::output::{check_outputs, write_output};
+use coldtrace::output::{check_extension, check_outputs, write_output};
 use coldtrace::report::{plot_bytes, PlotFormat};
 use coldtrace::touchstone::{read_file, write, WriteOptions};
 use coldtrace::transform::{
@@ -17,6 +17,8 @@ use coldtrace::units::{self, Family};
 use coldtrace::{Error, Network, Warning};
 use std::path::{Path, PathBuf};
 
+use super::DEFAULT_WINDOW;
+
 #[derive(Debug, clap::Args)]
 pub struct Args {
     /// The Touchstone sweep (1-port; for a 2-port file S11 is used).
@@ -26,8 +28,9 @@ pub struct Args {
     /// grid f = k*df), or impedance (ohm, from the step).
     #[arg(long, default_value = "band-pass", value_name = "MODE")]
     pub mode: String,
-    /// Window: rect, hann, hamming, blackman-harris or kaiser:BETA.
-    #[arg(long, default_value = "kaiser:6", value_name = "WINDOW")]
+    /// Window: rect, hann, hamming, blackman-harris or kaiser:BETA. Default kaiser:9, as in every command:
+    /// sidelobes near -66 dB, under the dynamic range of a cryostat line (docs/method.md, Windows).
+    #[arg(long, default_value = DEFAULT_WINDOW, value_name = "WINDOW")]
     pub window: String,
     /// Distance span, e.g. 0m..3m (chirp-z zoom); default: the whole alias-free range by FFT.
     #[arg(long, value_name = "A..B")]
@@ -43,11 +46,12 @@ pub struct Args {
     #[arg(long, value_name = "LINE")]
     pub line: Option<PathBuf>,
     /// With --line: the state the sweep was taken in, warm (all at 295 K) or cold (every stage at its
-    /// temperature). Default cold, the state a cryostat line is usually measured in.
+    /// temperature). Default cold, as in simulate and locate (which infers it where the data allow): cold
+    /// is what is swept after a cooldown.
     #[arg(long, default_value = "cold", value_name = "STATE", requires = "line")]
     pub state: String,
-    /// Time gate in distance, e.g. 0.9m..1.1m; the gated sweep is written to --out.
-    #[arg(long, value_name = "A..B", requires = "out")]
+    /// Time gate in distance, e.g. 0.9m..1.1m; the gated sweep is written to -o/--output.
+    #[arg(long, value_name = "A..B", requires = "output")]
     pub gate: Option<String>,
     /// Gate shape, from the same window family (rect, hann, hamming, blackman-harris, kaiser:BETA).
     #[arg(
@@ -57,9 +61,15 @@ pub struct Args {
         requires = "gate"
     )]
     pub gate_window: String,
-    /// Where to write the gated sweep (Touchstone v1 .s1p).
-    #[arg(long, value_name = "FILE", requires = "gate")]
-    pub out: Option<PathBuf>,
+    /// Where to write the gated sweep (Touchstone v1 .s1p). `--out` is still read, for older scripts.
+    #[arg(
+        short = 'o',
+        long = "output",
+        alias = "out",
+        value_name = "FILE",
+        requires = "gate"
+    )]
+    pub output: Option<PathBuf>,
     /// Write the trace as CSV (distance_m,value).
     #[arg(long, value_name = "FILE")]
     pub csv: Option<PathBuf>,
@@ -89,12 +99,12 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
     let span_m = args
         .span
         .as_deref()
-        .map(|s| units::parse_range(s, Family::Length))
+        .map(|s| units::parse_flag_range("--span", s, Family::Length))
         .transpose()?;
     let step_m = args
         .step
         .as_deref()
-        .map(|s| units::parse(s, Family::Length))
+        .map(|s| units::parse_flag("--step", s, Family::Length))
         .transpose()?;
     if step_m.is_some() && span_m.is_none() {
         return Err(Error::Usage(
@@ -105,7 +115,7 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
     let gate_m = args
         .gate
         .as_deref()
-        .map(|s| units::parse_range(s, Family::Length))
+        .map(|s| units::parse_flag_range("--gate", s, Family::Length))
         .transpose()?;
     let gate_shape = Window::parse(&args.gate_window)
         .map_err(|e| Error::Usage(format!("--gate-window: {e}")))?;
@@ -123,12 +133,18 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
 
     let mut inputs = vec![args.input.as_path()];
     inputs.extend(args.line.as_deref());
-    let outputs: Vec<&Path> = [&args.out, &args.csv, &args.plot]
+    let outputs: Vec<&Path> = [&args.output, &args.csv, &args.plot]
         .into_iter()
         .flatten()
         .map(PathBuf::as_path)
         .collect();
     check_outputs(&outputs, args.force, &inputs)?;
+    if let Some(out) = &args.output {
+        check_extension(out, "--output", "s1p", "a 1-port Touchstone sweep")?;
+    }
+    if let Some(csv) = &args.csv {
+        check_extension(csv, "--csv", "csv", "CSV")?;
+    }
     if let Some(plot) = &args.plot {
         PlotFormat::from_path(plot)?;
     }
@@ -173,7 +189,7 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
 
     // Every output is made before any is written, so a failure leaves nothing half done.
     let mut files: Vec<(&Path, Vec<u8>)> = Vec::new();
-    if let (Some(out), Some(g)) = (&args.out, &outcome.gated) {
+    if let (Some(out), Some(g)) = (&args.output, &outcome.gated) {
         let gated = Network::one_port(net.freqs_hz.clone(), g.values.clone(), reference_ohm);
         let mut opts = WriteOptions::default();
         opts.comments.push(format!(

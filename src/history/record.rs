@@ -220,7 +220,7 @@ pub fn stage_temperatures(line: &Line, state: State) -> Vec<(String, f64)> {
 }
 
 /// Fewest frequency points a reflectometry trace is made from (as `compare` and `locate` require).
-const MIN_POINTS: usize = 16;
+const MIN_POINTS: usize = crate::limits::MIN_TRACE_POINTS;
 
 /// A sweep from bytes already read, with the reader's warnings located at the file.
 fn parse_sweep(bytes: &[u8], path: &Path) -> Result<(Network, Vec<Warning>)> {

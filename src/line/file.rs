@@ -264,6 +264,31 @@ fn ranged(
     }
 }
 
+/// The spellings of the built-in room stage, compared after `names::normalise` (so in any case).
+const ROOM_ALIASES: &[&str] = &["room", "rt", "300k", "room-temperature"];
+
+/// Whether a stage name written in a line file is the built-in room stage.
+fn is_room(name: &str) -> bool {
+    ROOM_ALIASES.contains(&super::names::normalise(name).as_str())
+}
+
+/// Whether two stage names are one (any case, surrounding blanks ignored).
+fn same_stage(a: &str, b: &str) -> bool {
+    super::names::normalise(a) == super::names::normalise(b)
+}
+
+/// Why a stage temperature, accepted, cannot be right: 0 K cannot be reached (third law of
+/// thermodynamics), and a stage below the room stage cannot be warmer than room, 295 K.
+fn unlikely_stage_kelvin(k: f64) -> Option<&'static str> {
+    if k == 0.0 {
+        Some("cannot be reached (absolute zero); a mixing chamber runs at about 0.01 K")
+    } else if k > ROOM_K {
+        Some("is warmer than the room stage (295 K) above it")
+    } else {
+        None
+    }
+}
+
 fn positive(ctx: &Ctx, v: &Spanned<Num>, key: &str, allow_zero: bool) -> Result<f64, LineError> {
     let x = v.get_ref().0;
     let ok = x.is_finite() && if allow_zero { x >= 0.0 } else { x > 0.0 };
@@ -522,22 +547,52 @@ fn resolve(ctx: &Ctx, raw: RawFile) -> Result<Line, LineError> {
         name: ROOM_STAGE.to_string(),
         kelvin: ROOM_K,
     }];
+    let mut stage_warnings = Vec::new();
     if let Some(st) = &raw.stages {
         for (name, t) in st.get_ref() {
-            if name == ROOM_STAGE {
+            let key = format!("stages.{name}");
+            if is_room(name) {
                 return Err(ctx.err(
                     t.span(),
-                    Some(&format!("stages.{name}")),
-                    "'room' is built in (295 K); remove it from [stages]",
+                    Some(&key),
+                    format!(
+                        "'{}' is the built-in stage 'room' (295 K; also written {}); remove it from \
+                         [stages]",
+                        clip(name),
+                        ROOM_ALIASES.join(", ")
+                    ),
                 ));
             }
-            let k = positive(ctx, t, &format!("stages.{name}"), true)?;
+            if let Some(other) = stages.iter().find(|s| same_stage(&s.name, name)) {
+                return Err(ctx.err(
+                    t.span(),
+                    Some(&key),
+                    format!(
+                        "'{}' is the stage '{}' again (stage names are matched in any case); give one \
+                         of them another name",
+                        clip(name),
+                        other.name
+                    ),
+                ));
+            }
+            let k = positive(ctx, t, &key, true)?;
             if k > 400.0 {
                 return Err(ctx.err(
                     t.span(),
-                    Some(&format!("stages.{name}")),
+                    Some(&key),
                     format!("{k} K is not a cryostat stage: give kelvin between 0 and 400"),
                 ));
+            }
+            if let Some(why) = unlikely_stage_kelvin(k) {
+                let (line, col) = ctx.line_col(t.span().start);
+                stage_warnings.push(
+                    crate::Warning::new(
+                        "stage-temperature",
+                        format!("stage '{}' at {k} K {why}", clip(name)),
+                        "check the stage's temperature in kelvin",
+                    )
+                    .at(format!("{}:{line}:{col}", ctx.path.display())),
+                );
             }
             stages.push(Stage {
                 name: name.clone(),
@@ -549,7 +604,9 @@ fn resolve(ctx: &Ctx, raw: RawFile) -> Result<Line, LineError> {
     let stage_k = |v: &Spanned<String>, key: &str| -> Result<(String, f64), LineError> {
         stages
             .iter()
-            .find(|s| &s.name == v.get_ref())
+            .find(|s| {
+                same_stage(&s.name, v.get_ref()) || (s.name == ROOM_STAGE && is_room(v.get_ref()))
+            })
             .map(|s| (s.name.clone(), s.kelvin))
             .ok_or_else(|| {
                 ctx.err(
@@ -887,7 +944,7 @@ fn resolve(ctx: &Ctx, raw: RawFile) -> Result<Line, LineError> {
     if connector_lengths == ConnectorLengths::InCables {
         carve_connectors(ctx, &mut elements, &spans)?;
     }
-    let mut warnings = Vec::new();
+    let mut warnings = stage_warnings;
     let loc = |e: &Element| format!("{}:{}", ctx.path.display(), e.line_no);
     for w in elements.windows(2) {
         let (prev, next) = (&w[0], &w[1]);

@@ -58,7 +58,7 @@ pub fn write(network: &Network, options: &WriteOptions) -> Result<String, Touchs
     let same_ref = network.reference_ohm.iter().all(|&r| r == r0);
     if options.version == WriteVersion::V1 && !same_ref {
         return Err(TouchstoneError::Invalid(format!(
-            "the network has different reference impedances per port ({:?} ohm), which version 1 cannot hold; write version 2 (--version 2)",
+            "the network has different reference impedances per port ({:?} ohm), which version 1 cannot hold; write version 2 (--touchstone-version 2)",
             network.reference_ohm
         )));
     }
@@ -255,7 +255,7 @@ fn check_noise(network: &Network, options: &WriteOptions) -> Result<(), Touchsto
     let last = network.freqs_hz[network.len() - 1];
     if options.version == WriteVersion::V1 && first.freq_hz / scale > last / scale {
         return Err(TouchstoneError::Invalid(format!(
-            "the first noise frequency ({} Hz) is above the last network frequency ({last} Hz), so a version 1 reader could not tell noise from network data; write version 2 (--version 2)",
+            "the first noise frequency ({} Hz) is above the last network frequency ({last} Hz), so a version 1 reader could not tell noise from network data; write version 2 (--touchstone-version 2)",
             first.freq_hz
         )));
     }
