@@ -48,12 +48,21 @@ pub struct LocateJob {
 
 /// A sweep read from a file, with the reader's warnings.
 fn read_sweep(path: &Path) -> Result<(Network, Vec<Warning>)> {
-    let t = read_file(path)?;
-    if t.network.len() < 16 {
+    sweep_of(read_file(path)?, path)
+}
+
+/// A sweep the reader returned for `path`, checked to have enough points for a trace, with the reader's
+/// warnings located at the file (what `compare`, `locate` and `history record` read).
+pub(crate) fn sweep_of(
+    t: crate::touchstone::Touchstone,
+    path: &Path,
+) -> Result<(Network, Vec<Warning>)> {
+    if t.network.len() < crate::limits::MIN_TRACE_POINTS {
         return Err(Error::Usage(format!(
-            "{}: {} frequency point(s); a reflectometry trace needs a sweep of many points (201 or more is usual)",
+            "{}: {} frequency point(s); a reflectometry trace needs at least {} (201 or more is usual)",
             path.display(),
-            t.network.len()
+            t.network.len(),
+            crate::limits::MIN_TRACE_POINTS
         )));
     }
     let warnings = t

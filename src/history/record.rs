@@ -219,31 +219,9 @@ pub fn stage_temperatures(line: &Line, state: State) -> Vec<(String, f64)> {
         .collect()
 }
 
-/// Fewest frequency points a reflectometry trace is made from (as `compare` and `locate` require).
-const MIN_POINTS: usize = crate::limits::MIN_TRACE_POINTS;
-
 /// A sweep from bytes already read, with the reader's warnings located at the file.
 fn parse_sweep(bytes: &[u8], path: &Path) -> Result<(Network, Vec<Warning>)> {
-    let t = crate::touchstone::read_bytes(bytes, path)?;
-    if t.network.len() < MIN_POINTS {
-        return Err(Error::Usage(format!(
-            "{}: {} frequency point(s); a reflectometry trace needs a sweep of many points (201 or more is usual)",
-            path.display(),
-            t.network.len()
-        )));
-    }
-    let w = t
-        .warnings
-        .into_iter()
-        .map(|w| {
-            if w.location.is_none() {
-                w.at(path.display().to_string())
-            } else {
-                w
-            }
-        })
-        .collect();
-    Ok((t.network, w))
+    crate::compare::job::sweep_of(crate::touchstone::read_bytes(bytes, path)?, path)
 }
 
 /// Record one sweep: the work of `history record`.
