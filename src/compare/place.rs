@@ -43,6 +43,7 @@ pub fn place(chain: &ChainView, x: f64) -> Place {
         element,
         offset_m,
         nearest_connector: chain.nearest_connector(x).map(|(s, _)| s.name.clone()),
+        nearest_connector_distance_m: chain.nearest_connector(x).map(|(_, d)| d),
     }
 }
 

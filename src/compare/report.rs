@@ -61,6 +61,8 @@ pub struct Place {
     pub offset_m: f64,
     /// The nearest named connector, if the line has any.
     pub nearest_connector: Option<String>,
+    /// How far that connector's middle is from `distance_m`, m.
+    pub nearest_connector_distance_m: Option<f64>,
 }
 
 /// One located change between the two sweeps. Ordered by `rank` in the report.
