@@ -470,3 +470,19 @@ fn convert_checks_the_extension_against_the_ports_and_keeps_the_comments() {
     assert_eq!(&comments[..original.len()], &original[..], "{text}");
     assert!(comments[original.len()].contains("converted by coldtrace"));
 }
+
+#[test]
+fn a_place_far_from_every_connector_is_given_by_its_offset_not_as_near_one() {
+    let (sweep, line) = (sample("in-07-cold.s1p"), sample("in-07.toml"));
+    let o = run(&["locate", s(&sweep), "--line", s(&line), "--all"]);
+    let text = stdout(&o);
+    // The reference plane's own echo lies 1.5 m from the feedthrough, the nearest connector.
+    let first = text
+        .lines()
+        .find(|l| l.starts_with("1 "))
+        .unwrap_or_else(|| panic!("no event 1:\n{text}"));
+    assert!(first.contains("room cable +0.000 m"), "{first}");
+    assert!(!first.contains("near"), "{first}");
+    // The joints themselves are still named.
+    assert!(text.contains("1.798 m J2"), "{text}");
+}
