@@ -84,6 +84,32 @@ fn joints(chain: &ChainView, f_hz: f64, which: Which) -> Vec<Joint> {
     out
 }
 
+/// Joints closer than a resolution cell, which echo as one.
+struct Group<'a> {
+    /// The joint the echo is taken for: the one expected to echo strongest.
+    lead: &'a Joint,
+    /// Where the echo lands: the joints' delays weighed by their expected strength, s.
+    t_model: f64,
+    /// The first joint's delay, s.
+    first_t: f64,
+}
+
+impl<'a> Group<'a> {
+    fn of(g: &[&'a Joint]) -> Self {
+        let lead = g
+            .iter()
+            .copied()
+            .max_by(|a, b| a.weight.total_cmp(&b.weight))
+            .expect("a group has a joint");
+        let w: f64 = g.iter().map(|j| j.weight).sum();
+        Group {
+            lead,
+            t_model: g.iter().map(|j| j.weight * j.t).sum::<f64>() / w.max(1e-300),
+            first_t: g[0].t,
+        }
+    }
+}
+
 /// Delay tolerance of a joint at as-built `x1`, counted from the last anchor at `x0`: each cable between
 /// them may be off by [`LENGTH_TOLERANCE_ABS_M`] plus [`LENGTH_TOLERANCE_REL`] of its length.
 fn tolerance_s(chain: &ChainView, x0: f64, x1: f64, which: Which) -> f64 {
@@ -130,13 +156,14 @@ pub fn find(chain: &ChainView, b: &SweepAnalysis, which: Which) -> Vec<Anchor> {
     let res = b.resolution_s;
     // Groups of joints within one resolution cell of the group's first.
     let js = joints(chain, f_mid, which);
-    let mut groups: Vec<Vec<&Joint>> = Vec::new();
+    let mut members: Vec<Vec<&Joint>> = Vec::new();
     for j in &js {
-        match groups.last_mut() {
+        match members.last_mut() {
             Some(g) if j.t - g[0].t < res => g.push(j),
-            _ => groups.push(vec![j]),
+            _ => members.push(vec![j]),
         }
     }
+    let groups: Vec<Group> = members.iter().map(|g| Group::of(g)).collect();
     let edge = ALIAS_EDGE * b.alias_free_s;
     let events: Vec<(f64, f64)> = b
         .events
@@ -152,25 +179,15 @@ pub fn find(chain: &ChainView, b: &SweepAnalysis, which: Which) -> Vec<Anchor> {
     let (mut x_last, mut offset) = (0.0, 0.0);
     let mut used = 0usize;
     for (k, g) in groups.iter().enumerate() {
-        let lead = g
-            .iter()
-            .max_by(|a, b| a.weight.total_cmp(&b.weight))
-            .expect("a group has a joint");
-        // Where the echo of the group lands: its joints' delays weighed by their expected strength.
-        let w: f64 = g.iter().map(|j| j.weight).sum();
-        let t_model = g.iter().map(|j| j.weight * j.t).sum::<f64>() / w.max(1e-300);
-        let centre = t_model + offset;
+        let lead = g.lead;
+        let centre = g.t_model + offset;
         let tol = tolerance_s(chain, x_last, lead.x, which).max(0.5 * res);
         // The next group, to which an echo between the two may belong instead.
         let next = groups.get(k + 1).map(|n| {
-            let lead_n = n
-                .iter()
-                .max_by(|a, b| a.weight.total_cmp(&b.weight))
-                .expect("a group has a joint");
             (
-                n[0].t + offset,
-                tolerance_s(chain, x_last, lead_n.x, which).max(0.5 * res),
-                lead_n.weight,
+                n.first_t + offset,
+                tolerance_s(chain, x_last, n.lead.x, which).max(0.5 * res),
+                n.lead.weight,
             )
         });
         let pick = events
@@ -186,7 +203,7 @@ pub fn find(chain: &ChainView, b: &SweepAnalysis, which: Which) -> Vec<Anchor> {
             .max_by(|a, b| a.1 .1.total_cmp(&b.1 .1));
         if let Some((i, &(t, _))) = pick {
             // The lead joint's own delay moves with the group's echo.
-            let observed = lead.t + (t - t_model);
+            let observed = lead.t + (t - g.t_model);
             anchors.push(Anchor {
                 element: lead.name.clone(),
                 position_m: lead.x,

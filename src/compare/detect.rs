@@ -108,7 +108,8 @@ pub fn find_events(
     for i in cands {
         // Placed on the measured trace where it peaks (the shape of an echo is the window's there), on the
         // compensated one otherwise.
-        let (delay, m_raw) = if local_max(&raw, i) {
+        let peak_raw = local_max(&raw, i);
+        let (delay, m_raw) = if peak_raw {
             refine(&raw, i, t0, dt)
         } else {
             let (d, m) = refine(mag, i, t0, dt);
@@ -120,7 +121,7 @@ pub fn find_events(
         // A peak of the compensated trace only (the measured one still falls there) is a stronger echo's
         // flank lifted by a step of the compensation, unless it stands clear of that echo's main lobe by as
         // much again.
-        let reach = if local_max(&raw, i) {
+        let reach = if peak_raw {
             lobe.main_lobe_half_s
         } else {
             2.0 * lobe.main_lobe_half_s

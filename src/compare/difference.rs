@@ -263,8 +263,8 @@ impl Inputs<'_> {
     }
 }
 
-/// How much lower than it is a reflection at as-built `x` reads in analysis `a` (sweep `which`) because
-/// compensation stopped at its cap, dB, at frequency `f` (0 where nothing is compensated).
+/// How much lower than it is a reflection at as-built `x` reads in sweep `which` because compensation
+/// stopped at its cap, dB, at frequency `f` (0 where nothing is compensated).
 pub fn cap_shortfall_db(chain: &ChainView, x: f64, f: f64, which: Which) -> f64 {
     if !chain.compensates() {
         return 0.0;
@@ -318,12 +318,7 @@ const CAP_PROBES: usize = 9;
 /// changed, the baseline shows the same reflection less its own shortfall, and the two band-weighted sums
 /// give the change the caps alone make.
 fn cap_interval_db(inp: &Inputs, x: f64, spectrum: Option<&[(f64, f64)]>) -> (f64, f64) {
-    let (fa, fb) = (inp.c.freqs[0], inp.c.freqs[inp.c.freqs.len() - 1]);
-    // The window weighs the band's edges down: an echo's strength comes from its inner part.
-    let (f0, f1) = (
-        fa + CAP_BAND_EDGE * (fb - fa),
-        fb - CAP_BAND_EDGE * (fb - fa),
-    );
+    let (f0, f1) = inner_band(inp);
     let weighed = spectrum.and_then(|sp| {
         let (mut num, mut den) = (0.0, 0.0);
         for &(f, m) in sp {
@@ -336,15 +331,7 @@ fn cap_interval_db(inp: &Inputs, x: f64, spectrum: Option<&[(f64, f64)]>) -> (f6
     });
     let (mut lo, mut hi) = match weighed {
         Some(e) => (e, e),
-        None => (0..CAP_PROBES)
-            .map(|k| {
-                let f = f0 + (f1 - f0) * k as f64 / (CAP_PROBES - 1) as f64;
-                cap_shortfall_db(inp.chain, x, f, Which::Baseline)
-                    - cap_shortfall_db(inp.chain, x, f, Which::Current)
-            })
-            .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), d| {
-                (lo.min(d), hi.max(d))
-            }),
+        None => cap_bounds_db(inp, x),
     };
     let f_c = 0.5 * (f0 + f1);
     let capped = |which: Which| cap_shortfall_db(inp.chain, x, f1, which) > 0.0;
@@ -505,7 +492,8 @@ pub fn changes(inp: &Inputs) -> Vec<Change> {
         // Where compensation stopped at its cap, a sweep reads low by the loss it left undone.
         let cal = fit.expected_change_db(ch.x);
         // Where the caps' difference varies across the band, weigh it by the echo's own spectrum.
-        let spectrum = if cap_spread_db(inp, ch.x) > CAP_SPREAD_DB {
+        let (lo, hi) = cap_bounds_db(inp, ch.x);
+        let spectrum = if hi - lo > CAP_SPREAD_DB {
             echo_spectrum(inp, ch, &mut engine)
         } else {
             None
@@ -539,22 +527,29 @@ pub fn changes(inp: &Inputs) -> Vec<Change> {
 /// weighed by its echo's own spectrum rather than bounded (common practice, no source).
 pub const CAP_SPREAD_DB: f64 = 1.0;
 
-/// How much the caps' shortfall difference varies across the inner band at `x`, dB.
-fn cap_spread_db(inp: &Inputs, x: f64) -> f64 {
+/// The inner half of the band (without [`CAP_BAND_EDGE`] at each edge), Hz: the window weighs the band's
+/// edges down, so an echo's strength comes from its inner part.
+fn inner_band(inp: &Inputs) -> (f64, f64) {
     let (fa, fb) = (inp.c.freqs[0], inp.c.freqs[inp.c.freqs.len() - 1]);
-    let (f0, f1) = (
+    (
         fa + CAP_BAND_EDGE * (fb - fa),
         fb - CAP_BAND_EDGE * (fb - fa),
-    );
-    let d: Vec<f64> = (0..CAP_PROBES)
+    )
+}
+
+/// The least and the most of the two sweeps' cap shortfalls' difference (baseline less current) over the
+/// inner band at `x`, dB, probed at [`CAP_PROBES`] frequencies.
+fn cap_bounds_db(inp: &Inputs, x: f64) -> (f64, f64) {
+    let (f0, f1) = inner_band(inp);
+    (0..CAP_PROBES)
         .map(|k| {
             let f = f0 + (f1 - f0) * k as f64 / (CAP_PROBES - 1) as f64;
             cap_shortfall_db(inp.chain, x, f, Which::Baseline)
                 - cap_shortfall_db(inp.chain, x, f, Which::Current)
         })
-        .collect();
-    d.iter().fold(f64::NEG_INFINITY, |a, &v| a.max(v))
-        - d.iter().fold(f64::INFINITY, |a, &v| a.min(v))
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), d| {
+            (lo.min(d), hi.max(d))
+        })
 }
 
 /// The echo of change `ch` across the band as the current sweep shows it: (frequency, window weight times
