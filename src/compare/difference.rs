@@ -10,7 +10,7 @@ use super::analysis::SweepAnalysis;
 use super::chain::{ChainView, SegmentKind, Which};
 use super::detect::NOISE_SIGMAS;
 use super::far_end::{Termination, ALIAS_EDGE};
-use super::landmarks::{match_events, Fitted, MODEL_LOSS_ERROR};
+use super::landmarks::{match_events, Fitted, AMPLITUDE_SIGMA_DB, MODEL_LOSS_ERROR};
 use super::sweep::db;
 use crate::transform::TraceEngine;
 use num_complex::Complex64;
@@ -76,7 +76,17 @@ pub struct Change {
     pub was_total: bool,
     /// Amplitude signal-to-noise of the current echo.
     pub snr: f64,
+    /// For the far end's own open or short: its echo's change beyond what the landmarks in front of it
+    /// predict (the prediction's centre), dB, when it lies further from it than [`FAR_END_SIGMAS`] standard
+    /// uncertainties (the loss the landmarks leave unpinned and one landmark's amplitude,
+    /// [`AMPLITUDE_SIGMA_DB`], in quadrature) and [`CHANGE_DB`]: the termination's own joint changed. (An
+    /// open or short reflects all; its echo moves with the line's loss, not with its joint's contraction.)
+    pub far_level_db: Option<f64>,
 }
+
+/// Standard uncertainties by which a far end's echo must lie beyond the prediction of the landmarks in
+/// front of it to count as its own change (the usual three-sigma rule; common practice, no source).
+pub const FAR_END_SIGMAS: f64 = 3.0;
 
 /// How far behind an open or short far end, in resolution cells, an echo is taken for a multiple reflection:
 /// one cell, the far end's own main lobe (common practice, no source).
@@ -124,6 +134,17 @@ pub const PHASE_CHANGE_DEG: f64 = 90.0;
 /// at right angles it is a rise of only 0.7 dB.
 pub const VECTOR_CHANGE: f64 = 0.412_537_5;
 
+/// Relative complex change of an echo, both sweeps in one state, from which a change too small to count
+/// ([`VECTOR_CHANGE`]) is still reported at `info`: 0.15, about 1.2 dB in phase with the echo or 9 degrees
+/// at right angles, above what a network analyser's drift and a flexed test cable leave after the
+/// alignment (common practice, no source).
+pub const NOTED_VECTOR_CHANGE: f64 = 0.15;
+
+/// Least amplitude SNR of an echo whose small change is reported (1000: 60 dB): the noise then moves its
+/// complex response by a thousandth, and a faint echo's response is shaped by its neighbours' skirts and
+/// the compensation's residue more than by its joint (common practice, no source).
+pub const NOTED_SNR: f64 = 1000.0;
+
 /// Least amplitude SNR of an echo whose phase turn counts as a change (10: 20 dB).
 pub const PHASE_SNR: f64 = 10.0;
 
@@ -131,7 +152,8 @@ impl Change {
     /// Whether this counts as a change: its strength moved by [`CHANGE_DB`] or more beyond what the
     /// calibration explains, or, both sweeps in one state, its phase turned by [`PHASE_CHANGE_DEG`] or more.
     pub fn changed(&self, same_state: bool) -> bool {
-        self.excess_db.abs() >= self.threshold_db(same_state)
+        self.far_level_db.is_some()
+            || self.excess_db.abs() >= self.threshold_db(same_state)
             || self.complex_significance(same_state) >= 1.0
     }
 
@@ -205,9 +227,23 @@ impl Change {
         self.base.is_some() && self.base_level < COMPONENT_REFLECTION && self.snr > snr && sure
     }
 
+    /// Whether, both sweeps in one state, a joint's echo (under [`COMPONENT_REFLECTION`]) that stands
+    /// [`NOTED_SNR`] over the noise moved its complex response by less than counts as a change but by more
+    /// than [`NOTED_VECTOR_CHANGE`] of itself: a joint that changed a little (a contact that has started to
+    /// open). It is reported at `info`, never above, so that its history can be followed.
+    pub fn noted(&self, same_state: bool) -> bool {
+        same_state
+            && self.base.is_some()
+            && self.base_level < COMPONENT_REFLECTION
+            && self.snr >= NOTED_SNR
+            && self.vector_change() >= NOTED_VECTOR_CHANGE
+    }
+
     /// Whether it may be reported above info at all.
     pub fn claimable(&self) -> bool {
-        self.zone == Zone::Line && !self.ghost && !self.same_termination
+        self.zone == Zone::Line
+            && !self.ghost
+            && (!self.same_termination || self.far_level_db.is_some())
     }
 }
 
@@ -451,6 +487,7 @@ pub fn changes(inp: &Inputs) -> Vec<Change> {
             same_termination,
             was_total: pair.is_some() && pair == term_pair && was_total,
             snr: c.snr(ec.magnitude, ec.delay_s),
+            far_level_db: None,
         });
     }
     // Baseline echoes with no partner: the reflection there fell.
@@ -478,6 +515,7 @@ pub fn changes(inp: &Inputs) -> Vec<Change> {
             same_termination: false,
             was_total: false,
             snr: c.snr(mag_c, d_c),
+            far_level_db: None,
         });
     }
     let flanks = flank_changes(inp, &out);
@@ -500,13 +538,29 @@ pub fn changes(inp: &Inputs) -> Vec<Change> {
         };
         let caps = cap_interval_db(inp, ch.x, spectrum.as_deref());
         ch.expected_db = (cal + caps.0 + shadow.0, cal + caps.1 + shadow.1);
-        ch.excess_db = if ch.raw_change_db < ch.expected_db.0 {
-            ch.raw_change_db - ch.expected_db.0
-        } else if ch.raw_change_db > ch.expected_db.1 {
-            ch.raw_change_db - ch.expected_db.1
-        } else {
-            0.0
-        };
+        ch.excess_db = outside_db(ch.raw_change_db, ch.expected_db);
+        // The far end's own open or short, against what the landmarks in front of it predict without it:
+        // beyond every loss change the model allows there, its own joint changed.
+        // Only where nothing in front of it changed: the shadow of a changed joint is known only within
+        // wide bounds, and a far end that fell behind one is not a second fault.
+        let clear = shadow == (0.0, 0.0);
+        if let Some(p) = fit
+            .far_end_prediction
+            .filter(|_| ch.same_termination && clear)
+        {
+            let centre = p.expected_db + 0.5 * (caps.0 + caps.1 + shadow.0 + shadow.1);
+            let wide = FAR_END_SIGMAS * p.sigma_db.hypot(AMPLITUDE_SIGMA_DB);
+            let interval = (
+                p.expected_db + caps.0 + shadow.0 - wide,
+                p.expected_db + caps.1 + shadow.1 + wide,
+            );
+            let excess = outside_db(ch.raw_change_db, interval);
+            if excess != 0.0 && (ch.raw_change_db - centre).abs() >= CHANGE_DB {
+                ch.expected_db = interval;
+                ch.excess_db = excess;
+                ch.far_level_db = Some(ch.raw_change_db - centre);
+            }
+        }
         if ch.claimable() && ch.excess_db.abs() >= CHANGE_DB {
             // This joint's own change, net of the calibration, shadows what lies behind it. Levels are read
             // as reflections of at most SHADOW_MAX_REFLECTION (a compensated level near 1 is a termination's,
@@ -521,6 +575,17 @@ pub fn changes(inp: &Inputs) -> Vec<Change> {
         }
     }
     out
+}
+
+/// How far `v` lies outside `[lo, hi]`, signed (0 inside).
+fn outside_db(v: f64, (lo, hi): (f64, f64)) -> f64 {
+    if v < lo {
+        v - lo
+    } else if v > hi {
+        v - hi
+    } else {
+        0.0
+    }
 }
 
 /// Spread of the caps' shortfall difference across the inner band, dB, beyond which a change's interval is
@@ -703,6 +768,7 @@ fn flank_changes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
             same_termination: false,
             was_total: false,
             snr: c.snr(c.mag[i], d_c),
+            far_level_db: None,
         });
     }
     out
@@ -730,7 +796,20 @@ mod tests {
             same_termination: false,
             was_total: false,
             snr,
+            far_level_db: None,
         }
+    }
+
+    #[test]
+    fn a_small_change_of_a_strong_joint_is_noted_in_one_state_only() {
+        // 0.0224 -> 0.0236 turned by 21 degrees: |1.054 e^{j21} - 1| = 0.38, under VECTOR_CHANGE.
+        let ch = paired(0.0224, 0.0236, 21.0, 30_000.0);
+        assert!(!ch.changed(true), "{ch:?}");
+        assert!(ch.noted(true), "{ch:?}");
+        assert!(!ch.noted(false), "{ch:?}");
+        // The same change of a faint echo, or a change within the analyser's drift, is not.
+        assert!(!paired(0.0224, 0.0236, 21.0, 500.0).noted(true));
+        assert!(!paired(0.0224, 0.0226, 3.0, 30_000.0).noted(true));
     }
 
     #[test]

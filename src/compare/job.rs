@@ -102,6 +102,9 @@ pub fn decide_pair_states(
     let both_given = given.0.is_some() && given.1.is_some();
     if let Some((ab, ac)) = quick_analyses(nb, nc, &cfg.window, &mut engine) {
         signatures.extend(pair_signatures(&ab, &ac, &mut engine)?);
+        if let Some(r) = line.and_then(|l| super::states::model_cold_over_warm(&ab, l)) {
+            super::states::check_loss_ratio(&mut signatures, r);
+        }
         // With both states given, the pair's own signatures are enough to warn of a contradiction.
         if let Some(l) = line.filter(|_| !both_given) {
             signatures.extend(model_signatures(&ab, l, "baseline", &mut engine)?);

@@ -309,6 +309,53 @@ pub struct Fitted {
     pub residual_loss_db: Vec<f64>,
     /// Each landmark's measured round-trip delay in the baseline and the current sweep, s.
     pub landmark_delays_s: Vec<(f64, f64)>,
+    /// What the landmarks in front of an open or short far end predict for its echo's change, when the far
+    /// end's own amplitude is left out of the calibration (see [`FarEndPrediction`]).
+    pub far_end_prediction: Option<FarEndPrediction>,
+}
+
+/// The change of an open or short far end's echo that the landmarks in front of it predict, fitted without
+/// the far end's own amplitude: a far end whose echo moved well beyond it changed itself (a lossy joint or a
+/// partly open pin at the termination), which no loss change of the line can explain.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct FarEndPrediction {
+    /// As-built place of the far end, m.
+    pub x: f64,
+    /// Predicted change of its echo's strength, current over baseline, dB.
+    pub expected_db: f64,
+    /// Standard uncertainty of the prediction from the loss the landmarks do not pin: the segments behind the
+    /// last amplitude landmark in front of the far end, at their own prior widths ([`loss_sigma_db`]), added
+    /// linearly (one conductor's surface resistance errs alike along a cable), dB.
+    pub sigma_db: f64,
+}
+
+/// Standard uncertainty of the loss change between as-built `from` and `to` on `chain` at `reference_hz`,
+/// dB: across a change of state, each segment's modelled error times the share of it that lies in between,
+/// added linearly (one conductor's surface resistance errs alike along a cable): [`MODEL_LOSS_ERROR`] of the
+/// larger of its cold-side conductor loss and its modelled change (as [`loss_sigma_db`]), and
+/// [`super::difference::ATTENUATOR_LOSS_ERROR`] of an attenuator's flat loss; in one state (one model for
+/// both sweeps) nothing. Drift, [`LOSS_PRIOR_SIGMA_DB`], adds in quadrature.
+pub fn loss_sigma_between(chain: &ChainView, from: f64, to: f64, reference_hz: f64) -> f64 {
+    let (a, b) = (chain.cover(from), chain.cover(to));
+    let model: f64 = chain
+        .segments
+        .iter()
+        .zip(a.iter().zip(&b))
+        .map(|(s, (ca, cb))| {
+            let l: [f64; 2] =
+                std::array::from_fn(|k| (s.loss[k].db(reference_hz) - s.loss[k].a_flat).abs());
+            let one_model = (l[0] - l[1]).abs() <= 1e-9 * (1.0 + l[0])
+                && (s.loss[0].a_flat - s.loss[1].a_flat).abs() <= 1e-9 * (1.0 + s.loss[0].a_flat);
+            if one_model {
+                return 0.0;
+            }
+            let part = MODEL_LOSS_ERROR * l[0].min(l[1]).max((l[0] - l[1]).abs())
+                + super::difference::ATTENUATOR_LOSS_ERROR
+                    * s.loss[0].a_flat.abs().max(s.loss[1].a_flat.abs());
+            (cb - ca).max(0.0) * part
+        })
+        .sum();
+    model.hypot(LOSS_PRIOR_SIGMA_DB)
 }
 
 impl Fitted {
@@ -488,6 +535,7 @@ pub(super) fn fit_alignment(
             .iter()
             .map(|&(i, j)| (b.events[i].delay_s, c.events[j].delay_s))
             .collect(),
+        far_end_prediction: None,
     }
 }
 

@@ -277,7 +277,50 @@ pub fn align_pair(
         .as_ref()
         .filter(|t| !t.total)
         .map(|t| t.event);
-    fit_alignment(&chain, b, c, &pairs, f_ref, bounds, device_end)
+    let mut fit = fit_alignment(&chain, b, c, &pairs, f_ref, bounds, device_end);
+    fit.far_end_prediction = far_end_prediction(pa, &chain, &pairs, f_ref, bounds);
+    fit
+}
+
+/// What the landmarks in front of an open or short far end (the same in both sweeps) predict for its echo,
+/// fitted without the far end's own amplitude, on a line file's chain. `None` without such a far end, or
+/// without a landmark in front of it whose amplitude pins the level (an amplifier's gain change moves every
+/// echo alike, and with no echo in front of the far end it cannot be told from a change there).
+fn far_end_prediction(
+    pa: &PairAnalysis,
+    chain: &ChainView,
+    pairs: &Pairs,
+    f_ref: f64,
+    bounds: (f64, f64),
+) -> Option<FarEndPrediction> {
+    let (b, c) = (&pa.b, &pa.c);
+    let tb = pa.far.baseline.as_ref()?;
+    if !chain.as_built || !pa.far.same_total() {
+        return None;
+    }
+    let res = b.resolution_s.max(c.resolution_s);
+    // Amplitude landmarks clear of the far end's main lobe.
+    let front: Vec<f64> = pairs
+        .iter()
+        .filter(|&&(i, j)| {
+            i != tb.event
+                && b.events[i].delay_s < tb.delay_s - LANDMARK_SEPARATION_CELLS * res
+                && (db(c.events[j].magnitude) - db(b.events[i].magnitude)).abs()
+                    <= crate::compare::align::MAX_LANDMARK_AMPLITUDE_DB
+        })
+        .map(|&(i, _)| chain.position_of(b.events[i].delay_s, Which::Baseline, None))
+        .collect();
+    let last = front.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+    if !last.is_finite() {
+        return None;
+    }
+    let free = fit_alignment(chain, b, c, pairs, f_ref, bounds, Some(tb.event));
+    let x = free.chain.position_of(tb.delay_s, Which::Baseline, None);
+    Some(FarEndPrediction {
+        x,
+        expected_db: free.expected_change_db(x),
+        sigma_db: loss_sigma_between(&free.chain, last, x, f_ref),
+    })
 }
 
 /// Stage 4: explain one change as a finding.
@@ -369,6 +412,19 @@ pub fn explain_change(
         lo = 0.0;
         hi = 0.0;
     }
+    if let Some(d) = ch.far_level_db {
+        // The far end's own joint changed: its echo moved beyond every loss change the model allows. One
+        // pass to the termination lost half of what the round trip lost beyond the line: at least the part
+        // beyond the interval, at most the whole change beyond the prediction.
+        if d < 0.0 {
+            kind = FaultKind::Contact;
+            lo = 0.5 * ch.excess_db.abs();
+            hi = (0.5 * d.abs()).max(lo);
+            severity = Severity::from_drop_db(hi);
+        } else {
+            kind = FaultKind::Unknown;
+        }
+    }
     if !rising && ch.base.is_none() {
         kind = FaultKind::Unknown;
     }
@@ -376,7 +432,14 @@ pub fn explain_change(
         severity = Severity::Info;
     }
     let p = place(chain, x);
-    let what = if !rising {
+    let what = if let Some(d) = ch.far_level_db {
+        format!(
+            "the far end's echo {} by {:.1} dB more than the line's loss change explains: the joint at the \
+             termination changed (a series resistance or a partly open pin)",
+            if d < 0.0 { "fell" } else { "rose" },
+            ch.excess_db.abs()
+        )
+    } else if !rising {
         format!(
             "reflection fell by {:.1} dB ({})",
             -change_db,
@@ -680,7 +743,8 @@ pub fn compare(
     for ch in &changes {
         let at_end = ch.same_termination || ch.was_total;
         let end_change = at_end && (moved || kind_flip);
-        if !(ch.changed(same_state) || end_change) {
+        let noted_only = !(ch.changed(same_state) || end_change) && ch.noted(same_state);
+        if !(ch.changed(same_state) || end_change || noted_only) {
             continue;
         }
         if ch.zone == Zone::BehindDevice {
@@ -697,6 +761,12 @@ pub fn compare(
             0.0
         };
         let mut f = explain_change(ch, &pa, &fit, same_state, f_ref, extra, &mut engine)?;
+        if noted_only {
+            // Too small to count: reported, never above info.
+            f.severity = Severity::Info;
+            f.explanation
+                .push_str(" (a small change, below what counts as one; follow it in the history)");
+        }
         if at_end && (moved || kind_flip) {
             // The move beyond what the line in front explains (its tolerance), as every change is taken
             // beyond the interval the calibration explains.

@@ -553,14 +553,7 @@ pub(super) fn model_signatures(
         if let Some((meas, _)) = far_end::fit_loss(&f, &g) {
             let fm = f[f.len() / 2];
             let l_meas = meas.db(fm);
-            let l_w = warm.loss_to_db(warm.visible_end_m(), fm, Which::Baseline)
-                - warm
-                    .loss_model_to(warm.visible_end_m(), Which::Baseline)
-                    .a_flat;
-            let l_c = cold.loss_to_db(cold.visible_end_m(), fm, Which::Baseline)
-                - cold
-                    .loss_model_to(cold.visible_end_m(), Which::Baseline)
-                    .a_flat;
+            let (l_w, l_c) = (conductor_loss_db(warm, fm), conductor_loss_db(cold, fm));
             if l_w > 0.5 && l_c > 0.0 {
                 // Compare in the log domain: the model's losses are known to about 30 %.
                 let v = (l_meas.max(1e-3) / l_w).ln();
@@ -584,6 +577,77 @@ pub(super) fn model_signatures(
         }
     }
     Ok(out)
+}
+
+/// Round-trip conductor loss of `chain` (one state's) to its visible end at `f`, dB: the modelled loss less
+/// the attenuators' flat part.
+fn conductor_loss_db(chain: &ChainView, f: f64) -> f64 {
+    let end = chain.visible_end_m();
+    chain.loss_to_db(end, f, Which::Baseline) - chain.loss_model_to(end, Which::Baseline).a_flat
+}
+
+/// Factor by which the line model's ratio of cold to warm conductor loss may be off either way when the
+/// `loss-ratio` signature is checked against it: each state's loss known to [`super::landmarks::
+/// MODEL_LOSS_ERROR`] (30 %), so the ratio to (1 + 0.3) / (1 - 0.3) = 1.86.
+pub const MODEL_RATIO_FACTOR: f64 = 1.857_142_857_142_857;
+
+/// Check the `loss-ratio` signature against what the line model allows under each hypothesis: the ratio
+/// of the model's cold to warm conductor loss to the far end (`cold_over_warm`), off by up to
+/// [`MODEL_RATIO_FACTOR`] either way, within the signature's own physical interval. When the measured
+/// ratio lies more than [`OPEN_MARGIN`] standard uncertainties outside what every hypothesis allows, no
+/// state explains the far echo's change: the termination's own joint changed (a series resistance or a
+/// partly open pin there reshapes the echo), and the signature no longer votes. Its note says so.
+pub fn check_loss_ratio(signatures: &mut [Signature], cold_over_warm: f64) {
+    if !(cold_over_warm.is_finite() && cold_over_warm > 0.0) {
+        return;
+    }
+    for s in signatures.iter_mut().filter(|s| s.name == "loss-ratio") {
+        let (lo, hi) = (
+            cold_over_warm / MODEL_RATIO_FACTOR,
+            cold_over_warm * MODEL_RATIO_FACTOR,
+        );
+        let w2c = (
+            lo.max(LOSS_RATIO_WARM_TO_COLD.0),
+            hi.min(LOSS_RATIO_WARM_TO_COLD.1),
+        );
+        let c2w = (
+            (1.0 / hi).max(1.0 / LOSS_RATIO_WARM_TO_COLD.1),
+            (1.0 / lo).min(1.0 / LOSS_RATIO_WARM_TO_COLD.0),
+        );
+        let model_misfit = |(a, b): (f64, f64)| {
+            if a > b {
+                f64::INFINITY
+            } else {
+                outside(s.value, (a, b), s.sigma)
+            }
+        };
+        let least = [w2c, c2w, LOSS_RATIO_SAME]
+            .into_iter()
+            .map(model_misfit)
+            .fold(f64::INFINITY, f64::min);
+        if least > OPEN_MARGIN {
+            for m in s.misfit.iter_mut() {
+                m.1 = 0.0;
+            }
+            s.note.push_str(&format!(
+                "; no state explains it (the line model allows {:.0}-{:.0} % warm -> cold): the far end's \
+                 own joint may have changed, so it does not vote",
+                100.0 * w2c.0,
+                100.0 * w2c.1
+            ));
+        }
+    }
+}
+
+/// The line model's ratio of cold to warm round-trip conductor loss to the far end, at the band centre of
+/// sweep analysis `a`.
+pub fn model_cold_over_warm(a: &SweepAnalysis, line: &Line) -> Option<f64> {
+    let (lo, hi) = (a.freqs[0], a.freqs[a.freqs.len() - 1]);
+    let f = 0.5 * (lo + hi);
+    let warm = ChainView::from_line(line, State::Warm, State::Warm, lo, hi, f);
+    let cold = ChainView::from_line(line, State::Cold, State::Cold, lo, hi, f);
+    let (l_w, l_c) = (conductor_loss_db(&warm, f), conductor_loss_db(&cold, f));
+    (l_w > 0.0 && l_c > 0.0).then(|| l_c / l_w)
 }
 
 /// A single-sweep signature, its misfits spread over the pair hypotheses by the state they give that sweep.
@@ -742,4 +806,51 @@ pub fn decide_single(
         ),
         Some(d.margin),
     ))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn loss_ratio(value: f64, sigma: f64) -> Signature {
+        Signature {
+            name: "loss-ratio",
+            sweep: "pair",
+            value,
+            sigma,
+            unit: "",
+            misfit: vec![
+                (
+                    Hypothesis::WarmCold,
+                    outside(value, LOSS_RATIO_WARM_TO_COLD, sigma),
+                ),
+                (Hypothesis::ColdWarm, 1.0),
+                (Hypothesis::WarmWarm, 2.0),
+                (Hypothesis::ColdCold, 2.0),
+            ],
+            note: String::new(),
+        }
+    }
+
+    #[test]
+    fn a_loss_ratio_no_state_of_the_model_allows_does_not_vote() {
+        // The model: cold loses 72 % of warm. A warm-up allows 1 / (0.72 x 1.86) = 0.75 up to
+        // 1 / (0.72 / 1.86) = 2.58; the far echo losing 333 % +/- 4 % is outside everything.
+        let mut s = vec![loss_ratio(3.33, 0.04)];
+        check_loss_ratio(&mut s, 0.72);
+        assert!(s[0].misfit.iter().all(|m| m.1 == 0.0), "{:?}", s[0]);
+        assert!(s[0].note.contains("no state explains it"), "{}", s[0].note);
+    }
+
+    #[test]
+    fn a_loss_ratio_the_model_allows_keeps_its_vote() {
+        // 2.0 lies inside a warm-up's 0.75-2.58 for the same model; a cooldown's 0.5 inside 0.39-0.92.
+        for v in [2.0, 0.5, 1.0] {
+            let mut s = vec![loss_ratio(v, 0.04)];
+            let before = s[0].misfit.clone();
+            check_loss_ratio(&mut s, 0.72);
+            assert_eq!(s[0].misfit, before, "{v}");
+            assert!(s[0].note.is_empty());
+        }
+    }
 }

@@ -60,6 +60,15 @@ fn check_file(path: &Path) -> Result<bool, HistoryError> {
     Ok(true)
 }
 
+/// True for SQLite's "busy" and "locked" answers.
+fn is_busy(e: &rusqlite::Error) -> bool {
+    matches!(
+        e,
+        rusqlite::Error::SqliteFailure(f, _)
+            if matches!(f.code, rusqlite::ErrorCode::DatabaseBusy | rusqlite::ErrorCode::DatabaseLocked)
+    )
+}
+
 fn finite(x: f64) -> Option<f64> {
     x.is_finite().then_some(x)
 }
@@ -96,6 +105,26 @@ impl SqliteStore {
         if create {
             flags |= OpenFlags::SQLITE_OPEN_CREATE;
         }
+        // Several processes opening one new database at once race for the switch to write-ahead logging and
+        // the first migration; SQLite answers some of those races "busy" without waiting (the busy timeout
+        // covers only ordinary locks). Each such answer is retried, up to BUSY_TIMEOUT in all.
+        let start = std::time::Instant::now();
+        loop {
+            match Self::connect(path, flags, version) {
+                Err(HistoryError::Sqlite { source, .. })
+                    if is_busy(&source) && start.elapsed() < BUSY_TIMEOUT =>
+                {
+                    std::thread::sleep(Duration::from_millis(
+                        10 + u64::from(std::process::id() % 20),
+                    ));
+                }
+                other => return other,
+            }
+        }
+    }
+
+    /// Connect, check the schema version, switch to write-ahead logging and migrate.
+    fn connect(path: &Path, flags: OpenFlags, version: i64) -> Result<SqliteStore, HistoryError> {
         let err = |source| HistoryError::Sqlite {
             path: path.to_path_buf(),
             source,
