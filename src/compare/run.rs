@@ -787,12 +787,17 @@ pub fn compare(
             "sweep from the other end of the line, or through the device's own port",
         ));
     }
-    // A new open or short is as far as reflection now sees: nothing behind it is claimed.
+    // A new open or short is as far as reflection now sees: nothing behind it is claimed. So is a pin gap
+    // that reflects as much as `explain` reads an open from (a pulled-back pin of a few fF is an open across
+    // the band).
     let res_s = pa.b.resolution_s.max(pa.c.resolution_s);
+    let total_db = db(difference::SHADOW_MAX_REFLECTION);
     let wall = findings
         .iter()
         .filter(|f| {
-            matches!(f.kind, FaultKind::Open | FaultKind::Short) && f.severity == Severity::Critical
+            f.severity == Severity::Critical
+                && (matches!(f.kind, FaultKind::Open | FaultKind::Short)
+                    || (f.kind == FaultKind::PinGap && f.reflection_db >= total_db))
         })
         .map(|f| {
             f.place.distance_m
