@@ -3,11 +3,12 @@
 //! Flags become a `coldtrace::compare::job::CompareJob`; the work is `run_compare`.
 
 use super::locate::{
-    analysis_config, check_at_in_band, check_plot, figure, inputs, line_source, parse_fail_on,
-    parse_state, LineArgs,
+    analysis_config, check_at_in_band, check_plot, inputs, line_source, parse_fail_on, parse_state,
+    plot_inputs, LineArgs,
 };
 use coldtrace::compare::job::{run_compare, CompareJob};
 use coldtrace::compare::text::render_compare;
+use coldtrace::report::views::compare_figure;
 use coldtrace::report::write_plot;
 use coldtrace::units;
 use coldtrace::{exit, Error};
@@ -67,12 +68,12 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
     };
     check_plot(&args.line, &[&args.baseline, &args.current])?;
     check_at_in_band(&args.line, &[&args.baseline, &args.current])?;
+    let drawing = plot_inputs(&args.line)?;
     let report = run_compare(&job)?;
     if let Some(p) = &args.line.plot {
-        let title = format!("{}: baseline and current", report.line);
         write_plot(
             p,
-            &figure(&title, &report.plot),
+            &compare_figure(&report, drawing.line.as_ref(), drawing.span),
             args.line.force,
             &inputs(&args.line, &[&args.baseline, &args.current]),
         )?;

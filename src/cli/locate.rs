@@ -3,12 +3,12 @@
 //! `coldtrace::compare::job::LocateJob`; the work is `run_locate`.
 
 use coldtrace::compare::job::{run_locate, LineSource, LocateJob};
-use coldtrace::compare::report::PlotData;
 use coldtrace::compare::text::render_locate;
 use coldtrace::compare::{AnalysisConfig, Severity};
 use coldtrace::limits::{short_number, MAX_FREQUENCY_HZ};
-use coldtrace::line::State;
-use coldtrace::report::{write_plot, Figure, Marker, Series};
+use coldtrace::line::{Line, State};
+use coldtrace::report::views::locate_figure;
+use coldtrace::report::write_plot;
 use coldtrace::transform::{Window, DEFAULT_VELOCITY_FACTOR};
 use coldtrace::units::{self, Family};
 use coldtrace::{exit, Error};
@@ -40,6 +40,10 @@ pub struct LineArgs {
     /// Draw the traces to an .svg or .png file.
     #[arg(long, value_name = "FILE")]
     pub plot: Option<PathBuf>,
+    /// The distance span drawn by --plot and --report, e.g. 0m..3m; default: the line's length (without a
+    /// line file, the farthest significant echo) plus a margin.
+    #[arg(long, value_name = "A..B")]
+    pub span: Option<String>,
     /// Replace output files that exist (inputs are never replaced).
     #[arg(long)]
     pub force: bool,
@@ -156,39 +160,24 @@ fn ghz(hz: f64) -> String {
     format!("{}GHz", short_number(hz / 1e9))
 }
 
-/// A figure of the traces in as-built metres with the chain's marks.
-pub fn figure(title: &str, data: &PlotData) -> Figure {
-    let mut fig = Figure::new(
-        title,
-        "distance from the reference plane (m, as built)",
-        "|reflection| (dB, compensated)",
-    );
-    fig.max_envelope = true;
-    for (name, x, y) in &data.traces {
-        fig.series.push(Series {
-            name: name.clone(),
-            x: x.clone(),
-            y: y.clone(),
-        });
-    }
-    fig.markers = data
-        .marks
-        .iter()
-        .map(|(x, l)| Marker {
-            x: *x,
-            label: l.clone(),
-        })
-        .collect();
-    let top = data
-        .traces
-        .iter()
-        .flat_map(|t| t.2.iter())
-        .cloned()
-        .fold(f64::NEG_INFINITY, f64::max);
-    if top.is_finite() {
-        fig.y_range = Some((top - 100.0, top + 5.0));
-    }
-    fig
+/// What a plot draws besides the result: the span asked, and the line file for the chain strip.
+pub struct Drawing {
+    pub span: Option<(f64, f64)>,
+    pub line: Option<Line>,
+}
+
+/// `--span`, parsed; and the line file once more for the plot's chain strip (only when something is drawn).
+pub fn plot_inputs(a: &LineArgs) -> coldtrace::Result<Drawing> {
+    let span = a
+        .span
+        .as_deref()
+        .map(|s| units::parse_flag_range("--span", s, Family::Length))
+        .transpose()?;
+    let line = match (&a.line, &a.plot) {
+        (Some(l), Some(_)) => Some(coldtrace::line::file::read_file(l)?),
+        _ => None,
+    };
+    Ok(Drawing { span, line })
 }
 
 pub fn run(args: Args) -> coldtrace::Result<u8> {
@@ -205,11 +194,12 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
     };
     check_plot(&args.line, &[&args.sweep])?;
     check_at_in_band(&args.line, &[&args.sweep])?;
+    let drawing = plot_inputs(&args.line)?;
     let report = run_locate(&job)?;
     if let Some(p) = &args.line.plot {
         write_plot(
             p,
-            &figure(&format!("{}: {}", report.line, report.sweep), &report.plot),
+            &locate_figure(&report, drawing.line.as_ref(), drawing.span),
             args.line.force,
             &inputs(&args.line, &[&args.sweep]),
         )?;
