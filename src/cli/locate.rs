@@ -7,6 +7,8 @@ use coldtrace::compare::text::render_locate;
 use coldtrace::compare::{AnalysisConfig, Severity};
 use coldtrace::limits::{short_number, MAX_FREQUENCY_HZ};
 use coldtrace::line::{Line, State};
+use coldtrace::output::write_output;
+use coldtrace::report::html::{hash_inputs, locate_html, RunContext};
 use coldtrace::report::views::locate_figure;
 use coldtrace::report::write_plot;
 use coldtrace::transform::{Window, DEFAULT_VELOCITY_FACTOR};
@@ -44,6 +46,10 @@ pub struct LineArgs {
     /// line file, the farthest significant echo) plus a margin.
     #[arg(long, value_name = "A..B")]
     pub span: Option<String>,
+    /// Write one self-contained HTML report (summary, findings, plots, inputs' SHA-256, settings,
+    /// cautions) to FILE.html: no scripts, no network, prints on A4 or Letter (docs/report.md).
+    #[arg(long, value_name = "FILE.html")]
+    pub report: Option<PathBuf>,
     /// Replace output files that exist (inputs are never replaced).
     #[arg(long)]
     pub force: bool,
@@ -78,13 +84,56 @@ pub fn inputs<'a>(a: &'a LineArgs, sweeps: &[&'a std::path::Path]) -> Vec<&'a st
     v
 }
 
-/// Refuse a `--plot` path that cannot be written before any work is done.
+/// Refuse a `--plot` or `--report` path that cannot be written before any work is done.
 pub fn check_plot(a: &LineArgs, sweeps: &[&std::path::Path]) -> coldtrace::Result<()> {
     if let Some(p) = &a.plot {
         coldtrace::report::PlotFormat::from_path(p)?;
-        coldtrace::output::check_outputs(&[p], a.force, &inputs(a, sweeps))?;
     }
-    Ok(())
+    if let Some(r) = &a.report {
+        coldtrace::output::check_extension(r, "--report", "html", "an HTML report")?;
+    }
+    let outputs: Vec<&Path> = [&a.plot, &a.report]
+        .into_iter()
+        .flatten()
+        .map(PathBuf::as_path)
+        .collect();
+    coldtrace::output::check_outputs(&outputs, a.force, &inputs(a, sweeps))
+}
+
+/// The report's account of the run: each input's SHA-256 and the settings as the user would write them.
+pub fn run_context(
+    a: &LineArgs,
+    sweeps: &[(&str, &Path)],
+    mut settings: Vec<(String, String)>,
+    span: Option<(f64, f64)>,
+) -> coldtrace::Result<RunContext> {
+    let mut files = sweeps.to_vec();
+    if let Some(l) = &a.line {
+        files.push(("line file", l.as_path()));
+    }
+    let mut all = vec![
+        (
+            "line".to_string(),
+            match (&a.line, a.vf) {
+                (Some(l), _) => format!("--line {}", l.display()),
+                (None, vf) => format!(
+                    "no line file: one uniform line, velocity factor {}",
+                    vf.unwrap_or(DEFAULT_VELOCITY_FACTOR)
+                ),
+            },
+        ),
+        ("window".to_string(), a.window.clone()),
+        (
+            "power drops quoted at".to_string(),
+            a.at.clone().unwrap_or_else(|| "the band centre".into()),
+        ),
+    ];
+    all.append(&mut settings);
+    Ok(RunContext {
+        inputs: hash_inputs(&files)?,
+        settings: all,
+        span,
+    })
 }
 
 /// `--fail-on`'s value.
@@ -173,8 +222,10 @@ pub fn plot_inputs(a: &LineArgs) -> coldtrace::Result<Drawing> {
         .as_deref()
         .map(|s| units::parse_flag_range("--span", s, Family::Length))
         .transpose()?;
-    let line = match (&a.line, &a.plot) {
-        (Some(l), Some(_)) => Some(coldtrace::line::file::read_file(l)?),
+    let line = match &a.line {
+        Some(l) if a.plot.is_some() || a.report.is_some() => {
+            Some(coldtrace::line::file::read_file(l)?)
+        }
         _ => None,
     };
     Ok(Drawing { span, line })
@@ -200,6 +251,25 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
         write_plot(
             p,
             &locate_figure(&report, drawing.line.as_ref(), drawing.span),
+            args.line.force,
+            &inputs(&args.line, &[&args.sweep]),
+        )?;
+    }
+    if let Some(path) = &args.line.report {
+        let settings = vec![(
+            "state".to_string(),
+            args.state.clone().unwrap_or_else(|| "inferred".into()),
+        )];
+        let ctx = run_context(
+            &args.line,
+            &[("sweep", &args.sweep)],
+            settings,
+            drawing.span,
+        )?;
+        let html = locate_html(&report, drawing.line.as_ref(), &ctx)?;
+        write_output(
+            path,
+            html.as_bytes(),
             args.line.force,
             &inputs(&args.line, &[&args.sweep]),
         )?;

@@ -4,8 +4,10 @@
 //! `plot.rs` draws a [`Figure`] (plain data: series, markers, findings, the chain strip, a lower panel,
 //! notes) to SVG or PNG; `layout.rs` decides every position in pixels first, as plain data; `style.rs` holds
 //! the colour-blind-safe palette and the temperature shade; `views.rs` turns the results of `trace`,
-//! `locate` and `compare` (and a line file) into figures, with the default span.
+//! `locate` and `compare` (and a line file) into figures, with the default span; `html.rs` writes the
+//! self-contained HTML report of `compare` and `locate` (`--report FILE.html`).
 
+pub mod html;
 pub mod layout;
 pub mod plot;
 pub mod style;

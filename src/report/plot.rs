@@ -443,6 +443,12 @@ where
             .map_err(e)?;
         }
         for l in &lay.tick_labels {
+            // A tick from a lower row may pass behind a label of an upper row: the label stays readable.
+            root.draw(&Rectangle::new(
+                [(l.rect.x0 - 2, l.rect.y0), (l.rect.x1 + 2, l.rect.y1)],
+                WHITE.filled(),
+            ))
+            .map_err(e)?;
             root.draw(&Text::new(
                 l.text.clone(),
                 (l.rect.x0, l.rect.y0 + 1),
