@@ -8,7 +8,8 @@
 # The size defaults to 1100x3200 pixels, enough for a report with a few findings; the page is drawn at
 # that size, so pass a taller one for a long findings table. The report has no script and no network
 # reference, and Chromium is started without networking, sync, component updates or a profile of yours.
-# Exit codes: 0 written, 2 bad use or Chromium missing, otherwise Chromium's own.
+# Exit codes: 0 written, 1 nothing or a blank page written, 2 bad use or Chromium missing, otherwise
+# Chromium's own.
 set -eu
 
 if [ $# -lt 2 ] || [ $# -gt 3 ]; then
@@ -46,6 +47,12 @@ abs_out=$(cd "$(dirname "$out")" && pwd)/$(basename "$out")
     --window-size="$width,$height" --screenshot="$abs_out" "file://$abs_report" 2>/dev/null
 if [ ! -s "$abs_out" ]; then
     echo "$0: Chromium wrote no picture" >&2
+    exit 1
+fi
+# A blank page compresses to a few kilobytes; a report with its plot is hundreds.
+bytes=$(wc -c < "$abs_out")
+if [ "$bytes" -lt 20000 ]; then
+    echo "$0: $out is only $bytes bytes: the page looks blank; open the report in a browser to see why" >&2
     exit 1
 fi
 echo "$out"
