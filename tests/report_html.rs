@@ -223,3 +223,62 @@ fn a_report_is_an_html_file_and_never_replaces_one_unasked() {
     assert!(String::from_utf8_lossy(&o.stderr).contains("--force"));
     assert_eq!(std::fs::read_to_string(&kept).unwrap(), "mine");
 }
+
+#[test]
+fn survey_writes_every_lines_findings_as_the_table() {
+    let dir = tempfile::tempdir().unwrap();
+    let report = dir.path().join("fleet.html");
+    let manifest = sample("fleet/survey.toml");
+    let o = run(&[
+        "survey".as_ref(),
+        manifest.as_os_str(),
+        "--jobs".as_ref(),
+        "1".as_ref(),
+        "--json".as_ref(),
+        "--report".as_ref(),
+        report.as_os_str(),
+    ]);
+    assert_eq!(
+        o.status.code(),
+        Some(1),
+        "{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    let json: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    let html = Html::parse_document(&std::fs::read_to_string(&report).unwrap());
+    let ids: Vec<&str> = html
+        .select(&sel("body > section"))
+        .filter_map(|s| s.value().attr("id"))
+        .collect();
+    assert_eq!(ids, coldtrace::report::html::SECTIONS);
+    // One row per finding of every line, worst line first, as in the JSON.
+    let expected: Vec<(String, String)> = json["lines"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .flat_map(|l| {
+            l["findings"].as_array().unwrap().iter().map(move |f| {
+                (
+                    l["line"].as_str().unwrap().to_string(),
+                    f["element"].as_str().unwrap().to_string(),
+                )
+            })
+        })
+        .collect();
+    let rows: Vec<(String, String)> = html
+        .select(&sel("#findings table tr"))
+        .skip(1)
+        .map(|tr| {
+            let cells: Vec<String> = tr
+                .select(&sel("td"))
+                .map(|td| td.text().collect())
+                .collect();
+            (cells[0].clone(), cells[3].clone())
+        })
+        .collect();
+    assert_eq!(rows, expected);
+    // The manifest and each line's three files are hashed.
+    let hashed = html.select(&sel("#inputs table tr")).count() - 1;
+    assert_eq!(hashed, 1 + 3 * json["lines"].as_array().unwrap().len());
+    assert_eq!(html.select(&sel("script")).count(), 0);
+}

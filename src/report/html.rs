@@ -61,16 +61,22 @@ pub fn hash_inputs(files: &[(&str, &Path)]) -> crate::Result<Vec<InputFile>> {
     files
         .iter()
         .map(|(role, path)| {
-            let bytes = crate::limits::read_capped(path, crate::limits::MAX_SWEEP_FILE_BYTES, role)
-                .map_err(|e| crate::Error::io(path, e))?;
-            let digest = Sha256::digest(&bytes);
             Ok(InputFile {
                 role: role.to_string(),
                 path: path.display().to_string(),
-                sha256: digest.iter().map(|b| format!("{b:02x}")).collect(),
+                sha256: sha256_of(path, role).map_err(|e| crate::Error::io(path, e))?,
             })
         })
         .collect()
+}
+
+/// The SHA-256 of a file's bytes, hex, read within the sweep-file size limit.
+pub fn sha256_of(path: &Path, what: &str) -> std::io::Result<String> {
+    let bytes = crate::limits::read_capped(path, crate::limits::MAX_SWEEP_FILE_BYTES, what)?;
+    Ok(Sha256::digest(&bytes)
+        .iter()
+        .map(|b| format!("{b:02x}"))
+        .collect())
 }
 
 /// Text made safe for HTML content and attribute values.
@@ -110,7 +116,7 @@ section { break-inside: auto; } h2 { break-after: avoid; } }
 ";
 
 /// The page around its sections.
-fn page(title: &str, sections: &str) -> String {
+pub(crate) fn page(title: &str, sections: &str) -> String {
     format!(
         "<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n<title>{}</title>\n\
          <style>\n{STYLE}</style>\n</head>\n<body>\n{sections}</body>\n</html>\n",
@@ -118,7 +124,7 @@ fn page(title: &str, sections: &str) -> String {
     )
 }
 
-fn section(out: &mut String, id: &str, heading: &str, body: &str) {
+pub(crate) fn section(out: &mut String, id: &str, heading: &str, body: &str) {
     let _ = write!(
         out,
         "<section id=\"{id}\">\n<h2>{}</h2>\n{body}</section>\n",
@@ -220,7 +226,7 @@ fn not_visible_html(items: &[NotVisible], warnings: &[Warning]) -> String {
 }
 
 /// Inputs with their hashes, the version and the settings.
-fn inputs_html(ctx: &RunContext) -> String {
+pub(crate) fn inputs_html(ctx: &RunContext) -> String {
     let mut s = String::from(
         "<table class=\"inputs\">\n<tr><th>input</th><th>file</th><th>SHA-256</th></tr>\n",
     );
@@ -249,7 +255,7 @@ fn inputs_html(ctx: &RunContext) -> String {
     s
 }
 
-fn cautions_html() -> String {
+pub(crate) fn cautions_html() -> String {
     format!(
         "<p>{}</p>\n<p>More in docs/cautions.md of coldtrace.</p>\n",
         escape(CAUTIONS)

@@ -5,8 +5,9 @@
 //! notes) to SVG or PNG; `layout.rs` decides every position in pixels first, as plain data; `style.rs` holds
 //! the colour-blind-safe palette and the temperature shade; `views.rs` turns the results of `trace`,
 //! `locate` and `compare` (and a line file) into figures, with the default span; `html.rs` writes the
-//! self-contained HTML report of `compare` and `locate` (`--report FILE.html`).
+//! self-contained HTML report of `compare` and `locate` (`--report FILE.html`), `fleet.rs` that of `survey`.
 
+pub mod fleet;
 pub mod html;
 pub mod layout;
 pub mod plot;
