@@ -78,3 +78,27 @@ fn span_sets_the_axis_on_trace_locate_and_compare() {
     assert!(stderr(&o).contains("--span"), "{}", stderr(&o));
     assert!(!plot.exists());
 }
+
+#[test]
+fn a_span_beyond_the_data_is_refused_with_the_datas_extent() {
+    let dir = tempfile::tempdir().unwrap();
+    let (cold, line) = (sample("in-07-cold.s1p"), sample("in-07.toml"));
+    let plot = dir.path().join("far.svg");
+    let o = run(&[
+        "locate".as_ref(),
+        cold.as_os_str(),
+        "--line".as_ref(),
+        line.as_os_str(),
+        "--span".as_ref(),
+        "500m..600m".as_ref(),
+        "--plot".as_ref(),
+        plot.as_os_str(),
+    ]);
+    assert_eq!(o.status.code(), Some(2));
+    let err = stderr(&o);
+    assert!(
+        err.contains("500 m..600 m") && err.contains("give a --span inside it"),
+        "{err}"
+    );
+    assert!(!plot.exists());
+}

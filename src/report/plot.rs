@@ -208,7 +208,18 @@ pub(crate) fn ranges(fig: &Figure) -> Result<Ranges, ReportError> {
     }
     if !(x.0.is_finite() && x.1.is_finite()) {
         return Err(ReportError::Invalid(match fig.x_range {
-            Some((a, b)) => format!("the plot has no finite data points between {a} m and {b} m"),
+            Some((a, b)) => {
+                let (lo, hi) = finite_points(&fig.series, None)?
+                    .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), (v, _)| {
+                        (lo.min(v), hi.max(v))
+                    });
+                format!(
+                    "the span {a} m..{b} m holds no point of the plot's data, which runs from {lo:.3} m to \
+                     {hi:.3} m; give a --span inside it, e.g. --span {:.1}m..{:.1}m",
+                    lo.max(0.0),
+                    hi
+                )
+            }
             None => "the plot has no finite data points".to_string(),
         }));
     }
