@@ -137,7 +137,7 @@ fn outputs_gate_plot_and_force() {
     assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
     let text = std::fs::read_to_string(&svg).unwrap();
     assert!(
-        text.starts_with("<svg") && text.contains("distance (m)"),
+        text.starts_with("<svg") && text.contains("distance from the reference plane (m"),
         "svg"
     );
     let ts = coldtrace::touchstone::read_file(&gated).unwrap();

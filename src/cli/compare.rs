@@ -1,13 +1,16 @@
 //! `coldtrace compare BASELINE CURRENT [--line LINE | --vf VF] [--baseline-state S] [--current-state S]
-//! [--json] [--plot F] [--fail-on SEVERITY] ...`: where the line changed between two sweeps, how badly, why.
+//! [--json] [--plot F] [--span A..B] [--report F.html] [--fail-on SEVERITY] ...`: where the line changed between two sweeps, how badly, why.
 //! Flags become a `coldtrace::compare::job::CompareJob`; the work is `run_compare`.
 
 use super::locate::{
-    analysis_config, check_at_in_band, check_plot, figure, inputs, line_source, parse_fail_on,
-    parse_state, LineArgs,
+    analysis_config, check_at_in_band, check_plot, inputs, line_source, parse_fail_on, parse_state,
+    plot_inputs, run_context, LineArgs,
 };
 use coldtrace::compare::job::{run_compare, CompareJob};
 use coldtrace::compare::text::render_compare;
+use coldtrace::output::write_output;
+use coldtrace::report::html::compare_html;
+use coldtrace::report::views::compare_figure;
 use coldtrace::report::write_plot;
 use coldtrace::units;
 use coldtrace::{exit, Error};
@@ -67,12 +70,33 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
     };
     check_plot(&args.line, &[&args.baseline, &args.current])?;
     check_at_in_band(&args.line, &[&args.baseline, &args.current])?;
+    let drawing = plot_inputs(&args.line)?;
     let report = run_compare(&job)?;
     if let Some(p) = &args.line.plot {
-        let title = format!("{}: baseline and current", report.line);
         write_plot(
             p,
-            &figure(&title, &report.plot),
+            &compare_figure(&report, drawing.line.as_ref(), drawing.span),
+            args.line.force,
+            &inputs(&args.line, &[&args.baseline, &args.current]),
+        )?;
+    }
+    if let Some(path) = &args.line.report {
+        let given = |s: &Option<String>| s.clone().unwrap_or_else(|| "inferred".into());
+        let settings = vec![
+            ("baseline state".to_string(), given(&args.baseline_state)),
+            ("current state".to_string(), given(&args.current_state)),
+            ("fail on".to_string(), args.fail_on.clone()),
+        ];
+        let ctx = run_context(
+            &args.line,
+            &[("baseline", &args.baseline), ("current", &args.current)],
+            settings,
+            drawing.span,
+        )?;
+        let html = compare_html(&report, drawing.line.as_ref(), &ctx)?;
+        write_output(
+            path,
+            html.as_bytes(),
             args.line.force,
             &inputs(&args.line, &[&args.baseline, &args.current]),
         )?;

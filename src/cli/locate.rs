@@ -3,12 +3,14 @@
 //! `coldtrace::compare::job::LocateJob`; the work is `run_locate`.
 
 use coldtrace::compare::job::{run_locate, LineSource, LocateJob};
-use coldtrace::compare::report::PlotData;
 use coldtrace::compare::text::render_locate;
 use coldtrace::compare::{AnalysisConfig, Severity};
 use coldtrace::limits::{short_number, MAX_FREQUENCY_HZ};
-use coldtrace::line::State;
-use coldtrace::report::{write_plot, Figure, Marker, Series};
+use coldtrace::line::{Line, State};
+use coldtrace::output::write_output;
+use coldtrace::report::html::{hash_inputs, locate_html, RunContext};
+use coldtrace::report::views::locate_figure;
+use coldtrace::report::write_plot;
 use coldtrace::transform::{Window, DEFAULT_VELOCITY_FACTOR};
 use coldtrace::units::{self, Family};
 use coldtrace::{exit, Error};
@@ -40,6 +42,14 @@ pub struct LineArgs {
     /// Draw the traces to an .svg or .png file.
     #[arg(long, value_name = "FILE")]
     pub plot: Option<PathBuf>,
+    /// The distance span drawn by --plot and --report, e.g. 0m..3m; default: the line's length (without a
+    /// line file, the farthest significant echo) plus a margin.
+    #[arg(long, value_name = "A..B")]
+    pub span: Option<String>,
+    /// Write one self-contained HTML report (summary, findings, plots, inputs' SHA-256, settings,
+    /// cautions) to FILE.html: no scripts, no network, prints on A4 or Letter (docs/report.md).
+    #[arg(long, value_name = "FILE.html")]
+    pub report: Option<PathBuf>,
     /// Replace output files that exist (inputs are never replaced).
     #[arg(long)]
     pub force: bool,
@@ -74,13 +84,56 @@ pub fn inputs<'a>(a: &'a LineArgs, sweeps: &[&'a std::path::Path]) -> Vec<&'a st
     v
 }
 
-/// Refuse a `--plot` path that cannot be written before any work is done.
+/// Refuse a `--plot` or `--report` path that cannot be written before any work is done.
 pub fn check_plot(a: &LineArgs, sweeps: &[&std::path::Path]) -> coldtrace::Result<()> {
     if let Some(p) = &a.plot {
         coldtrace::report::PlotFormat::from_path(p)?;
-        coldtrace::output::check_outputs(&[p], a.force, &inputs(a, sweeps))?;
     }
-    Ok(())
+    if let Some(r) = &a.report {
+        coldtrace::output::check_extension(r, "--report", "html", "an HTML report")?;
+    }
+    let outputs: Vec<&Path> = [&a.plot, &a.report]
+        .into_iter()
+        .flatten()
+        .map(PathBuf::as_path)
+        .collect();
+    coldtrace::output::check_outputs(&outputs, a.force, &inputs(a, sweeps))
+}
+
+/// The report's account of the run: each input's SHA-256 and the settings as the user would write them.
+pub fn run_context(
+    a: &LineArgs,
+    sweeps: &[(&str, &Path)],
+    mut settings: Vec<(String, String)>,
+    span: Option<(f64, f64)>,
+) -> coldtrace::Result<RunContext> {
+    let mut files = sweeps.to_vec();
+    if let Some(l) = &a.line {
+        files.push(("line file", l.as_path()));
+    }
+    let mut all = vec![
+        (
+            "line".to_string(),
+            match (&a.line, a.vf) {
+                (Some(l), _) => format!("--line {}", l.display()),
+                (None, vf) => format!(
+                    "no line file: one uniform line, velocity factor {}",
+                    vf.unwrap_or(DEFAULT_VELOCITY_FACTOR)
+                ),
+            },
+        ),
+        ("window".to_string(), a.window.clone()),
+        (
+            "power drops quoted at".to_string(),
+            a.at.clone().unwrap_or_else(|| "the band centre".into()),
+        ),
+    ];
+    all.append(&mut settings);
+    Ok(RunContext {
+        inputs: hash_inputs(&files)?,
+        settings: all,
+        span,
+    })
 }
 
 /// `--fail-on`'s value.
@@ -156,39 +209,26 @@ fn ghz(hz: f64) -> String {
     format!("{}GHz", short_number(hz / 1e9))
 }
 
-/// A figure of the traces in as-built metres with the chain's marks.
-pub fn figure(title: &str, data: &PlotData) -> Figure {
-    let mut fig = Figure::new(
-        title,
-        "distance from the reference plane (m, as built)",
-        "|reflection| (dB, compensated)",
-    );
-    fig.max_envelope = true;
-    for (name, x, y) in &data.traces {
-        fig.series.push(Series {
-            name: name.clone(),
-            x: x.clone(),
-            y: y.clone(),
-        });
-    }
-    fig.markers = data
-        .marks
-        .iter()
-        .map(|(x, l)| Marker {
-            x: *x,
-            label: l.clone(),
-        })
-        .collect();
-    let top = data
-        .traces
-        .iter()
-        .flat_map(|t| t.2.iter())
-        .cloned()
-        .fold(f64::NEG_INFINITY, f64::max);
-    if top.is_finite() {
-        fig.y_range = Some((top - 100.0, top + 5.0));
-    }
-    fig
+/// What a plot draws besides the result: the span asked, and the line file for the chain strip.
+pub struct Drawing {
+    pub span: Option<(f64, f64)>,
+    pub line: Option<Line>,
+}
+
+/// `--span`, parsed; and the line file once more for the plot's chain strip (only when something is drawn).
+pub fn plot_inputs(a: &LineArgs) -> coldtrace::Result<Drawing> {
+    let span = a
+        .span
+        .as_deref()
+        .map(|s| units::parse_flag_range("--span", s, Family::Length))
+        .transpose()?;
+    let line = match &a.line {
+        Some(l) if a.plot.is_some() || a.report.is_some() => {
+            Some(coldtrace::line::file::read_file(l)?)
+        }
+        _ => None,
+    };
+    Ok(Drawing { span, line })
 }
 
 pub fn run(args: Args) -> coldtrace::Result<u8> {
@@ -205,11 +245,31 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
     };
     check_plot(&args.line, &[&args.sweep])?;
     check_at_in_band(&args.line, &[&args.sweep])?;
+    let drawing = plot_inputs(&args.line)?;
     let report = run_locate(&job)?;
     if let Some(p) = &args.line.plot {
         write_plot(
             p,
-            &figure(&format!("{}: {}", report.line, report.sweep), &report.plot),
+            &locate_figure(&report, drawing.line.as_ref(), drawing.span),
+            args.line.force,
+            &inputs(&args.line, &[&args.sweep]),
+        )?;
+    }
+    if let Some(path) = &args.line.report {
+        let settings = vec![(
+            "state".to_string(),
+            args.state.clone().unwrap_or_else(|| "inferred".into()),
+        )];
+        let ctx = run_context(
+            &args.line,
+            &[("sweep", &args.sweep)],
+            settings,
+            drawing.span,
+        )?;
+        let html = locate_html(&report, drawing.line.as_ref(), &ctx)?;
+        write_output(
+            path,
+            html.as_bytes(),
             args.line.force,
             &inputs(&args.line, &[&args.sweep]),
         )?;

@@ -1,4 +1,4 @@
-//! `coldtrace survey MANIFEST [--jobs N] [--record] [--db PATH] [--json] [--fail-on SEVERITY]`: every line of
+//! `coldtrace survey MANIFEST [--jobs N] [--record] [--db PATH] [--json] [--fail-on SEVERITY] [--report F.html]`: every line of
 //! a fleet compared in parallel, worst first. Flags become a `coldtrace::survey::SurveyConfig`; the work is
 //! `run_survey`. On a terminal (and without `--json`) a progress bar on standard error shows the lines done,
 //! the findings so far and the time left.
@@ -6,6 +6,9 @@
 use super::locate::parse_fail_on;
 use coldtrace::compare::Severity;
 use coldtrace::history::resolve_db_path;
+use coldtrace::output::{check_extension, check_outputs, write_output};
+use coldtrace::report::fleet::{survey_html, survey_inputs};
+use coldtrace::report::html::RunContext;
 use coldtrace::survey::{read_manifest, render_survey, run_survey, SurveyConfig, SurveyLine};
 use coldtrace::{exit, Error};
 use std::io::IsTerminal;
@@ -33,6 +36,13 @@ pub struct Args {
     /// critical.
     #[arg(long, default_value = "minor", value_name = "SEVERITY")]
     pub fail_on: String,
+    /// Write one self-contained HTML report of the fleet (summary, findings, lines, inputs' SHA-256,
+    /// cautions) to FILE.html (docs/report.md).
+    #[arg(long, value_name = "FILE.html")]
+    pub report: Option<PathBuf>,
+    /// With --report: replace a report file that exists (inputs are never replaced).
+    #[arg(long, requires = "report")]
+    pub force: bool,
 }
 
 pub fn run(args: Args) -> coldtrace::Result<u8> {
@@ -41,6 +51,10 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
         return Err(Error::Usage(
             "--db is for --record: pass --record to store the results, or leave --db out".into(),
         ));
+    }
+    if let Some(r) = &args.report {
+        check_extension(r, "--report", "html", "an HTML report")?;
+        check_outputs(&[r.as_path()], args.force, &[args.manifest.as_path()])?;
     }
     let items = read_manifest(&args.manifest)?;
     let record_db = if args.record {
@@ -80,6 +94,30 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
     let report = run_survey(&items, &cfg, &progress)?;
     if let Some(b) = &bar {
         b.finish_and_clear();
+    }
+    if let Some(path) = &args.report {
+        let ctx = RunContext {
+            inputs: survey_inputs(&args.manifest, &items),
+            settings: vec![
+                ("window".into(), super::DEFAULT_WINDOW.into()),
+                ("fail on".into(), args.fail_on.clone()),
+            ],
+            span: None,
+        };
+        let mut never: Vec<&std::path::Path> = vec![args.manifest.as_path()];
+        for it in &items {
+            never.extend([
+                it.line.as_path(),
+                it.baseline.as_path(),
+                it.current.as_path(),
+            ]);
+        }
+        write_output(
+            path,
+            survey_html(&report, &ctx).as_bytes(),
+            args.force,
+            &never,
+        )?;
     }
     if args.json {
         let text =

@@ -7,6 +7,7 @@
 
 use coldtrace::line::{file::read_file as line_file, LineMap, State};
 use coldtrace::output::{check_extension, check_outputs, write_output};
+use coldtrace::report::views::trace_figure;
 use coldtrace::report::{plot_bytes, PlotFormat};
 use coldtrace::touchstone::{read_file, write, WriteOptions};
 use coldtrace::transform::{
@@ -32,7 +33,8 @@ pub struct Args {
     /// sidelobes near -66 dB, under the dynamic range of a cryostat line (docs/method.md, Windows).
     #[arg(long, default_value = DEFAULT_WINDOW, value_name = "WINDOW")]
     pub window: String,
-    /// Distance span, e.g. 0m..3m (chirp-z zoom); default: the whole alias-free range by FFT.
+    /// Distance span, e.g. 0m..3m (chirp-z zoom); default: the whole alias-free range by FFT, of which the
+    /// plot shows the line's length (without --line, the farthest significant echo) plus a margin.
     #[arg(long, value_name = "A..B")]
     pub span: Option<String>,
     /// Output step with --span, e.g. 1mm; default: a tenth of the resolution.
@@ -212,7 +214,8 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
                 .unwrap_or_default(),
             mode.name()
         );
-        files.push((plot, plot_bytes(plot, &outcome.trace.figure(&title))?));
+        let fig = trace_figure(&outcome.trace, &title, line.as_ref(), span_m.is_some());
+        files.push((plot, plot_bytes(plot, &fig)?));
     }
     for (path, bytes) in &files {
         write_output(path, bytes, args.force, &inputs)?;

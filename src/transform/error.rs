@@ -29,12 +29,16 @@ pub enum TransformError {
     #[error(
         "low-pass needs a harmonic grid (f_k = k*df, starting at 0 or df): this sweep starts at {start_hz} Hz with \
          steps of {step_hz} Hz ({ratio:.4} steps above zero); use --mode band-pass, or pass --resample to \
-         interpolate onto a harmonic grid (documented in docs/method.md), or re-measure starting at one step"
+         interpolate onto a harmonic grid (documented in docs/method.md), or re-measure starting at one step: \
+         from {step_hz} Hz to {stop_hz} Hz in steps of {step_hz} Hz ({harmonics} points) is such a sweep"
     )]
     NotHarmonic {
         start_hz: f64,
         step_hz: f64,
         ratio: f64,
+        /// The sweep's last frequency, and the points of a harmonic sweep of the same step up to it.
+        stop_hz: f64,
+        harmonics: u64,
     },
     /// A window name that is not known.
     #[error("unknown window '{text}': {reason}; allowed: rect, hann, hamming, blackman-harris, kaiser:BETA (e.g. kaiser:6)")]

@@ -252,6 +252,10 @@ impl TracePlan {
                     start_hz: grid.start_hz,
                     step_hz: grid.step_hz,
                     ratio,
+                    stop_hz: grid.stop_hz(),
+                    harmonics: (grid.stop_hz() / grid.step_hz)
+                        .round()
+                        .clamp(1.0, u64::MAX as f64) as u64,
                 });
             };
             if k_max < 2 {
