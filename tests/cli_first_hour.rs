@@ -2,49 +2,11 @@
 //! default, one `--state` rule, one output-flag spelling, `convert --touchstone-version` beside the
 //! program's own `--version`, each command's own `--all`, and quantities that carry their units.
 
-use std::path::{Path, PathBuf};
-use std::process::Output;
+#[path = "common/first_hour.rs"]
+mod first_hour;
 
-fn run(args: &[&str]) -> Output {
-    std::process::Command::new(env!("CARGO_BIN_EXE_coldtrace"))
-        .args(args)
-        .output()
-        .unwrap()
-}
-
-fn stdout(o: &Output) -> String {
-    String::from_utf8_lossy(&o.stdout).into_owned()
-}
-
-fn stderr(o: &Output) -> String {
-    String::from_utf8_lossy(&o.stderr).into_owned()
-}
-
-fn sample(name: &str) -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR"))
-        .join("sample-sweeps/north-fridge")
-        .join(name)
-}
-
-fn s(p: &Path) -> &str {
-    p.to_str().unwrap()
-}
-
-/// Exit 2 with every needle in the error.
-fn refused(o: &Output, needles: &[&str]) -> String {
-    let err = stderr(o);
-    assert_eq!(o.status.code(), Some(2), "{err}");
-    for n in needles {
-        assert!(err.contains(n), "missing {n:?} in {err}");
-    }
-    err
-}
-
-fn help(command: &str) -> String {
-    let o = run(&[command, "--help"]);
-    assert!(o.status.success(), "{}", stderr(&o));
-    stdout(&o)
-}
+use first_hour::*;
+use std::path::Path;
 
 #[test]
 fn the_readme_says_how_to_install_and_what_the_first_test_costs() {
@@ -292,28 +254,6 @@ fn trace_refuses_an_output_whose_extension_does_not_fit_even_with_force() {
     let o = run(&["trace", s(&cold), "--csv", s(&csv)]);
     assert!(o.status.success(), "{}", stderr(&o));
     assert!(csv.exists());
-}
-
-/// The demo line file with `edits` (from, to) applied, written into `dir` as `name`.
-fn edited_line(dir: &Path, name: &str, edits: &[(&str, &str)]) -> PathBuf {
-    let mut text = std::fs::read_to_string(sample("in-07.toml")).unwrap();
-    for (from, to) in edits {
-        assert!(text.contains(from), "{from}");
-        text = text.replacen(from, to, 1);
-    }
-    let p = dir.join(name);
-    std::fs::write(&p, text).unwrap();
-    p
-}
-
-/// The data lines of a simulated sweep (its comments name the line file's path).
-fn data_lines(p: &Path) -> Vec<String> {
-    std::fs::read_to_string(p)
-        .unwrap()
-        .lines()
-        .filter(|l| !l.starts_with('!'))
-        .map(str::to_string)
-        .collect()
 }
 
 #[test]
