@@ -12,7 +12,7 @@ use super::states::{
 };
 use super::sweep::{AnalysisConfig, Sweep};
 use crate::line::{Line, State};
-use crate::touchstone::read_file;
+use crate::touchstone::{is_stdin, read_source, stdin_name};
 use crate::transform::TraceEngine;
 use crate::{Error, Network, Result, Warning};
 use std::path::{Path, PathBuf};
@@ -35,6 +35,7 @@ pub struct CompareJob {
     pub baseline_state: Option<State>,
     pub current_state: Option<State>,
     pub analysis: AnalysisConfig,
+    pub source: SweepSource,
 }
 
 /// A `locate` request, as plain data.
@@ -44,11 +45,40 @@ pub struct LocateJob {
     pub line: LineSource,
     pub state: Option<State>,
     pub analysis: AnalysisConfig,
+    pub source: SweepSource,
 }
 
-/// A sweep read from a file, with the reader's warnings.
-fn read_sweep(path: &Path) -> Result<(Network, Vec<Warning>)> {
-    sweep_of(read_file(path)?, path)
+/// Which reflection of a sweep is analysed, and the port count of a sweep read from standard input.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub struct SweepSource {
+    /// Zero-based port whose reflection is analysed (`--param S22` is 1). `None`: port 1, with a
+    /// `port-s11` warning for a sweep of more ports.
+    pub port: Option<usize>,
+    /// The port count of a sweep read from standard input (`-`), which a `.sNp` name would give.
+    pub stdin_ports: Option<usize>,
+}
+
+/// The name a sweep goes by in reports: its path, or `<stdin>.sNp` for standard input.
+fn shown_name(path: &Path, source: SweepSource) -> PathBuf {
+    if is_stdin(path) {
+        stdin_name(source.stdin_ports)
+    } else {
+        path.to_path_buf()
+    }
+}
+
+/// A sweep read from a file (or standard input, `-`), reduced to the reflection `source` asks for, with
+/// the reader's warnings.
+fn read_sweep(path: &Path, source: SweepSource) -> Result<(Network, Vec<Warning>)> {
+    let shown = shown_name(path, source);
+    let (n, mut w) = sweep_of(read_source(path, source.stdin_ports)?, &shown)?;
+    if source.port.is_none() && n.ports > 1 {
+        w.push(crate::network::first_port_warning(n.ports).at(shown.display().to_string()));
+    }
+    let n = n
+        .reflection_at(source.port.unwrap_or(0))
+        .map_err(|e| Error::Usage(format!("{}: --param {e}", shown.display())))?;
+    Ok((n, w))
 }
 
 /// A sweep the reader returned for `path`, checked to have enough points for a trace, with the reader's
@@ -271,12 +301,12 @@ fn line_model<'a>(line: &'a Option<Line>, src: &LineSource) -> LineModel<'a> {
 
 /// Run a comparison.
 pub fn run_compare(job: &CompareJob) -> Result<CompareReport> {
-    let (nb, wb) = read_sweep(&job.baseline)?;
-    let (nc, wc) = read_sweep(&job.current)?;
+    let (nb, wb) = read_sweep(&job.baseline, job.source)?;
+    let (nc, wc) = read_sweep(&job.current, job.source)?;
     let line = read_line(&job.line)?;
     let model = line_model(&line, &job.line);
-    let bname = job.baseline.display().to_string();
-    let cname = job.current.display().to_string();
+    let bname = shown_name(&job.baseline, job.source).display().to_string();
+    let cname = shown_name(&job.current, job.source).display().to_string();
     let mut report = compare_networks(&PairRequest {
         baseline: (&bname, &nb),
         current: (&cname, &nc),
@@ -374,10 +404,10 @@ pub fn compare_networks(req: &PairRequest) -> Result<CompareReport> {
 
 /// Run a location on one sweep.
 pub fn run_locate(job: &LocateJob) -> Result<LocateReport> {
-    let (n, w0) = read_sweep(&job.sweep)?;
+    let (n, w0) = read_sweep(&job.sweep, job.source)?;
     let line = read_line(&job.line)?;
     let model = line_model(&line, &job.line);
-    let name = job.sweep.display().to_string();
+    let name = shown_name(&job.sweep, job.source).display().to_string();
     let mut report = locate_network(&name, &n, model, job.state, &job.analysis)?;
     let mut w = w0;
     w.append(&mut report.warnings);

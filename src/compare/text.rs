@@ -3,6 +3,7 @@
 use super::place::metres;
 use super::report::{CompareReport, Event, Finding, LocateReport, NotVisible};
 use super::severity::Severity;
+use super::sweep::NO_LINE_FILE;
 use crate::Warning;
 use std::fmt::Write;
 
@@ -23,6 +24,42 @@ fn where_col(p: &super::report::Place) -> String {
     }
 }
 
+/// The name the header gives the line: the line file's, or "(no line file)" for a uniform line, whose
+/// name is only the sweep's.
+fn line_name<'a>(line: &'a str, warnings: &[Warning]) -> &'a str {
+    if without_line_file(warnings) {
+        "(no line file)"
+    } else {
+        line
+    }
+}
+
+fn without_line_file(warnings: &[Warning]) -> bool {
+    warnings.iter().any(|w| w.kind == NO_LINE_FILE)
+}
+
+/// The no-line-file warning, set apart under the header: it changes how every number below reads.
+fn loud_warnings(out: &mut String, warnings: &[Warning]) {
+    for w in warnings.iter().filter(|w| w.kind == NO_LINE_FILE) {
+        let _ = writeln!(
+            out,
+            "
+!! WARNING: {}
+!! {}",
+            w.message, w.fix
+        );
+    }
+}
+
+/// How a sweep's state is shown: as used, or "not known" when neither given nor told by the data.
+fn state_label(state: &str, known: bool) -> String {
+    if known {
+        state.to_string()
+    } else {
+        format!("state not known; analysed as {state}")
+    }
+}
+
 fn tail(out: &mut String, not_visible: &[NotVisible], warnings: &[Warning]) {
     if !not_visible.is_empty() {
         let _ = writeln!(out, "\nnot visible from this end:");
@@ -30,6 +67,7 @@ fn tail(out: &mut String, not_visible: &[NotVisible], warnings: &[Warning]) {
             let _ = writeln!(out, "  {}: {}", n.element, n.reason);
         }
     }
+    let warnings: Vec<&Warning> = warnings.iter().filter(|w| w.kind != NO_LINE_FILE).collect();
     if !warnings.is_empty() {
         let _ = writeln!(out, "\nwarnings:");
         for w in warnings {
@@ -71,9 +109,24 @@ fn finding_row(f: &Finding) -> String {
 /// The comparison as a table: rank, where, what, how bad, how sure; then one sentence per finding.
 pub fn render_compare(r: &CompareReport, show_info: bool) -> String {
     let mut out = String::new();
-    let _ = writeln!(out, "line {}", r.line);
-    let _ = writeln!(out, "  baseline {} ({})", r.baseline, r.states.baseline);
-    let _ = writeln!(out, "  current  {} ({})", r.current, r.states.current);
+    let _ = writeln!(out, "line {}", line_name(&r.line, &r.warnings));
+    // Without a line file the data tell a change of state, never which one two sweeps in one state share.
+    let same_unknown = without_line_file(&r.warnings)
+        && r.states.inferred
+        && r.states.baseline == r.states.current;
+    let given = |which: &str| !r.states.inferred || r.states.basis.starts_with(which);
+    let _ = writeln!(
+        out,
+        "  baseline {} ({})",
+        r.baseline,
+        state_label(r.states.baseline, !same_unknown || given("baseline given"))
+    );
+    let _ = writeln!(
+        out,
+        "  current  {} ({})",
+        r.current,
+        state_label(r.states.current, !same_unknown || given("current given"))
+    );
     if r.states.inferred {
         let _ = writeln!(out, "  states {}", r.states.basis);
     }
@@ -104,6 +157,7 @@ pub fn render_compare(r: &CompareReport, show_info: bool) -> String {
         );
     }
     connector_line(&mut out, &r.connector_lengths);
+    loud_warnings(&mut out, &r.warnings);
     let shown: Vec<&Finding> = r
         .findings
         .iter()
@@ -158,7 +212,14 @@ fn event_row(k: usize, e: &Event) -> String {
 /// One sweep's events as a table, strongest cost first as they lie along the line.
 pub fn render_locate(r: &LocateReport, show_info: bool) -> String {
     let mut out = String::new();
-    let _ = writeln!(out, "line {}: sweep {} ({})", r.line, r.sweep, r.state);
+    let known = r.state_basis == "given" || !without_line_file(&r.warnings);
+    let _ = writeln!(
+        out,
+        "line {}: sweep {} ({})",
+        line_name(&r.line, &r.warnings),
+        r.sweep,
+        state_label(r.state, known)
+    );
     if r.state_basis != "given" {
         let _ = writeln!(out, "  state {}", r.state_basis);
     }
@@ -169,6 +230,7 @@ pub fn render_locate(r: &LocateReport, show_info: bool) -> String {
         r.reference_hz / 1e9
     );
     connector_line(&mut out, &r.connector_lengths);
+    loud_warnings(&mut out, &r.warnings);
     out.push('\n');
     out.push_str(&row(
         "#",
