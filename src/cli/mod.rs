@@ -5,10 +5,12 @@ use clap::{Parser, Subcommand};
 use coldtrace::compare::job::SweepSource;
 
 pub mod compare;
+pub mod completions;
 pub mod convert;
 pub mod history;
 pub mod inspect;
 pub mod locate;
+pub mod manpage;
 pub mod say;
 pub mod simulate;
 pub mod survey;
@@ -48,6 +50,10 @@ pub enum Command {
     History(history::Args),
     /// Compare every line of a fleet (a manifest of line files and sweep pairs), worst lines first.
     Survey(survey::Args),
+    /// Print the completion script of a shell (bash, zsh, fish, elvish, powershell); install: README.
+    Completions(completions::Args),
+    /// Print the manual page, or write every command's page into a folder with --dir; install: README.
+    Manpage(manpage::Args),
 }
 
 /// Run one parsed command line; returns the process exit code.
@@ -62,6 +68,8 @@ pub fn run(cli: Cli) -> coldtrace::Result<u8> {
         Command::Compare(a) => compare::run(a),
         Command::History(a) => history::run(a),
         Command::Survey(a) => survey::run(a),
+        Command::Completions(a) => completions::run(a),
+        Command::Manpage(a) => manpage::run(a),
     }
 }
 
