@@ -226,6 +226,11 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
     } else {
         super::say::report(&render_locate(&report, args.all))?;
     }
-    let fails = fail_on.is_some_and(|s| report.events.iter().any(|e| e.visible && e.severity >= s));
+    let fails = fail_on.is_some_and(|s| {
+        report
+            .events
+            .iter()
+            .any(|e| e.visible && !e.expected && e.severity >= s)
+    });
     Ok(if fails { exit::FINDINGS } else { exit::OK })
 }

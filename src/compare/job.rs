@@ -3,7 +3,7 @@
 //! and reported), and run [`compare`](super::compare) or [`locate`](super::locate).
 
 use super::chain::ChainView;
-use super::locate::locate;
+use super::locate::{locate, mark_expected, rank_events};
 use super::report::{CompareReport, LocateReport, StateReport};
 use super::run::compare;
 use super::severity::Severity;
@@ -453,6 +453,23 @@ pub fn locate_network(
         &chain,
         analysis,
     )?;
+    if let LineModel::Line(l) = line {
+        // The echoes the line is built to give: its nominal self, without faults, on the same grid.
+        let mut sim = crate::line::SimConfig::linear(st, lo, hi, 2);
+        sim.freqs_hz = n.freqs_hz.clone();
+        let nominal_net = crate::line::simulate(l, &sim)?;
+        let nominal = locate(
+            Sweep {
+                name: "nominal",
+                network: &nominal_net,
+                state: state_name(st),
+            },
+            &chain,
+            analysis,
+        )?;
+        mark_expected(&mut report.events, &nominal.events, report.resolution_m);
+    }
+    rank_events(&mut report.events);
     report.state_basis = basis.clone();
     if let LineModel::Line(l) = line {
         report.visibility = crate::line::visibility(l, st, &n.freqs_hz, report.noise_rms)?;

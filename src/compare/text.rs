@@ -194,12 +194,16 @@ pub fn render_compare(r: &CompareReport, show_info: bool) -> String {
     out
 }
 
-fn event_row(k: usize, e: &Event) -> String {
+fn event_row(e: &Event) -> String {
     row(
-        &k.to_string(),
+        &e.rank.map_or("-".to_string(), |k| k.to_string()),
         &where_col(&e.place),
         e.kind.name(),
-        &format!("{:<8} {:.1} dB", e.severity.name(), e.reflection_db),
+        &if e.expected {
+            format!("{:<8} as built", e.severity.name())
+        } else {
+            format!("{:<8} {:.2} dB", e.severity.name(), e.power_drop_db)
+        },
         &format!(
             "{:.0} % +/-{:.1} mm{}",
             100.0 * e.confidence,
@@ -209,7 +213,8 @@ fn event_row(k: usize, e: &Event) -> String {
     )
 }
 
-/// One sweep's events as a table, strongest cost first as they lie along the line.
+/// One sweep's events as `compare`'s table: the anomalies by rank (rank, where, what, how bad = severity
+/// and predicted drop, how sure), one sentence each, then the echoes the line file expects, set apart.
 pub fn render_locate(r: &LocateReport, show_info: bool) -> String {
     let mut out = String::new();
     let known = r.state_basis == "given" || !without_line_file(&r.warnings);
@@ -231,27 +236,46 @@ pub fn render_locate(r: &LocateReport, show_info: bool) -> String {
     );
     connector_line(&mut out, &r.connector_lengths);
     loud_warnings(&mut out, &r.warnings);
-    out.push('\n');
-    out.push_str(&row(
-        "#",
-        "where",
-        "what",
-        "severity, reflection",
-        "how sure",
-    ));
-    let mut n = 0;
-    for (k, e) in r.events.iter().enumerate() {
-        if show_info || e.severity > Severity::Info || e.reflection_db > -40.0 {
-            out.push_str(&event_row(k + 1, e));
-            n += 1;
-        }
-    }
-    if n < r.events.len() {
+    let mut anomalies: Vec<&Event> = r.events.iter().filter(|e| e.rank.is_some()).collect();
+    anomalies.sort_by_key(|e| e.rank);
+    let shown: Vec<&Event> = anomalies
+        .iter()
+        .copied()
+        .filter(|e| show_info || e.severity > Severity::Info)
+        .collect();
+    let hidden = anomalies.len() - shown.len();
+    if shown.is_empty() {
         let _ = writeln!(
             out,
-            "({} weaker event(s) not shown; --all shows them)",
-            r.events.len() - n
+            "
+no anomaly that costs the line power was found."
         );
+    } else {
+        out.push('\n');
+        out.push_str(&row("rank", "where", "what", "how bad", "how sure"));
+        for e in &shown {
+            out.push_str(&event_row(e));
+        }
+        out.push('\n');
+        for e in &shown {
+            let _ = writeln!(out, "{}. {}", e.rank.unwrap_or(0), e.explanation);
+        }
+    }
+    if hidden > 0 {
+        let _ = writeln!(
+            out,
+            "\n{hidden} harmless event(s) at severity info not shown (--all shows them)."
+        );
+    }
+    let expected: Vec<&Event> = r.events.iter().filter(|e| e.expected).collect();
+    if !expected.is_empty() {
+        let _ = writeln!(
+            out,
+            "\nechoes the line file expects (its connectors, its designed termination), along the line:"
+        );
+        for e in expected {
+            out.push_str(&event_row(e));
+        }
     }
     tail(&mut out, &r.not_visible, &r.warnings);
     out
