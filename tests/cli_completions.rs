@@ -5,7 +5,6 @@
 mod first_hour;
 
 use first_hour::*;
-use std::path::Path;
 
 /// Every subcommand a user can type, and flags added late that must be completed too.
 const COMMANDS: &[&str] = &[
@@ -89,8 +88,7 @@ fn manual_pages_are_generated_and_never_overwritten_without_force() {
 
 #[test]
 fn the_readme_says_how_to_install_completions_and_pages() {
-    let readme =
-        std::fs::read_to_string(Path::new(env!("CARGO_MANIFEST_DIR")).join("README.md")).unwrap();
+    let readme = repo_text("README.md");
     for needle in [
         "coldtrace completions bash >",
         "coldtrace completions zsh >",

@@ -10,8 +10,7 @@ use std::path::Path;
 
 #[test]
 fn the_readme_says_how_to_install_and_what_the_first_test_costs() {
-    let readme =
-        std::fs::read_to_string(Path::new(env!("CARGO_MANIFEST_DIR")).join("README.md")).unwrap();
+    let readme = repo_text("README.md");
     for needle in [
         "cargo install --path .",
         "target/release/coldtrace",
@@ -259,11 +258,7 @@ fn trace_refuses_an_output_whose_extension_does_not_fit_even_with_force() {
 #[test]
 fn stage_names_match_in_any_case_and_room_has_its_common_spellings() {
     let dir = tempfile::tempdir().unwrap();
-    let simulate = |line: &Path, out: &str| {
-        let out = dir.path().join(out);
-        let o = run(&["simulate", s(line), "--points", "101", "-o", s(&out)]);
-        (o, out)
-    };
+    let simulate = |line: &Path, out: &str| simulate_short(dir.path(), line, out);
     let (o, plain) = simulate(&sample("in-07.toml"), "plain.s1p");
     assert!(o.status.success(), "{}", stderr(&o));
     let spelled = edited_line(
@@ -425,4 +420,27 @@ fn a_place_far_from_every_connector_is_given_by_its_offset_not_as_near_one() {
     assert!(!first.contains("near"), "{first}");
     // The joints themselves are still named.
     assert!(text.contains("1.798 m J2"), "{text}");
+}
+
+#[test]
+fn ci_and_the_readme_run_one_test_command_in_one_profile() {
+    let (readme, ci, manifest) = (
+        repo_text("README.md"),
+        repo_text(".ci/run"),
+        repo_text("Cargo.toml"),
+    );
+    assert!(
+        readme.contains("<!-- test-command -->\n```sh\ncargo test --locked\n```"),
+        "README's test command"
+    );
+    // CI runs exactly that command, without settings that would change the build's profile.
+    assert!(
+        ci.lines().any(|l| l.trim() == "cargo test --locked"),
+        "{ci}"
+    );
+    assert!(!ci.contains("CARGO_INCREMENTAL"), "{ci}");
+    assert!(!ci.contains("RUSTFLAGS"), "{ci}");
+    // One profile: test inherits dev unchanged, so `cargo run` reuses what `cargo test` built.
+    assert!(!manifest.contains("[profile.test]"), "{manifest}");
+    assert!(manifest.contains("[profile.dev]"), "{manifest}");
 }

@@ -27,10 +27,7 @@ fn the_sample_lies_on_a_harmonic_grid_and_is_made_as_documented() {
         assert!((fk - want).abs() <= 1e-12 * want, "point {k}: {fk} GHz");
     }
     // The command sample-sweeps/README.md gives makes the same data.
-    let readme = std::fs::read_to_string(
-        std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("sample-sweeps/README.md"),
-    )
-    .unwrap();
+    let readme = repo_text("sample-sweeps/README.md");
     let documented = "--state cold --start 5MHz --stop 10GHz --points 2000 --noise-db -85\n  --seed 20261105 --fault \"J2:gap=15um\"";
     assert!(
         readme.contains(documented),

@@ -8,16 +8,10 @@ mod first_hour;
 use first_hour::*;
 use std::path::Path;
 
-fn simulate(dir: &Path, line: &Path, out: &str) -> (std::process::Output, std::path::PathBuf) {
-    let out = dir.join(out);
-    let o = run(&["simulate", s(line), "--points", "101", "-o", s(&out)]);
-    (o, out)
-}
-
 #[test]
 fn quantities_with_units_simulate_the_same_line_as_bare_numbers() {
     let dir = tempfile::tempdir().unwrap();
-    let (o, plain) = simulate(dir.path(), &sample("in-07.toml"), "plain.s1p");
+    let (o, plain) = simulate_short(dir.path(), &sample("in-07.toml"), "plain.s1p");
     assert!(o.status.success(), "{}", stderr(&o));
     // Each written value is the bare one in another unit; the products (150 * 0.01, 15 * 0.001) are exact
     // in binary64, so the simulated sweeps must agree to the last digit.
@@ -33,7 +27,7 @@ fn quantities_with_units_simulate_the_same_line_as_bare_numbers() {
             ("loss_db = 20.0", "loss_db = \"20 dB\""),
         ],
     );
-    let (o, other) = simulate(dir.path(), &quoted, "quoted.s1p");
+    let (o, other) = simulate_short(dir.path(), &quoted, "quoted.s1p");
     assert!(o.status.success(), "{}", stderr(&o));
     assert_eq!(data_lines(&plain), data_lines(&other));
     // A changed quantity changes the sweep: the units are read, not dropped.
@@ -42,7 +36,7 @@ fn quantities_with_units_simulate_the_same_line_as_bare_numbers() {
         "longer.toml",
         &[("length_m = 1.50", "length_m = \"160 cm\"")],
     );
-    let (o, third) = simulate(dir.path(), &longer, "longer.s1p");
+    let (o, third) = simulate_short(dir.path(), &longer, "longer.s1p");
     assert!(o.status.success(), "{}", stderr(&o));
     assert_ne!(data_lines(&plain), data_lines(&third));
 }
@@ -56,7 +50,7 @@ fn a_quantity_of_another_family_names_the_key_its_unit_and_the_fix() {
         "bad.toml",
         &[("length_m = 1.50", "length_m = \"50 ohm\"")],
     );
-    let (o, out) = simulate(dir.path(), &bad, "x.s1p");
+    let (o, out) = simulate_short(dir.path(), &bad, "x.s1p");
     refused(
         &o,
         &[
@@ -90,7 +84,7 @@ fn a_quantity_of_another_family_names_the_key_its_unit_and_the_fix() {
     ];
     for (from, to, key, needle) in cases {
         let bad = edited_line(dir.path(), "bad.toml", &[(from, to)]);
-        let (o, _) = simulate(dir.path(), &bad, "x.s1p");
+        let (o, _) = simulate_short(dir.path(), &bad, "x.s1p");
         refused(
             &o,
             &["bad.toml:", &format!("key '{key}'"), needle, "write "],
@@ -101,31 +95,19 @@ fn a_quantity_of_another_family_names_the_key_its_unit_and_the_fix() {
 #[test]
 fn a_load_takes_a_resistance_with_its_unit() {
     let dir = tempfile::tempdir().unwrap();
-    let (o, bare) = simulate(
-        dir.path(),
-        &edited_line(dir.path(), "a.toml", &[("load = \"open\"", "load = 75.0")]),
-        "a.s1p",
-    );
-    assert!(o.status.success(), "{}", stderr(&o));
-    let (o, unit) = simulate(
-        dir.path(),
-        &edited_line(
+    let with_load = |name: &str, load: &str| {
+        let line = edited_line(
             dir.path(),
-            "b.toml",
-            &[("load = \"open\"", "load = \"75 ohm\"")],
-        ),
-        "b.s1p",
-    );
+            &format!("{name}.toml"),
+            &[("load = \"open\"", load)],
+        );
+        simulate_short(dir.path(), &line, &format!("{name}.s1p"))
+    };
+    let (o, bare) = with_load("a", "load = 75.0");
+    assert!(o.status.success(), "{}", stderr(&o));
+    let (o, unit) = with_load("b", "load = \"75 ohm\"");
     assert!(o.status.success(), "{}", stderr(&o));
     assert_eq!(data_lines(&bare), data_lines(&unit));
-    let (o, _) = simulate(
-        dir.path(),
-        &edited_line(
-            dir.path(),
-            "c.toml",
-            &[("load = \"open\"", "load = \"75 m\"")],
-        ),
-        "c.s1p",
-    );
+    let (o, _) = with_load("c", "load = \"75 m\"");
     refused(&o, &["c.toml:", "key 'load'", "unknown load '75 m'"]);
 }

@@ -92,6 +92,36 @@ fn row(rank: &str, place: &str, what: &str, bad: &str, sure: &str) -> String {
     format!("{rank:<5} {place:<38} {what:<15} {bad:<22} {sure}\n")
 }
 
+/// The table `compare` and `locate` share: the rows shown (rank, row, sentence) under the header, then one
+/// sentence each; `none` when nothing is shown; and how many harmless `things` at severity info are not.
+fn ranked_table(
+    out: &mut String,
+    shown: &[(usize, String, &str)],
+    hidden: usize,
+    none: &str,
+    things: &str,
+) {
+    if shown.is_empty() {
+        let _ = writeln!(out, "\n{none}");
+    } else {
+        out.push('\n');
+        out.push_str(&row("rank", "where", "what", "how bad", "how sure"));
+        for (_, r, _) in shown {
+            out.push_str(r);
+        }
+        out.push('\n');
+        for (rank, _, sentence) in shown {
+            let _ = writeln!(out, "{rank}. {sentence}");
+        }
+    }
+    if hidden > 0 {
+        let _ = writeln!(
+            out,
+            "\n{hidden} harmless {things} at severity info not shown (--all shows them)."
+        );
+    }
+}
+
 fn finding_row(f: &Finding) -> String {
     row(
         &f.rank.to_string(),
@@ -158,31 +188,20 @@ pub fn render_compare(r: &CompareReport, show_info: bool) -> String {
     }
     connector_line(&mut out, &r.connector_lengths);
     loud_warnings(&mut out, &r.warnings);
-    let shown: Vec<&Finding> = r
+    let shown: Vec<(usize, String, &str)> = r
         .findings
         .iter()
         .filter(|f| show_info || f.severity > Severity::Info)
+        .map(|f| (f.rank, finding_row(f), f.explanation.as_str()))
         .collect();
     let hidden = r.findings.len() - shown.len();
-    if shown.is_empty() {
-        let _ = writeln!(out, "\nno change that costs the line power was found.");
-    } else {
-        out.push('\n');
-        out.push_str(&row("rank", "where", "what", "how bad", "how sure"));
-        for f in &shown {
-            out.push_str(&finding_row(f));
-        }
-        out.push('\n');
-        for f in &shown {
-            let _ = writeln!(out, "{}. {}", f.rank, f.explanation);
-        }
-    }
-    if hidden > 0 {
-        let _ = writeln!(
-            out,
-            "\n{hidden} harmless change(s) at severity info not shown (--all shows them)."
-        );
-    }
+    ranked_table(
+        &mut out,
+        &shown,
+        hidden,
+        "no change that costs the line power was found.",
+        "change(s)",
+    );
     if let Some(p) = &r.power {
         let _ = writeln!(
             out,
@@ -238,35 +257,18 @@ pub fn render_locate(r: &LocateReport, show_info: bool) -> String {
     loud_warnings(&mut out, &r.warnings);
     let mut anomalies: Vec<&Event> = r.events.iter().filter(|e| e.rank.is_some()).collect();
     anomalies.sort_by_key(|e| e.rank);
-    let shown: Vec<&Event> = anomalies
+    let shown: Vec<(usize, String, &str)> = anomalies
         .iter()
-        .copied()
         .filter(|e| show_info || e.severity > Severity::Info)
+        .map(|e| (e.rank.unwrap_or(0), event_row(e), e.explanation.as_str()))
         .collect();
-    let hidden = anomalies.len() - shown.len();
-    if shown.is_empty() {
-        let _ = writeln!(
-            out,
-            "
-no anomaly that costs the line power was found."
-        );
-    } else {
-        out.push('\n');
-        out.push_str(&row("rank", "where", "what", "how bad", "how sure"));
-        for e in &shown {
-            out.push_str(&event_row(e));
-        }
-        out.push('\n');
-        for e in &shown {
-            let _ = writeln!(out, "{}. {}", e.rank.unwrap_or(0), e.explanation);
-        }
-    }
-    if hidden > 0 {
-        let _ = writeln!(
-            out,
-            "\n{hidden} harmless event(s) at severity info not shown (--all shows them)."
-        );
-    }
+    ranked_table(
+        &mut out,
+        &shown,
+        anomalies.len() - shown.len(),
+        "no anomaly that costs the line power was found.",
+        "event(s)",
+    );
     let expected: Vec<&Event> = r.events.iter().filter(|e| e.expected).collect();
     if !expected.is_empty() {
         let _ = writeln!(

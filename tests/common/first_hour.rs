@@ -21,6 +21,18 @@ pub fn stderr(o: &Output) -> String {
     String::from_utf8_lossy(&o.stderr).into_owned()
 }
 
+/// `simulate LINE --points 101 -o DIR/OUT`: its output and the path it wrote.
+pub fn simulate_short(dir: &Path, line: &Path, out: &str) -> (Output, PathBuf) {
+    let out = dir.join(out);
+    let o = run(&["simulate", s(line), "--points", "101", "-o", s(&out)]);
+    (o, out)
+}
+
+/// A file of the repository (README.md, .ci/run, ...) as text.
+pub fn repo_text(name: &str) -> String {
+    std::fs::read_to_string(Path::new(env!("CARGO_MANIFEST_DIR")).join(name)).unwrap()
+}
+
 pub fn sample(name: &str) -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR"))
         .join("sample-sweeps/north-fridge")
