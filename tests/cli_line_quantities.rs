@@ -6,7 +6,6 @@
 mod first_hour;
 
 use first_hour::*;
-use std::path::Path;
 
 #[test]
 fn quantities_with_units_simulate_the_same_line_as_bare_numbers() {
