@@ -16,6 +16,11 @@ pub fn set_quiet(quiet: bool) {
     QUIET.store(quiet, Ordering::Relaxed);
 }
 
+/// Whether `--quiet` was given (a progress bar is silenced with the notices).
+pub fn quiet() -> bool {
+    QUIET.load(Ordering::Relaxed)
+}
+
 /// ANSI styles used (SGR codes: ECMA-48, 5th edition, section 8.3.117).
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Style {
@@ -67,14 +72,14 @@ pub fn error(message: &dyn std::fmt::Display) {
 
 /// A warning, unless `--quiet`.
 pub fn warning(message: &dyn std::fmt::Display) {
-    if !QUIET.load(Ordering::Relaxed) {
+    if !quiet() {
         say("warning: ", Style::Caution, message);
     }
 }
 
 /// A notice (something done by default the user may want otherwise), unless `--quiet`.
 pub fn notice(message: &dyn std::fmt::Display) {
-    if !QUIET.load(Ordering::Relaxed) {
+    if !quiet() {
         say("notice: ", Style::Note, message);
     }
 }
