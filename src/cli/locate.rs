@@ -60,10 +60,12 @@ pub struct Args {
     /// cold, as in trace and simulate.
     #[arg(long, value_name = "STATE")]
     pub state: Option<String>,
-    /// Show every event in the table; without it, only events above info or stronger than -40 dB.
+    /// Show every anomalous event in the table, the harmless ones at severity info as well; without it
+    /// they are counted under it. The echoes the line file expects are listed apart either way.
     #[arg(long)]
     pub all: bool,
-    /// Exit with 1 when an event reaches this severity: info, minor, major or critical.
+    /// Exit with 1 when an event reaches this severity: info, minor, major or critical (an echo the line
+    /// file expects never does).
     #[arg(long, value_name = "SEVERITY")]
     pub fail_on: Option<String>,
 }
