@@ -242,3 +242,41 @@ fn no_colour_in_pipes_or_under_no_color_and_quiet_keeps_only_errors_and_output()
     let o = run(&["-q", "locate", s(&dir.path().join("missing.s1p"))]);
     refused(&o, &["error: "]);
 }
+
+/// The binary on a terminal: `script` (util-linux, in every Debian base system) gives it a pseudo-terminal
+/// for its output; `no_color` sets NO_COLOR=1.
+fn on_a_terminal(args: &str, no_color: bool) -> Vec<u8> {
+    let command = format!("'{}' {args}", env!("CARGO_BIN_EXE_coldtrace"));
+    let mut c = Command::new("script");
+    c.args(["-qec", &command, "/dev/null"]);
+    c.env_remove("NO_COLOR");
+    if no_color {
+        c.env("NO_COLOR", "1");
+    }
+    let o = c.output().expect("script (util-linux) runs");
+    assert!(
+        o.status.code().is_some(),
+        "{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    o.stdout
+}
+
+#[test]
+fn colour_on_a_terminal_unless_no_color() {
+    let args = format!(
+        "locate '{}' --line '{}'",
+        s(&sample("in-07-cold.s1p")),
+        s(&sample("in-07.toml"))
+    );
+    let coloured = on_a_terminal(&args, false);
+    let text = String::from_utf8_lossy(&coloured);
+    // The critical severity in bold red (SGR 1;31, ECMA-48 section 8.3.117).
+    assert!(text.contains("\x1b[1;31mcritical\x1b[0m"), "{text}");
+    let plain = on_a_terminal(&args, true);
+    assert!(
+        !plain.contains(&0x1b),
+        "{}",
+        String::from_utf8_lossy(&plain)
+    );
+}
