@@ -3,7 +3,9 @@
 //! sweep and a single band-pass trace of the same sweep, so the ratios are measured in the same run.
 //! The sweeps are simulated once, before timing, into a temporary folder.
 
-use coldtrace::compare::job::{run_compare, run_locate, CompareJob, LineSource, LocateJob};
+use coldtrace::compare::job::{
+    run_compare, run_locate, CompareJob, LineSource, LocateJob, SweepSource,
+};
 use coldtrace::compare::AnalysisConfig;
 use coldtrace::line::{simulate, Fault, SimConfig, State};
 use coldtrace::touchstone::{write_file, WriteOptions};
@@ -48,6 +50,7 @@ fn bench(c: &mut Criterion) {
         baseline_state: Some(State::Warm),
         current_state: Some(State::Cold),
         analysis: AnalysisConfig::default(),
+        source: SweepSource::default(),
     };
     let mut g = c.benchmark_group("compare-10001-points-12-elements");
     g.sample_size(20);
@@ -67,6 +70,7 @@ fn bench(c: &mut Criterion) {
         line: LineSource::File(line),
         state: Some(State::Cold),
         analysis: AnalysisConfig::default(),
+        source: SweepSource::default(),
     };
     g.bench_function("locate one sweep", |b| {
         b.iter(|| black_box(run_locate(&loc).unwrap()))

@@ -14,7 +14,7 @@ fn main() -> ExitCode {
             if is_broken_pipe(&err) {
                 return ExitCode::from(coldtrace::exit::OK);
             }
-            eprintln!("coldtrace: error: {err}");
+            cli::say::error(&err);
             ExitCode::from(coldtrace::exit::BAD_INPUT)
         }
     }

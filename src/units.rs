@@ -1,12 +1,13 @@
 //! Quantities written by people on the command line and in line files: `0.5GHz`, `1mm`, `0m..3m`, `30fF`.
 //!
-//! Every parser returns SI base units (Hz, m, s, ohm, F, H). A bare number takes the family's base unit.
+//! Every parser returns SI base units (Hz, m, s, ohm, F, H, K). A bare number takes the family's base unit.
 //! SI prefixes: f p n u (or µ) m c k M G T; unit symbols are case-insensitive except that `M` (mega) and
 //! `m` (milli) are told apart by case when a prefix is followed by a unit symbol.
 //!
 //! On the command line a frequency, length or time must carry its unit (`parse_flag`, `parse_flag_range`):
 //! `--at 6` is refused with the fix `write 6GHz`, since a bare number read as Hz is almost never what was
-//! meant. Line files keep the bare number in the family's base unit (docs/line-file.md). Levels in dB
+//! meant. Line files take the bare number in the unit their key names, or a quoted quantity with its unit
+//! read by `parse` (`line::quantity`, docs/line-file.md). Levels in dB
 //! (`parse_db`) take `6` or `6dB`.
 
 use thiserror::Error;
@@ -30,6 +31,8 @@ pub enum Family {
     Resistance,
     Capacitance,
     Inductance,
+    /// Kelvin (`4K`, `15mK`); used by line files' stage temperatures.
+    Temperature,
 }
 
 impl Family {
@@ -41,6 +44,7 @@ impl Family {
             Family::Resistance => &["ohm", "ohms", "Ω"],
             Family::Capacitance => &["f"],
             Family::Inductance => &["h"],
+            Family::Temperature => &["k"],
         }
     }
 
@@ -52,6 +56,7 @@ impl Family {
             Family::Resistance => "a resistance",
             Family::Capacitance => "a capacitance",
             Family::Inductance => "an inductance",
+            Family::Temperature => "a temperature",
         }
     }
 
@@ -63,6 +68,7 @@ impl Family {
             Family::Resistance => "'2ohm', '50' or '1.5kohm'",
             Family::Capacitance => "'30fF', '0.2pF' or '3e-14' (F)",
             Family::Inductance => "'0.5nH', '200pH' or '5e-10' (H)",
+            Family::Temperature => "'4K', '15mK' or '4' (K)",
         }
     }
 }
@@ -156,6 +162,22 @@ pub fn parse(text: &str, family: Family) -> Result<f64, UnitError> {
 }
 
 impl Family {
+    /// Every family, for telling a user which one a quantity they wrote belongs to.
+    pub const ALL: [Family; 7] = [
+        Family::Frequency,
+        Family::Length,
+        Family::Time,
+        Family::Resistance,
+        Family::Capacitance,
+        Family::Inductance,
+        Family::Temperature,
+    ];
+
+    /// The family's name with its article, as messages use it: "a length".
+    pub fn describe(self) -> &'static str {
+        self.what()
+    }
+
     /// Whether a bare number is refused on the command line: a frequency, a length or a time, whose base
     /// unit (Hz, m, s) is rarely the one meant.
     fn needs_unit_on_flag(self) -> bool {
@@ -171,6 +193,7 @@ impl Family {
             Family::Resistance => ("ohm", "1.5kohm"),
             Family::Capacitance => ("fF", "0.2pF"),
             Family::Inductance => ("nH", "200pH"),
+            Family::Temperature => ("K", "15mK"),
         }
     }
 }
@@ -291,6 +314,9 @@ mod tests {
         assert_eq!(parse("1.5kohm", Family::Resistance).unwrap(), 1500.0);
         assert!((parse("0.5nH", Family::Inductance).unwrap() - 0.5e-9).abs() < 1e-21);
         assert!((parse("1.2e-3m", Family::Length).unwrap() - 1.2e-3).abs() < 1e-15);
+        assert_eq!(parse("4 K", Family::Temperature).unwrap(), 4.0);
+        assert!((parse("15mK", Family::Temperature).unwrap() - 0.015).abs() < 1e-15);
+        assert!(parse("4 K", Family::Length).is_err());
     }
 
     #[test]

@@ -2,54 +2,15 @@
 //! default, one `--state` rule, one output-flag spelling, `convert --touchstone-version` beside the
 //! program's own `--version`, each command's own `--all`, and quantities that carry their units.
 
-use std::path::{Path, PathBuf};
-use std::process::Output;
+#[path = "common/first_hour.rs"]
+mod first_hour;
 
-fn run(args: &[&str]) -> Output {
-    std::process::Command::new(env!("CARGO_BIN_EXE_coldtrace"))
-        .args(args)
-        .output()
-        .unwrap()
-}
-
-fn stdout(o: &Output) -> String {
-    String::from_utf8_lossy(&o.stdout).into_owned()
-}
-
-fn stderr(o: &Output) -> String {
-    String::from_utf8_lossy(&o.stderr).into_owned()
-}
-
-fn sample(name: &str) -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR"))
-        .join("sample-sweeps/north-fridge")
-        .join(name)
-}
-
-fn s(p: &Path) -> &str {
-    p.to_str().unwrap()
-}
-
-/// Exit 2 with every needle in the error.
-fn refused(o: &Output, needles: &[&str]) -> String {
-    let err = stderr(o);
-    assert_eq!(o.status.code(), Some(2), "{err}");
-    for n in needles {
-        assert!(err.contains(n), "missing {n:?} in {err}");
-    }
-    err
-}
-
-fn help(command: &str) -> String {
-    let o = run(&[command, "--help"]);
-    assert!(o.status.success(), "{}", stderr(&o));
-    stdout(&o)
-}
+use first_hour::*;
+use std::path::Path;
 
 #[test]
 fn the_readme_says_how_to_install_and_what_the_first_test_costs() {
-    let readme =
-        std::fs::read_to_string(Path::new(env!("CARGO_MANIFEST_DIR")).join("README.md")).unwrap();
+    let readme = repo_text("README.md");
     for needle in [
         "cargo install --path .",
         "target/release/coldtrace",
@@ -294,36 +255,10 @@ fn trace_refuses_an_output_whose_extension_does_not_fit_even_with_force() {
     assert!(csv.exists());
 }
 
-/// The demo line file with `edits` (from, to) applied, written into `dir` as `name`.
-fn edited_line(dir: &Path, name: &str, edits: &[(&str, &str)]) -> PathBuf {
-    let mut text = std::fs::read_to_string(sample("in-07.toml")).unwrap();
-    for (from, to) in edits {
-        assert!(text.contains(from), "{from}");
-        text = text.replacen(from, to, 1);
-    }
-    let p = dir.join(name);
-    std::fs::write(&p, text).unwrap();
-    p
-}
-
-/// The data lines of a simulated sweep (its comments name the line file's path).
-fn data_lines(p: &Path) -> Vec<String> {
-    std::fs::read_to_string(p)
-        .unwrap()
-        .lines()
-        .filter(|l| !l.starts_with('!'))
-        .map(str::to_string)
-        .collect()
-}
-
 #[test]
 fn stage_names_match_in_any_case_and_room_has_its_common_spellings() {
     let dir = tempfile::tempdir().unwrap();
-    let simulate = |line: &Path, out: &str| {
-        let out = dir.path().join(out);
-        let o = run(&["simulate", s(line), "--points", "101", "-o", s(&out)]);
-        (o, out)
-    };
+    let simulate = |line: &Path, out: &str| simulate_short(dir.path(), line, out);
     let (o, plain) = simulate(&sample("in-07.toml"), "plain.s1p");
     assert!(o.status.success(), "{}", stderr(&o));
     let spelled = edited_line(
@@ -479,10 +414,33 @@ fn a_place_far_from_every_connector_is_given_by_its_offset_not_as_near_one() {
     // The reference plane's own echo lies 1.5 m from the feedthrough, the nearest connector.
     let first = text
         .lines()
-        .find(|l| l.starts_with("1 "))
-        .unwrap_or_else(|| panic!("no event 1:\n{text}"));
+        .find(|l| l.contains(" 0.000 m "))
+        .unwrap_or_else(|| panic!("no event at 0.000 m:\n{text}"));
     assert!(first.contains("room cable +0.000 m"), "{first}");
     assert!(!first.contains("near"), "{first}");
     // The joints themselves are still named.
     assert!(text.contains("1.798 m J2"), "{text}");
+}
+
+#[test]
+fn ci_and_the_readme_run_one_test_command_in_one_profile() {
+    let (readme, ci, manifest) = (
+        repo_text("README.md"),
+        repo_text(".ci/run"),
+        repo_text("Cargo.toml"),
+    );
+    assert!(
+        readme.contains("<!-- test-command -->\n```sh\ncargo test --locked\n```"),
+        "README's test command"
+    );
+    // CI runs exactly that command, without settings that would change the build's profile.
+    assert!(
+        ci.lines().any(|l| l.trim() == "cargo test --locked"),
+        "{ci}"
+    );
+    assert!(!ci.contains("CARGO_INCREMENTAL"), "{ci}");
+    assert!(!ci.contains("RUSTFLAGS"), "{ci}");
+    // One profile: test inherits dev unchanged, so `cargo run` reuses what `cargo test` built.
+    assert!(!manifest.contains("[profile.test]"), "{manifest}");
+    assert!(manifest.contains("[profile.dev]"), "{manifest}");
 }

@@ -18,10 +18,10 @@ use std::path::PathBuf;
 
 #[derive(Debug, clap::Args)]
 pub struct Args {
-    /// The earlier sweep (e.g. warm, before the cooldown), Touchstone.
+    /// The earlier sweep (e.g. warm, before the cooldown), Touchstone, or - for standard input.
     #[arg(value_name = "BASELINE")]
     pub baseline: PathBuf,
-    /// The later sweep (e.g. cold), Touchstone.
+    /// The later sweep (e.g. cold), Touchstone, or - for standard input.
     #[arg(value_name = "CURRENT")]
     pub current: PathBuf,
     #[command(flatten)]
@@ -67,11 +67,13 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
             .map(|s| parse_state("--current-state", s))
             .transpose()?,
         analysis,
+        source: args.line.source.source(&[&args.baseline, &args.current])?,
     };
     check_plot(&args.line, &[&args.baseline, &args.current])?;
     check_at_in_band(&args.line, &[&args.baseline, &args.current])?;
     let drawing = plot_inputs(&args.line)?;
     let report = run_compare(&job)?;
+    super::notices(&report.warnings);
     if let Some(p) = &args.line.plot {
         write_plot(
             p,
@@ -106,7 +108,7 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
             serde_json::to_string_pretty(&report).map_err(|e| Error::Usage(e.to_string()))?;
         super::print(&(text + "\n"))?;
     } else {
-        super::print(&render_compare(&report, args.all))?;
+        super::say::report(&render_compare(&report, args.all))?;
     }
     Ok(if report.findings.iter().any(|f| f.severity >= fail_on) {
         exit::FINDINGS

@@ -2,14 +2,18 @@
 //! Touchstone file as S-parameters (Y, Z, H, G are converted) at the file's reference impedances.
 //! Unset choices keep the input's: its major version, format and frequency unit.
 
-use coldtrace::touchstone::{read_file, write_file, Format, FreqUnit, WriteOptions, WriteVersion};
+use coldtrace::touchstone::{write_file, Format, FreqUnit, WriteOptions, WriteVersion};
 use std::path::PathBuf;
 
 #[derive(Debug, clap::Args)]
 pub struct Args {
-    /// The Touchstone file to read.
+    /// The Touchstone file to read, or - for standard input (with --ports).
     #[arg(value_name = "FILE")]
     pub input: PathBuf,
+    /// With - (a sweep on standard input): its port count, which a .sNp file name would give; a version 2
+    /// file states it and needs none.
+    #[arg(long, value_name = "N")]
+    pub ports: Option<usize>,
     /// Where to write the S-parameter file.
     #[arg(short = 'o', long = "output", value_name = "OUT")]
     pub output: PathBuf,
@@ -56,7 +60,8 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
         })?),
     };
     coldtrace::output::check_outputs(&[&args.output], args.force, &[&args.input])?;
-    let ts = read_file(&args.input)?;
+    coldtrace::touchstone::check_ports(args.ports, &[&args.input])?;
+    let ts = coldtrace::touchstone::read_source(&args.input, args.ports)?;
     let version = version.unwrap_or(if ts.info.version.is_v2() {
         WriteVersion::V2
     } else {
@@ -64,7 +69,7 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
     });
     check_output_extension(&args.output, ts.network.ports, version)?;
     for w in &ts.warnings {
-        eprintln!("coldtrace: warning: {w}");
+        super::say::warning(w);
     }
     let options = WriteOptions {
         version,

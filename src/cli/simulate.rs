@@ -96,7 +96,7 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
     coldtrace::output::check_outputs(&[&args.output], args.force, &[&args.line])?;
     let line = file::read_file(&args.line)?;
     for w in &line.warnings {
-        eprintln!("coldtrace: warning: {w}");
+        super::say::warning(w);
     }
     let mut config = SimConfig::linear(state, start, stop, args.points);
     config.noise_db = noise_db;

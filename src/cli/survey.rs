@@ -67,7 +67,7 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
         record_db,
         analysis: Default::default(),
     };
-    let bar = (!args.json && std::io::stderr().is_terminal()).then(|| {
+    let bar = (!args.json && !super::say::quiet() && std::io::stderr().is_terminal()).then(|| {
         let b = indicatif::ProgressBar::new(items.len() as u64);
         b.set_style(
             indicatif::ProgressStyle::with_template(

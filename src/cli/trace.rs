@@ -6,25 +6,29 @@
 //! connectors, attenuators and device marked.
 
 use coldtrace::line::{file::read_file as line_file, LineMap, State};
+use coldtrace::network::first_port_warning;
 use coldtrace::output::{check_extension, check_outputs, write_output};
 use coldtrace::report::views::trace_figure;
 use coldtrace::report::{plot_bytes, PlotFormat};
-use coldtrace::touchstone::{read_file, write, WriteOptions};
+use coldtrace::touchstone::{read_source, write, WriteOptions};
 use coldtrace::transform::{
     run_trace, DistanceMap, Mode, TraceConfig, TraceEngine, TracePlan, UniformLine, Window,
     DEFAULT_VELOCITY_FACTOR,
 };
 use coldtrace::units::{self, Family};
-use coldtrace::{Error, Network, Warning};
+use coldtrace::{Error, Network};
 use std::path::{Path, PathBuf};
 
 use super::DEFAULT_WINDOW;
 
 #[derive(Debug, clap::Args)]
 pub struct Args {
-    /// The Touchstone sweep (1-port; for a 2-port file S11 is used).
+    /// The Touchstone sweep, or - for standard input (with --ports); of several ports, S11 unless --param
+    /// says otherwise.
     #[arg(value_name = "FILE")]
     pub input: PathBuf,
+    #[command(flatten)]
+    pub source: super::SourceArgs,
     /// band-pass (any uniform grid, |h| in dB), low-pass-impulse or low-pass-step (rho with sign; harmonic
     /// grid f = k*df), or impedance (ohm, from the step).
     #[arg(long, default_value = "band-pass", value_name = "MODE")]
@@ -151,16 +155,17 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
         PlotFormat::from_path(plot)?;
     }
 
-    let ts = read_file(&args.input)?;
-    let net = &ts.network;
+    let source = args.source.source(&[&args.input])?;
+    let ts = read_source(&args.input, source.stdin_ports)?;
     let mut extra = Vec::new();
-    if net.ports > 1 {
-        extra.push(Warning::new(
-            "port-s11",
-            format!("{}-port file: the trace uses S11", net.ports),
-            "convert the path you want into a 1-port file to trace another parameter",
-        ));
+    if source.port.is_none() && ts.network.ports > 1 {
+        extra.push(first_port_warning(ts.network.ports).at(args.input.display().to_string()));
     }
+    let param = source.port.unwrap_or(0) + 1;
+    let net = &ts
+        .network
+        .reflection_at(param - 1)
+        .map_err(|e| Error::Usage(format!("{}: --param {e}", args.input.display())))?;
     let values = net.s11();
     let reference_ohm = net.reference_ohm.first().copied().unwrap_or(50.0);
     let config = TraceConfig {
@@ -187,6 +192,7 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
         warnings.extend(l.warnings.iter().cloned());
     }
     warnings.append(&mut outcome.trace.warnings);
+    super::notices(&warnings);
     outcome.trace.warnings = warnings;
 
     // Every output is made before any is written, so a failure leaves nothing half done.
@@ -195,7 +201,7 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
         let gated = Network::one_port(net.freqs_hz.clone(), g.values.clone(), reference_ohm);
         let mut opts = WriteOptions::default();
         opts.comments.push(format!(
-            "S11 of {} gated to {} (window {})",
+            "S{param}{param} of {} gated to {} (window {})",
             args.input.display(),
             args.gate.as_deref().unwrap_or(""),
             config.gate_shape.label()

@@ -3,7 +3,7 @@
 //! and reported), and run [`compare`](super::compare) or [`locate`](super::locate).
 
 use super::chain::ChainView;
-use super::locate::locate;
+use super::locate::{locate, mark_expected, rank_events};
 use super::report::{CompareReport, LocateReport, StateReport};
 use super::run::compare;
 use super::severity::Severity;
@@ -12,7 +12,7 @@ use super::states::{
 };
 use super::sweep::{AnalysisConfig, Sweep};
 use crate::line::{Line, State};
-use crate::touchstone::read_file;
+use crate::touchstone::{is_stdin, read_source, stdin_name};
 use crate::transform::TraceEngine;
 use crate::{Error, Network, Result, Warning};
 use std::path::{Path, PathBuf};
@@ -35,6 +35,7 @@ pub struct CompareJob {
     pub baseline_state: Option<State>,
     pub current_state: Option<State>,
     pub analysis: AnalysisConfig,
+    pub source: SweepSource,
 }
 
 /// A `locate` request, as plain data.
@@ -44,11 +45,40 @@ pub struct LocateJob {
     pub line: LineSource,
     pub state: Option<State>,
     pub analysis: AnalysisConfig,
+    pub source: SweepSource,
 }
 
-/// A sweep read from a file, with the reader's warnings.
-fn read_sweep(path: &Path) -> Result<(Network, Vec<Warning>)> {
-    sweep_of(read_file(path)?, path)
+/// Which reflection of a sweep is analysed, and the port count of a sweep read from standard input.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub struct SweepSource {
+    /// Zero-based port whose reflection is analysed (`--param S22` is 1). `None`: port 1, with a
+    /// `port-s11` warning for a sweep of more ports.
+    pub port: Option<usize>,
+    /// The port count of a sweep read from standard input (`-`), which a `.sNp` name would give.
+    pub stdin_ports: Option<usize>,
+}
+
+/// The name a sweep goes by in reports: its path, or `<stdin>.sNp` for standard input.
+fn shown_name(path: &Path, source: SweepSource) -> PathBuf {
+    if is_stdin(path) {
+        stdin_name(source.stdin_ports)
+    } else {
+        path.to_path_buf()
+    }
+}
+
+/// A sweep read from a file (or standard input, `-`), reduced to the reflection `source` asks for, with
+/// the reader's warnings.
+fn read_sweep(path: &Path, source: SweepSource) -> Result<(Network, Vec<Warning>)> {
+    let shown = shown_name(path, source);
+    let (n, mut w) = sweep_of(read_source(path, source.stdin_ports)?, &shown)?;
+    if source.port.is_none() && n.ports > 1 {
+        w.push(crate::network::first_port_warning(n.ports).at(shown.display().to_string()));
+    }
+    let n = n
+        .reflection_at(source.port.unwrap_or(0))
+        .map_err(|e| Error::Usage(format!("{}: --param {e}", shown.display())))?;
+    Ok((n, w))
 }
 
 /// A sweep the reader returned for `path`, checked to have enough points for a trace, with the reader's
@@ -274,12 +304,12 @@ fn line_model<'a>(line: &'a Option<Line>, src: &LineSource) -> LineModel<'a> {
 
 /// Run a comparison.
 pub fn run_compare(job: &CompareJob) -> Result<CompareReport> {
-    let (nb, wb) = read_sweep(&job.baseline)?;
-    let (nc, wc) = read_sweep(&job.current)?;
+    let (nb, wb) = read_sweep(&job.baseline, job.source)?;
+    let (nc, wc) = read_sweep(&job.current, job.source)?;
     let line = read_line(&job.line)?;
     let model = line_model(&line, &job.line);
-    let bname = job.baseline.display().to_string();
-    let cname = job.current.display().to_string();
+    let bname = shown_name(&job.baseline, job.source).display().to_string();
+    let cname = shown_name(&job.current, job.source).display().to_string();
     let mut report = compare_networks(&PairRequest {
         baseline: (&bname, &nb),
         current: (&cname, &nc),
@@ -377,10 +407,10 @@ pub fn compare_networks(req: &PairRequest) -> Result<CompareReport> {
 
 /// Run a location on one sweep.
 pub fn run_locate(job: &LocateJob) -> Result<LocateReport> {
-    let (n, w0) = read_sweep(&job.sweep)?;
+    let (n, w0) = read_sweep(&job.sweep, job.source)?;
     let line = read_line(&job.line)?;
     let model = line_model(&line, &job.line);
-    let name = job.sweep.display().to_string();
+    let name = shown_name(&job.sweep, job.source).display().to_string();
     let mut report = locate_network(&name, &n, model, job.state, &job.analysis)?;
     let mut w = w0;
     w.append(&mut report.warnings);
@@ -426,6 +456,35 @@ pub fn locate_network(
         &chain,
         analysis,
     )?;
+    if let LineModel::Line(l) = line {
+        // The echoes the line is built to give: its nominal self, without faults, on the same grid. A line
+        // too large to simulate (limits::MAX_SIMULATION_WORK) is located without them, and says so.
+        let mut sim = crate::line::SimConfig::linear(st, lo, hi, 2);
+        sim.freqs_hz = n.freqs_hz.clone();
+        match crate::line::simulate(l, &sim) {
+            Ok(nominal_net) => {
+                let nominal = locate(
+                    Sweep {
+                        name: "nominal",
+                        network: &nominal_net,
+                        state: state_name(st),
+                    },
+                    &chain,
+                    analysis,
+                )?;
+                mark_expected(&mut report.events, &nominal.events, report.resolution_m);
+            }
+            Err(e) => report.warnings.push(Warning::new(
+                "expected-echoes-unknown",
+                format!(
+                    "the nominal line could not be simulated ({e}), so no event is set apart as an echo the \
+                     line file expects"
+                ),
+                "read the connectors' and the far end's events in the table as the line's own echoes",
+            )),
+        }
+    }
+    rank_events(&mut report.events);
     report.state_basis = basis.clone();
     if let LineModel::Line(l) = line {
         report.visibility = crate::line::visibility(l, st, &n.freqs_hz, report.noise_rms)?;

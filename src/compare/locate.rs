@@ -1,4 +1,9 @@
 //! `locate`: every discontinuity one sweep shows, placed on the line and explained.
+//!
+//! With a line file, the echoes the line is built to give (its connectors' small mismatches, its designed
+//! open or short far end) are told apart from anomalies by locating the nominal line, simulated without
+//! faults on the same grid and in the same state ([`mark_expected`]); anomalies are ranked as `compare`
+//! ranks findings ([`rank_events`]).
 
 use super::chain::{ChainView, Which};
 use super::explain::*;
@@ -68,9 +73,10 @@ pub fn locate(
         };
         let p = place(&chain, x);
         let explanation = format!(
-            "{}: {}, costs {:.2} dB at {:.2} GHz{}{}",
+            "{}: {}, reflects {:.1} dB, costs {:.2} dB at {:.2} GHz{}{}",
             where_text(&chain, &p),
             describe_model(kind, &model),
+            db(e.magnitude),
             drop,
             f_ref / 1e9,
             if e.ghost_of.is_some() {
@@ -97,6 +103,9 @@ pub fn locate(
             likely_ghost: e.ghost_of.is_some(),
             visible,
             explanation,
+            rank: None,
+            expected: false,
+            expected_reflection_db: None,
         });
     }
     warnings.extend(no_line_file(&chain));
@@ -118,4 +127,64 @@ pub fn locate(
         warnings,
         plot: plot_data(&chain, &[(&a, Which::Current, sweep.name)], &[]),
     })
+}
+
+/// How much stronger than the nominal line's own echo at the same place an event may read and still be the
+/// echo the line file expects, dB: a connector's mismatch differs from pair to pair and from mating to
+/// mating by a few dB (common practice, no source). A fault at a joint that reads within it cannot be told
+/// from the joint by one sweep; `compare` against an earlier sweep can.
+pub const EXPECTED_MARGIN_DB: f64 = 6.0;
+
+/// Mark the events the line file expects: those the nominal line's events (`nominal`, located on the
+/// nominal line's simulated sweep) show at the same place (within the larger of either's 95 % interval and
+/// `resolution_m`), at most [`EXPECTED_MARGIN_DB`] weaker, and not an open where the nominal line has a
+/// short (its designed termination) or the reverse. Expected events become `info`: their cost is the
+/// design's, not a fault's.
+pub fn mark_expected(events: &mut [Event], nominal: &[Event], resolution_m: f64) {
+    for e in events.iter_mut() {
+        let twin = nominal
+            .iter()
+            .filter(|n| {
+                let tol = e.uncertainty_m.max(n.uncertainty_m).max(resolution_m);
+                (n.place.distance_m - e.place.distance_m).abs() <= tol
+            })
+            .max_by(|a, b| a.reflection_db.total_cmp(&b.reflection_db));
+        let Some(n) = twin else { continue };
+        e.expected_reflection_db = Some(n.reflection_db);
+        // An open where the design has a short, or a short where it has an open, is never the design;
+        // a termination that reads weaker than designed (shadowed by a fault before it) still is.
+        let terminations = [FaultKind::Open, FaultKind::Short];
+        let swapped =
+            terminations.contains(&n.kind) && terminations.contains(&e.kind) && n.kind != e.kind;
+        if !swapped && e.reflection_db <= n.reflection_db + EXPECTED_MARGIN_DB {
+            e.expected = true;
+            e.severity = Severity::Info;
+            e.explanation.push_str(&format!(
+                " (an echo the line file expects: its nominal line reads {:.1} dB here)",
+                n.reflection_db
+            ));
+        }
+    }
+}
+
+/// Rank the anomalies as `compare` ranks findings: what is visible and not a likely ghost first, then by
+/// severity, predicted drop and reflection; ranks 1, 2, ... without gaps. Expected echoes get none. The
+/// events keep their order along the line.
+pub fn rank_events(events: &mut [Event]) {
+    let mut order: Vec<usize> = (0..events.len()).filter(|&i| !events[i].expected).collect();
+    let claimed = |e: &Event| e.visible && !e.likely_ghost;
+    order.sort_by(|&i, &j| {
+        let (a, b) = (&events[i], &events[j]);
+        claimed(b)
+            .cmp(&claimed(a))
+            .then(b.severity.cmp(&a.severity))
+            .then(b.power_drop_db.total_cmp(&a.power_drop_db))
+            .then(b.reflection_db.total_cmp(&a.reflection_db))
+    });
+    for e in events.iter_mut() {
+        e.rank = None;
+    }
+    for (k, &i) in order.iter().enumerate() {
+        events[i].rank = Some(k + 1);
+    }
 }

@@ -160,6 +160,16 @@ pub struct Event {
     /// range, or where compensation would need more than its cap).
     pub visible: bool,
     pub explanation: String,
+    /// 1 = the anomaly that costs the line most (by severity, then predicted drop, then reflection; what is
+    /// visible and not a likely ghost first), numbered without gaps; `null` for an echo the line file
+    /// expects (`compare::locate::rank_events`).
+    pub rank: Option<usize>,
+    /// True for an echo the line file expects: the nominal line (its connectors, its designed termination),
+    /// simulated without faults in the same state on the same grid, shows one there at most
+    /// `compare::locate::EXPECTED_MARGIN_DB` weaker. Such an event is `info`, whatever it costs.
+    pub expected: bool,
+    /// The nominal line's own echo at this place, dB (compensated as `reflection_db`), when it has one.
+    pub expected_reflection_db: Option<f64>,
 }
 
 /// An element reflection cannot see, and why.

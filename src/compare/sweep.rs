@@ -64,13 +64,17 @@ pub fn analyse(
     )
 }
 
+/// The kind of [`no_line_file`]'s warning; the text reports print it first, set apart.
+pub const NO_LINE_FILE: &str = "no-line-file";
+
 /// The warning every result of a line of unknown construction carries.
 pub fn no_line_file(chain: &ChainView) -> Option<Warning> {
     (!chain.as_built).then(|| {
         Warning::new(
-            "no-line-file",
-            "no line file: positions are metres of one uniform line, and reflections are loss-compensated only \
-             where an open or short far end shows the line's loss",
+            NO_LINE_FILE,
+            "no line file: reflections are not loss-compensated (except where an open or short far end shows \
+             the line's loss), so an echo far down the line reads weaker by the round-trip loss in front of it \
+             (20 dB of loss makes a gap read ten times smaller); positions are metres of one uniform line",
             "pass --line LINE for as-built positions, element names and compensated reflections",
         )
     })

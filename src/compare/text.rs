@@ -3,6 +3,7 @@
 use super::place::metres;
 use super::report::{CompareReport, Event, Finding, LocateReport, NotVisible};
 use super::severity::Severity;
+use super::sweep::NO_LINE_FILE;
 use crate::Warning;
 use std::fmt::Write;
 
@@ -23,6 +24,42 @@ fn where_col(p: &super::report::Place) -> String {
     }
 }
 
+/// The name the header gives the line: the line file's, or "(no line file)" for a uniform line, whose
+/// name is only the sweep's.
+fn line_name<'a>(line: &'a str, warnings: &[Warning]) -> &'a str {
+    if without_line_file(warnings) {
+        "(no line file)"
+    } else {
+        line
+    }
+}
+
+fn without_line_file(warnings: &[Warning]) -> bool {
+    warnings.iter().any(|w| w.kind == NO_LINE_FILE)
+}
+
+/// The no-line-file warning, set apart under the header: it changes how every number below reads.
+fn loud_warnings(out: &mut String, warnings: &[Warning]) {
+    for w in warnings.iter().filter(|w| w.kind == NO_LINE_FILE) {
+        let _ = writeln!(
+            out,
+            "
+!! WARNING: {}
+!! {}",
+            w.message, w.fix
+        );
+    }
+}
+
+/// How a sweep's state is shown: as used, or "not known" when neither given nor told by the data.
+fn state_label(state: &str, known: bool) -> String {
+    if known {
+        state.to_string()
+    } else {
+        format!("state not known; analysed as {state}")
+    }
+}
+
 fn tail(out: &mut String, not_visible: &[NotVisible], warnings: &[Warning]) {
     if !not_visible.is_empty() {
         let _ = writeln!(out, "\nnot visible from this end:");
@@ -30,6 +67,7 @@ fn tail(out: &mut String, not_visible: &[NotVisible], warnings: &[Warning]) {
             let _ = writeln!(out, "  {}: {}", n.element, n.reason);
         }
     }
+    let warnings: Vec<&Warning> = warnings.iter().filter(|w| w.kind != NO_LINE_FILE).collect();
     if !warnings.is_empty() {
         let _ = writeln!(out, "\nwarnings:");
         for w in warnings {
@@ -54,6 +92,36 @@ fn row(rank: &str, place: &str, what: &str, bad: &str, sure: &str) -> String {
     format!("{rank:<5} {place:<38} {what:<15} {bad:<22} {sure}\n")
 }
 
+/// The table `compare` and `locate` share: the rows shown (rank, row, sentence) under the header, then one
+/// sentence each; `none` when nothing is shown; and how many harmless `things` at severity info are not.
+fn ranked_table(
+    out: &mut String,
+    shown: &[(usize, String, &str)],
+    hidden: usize,
+    none: &str,
+    things: &str,
+) {
+    if shown.is_empty() {
+        let _ = writeln!(out, "\n{none}");
+    } else {
+        out.push('\n');
+        out.push_str(&row("rank", "where", "what", "how bad", "how sure"));
+        for (_, r, _) in shown {
+            out.push_str(r);
+        }
+        out.push('\n');
+        for (rank, _, sentence) in shown {
+            let _ = writeln!(out, "{rank}. {sentence}");
+        }
+    }
+    if hidden > 0 {
+        let _ = writeln!(
+            out,
+            "\n{hidden} harmless {things} at severity info not shown (--all shows them)."
+        );
+    }
+}
+
 fn finding_row(f: &Finding) -> String {
     row(
         &f.rank.to_string(),
@@ -71,9 +139,24 @@ fn finding_row(f: &Finding) -> String {
 /// The comparison as a table: rank, where, what, how bad, how sure; then one sentence per finding.
 pub fn render_compare(r: &CompareReport, show_info: bool) -> String {
     let mut out = String::new();
-    let _ = writeln!(out, "line {}", r.line);
-    let _ = writeln!(out, "  baseline {} ({})", r.baseline, r.states.baseline);
-    let _ = writeln!(out, "  current  {} ({})", r.current, r.states.current);
+    let _ = writeln!(out, "line {}", line_name(&r.line, &r.warnings));
+    // Without a line file the data tell a change of state, never which one two sweeps in one state share.
+    let same_unknown = without_line_file(&r.warnings)
+        && r.states.inferred
+        && r.states.baseline == r.states.current;
+    let given = |which: &str| !r.states.inferred || r.states.basis.starts_with(which);
+    let _ = writeln!(
+        out,
+        "  baseline {} ({})",
+        r.baseline,
+        state_label(r.states.baseline, !same_unknown || given("baseline given"))
+    );
+    let _ = writeln!(
+        out,
+        "  current  {} ({})",
+        r.current,
+        state_label(r.states.current, !same_unknown || given("current given"))
+    );
     if r.states.inferred {
         let _ = writeln!(out, "  states {}", r.states.basis);
     }
@@ -104,31 +187,21 @@ pub fn render_compare(r: &CompareReport, show_info: bool) -> String {
         );
     }
     connector_line(&mut out, &r.connector_lengths);
-    let shown: Vec<&Finding> = r
+    loud_warnings(&mut out, &r.warnings);
+    let shown: Vec<(usize, String, &str)> = r
         .findings
         .iter()
         .filter(|f| show_info || f.severity > Severity::Info)
+        .map(|f| (f.rank, finding_row(f), f.explanation.as_str()))
         .collect();
     let hidden = r.findings.len() - shown.len();
-    if shown.is_empty() {
-        let _ = writeln!(out, "\nno change that costs the line power was found.");
-    } else {
-        out.push('\n');
-        out.push_str(&row("rank", "where", "what", "how bad", "how sure"));
-        for f in &shown {
-            out.push_str(&finding_row(f));
-        }
-        out.push('\n');
-        for f in &shown {
-            let _ = writeln!(out, "{}. {}", f.rank, f.explanation);
-        }
-    }
-    if hidden > 0 {
-        let _ = writeln!(
-            out,
-            "\n{hidden} harmless change(s) at severity info not shown (--all shows them)."
-        );
-    }
+    ranked_table(
+        &mut out,
+        &shown,
+        hidden,
+        "no change that costs the line power was found.",
+        "change(s)",
+    );
     if let Some(p) = &r.power {
         let _ = writeln!(
             out,
@@ -140,12 +213,16 @@ pub fn render_compare(r: &CompareReport, show_info: bool) -> String {
     out
 }
 
-fn event_row(k: usize, e: &Event) -> String {
+fn event_row(e: &Event) -> String {
     row(
-        &k.to_string(),
+        &e.rank.map_or("-".to_string(), |k| k.to_string()),
         &where_col(&e.place),
         e.kind.name(),
-        &format!("{:<8} {:.1} dB", e.severity.name(), e.reflection_db),
+        &if e.expected {
+            format!("{:<8} as built", e.severity.name())
+        } else {
+            format!("{:<8} {:.2} dB", e.severity.name(), e.power_drop_db)
+        },
         &format!(
             "{:.0} % +/-{:.1} mm{}",
             100.0 * e.confidence,
@@ -155,10 +232,18 @@ fn event_row(k: usize, e: &Event) -> String {
     )
 }
 
-/// One sweep's events as a table, strongest cost first as they lie along the line.
+/// One sweep's events as `compare`'s table: the anomalies by rank (rank, where, what, how bad = severity
+/// and predicted drop, how sure), one sentence each, then the echoes the line file expects, set apart.
 pub fn render_locate(r: &LocateReport, show_info: bool) -> String {
     let mut out = String::new();
-    let _ = writeln!(out, "line {}: sweep {} ({})", r.line, r.sweep, r.state);
+    let known = r.state_basis == "given" || !without_line_file(&r.warnings);
+    let _ = writeln!(
+        out,
+        "line {}: sweep {} ({})",
+        line_name(&r.line, &r.warnings),
+        r.sweep,
+        state_label(r.state, known)
+    );
     if r.state_basis != "given" {
         let _ = writeln!(out, "  state {}", r.state_basis);
     }
@@ -169,27 +254,30 @@ pub fn render_locate(r: &LocateReport, show_info: bool) -> String {
         r.reference_hz / 1e9
     );
     connector_line(&mut out, &r.connector_lengths);
-    out.push('\n');
-    out.push_str(&row(
-        "#",
-        "where",
-        "what",
-        "severity, reflection",
-        "how sure",
-    ));
-    let mut n = 0;
-    for (k, e) in r.events.iter().enumerate() {
-        if show_info || e.severity > Severity::Info || e.reflection_db > -40.0 {
-            out.push_str(&event_row(k + 1, e));
-            n += 1;
-        }
-    }
-    if n < r.events.len() {
+    loud_warnings(&mut out, &r.warnings);
+    let mut anomalies: Vec<&Event> = r.events.iter().filter(|e| e.rank.is_some()).collect();
+    anomalies.sort_by_key(|e| e.rank);
+    let shown: Vec<(usize, String, &str)> = anomalies
+        .iter()
+        .filter(|e| show_info || e.severity > Severity::Info)
+        .map(|e| (e.rank.unwrap_or(0), event_row(e), e.explanation.as_str()))
+        .collect();
+    ranked_table(
+        &mut out,
+        &shown,
+        anomalies.len() - shown.len(),
+        "no anomaly that costs the line power was found.",
+        "event(s)",
+    );
+    let expected: Vec<&Event> = r.events.iter().filter(|e| e.expected).collect();
+    if !expected.is_empty() {
         let _ = writeln!(
             out,
-            "({} weaker event(s) not shown; --all shows them)",
-            r.events.len() - n
+            "\nechoes the line file expects (its connectors, its designed termination), along the line:"
         );
+        for e in expected {
+            out.push_str(&event_row(e));
+        }
     }
     tail(&mut out, &r.not_visible, &r.warnings);
     out

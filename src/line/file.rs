@@ -39,9 +39,13 @@ pub const ATTENUATOR_LENGTH_M: f64 = 0.02;
 /// Relative permittivity of an attenuator body for its delay (PTFE-like; common practice, no source).
 pub const ATTENUATOR_ER: f64 = 2.03;
 
-/// A number written as an integer or a float.
-#[derive(Debug, Clone, Copy, PartialEq)]
-struct Num(f64);
+/// A number written as an integer or a float, or a quantity written as a string with its unit
+/// (`"30 cm"`, `"4 K"`, `"20 dB"`); the string is read by [`quantity`] in the unit family of its key.
+#[derive(Debug, Clone, PartialEq)]
+enum Num {
+    Value(f64),
+    Text(String),
+}
 
 impl<'de> Deserialize<'de> for Num {
     fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Num, D::Error> {
@@ -49,16 +53,19 @@ impl<'de> Deserialize<'de> for Num {
         impl Visitor<'_> for V {
             type Value = Num;
             fn expecting(&self, f: &mut std::fmt::Formatter) -> std::fmt::Result {
-                f.write_str("a number")
+                f.write_str("a number, or a quantity with its unit in quotes (\"30 cm\")")
             }
             fn visit_f64<E: de::Error>(self, v: f64) -> Result<Num, E> {
-                Ok(Num(v))
+                Ok(Num::Value(v))
             }
             fn visit_i64<E: de::Error>(self, v: i64) -> Result<Num, E> {
-                Ok(Num(v as f64))
+                Ok(Num::Value(v as f64))
             }
             fn visit_u64<E: de::Error>(self, v: u64) -> Result<Num, E> {
-                Ok(Num(v as f64))
+                Ok(Num::Value(v as f64))
+            }
+            fn visit_str<E: de::Error>(self, v: &str) -> Result<Num, E> {
+                Ok(Num::Text(v.to_string()))
             }
         }
         d.deserialize_any(V)
@@ -289,8 +296,17 @@ fn unlikely_stage_kelvin(k: f64) -> Option<&'static str> {
     }
 }
 
+/// The number a key holds, in the unit its name states: a bare number as written, a quoted quantity
+/// read with its unit ([`super::quantity::read`]), refused at its position when of another family.
+fn quantity(ctx: &Ctx, v: &Spanned<Num>, key: &str) -> Result<f64, LineError> {
+    match v.get_ref() {
+        Num::Value(x) => Ok(*x),
+        Num::Text(t) => super::quantity::read(key, t).map_err(|m| ctx.err(v.span(), Some(key), m)),
+    }
+}
+
 fn positive(ctx: &Ctx, v: &Spanned<Num>, key: &str, allow_zero: bool) -> Result<f64, LineError> {
-    let x = v.get_ref().0;
+    let x = quantity(ctx, v, key)?;
     let ok = x.is_finite() && if allow_zero { x >= 0.0 } else { x > 0.0 };
     if ok {
         Ok(x)
@@ -888,9 +904,10 @@ fn resolve(ctx: &Ctx, raw: RawFile) -> Result<Line, LineError> {
                             "match" | "matched" => Load::Match,
                             "open" => Load::Open,
                             "short" => Load::Short,
-                            other => {
-                                return Err(ctx.err(l.span(), Some("load"), format!("unknown load '{}'; use \"match\", \"open\", \"short\" or a resistance in ohm", clip(other))))
-                            }
+                            _ => match crate::units::parse(w, crate::units::Family::Resistance) {
+                                Ok(r) if r > 0.0 => Load::Ohms(r),
+                                _ => return Err(ctx.err(l.span(), Some("load"), format!("unknown load '{}'; use \"match\", \"open\", \"short\" or a resistance in ohm (75.0 or \"75 ohm\")", clip(w)))),
+                            },
                         },
                         RawLoad::Ohms(r) if *r > 0.0 && r.is_finite() => Load::Ohms(*r),
                         RawLoad::Int(r) if *r > 0 => Load::Ohms(*r as f64),

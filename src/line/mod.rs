@@ -8,7 +8,7 @@
 //! characteristic impedance, [`abcd`] holds the 2x2 chain-matrix algebra, [`position`] maps delay to
 //! as-built position, [`thermal`] reports the expected warm -> cold change, [`conduction`] gives a cable's
 //! steady-state temperature profile between stages, [`names`] compares the names people write and
-//! suggests the closest known one, [`fault`] parses and models
+//! suggests the closest known one, [`quantity`] reads a quantity written with its unit (`"30 cm"`), [`fault`] parses and models
 //! faults, [`simulate`](mod@simulate) cascades it all into a [`Network`](crate::Network) (optionally with
 //! physics moved away from the nominal model by a [`Perturbation`], for testing the analysis against a
 //! world that is not its own model), and
@@ -35,6 +35,7 @@ pub mod names;
 pub mod perturb;
 pub mod physics;
 pub mod position;
+pub mod quantity;
 pub mod rng;
 pub mod simulate;
 pub mod thermal;

@@ -95,6 +95,7 @@ pub fn survey_line(item: &SurveyItem, cfg: &SurveyConfig) -> SurveyLine {
         baseline_state: item.baseline_state,
         current_state: item.current_state,
         analysis: cfg.analysis.clone(),
+        source: crate::compare::job::SweepSource::default(),
     };
     let mut row = SurveyLine {
         line: item.line.display().to_string(),

@@ -14,11 +14,13 @@ mod keywords;
 mod lexer;
 mod options;
 mod parser;
+mod source;
 mod summary;
 mod writer;
 
 pub use error::{ErrorKind, TouchstoneError};
 pub use options::DEFAULT_REFERENCE_OHM;
+pub use source::{check_ports, is_stdin, read_source, stdin_name, STDIN};
 pub use summary::{summarize, Summary, GRID_TOLERANCE};
 pub use writer::{write, write_file, WriteOptions, WriteVersion};
 

@@ -110,8 +110,9 @@ pub fn write(network: &Network, options: &WriteOptions) -> Result<String, Touchs
             options.unit.as_str()
         )));
     }
-    for (k, f) in freqs.iter().enumerate() {
-        out.push_str(&fmt_num(*f));
+    let written = freq_texts(&network.freqs_hz, scale);
+    for (k, f) in written.iter().enumerate() {
+        out.push_str(f);
         if n <= 2 {
             let order: &[(usize, usize)] = if n == 1 {
                 &[(0, 0)]
@@ -145,7 +146,7 @@ pub fn write(network: &Network, options: &WriteOptions) -> Result<String, Touchs
             let _ = writeln!(
                 out,
                 "{} {} {} {} {}",
-                fmt_num(p.freq_hz / scale),
+                fmt_freq(p.freq_hz, scale),
                 fmt_num(p.nf_min_db),
                 fmt_num(p.gamma_opt.norm()),
                 fmt_num(p.gamma_opt.arg().to_degrees()),
@@ -260,6 +261,42 @@ fn check_noise(network: &Network, options: &WriteOptions) -> Result<(), Touchsto
         )));
     }
     Ok(())
+}
+
+/// How far a written frequency may read back from the one held, in units in the last place of the
+/// frequency in Hz. A file's frequency is a decimal in its unit scaled to Hz by a power of ten, which binary
+/// floating point rounds (parsing, then multiplying), so the value held is within a couple of ulps of the
+/// decimal the file gave; 4 leaves a margin (common practice, no source). Within it the shortest decimal is
+/// written: `504.75` MHz, not `5.0475000000000006e2`.
+pub const FREQ_ULPS: f64 = 4.0;
+
+/// A frequency `f_hz` written in the unit of `scale` Hz: the shortest decimal (Rust's `{}` of the value it
+/// reads as) whose value, scaled back to Hz, is within [`FREQ_ULPS`] of `f_hz`.
+fn fmt_freq(f_hz: f64, scale: f64) -> String {
+    let x = f_hz / scale;
+    let tol = FREQ_ULPS * f64::EPSILON * f_hz.abs();
+    for digits in 0..17 {
+        let short: f64 = format!("{x:.digits$e}").parse().unwrap_or(f64::NAN);
+        if (short * scale - f_hz).abs() <= tol {
+            return format!("{short}");
+        }
+    }
+    format!("{x}")
+}
+
+/// Every frequency of a sweep as written ([`fmt_freq`]); should two short forms read back equal or out of
+/// order (points closer than [`FREQ_ULPS`]), each is written in full, the shortest form of its own value.
+fn freq_texts(freqs_hz: &[f64], scale: f64) -> Vec<String> {
+    let short: Vec<String> = freqs_hz.iter().map(|&f| fmt_freq(f, scale)).collect();
+    let read: Vec<f64> = short
+        .iter()
+        .map(|t| t.parse::<f64>().unwrap_or(f64::NAN))
+        .collect();
+    if read.windows(2).all(|w| w[0] < w[1]) {
+        short
+    } else {
+        freqs_hz.iter().map(|f| format!("{}", f / scale)).collect()
+    }
 }
 
 fn fmt_num(v: f64) -> String {
