@@ -33,6 +33,7 @@ fn compare_report() -> coldtrace::compare::report::CompareReport {
         baseline_state: None,
         current_state: None,
         analysis: AnalysisConfig::default(),
+        source: Default::default(),
     })
     .unwrap()
 }
@@ -269,6 +270,7 @@ fn the_y_axis_says_compensated_only_when_something_was() {
         line: LineSource::File(sample("in-07.toml")),
         state: None,
         analysis: AnalysisConfig::default(),
+        source: Default::default(),
     })
     .unwrap();
     let fig = locate_figure(&located, Some(&line()), None);
@@ -282,6 +284,7 @@ fn locate_marks_its_events() {
         line: LineSource::File(sample("in-07.toml")),
         state: None,
         analysis: AnalysisConfig::default(),
+        source: Default::default(),
     })
     .unwrap();
     let fig = locate_figure(&located, Some(&line()), None);

@@ -2,7 +2,7 @@
 //! line file, or a uniform line of a given velocity factor), settle each sweep's state (given, or inferred
 //! and reported), and run [`compare`](super::compare) or [`locate`](super::locate).
 
-use super::chain::ChainView;
+use super::chain::{ChainView, Which};
 use super::locate::{locate, mark_expected, rank_events};
 use super::report::{CompareReport, LocateReport, StateReport};
 use super::run::compare;
@@ -212,6 +212,14 @@ pub fn decide_pair_states(
         open,
     ))
 }
+
+/// How many times the line's round-trip delay to its visible end the alias-free record of the nominal
+/// line's simulated sweep spans (`locate` with a line file): room for the far end's multiple reflections
+/// and the window's skirt before the record folds (common practice, no source).
+pub const NOMINAL_ALIAS_MARGIN: f64 = 3.0;
+
+/// Fewest points of that simulated sweep.
+pub const MIN_NOMINAL_POINTS: usize = 401;
 
 /// Keep above info only what `other` (the same pair under another open hypothesis) also finds there, at the
 /// lesser severity and cost of the two.
@@ -459,8 +467,14 @@ pub fn locate_network(
     if let LineModel::Line(l) = line {
         // The echoes the line is built to give: its nominal self, without faults, on the same grid. A line
         // too large to simulate (limits::MAX_SIMULATION_WORK) is located without them, and says so.
-        let mut sim = crate::line::SimConfig::linear(st, lo, hi, 2);
-        sim.freqs_hz = n.freqs_hz.clone();
+        // Its echoes' places and strengths need the sweep's band (the resolution), not its point count: a
+        // grid just long enough for the line's round trip, twice over, costs a fraction of a dense sweep's.
+        let t_end = chain.delay_to(chain.visible_end_m(), Which::Current, None);
+        let needed = (NOMINAL_ALIAS_MARGIN * t_end * (hi - lo)).ceil() as usize + 1;
+        let mut sim = crate::line::SimConfig::linear(st, lo, hi, needed.max(MIN_NOMINAL_POINTS));
+        if sim.freqs_hz.len() >= n.freqs_hz.len() {
+            sim.freqs_hz = n.freqs_hz.clone();
+        }
         match crate::line::simulate(l, &sim) {
             Ok(nominal_net) => {
                 let nominal = locate(

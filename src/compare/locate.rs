@@ -2,7 +2,8 @@
 //!
 //! With a line file, the echoes the line is built to give (its connectors' small mismatches, its designed
 //! open or short far end) are told apart from anomalies by locating the nominal line, simulated without
-//! faults on the same grid and in the same state ([`mark_expected`]); anomalies are ranked as `compare`
+//! faults over the same band and in the same state ([`mark_expected`]; the grid in `job::locate_network`);
+//! anomalies are ranked as `compare`
 //! ranks findings ([`rank_events`]).
 
 use super::chain::{ChainView, Which};
