@@ -203,16 +203,6 @@ fn a_small_change_of_a_strong_joint_in_one_state_is_reported_at_info() {
     }
 }
 
-/// A contact of 1.4 ohm at J4 (seed 1500193, a cold -> cold repeat) whose echo sits 3 cm, about one main-lobe
-/// half-width, in front of J5's stronger one: the trace dips between them in both sweeps, so J4's echo is
-/// one of its own and its change is read there. It was masked as part of J5's main lobe, and nothing was
-/// found.
-#[test]
-fn a_joints_echo_inside_its_neighbours_main_lobe_is_read_on_its_own() {
-    let e = scenario::score::evaluate(1_500_193, Case::Fault);
-    assert_eq!(e.right_element(true), Some(true), "{}", case_line(&e, true));
-}
-
 /// A pin gap of 8.6 fF at J3 (seed 1500144) reflects 0.999 across 0.01-20 GHz: an open. What appears behind
 /// it (multiple reflections, lifted by the compensation of the attenuators behind) is not claimed, and the
 /// pin gap ranks first.

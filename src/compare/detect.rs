@@ -128,13 +128,8 @@ pub fn find_events(
         };
         for (p, &p_raw) in accepted.iter().zip(&accepted_raw) {
             if (delay - p.delay_s).abs() < reach {
-                // One echo's main lobe falls away from its peak without a dip: a maximum of the measured
-                // trace with a dip between it and the stronger peak is an echo of its own.
-                if !(peak_raw && dip_between(&raw, i, p.index)) {
-                    masked = true;
-                    break;
-                }
-                continue;
+                masked = true;
+                break;
             }
             threshold = threshold.max(p_raw * side);
         }
@@ -152,21 +147,6 @@ pub fn find_events(
     accepted.sort_by(|a, b| a.delay_s.total_cmp(&b.delay_s));
     flag_ghosts(&mut accepted, lobe.main_lobe_half_s);
     accepted
-}
-
-/// How far under the weaker of two neighbouring maxima the trace must dip between them for the weaker to be
-/// an echo of its own inside the stronger's main lobe: 3 dB (a single echo's main lobe has no dip at all;
-/// the margin keeps noise and the ripple of imperfect compensation out; common practice, no source).
-pub const RESOLVING_DIP: f64 = std::f64::consts::FRAC_1_SQRT_2;
-
-/// Whether `v` dips under [`RESOLVING_DIP`] of the lower of bins `i` and `j` somewhere strictly between them.
-fn dip_between(v: &[f64], i: usize, j: usize) -> bool {
-    let (a, b) = (i.min(j), i.max(j));
-    if b <= a + 1 {
-        return false;
-    }
-    let low = v[a + 1..b].iter().copied().fold(f64::INFINITY, f64::min);
-    low < RESOLVING_DIP * v[i].min(v[j])
 }
 
 /// Parabolic interpolation of the peak at bin `i` on the magnitude: sub-bin delay and height.
@@ -273,32 +253,6 @@ mod tests {
         let ev = find_events(&m, &vec![1.0; m.len()], 0.0, 1.0, lobe, sigma);
         assert_eq!(ev.len(), 2, "{ev:?}");
         assert!((ev[0].delay_s - 1000.0).abs() < 0.2 && (ev[1].delay_s - 1400.0).abs() < 0.2);
-    }
-
-    /// Two echoes inside one main-lobe half-width of each other (4 bins apart, the lobe half-width 5), the
-    /// weaker 8 dB down: the dip between them proves the second echo, which is kept; one echo's own main lobe,
-    /// which falls away from its peak without a dip, gives one event.
-    #[test]
-    fn an_echo_inside_a_stronger_ones_main_lobe_is_kept_when_a_dip_parts_them() {
-        let lobe = LobeShape {
-            main_lobe_half_s: 5.0,
-            sidelobe_db: -60.0,
-        };
-        let shape = |c: f64, a: f64, i: usize| {
-            let x = (i as f64 - c) / 1.5;
-            a * (-x * x).exp()
-        };
-        let two: Vec<f64> = (0..200)
-            .map(|i| shape(100.0, 0.02, i) + shape(96.0, 0.008, i))
-            .collect();
-        let ev = find_events(&two, &vec![1.0; two.len()], 0.0, 1.0, lobe, 1e-7);
-        assert_eq!(ev.len(), 2, "{ev:?}");
-        assert!((ev[0].delay_s - 96.0).abs() < 0.5 && (ev[1].delay_s - 100.0).abs() < 0.5);
-        let one: Vec<f64> = (0..200).map(|i| shape(100.0, 0.02, i)).collect();
-        assert_eq!(
-            find_events(&one, &vec![1.0; one.len()], 0.0, 1.0, lobe, 1e-7).len(),
-            1
-        );
     }
 
     #[test]
