@@ -109,7 +109,7 @@ th { background: #eee; } td.num { text-align: right; white-space: nowrap; }
 tr.major td, tr.critical td { font-weight: bold; }
 figure { margin: 0.6em 0; break-inside: avoid; page-break-inside: avoid; }
 figure svg { width: 100%; height: auto; }
-figure.evidence { display: inline-block; width: 48%; vertical-align: top; }
+figure.evidence, figure.trend { display: inline-block; width: 48%; vertical-align: top; }
 figcaption { font-size: 9.5pt; color: #333; }
 code { font-size: 9pt; word-break: break-all; }
 @page { margin: 15mm; }
@@ -135,7 +135,7 @@ pub(crate) fn section(out: &mut String, id: &str, heading: &str, body: &str) {
 }
 
 /// A figure, drawn as SVG, with its caption.
-fn figure_html(svg: &str, caption: &str) -> String {
+pub(crate) fn figure_html(svg: &str, caption: &str) -> String {
     format!(
         "<figure>\n{svg}\n<figcaption>{}</figcaption>\n</figure>\n",
         escape(caption)
