@@ -102,3 +102,56 @@ fn a_span_beyond_the_data_is_refused_with_the_datas_extent() {
     );
     assert!(!plot.exists());
 }
+
+#[test]
+fn plot_evidence_draws_the_first_findings_reflection_and_model() {
+    let dir = tempfile::tempdir().unwrap();
+    let (warm, cold, line) = (
+        sample("in-07-warm.s1p"),
+        sample("in-07-cold.s1p"),
+        sample("in-07.toml"),
+    );
+    for (name, mut args) in [
+        (
+            "compare",
+            vec!["compare".as_ref(), warm.as_os_str(), cold.as_os_str()],
+        ),
+        ("locate", vec!["locate".as_ref(), cold.as_os_str()]),
+    ] {
+        let plot = dir.path().join(format!("{name}-evidence.svg"));
+        args.extend([
+            "--line".as_ref(),
+            line.as_os_str(),
+            "--plot-evidence".as_ref(),
+            plot.as_os_str(),
+        ]);
+        let o = run(&args);
+        assert!(
+            matches!(o.status.code(), Some(0 | 1)),
+            "{name}: {}",
+            stderr(&o)
+        );
+        let svg = std::fs::read_to_string(&plot).unwrap();
+        assert!(svg.contains("#1 J2 pin-gap"), "{name}: no title");
+        assert!(has_text(&svg, "frequency (GHz)"), "{name}: no x label");
+        assert!(
+            svg.contains("model: series-capacitance"),
+            "{name}: no model"
+        );
+        assert!(
+            has_text(&svg, coldtrace::report::evidence::MEASURED_NAME),
+            "{name}: no measurement"
+        );
+    }
+    // A file of another kind is refused before any work, naming the fix.
+    let bad = dir.path().join("evidence.txt");
+    let o = run(&[
+        "locate".as_ref(),
+        cold.as_os_str(),
+        "--plot-evidence".as_ref(),
+        bad.as_os_str(),
+    ]);
+    assert_eq!(o.status.code(), Some(2), "{}", stderr(&o));
+    assert!(stderr(&o).contains(".svg or .png"), "{}", stderr(&o));
+    assert!(!bad.exists());
+}

@@ -69,7 +69,20 @@ fn the_report_has_its_sections_in_order() {
         "{text}"
     );
     // The plots are inline SVG, the line diagram beside them.
-    assert_eq!(html.select(&sel("#plots figure svg")).count(), 1);
+    assert_eq!(
+        html.select(&sel("#plots figure:not(.evidence) svg"))
+            .count(),
+        1
+    );
+    // Each finding above info (the first few) has its evidence: its gated reflection against frequency with
+    // the fitted model, labelled by rank, element and kind.
+    let evidence: Vec<String> = html
+        .select(&sel("#plots figure.evidence"))
+        .map(|f| f.text().collect())
+        .collect();
+    assert!(!evidence.is_empty());
+    assert!(evidence[0].contains("#1 J2 pin-gap"), "{}", evidence[0]);
+    assert!(html.select(&sel("#plots figure.evidence svg")).count() == evidence.len());
     assert!(html.select(&sel("#plots #line-diagram")).next().is_some());
     let cautions: String = html
         .select(&sel("#cautions"))

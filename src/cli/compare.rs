@@ -1,14 +1,15 @@
 //! `coldtrace compare BASELINE CURRENT [--line LINE | --vf VF] [--baseline-state S] [--current-state S]
-//! [--json] [--plot F] [--span A..B] [--report F.html] [--fail-on SEVERITY] ...`: where the line changed between two sweeps, how badly, why.
+//! [--json] [--plot F] [--plot-evidence F] [--span A..B] [--report F.html] [--fail-on SEVERITY] ...`: where the line changed between two sweeps, how badly, why.
 //! Flags become a `coldtrace::compare::job::CompareJob`; the work is `run_compare`.
 
 use super::locate::{
     analysis_config, check_at_in_band, check_plot, inputs, line_source, parse_fail_on, parse_state,
-    plot_inputs, run_context, LineArgs,
+    plot_inputs, run_context, write_evidence, LineArgs,
 };
 use coldtrace::compare::job::{run_compare, CompareJob};
 use coldtrace::compare::text::render_compare;
 use coldtrace::output::write_output;
+use coldtrace::report::evidence::compare_evidence;
 use coldtrace::report::html::compare_html;
 use coldtrace::report::views::compare_figure;
 use coldtrace::report::write_plot;
@@ -82,6 +83,11 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
             &inputs(&args.line, &[&args.baseline, &args.current]),
         )?;
     }
+    write_evidence(
+        &args.line,
+        &compare_evidence(&report),
+        &[&args.baseline, &args.current],
+    )?;
     if let Some(path) = &args.line.report {
         let given = |s: &Option<String>| s.clone().unwrap_or_else(|| "inferred".into());
         let settings = vec![

@@ -9,6 +9,9 @@ use coldtrace::history::{
     export, record_sweep, resolve_db_path, HistoryStore, RecordJob, SqliteStore, TrendRule,
 };
 use coldtrace::line::State;
+use coldtrace::output::write_output;
+use coldtrace::report::history::{database_input, history_html};
+use coldtrace::report::html::RunContext;
 use coldtrace::report::{write_plot, Figure, Series};
 use coldtrace::{exit, Error, Warning};
 use serde::Serialize;
@@ -38,7 +41,7 @@ pub enum Sub {
     /// List the records, oldest first per line.
     List(ListArgs),
     /// Everything stored for a line's records.
-    Show(LineOnly),
+    Show(ShowArgs),
     /// Each connector's reflection over the cooldowns, and whether it is climbing.
     Trend(TrendArgs),
     /// Choose the record later sweeps of a line are compared against.
@@ -78,10 +81,18 @@ pub struct ListArgs {
 }
 
 #[derive(Debug, clap::Args)]
-pub struct LineOnly {
+pub struct ShowArgs {
     /// The line's name (as in its line file).
     #[arg(value_name = "LINE")]
     pub line: String,
+    /// Write the line's history as one self-contained HTML report (records, each connector across
+    /// cooldowns with its trend and the severity levels, the database's SHA-256, cautions) to FILE.html
+    /// (docs/report.md).
+    #[arg(long, value_name = "FILE.html")]
+    pub report: Option<PathBuf>,
+    /// Replace the report file if it exists (the database is never replaced).
+    #[arg(long)]
+    pub force: bool,
     #[command(flatten)]
     pub common: Common,
 }
@@ -214,9 +225,15 @@ fn list(a: ListArgs) -> coldtrace::Result<u8> {
     Ok(exit::OK)
 }
 
-fn show(a: LineOnly) -> coldtrace::Result<u8> {
+fn show(a: ShowArgs) -> coldtrace::Result<u8> {
+    if let Some(r) = &a.report {
+        coldtrace::output::check_extension(r, "--report", "html", "an HTML report")?;
+    }
     let store = open(&a.common, false)?;
     let records = store.line_details(&a.line)?;
+    if let Some(path) = &a.report {
+        write_history_report(&store, &a.line, &records, path, a.force)?;
+    }
     if a.common.json {
         #[derive(Serialize)]
         struct Out<'a> {
@@ -236,6 +253,55 @@ fn show(a: LineOnly) -> coldtrace::Result<u8> {
         super::print(&render_show(&a.line, &records))?;
     }
     Ok(exit::OK)
+}
+
+/// `history show --report`: the records and the trend of each state that has records, as one HTML page,
+/// written through the safe writer (never over the database; an existing file only with `--force`).
+fn write_history_report(
+    store: &SqliteStore,
+    line: &str,
+    records: &[coldtrace::history::RecordDetail],
+    path: &std::path::Path,
+    force: bool,
+) -> coldtrace::Result<()> {
+    coldtrace::output::check_outputs(&[path], force, &[store.location()])?;
+    let rule = TrendRule::default();
+    let mut trends = Vec::new();
+    for state in [State::Cold, State::Warm] {
+        if records.iter().any(|r| r.summary.state == state) {
+            trends.push(line_trend(store, line, state, None, &rule)?);
+        }
+    }
+    let settings = vec![
+        (
+            "trend rule".to_string(),
+            format!(
+                "the latest {} to {} cooldowns of each state; Mann-Kendall p <= {}; slope >= {} dB per \
+                 cooldown; rise >= {} dB over the median of at least {} earlier values and {} dB over \
+                 every earlier one (docs/history.md)",
+                rule.min_points,
+                rule.window,
+                rule.alpha,
+                rule.min_slope_db,
+                rule.min_rise_db,
+                rule.min_reference,
+                rule.min_excess_db
+            ),
+        ),
+        (
+            "baseline".to_string(),
+            store
+                .baseline(line)?
+                .map_or("none chosen".to_string(), |b| format!("record {b}")),
+        ),
+    ];
+    let ctx = RunContext {
+        inputs: vec![database_input(store.location())?],
+        settings,
+        span: None,
+    };
+    let html = history_html(line, records, store.baseline(line)?, &trends, &ctx)?;
+    write_output(path, html.as_bytes(), force, &[store.location()])
 }
 
 fn trend(a: TrendArgs) -> coldtrace::Result<u8> {

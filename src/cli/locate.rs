@@ -1,4 +1,4 @@
-//! `coldtrace locate SWEEP [--line LINE | --vf VF] [--state S] [--json] [--plot F] ...`: every
+//! `coldtrace locate SWEEP [--line LINE | --vf VF] [--state S] [--json] [--plot F] [--plot-evidence F] ...`: every
 //! discontinuity one sweep shows, placed on the line and explained. Flags become a
 //! `coldtrace::compare::job::LocateJob`; the work is `run_locate`.
 
@@ -8,6 +8,7 @@ use coldtrace::compare::{AnalysisConfig, Severity};
 use coldtrace::limits::{short_number, MAX_FREQUENCY_HZ};
 use coldtrace::line::{Line, State};
 use coldtrace::output::write_output;
+use coldtrace::report::evidence::{locate_evidence, EvidenceFigure};
 use coldtrace::report::html::{hash_inputs, locate_html, RunContext};
 use coldtrace::report::views::locate_figure;
 use coldtrace::report::write_plot;
@@ -42,6 +43,10 @@ pub struct LineArgs {
     /// Draw the traces to an .svg or .png file.
     #[arg(long, value_name = "FILE")]
     pub plot: Option<PathBuf>,
+    /// Draw the first-ranked finding's evidence (compare; locate: the first anomaly) to an .svg or .png
+    /// file: its gated reflection against frequency with the fitted lumped model over it (docs/report.md).
+    #[arg(long, value_name = "FILE")]
+    pub plot_evidence: Option<PathBuf>,
     /// The distance span drawn by --plot and --report, e.g. 0m..3m; default: the line's length (without a
     /// line file, the farthest significant echo) plus a margin.
     #[arg(long, value_name = "A..B")]
@@ -91,13 +96,13 @@ pub fn inputs<'a>(a: &'a LineArgs, sweeps: &[&'a std::path::Path]) -> Vec<&'a st
 
 /// Refuse a `--plot` or `--report` path that cannot be written before any work is done.
 pub fn check_plot(a: &LineArgs, sweeps: &[&std::path::Path]) -> coldtrace::Result<()> {
-    if let Some(p) = &a.plot {
+    for p in [&a.plot, &a.plot_evidence].into_iter().flatten() {
         coldtrace::report::PlotFormat::from_path(p)?;
     }
     if let Some(r) = &a.report {
         coldtrace::output::check_extension(r, "--report", "html", "an HTML report")?;
     }
-    let outputs: Vec<&Path> = [&a.plot, &a.report]
+    let outputs: Vec<&Path> = [&a.plot, &a.plot_evidence, &a.report]
         .into_iter()
         .flatten()
         .map(PathBuf::as_path)
@@ -214,6 +219,29 @@ fn ghz(hz: f64) -> String {
     format!("{}GHz", short_number(hz / 1e9))
 }
 
+/// `--plot-evidence`: the first of `figures` (the first-ranked finding's evidence), or a notice that there
+/// is none to draw (nothing above info), and no file.
+pub fn write_evidence(
+    a: &LineArgs,
+    figures: &[EvidenceFigure],
+    sweeps: &[&Path],
+) -> coldtrace::Result<()> {
+    let Some(path) = &a.plot_evidence else {
+        return Ok(());
+    };
+    match figures.first() {
+        Some(e) => write_plot(path, &e.figure, a.force, &inputs(a, sweeps)),
+        None => {
+            super::say::notice(&format_args!(
+                "{}: not written: no finding above info, so no evidence to draw (the table lists every \
+                 change; --all shows the harmless ones)",
+                path.display()
+            ));
+            Ok(())
+        }
+    }
+}
+
 /// What a plot draws besides the result: the span asked, and the line file for the chain strip.
 pub struct Drawing {
     pub span: Option<(f64, f64)>,
@@ -262,6 +290,7 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
             &inputs(&args.line, &[&args.sweep]),
         )?;
     }
+    write_evidence(&args.line, &locate_evidence(&report), &[&args.sweep])?;
     if let Some(path) = &args.line.report {
         let settings = vec![(
             "state".to_string(),

@@ -91,6 +91,7 @@ pub fn locate(
                 " (not visible: not claimed)"
             }
         );
+        let evidence = Evidence::new(&fl, &gl, &model, chain.impedance_ohm);
         events.push(Event {
             place: p,
             kind,
@@ -107,6 +108,7 @@ pub fn locate(
             rank: None,
             expected: false,
             expected_reflection_db: None,
+            evidence,
         });
     }
     warnings.extend(no_line_file(&chain));

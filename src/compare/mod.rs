@@ -3,7 +3,8 @@
 //!
 //! Submodules: [`chain`] (the line as the comparator sees it), [`analysis`] (one sweep: trace, noise, events,
 //! local reflections), [`align`] (per-segment delay scale and loss change from landmarks), [`detect`] (noise
-//! floor, sidelobe masks, ghosts), [`lumped`] (models of one discontinuity and their fit), [`severity`]
+//! floor, sidelobe masks, ghosts), [`lumped`] (models of one discontinuity and their fit), [`evidence`] (a finding's local
+//! reflection and its model's, for its plot), [`severity`]
 //! (mismatch loss, power drop, the severity scale), [`run`] (the procedure), [`report`] (the results).
 
 pub mod align;
@@ -12,6 +13,7 @@ pub mod anchor;
 pub mod chain;
 pub mod detect;
 pub mod difference;
+pub mod evidence;
 pub mod explain;
 pub mod far_end;
 pub mod from_line;

@@ -2,6 +2,7 @@
 //! docs/output.md; text tables are made from the same structs.
 
 use super::align::SegmentAlignment;
+pub use super::evidence::Evidence;
 use super::lumped::ModelType;
 use super::severity::Severity;
 use crate::Warning;
@@ -119,6 +120,9 @@ pub struct Finding {
     pub zone: &'static str,
     /// One plain sentence.
     pub explanation: String,
+    /// The local reflection at its place and its model's, for the evidence plot; not in the JSON.
+    #[serde(skip)]
+    pub evidence: Evidence,
 }
 
 /// The far end as the two sweeps saw it. JSON: `far_end` of the compare report.
@@ -170,6 +174,9 @@ pub struct Event {
     pub expected: bool,
     /// The nominal line's own echo at this place, dB (compensated as `reflection_db`), when it has one.
     pub expected_reflection_db: Option<f64>,
+    /// The local reflection at its place and its model's, for the evidence plot; not in the JSON.
+    #[serde(skip)]
+    pub evidence: Evidence,
 }
 
 /// An element reflection cannot see, and why.

@@ -368,6 +368,7 @@ pub fn explain_change(
         (fl[0], fl[fl.len() - 1]),
     );
     let (drop_c, ml) = costs(best, &fl, &gl, chain.impedance_ohm, f_ref);
+    let evidence = Evidence::new(&fl, &gl, &model, chain.impedance_ohm);
     // With no model, the echo's strength as the trace shows it: the same measure the baseline's level is.
     let drop_c = if best.is_none() {
         mismatch_loss_db(ch.mag_c.min(0.999))
@@ -511,6 +512,7 @@ pub fn explain_change(
             }
         },
         explanation,
+        evidence,
     })
 }
 

@@ -10,6 +10,7 @@
 //!
 //! Conventions: distances as-built metres, reflections and changes dB, as in the JSON (docs/output.md).
 
+use super::evidence::{compare_evidence, locate_evidence, EvidenceFigure};
 use super::plot::render_svg;
 use super::views::{compare_figure, file_name, locate_figure};
 use super::ReportError;
@@ -108,6 +109,7 @@ th { background: #eee; } td.num { text-align: right; white-space: nowrap; }
 tr.major td, tr.critical td { font-weight: bold; }
 figure { margin: 0.6em 0; break-inside: avoid; page-break-inside: avoid; }
 figure svg { width: 100%; height: auto; }
+figure.evidence, figure.trend { display: inline-block; width: 48%; vertical-align: top; }
 figcaption { font-size: 9.5pt; color: #333; }
 code { font-size: 9pt; word-break: break-all; }
 @page { margin: 15mm; }
@@ -133,11 +135,27 @@ pub(crate) fn section(out: &mut String, id: &str, heading: &str, body: &str) {
 }
 
 /// A figure, drawn as SVG, with its caption.
-fn figure_html(svg: &str, caption: &str) -> String {
+pub(crate) fn figure_html(svg: &str, caption: &str) -> String {
     format!(
         "<figure>\n{svg}\n<figcaption>{}</figcaption>\n</figure>\n",
         escape(caption)
     )
+}
+
+/// The evidence figures, each a `<figure class="evidence">`: the local reflection at the finding against
+/// frequency and its fitted model.
+fn evidence_html(figs: &[EvidenceFigure]) -> Result<String, ReportError> {
+    let mut s = String::new();
+    for e in figs {
+        let _ = writeln!(
+            s,
+            "<figure class=\"evidence\">\n{}\n<figcaption>{}: its reflection gated at its place and moved \
+             there, against frequency, with the lumped model fitted to it.</figcaption>\n</figure>",
+            render_svg(&e.figure)?,
+            escape(&e.label)
+        );
+    }
+    Ok(s)
 }
 
 /// The line as built: one row per element reflection can see, with its place and cold temperatures.
@@ -355,7 +373,8 @@ pub fn compare_html(
         &svg,
         "Baseline and current after alignment (top), current less baseline (middle), the line as built \
          (bottom); findings above info marked by rank, element and kind.",
-    ) + &line_diagram(line);
+    ) + &evidence_html(&compare_evidence(r))?
+        + &line_diagram(line);
     section(&mut body, "plots", "Plots and the line", &plots);
     section(
         &mut body,
@@ -453,7 +472,8 @@ pub fn locate_html(
     let plots = figure_html(
         &svg,
         "The sweep along the line, its events marked by element and kind, the line as built under the axis.",
-    ) + &line_diagram(line);
+    ) + &evidence_html(&locate_evidence(r))?
+        + &line_diagram(line);
     section(&mut body, "plots", "Plots and the line", &plots);
     section(
         &mut body,
