@@ -169,6 +169,25 @@ fn record_list_show_baseline_trend_export() {
     );
     assert_eq!(o.status.code(), Some(1));
     assert!(std::fs::read_to_string(&plot).unwrap().contains("<svg"));
+    // One connector: its own figure, with the trend line and the severity levels.
+    let one = dir.path().join("trend-j2.svg");
+    let o = run(
+        &db,
+        &[
+            "history",
+            "trend",
+            LINE,
+            "--element",
+            "J2",
+            "--plot",
+            one.to_str().unwrap(),
+        ],
+    );
+    assert_eq!(o.status.code(), Some(1));
+    let svg = std::fs::read_to_string(&one).unwrap();
+    for label in ["J2", "dB per cooldown", "critical from", "major from"] {
+        assert!(svg.contains(label), "{label} missing from the single-connector figure");
+    }
     let o = run(&db, &["history", "trend", LINE, "--element", "J9"]);
     assert_eq!(o.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&o.stderr).contains("J2"));

@@ -315,25 +315,37 @@ fn trend(a: TrendArgs) -> coldtrace::Result<u8> {
         &TrendRule::default(),
     )?;
     if let Some(p) = &a.plot {
-        let mut fig = Figure::new(
-            format!(
-                "{}: connector reflections, {} records",
-                report.line, report.state
+        // One connector (`--element`): its own figure, with the trend line the rule judged and the severity
+        // levels; several: each connector's reflection on one figure.
+        let fig = match report.landmarks.as_slice() {
+            [l] => coldtrace::report::history::landmark_figure(
+                &report.line,
+                &report.state.to_string(),
+                l,
             ),
-            "cooldown (record, oldest first)",
-            "reflection (dB, compensated)",
-        );
-        for l in &report.landmarks {
-            fig.series.push(Series {
-                name: if l.verdict.warning {
-                    format!("{} (climbing)", l.element)
-                } else {
-                    l.element.clone()
-                },
-                x: (0..l.values_db.len()).map(|i| i as f64).collect(),
-                y: l.values_db.clone(),
-            });
-        }
+            all => {
+                let mut fig = Figure::new(
+                    format!(
+                        "{}: connector reflections, {} records",
+                        report.line, report.state
+                    ),
+                    "cooldown (record, oldest first)",
+                    "reflection (dB, compensated)",
+                );
+                for l in all {
+                    fig.series.push(Series {
+                        name: if l.verdict.warning {
+                            format!("{} (climbing)", l.element)
+                        } else {
+                            l.element.clone()
+                        },
+                        x: (0..l.values_db.len()).map(|i| i as f64).collect(),
+                        y: l.values_db.clone(),
+                    });
+                }
+                fig
+            }
+        };
         write_plot(p, &fig, a.force, &[store.location()])?;
     }
     if a.common.json {
