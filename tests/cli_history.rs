@@ -186,7 +186,10 @@ fn record_list_show_baseline_trend_export() {
     assert_eq!(o.status.code(), Some(1));
     let svg = std::fs::read_to_string(&one).unwrap();
     for label in ["J2", "dB per cooldown", "critical from", "major from"] {
-        assert!(svg.contains(label), "{label} missing from the single-connector figure");
+        assert!(
+            svg.contains(label),
+            "{label} missing from the single-connector figure"
+        );
     }
     let o = run(&db, &["history", "trend", LINE, "--element", "J9"]);
     assert_eq!(o.status.code(), Some(2));
