@@ -318,11 +318,7 @@ fn trend(a: TrendArgs) -> coldtrace::Result<u8> {
         // One connector (`--element`): its own figure, with the trend line the rule judged and the severity
         // levels; several: each connector's reflection on one figure.
         let fig = match report.landmarks.as_slice() {
-            [l] => coldtrace::report::history::landmark_figure(
-                &report.line,
-                &report.state.to_string(),
-                l,
-            ),
+            [l] => coldtrace::report::history::landmark_figure(&report.line, report.state, l),
             all => {
                 let mut fig = Figure::new(
                     format!(
