@@ -5,9 +5,7 @@
 //!
 //! Conventions as in `html.rs`: distances as-built metres, levels dB.
 
-use super::html::{
-    cautions_html, escape, inputs_html, page, section, sha256_of, InputFile, RunContext,
-};
+use super::html::{escape, finish_page, section, sha256_of, InputFile, RunContext};
 use crate::compare::Severity;
 use crate::survey::{SurveyItem, SurveyReport};
 use std::fmt::Write;
@@ -160,18 +158,5 @@ pub fn survey_html(r: &SurveyReport, ctx: &RunContext) -> String {
         "<p>Each line's own elements that reflection cannot see are listed by \
          <code>coldtrace compare --report</code> on that line.</p>\n",
     );
-    section(
-        &mut body,
-        "not-visible",
-        "What was not visible, and why",
-        &nv,
-    );
-    section(
-        &mut body,
-        "inputs",
-        "Inputs, version and settings",
-        &inputs_html(ctx),
-    );
-    section(&mut body, "cautions", "Cautions", &cautions_html());
-    page(title, &body)
+    finish_page(title, body, &nv, ctx)
 }

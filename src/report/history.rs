@@ -9,9 +9,7 @@
 //! Conventions: reflections 20 log10 |rho|, dB, compensated as stored; cooldowns counted 1, 2, ... oldest
 //! first among the records of one state; times RFC 3339 UTC as stored.
 
-use super::html::{
-    cautions_html, escape, figure_html, inputs_html, page, section, InputFile, RunContext,
-};
+use super::html::{escape, figure_html, finish_page, section, InputFile, RunContext};
 use super::plot::{render_svg, Figure, Series};
 use super::ReportError;
 use crate::compare::Severity;
@@ -314,20 +312,12 @@ pub fn history_html(
         "Each connector across cooldowns",
         &plots,
     );
-    section(
-        &mut body,
-        "not-visible",
-        "What was not visible, and why",
+    Ok(finish_page(
+        &title,
+        body,
         &not_seen_html(records, trends),
-    );
-    section(
-        &mut body,
-        "inputs",
-        "Inputs, version and settings",
-        &inputs_html(ctx),
-    );
-    section(&mut body, "cautions", "Cautions", &cautions_html());
-    Ok(page(&title, &body))
+        ctx,
+    ))
 }
 
 #[cfg(test)]

@@ -126,6 +126,30 @@ pub(crate) fn page(title: &str, sections: &str) -> String {
     )
 }
 
+/// The last three sections every report ends with (what was not visible, the inputs and settings, the
+/// cautions), and the page around all of them.
+pub(crate) fn finish_page(
+    title: &str,
+    mut body: String,
+    not_visible: &str,
+    ctx: &RunContext,
+) -> String {
+    section(
+        &mut body,
+        "not-visible",
+        "What was not visible, and why",
+        not_visible,
+    );
+    section(
+        &mut body,
+        "inputs",
+        "Inputs, version and settings",
+        &inputs_html(ctx),
+    );
+    section(&mut body, "cautions", "Cautions", &cautions_html());
+    page(title, &body)
+}
+
 pub(crate) fn section(out: &mut String, id: &str, heading: &str, body: &str) {
     let _ = write!(
         out,
@@ -376,20 +400,12 @@ pub fn compare_html(
     ) + &evidence_html(&compare_evidence(r))?
         + &line_diagram(line);
     section(&mut body, "plots", "Plots and the line", &plots);
-    section(
-        &mut body,
-        "not-visible",
-        "What was not visible, and why",
+    Ok(finish_page(
+        &title,
+        body,
         &not_visible_html(&r.not_visible, &r.warnings),
-    );
-    section(
-        &mut body,
-        "inputs",
-        "Inputs, version and settings",
-        &inputs_html(ctx),
-    );
-    section(&mut body, "cautions", "Cautions", &cautions_html());
-    Ok(page(&title, &body))
+        ctx,
+    ))
 }
 
 /// The summary sentence of a single sweep's reading.
@@ -475,20 +491,12 @@ pub fn locate_html(
     ) + &evidence_html(&locate_evidence(r))?
         + &line_diagram(line);
     section(&mut body, "plots", "Plots and the line", &plots);
-    section(
-        &mut body,
-        "not-visible",
-        "What was not visible, and why",
+    Ok(finish_page(
+        &title,
+        body,
         &not_visible_html(&r.not_visible, &r.warnings),
-    );
-    section(
-        &mut body,
-        "inputs",
-        "Inputs, version and settings",
-        &inputs_html(ctx),
-    );
-    section(&mut body, "cautions", "Cautions", &cautions_html());
-    Ok(page(&title, &body))
+        ctx,
+    ))
 }
 
 #[cfg(test)]
