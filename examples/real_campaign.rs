@@ -1,4 +1,4 @@
-//! The comparator on a whole real campaign: every pair the three checks of `tests/common/real_campaign.rs`
+//! The comparator on a whole real campaign: every pair the four checks of `tests/common/real_campaign.rs`
 //! apply to, as Markdown tables (one per check, with a summary first).
 //!
 //! ```sh
@@ -17,6 +17,8 @@
 //! - far end: at each temperature, the switch-board standards of one cooldown against each other, and one
 //!   port's six standards against each other (the README counts one port's standards against each other among
 //!   the terminations that differ only at the far end);
+//! - repeat: at each temperature, each switch-board standard of one cooldown against the same standard of
+//!   the next cooldown (A -> B, ..., E -> F);
 //! - air line: at each temperature, each port's offset shorts `MOS2`..`MOS5` against its flush short `MOS1`,
 //!   compared both ways.
 //!
@@ -222,6 +224,7 @@ impl Tally {
 struct Pairs {
     cooldown: Vec<(Key, Key)>,
     far_end: Vec<(Key, Key)>,
+    repeat: Vec<(Key, Key)>,
     air_line: Vec<(Key, Key, f64)>,
 }
 
@@ -231,6 +234,7 @@ impl Pairs {
         let hit = |k: &Key| format!("{}/{}", k.0, k.1).contains(only);
         self.cooldown.retain(|(b, c)| hit(b) || hit(c));
         self.far_end.retain(|(b, c)| hit(b) || hit(c));
+        self.repeat.retain(|(b, c)| hit(b) || hit(c));
         self.air_line.retain(|(b, c, _)| hit(b) || hit(c));
         self
     }
@@ -243,10 +247,19 @@ fn pairs(warm: &[String], cold: &[String]) -> Pairs {
         .map(|n| (("295k", n.clone()), ("3k", n.clone())))
         .collect();
     let mut far_end = Vec::new();
+    let mut repeat = Vec::new();
     let mut air_line = Vec::new();
     for (t, names) in TEMPERATURES.iter().zip([warm, cold]) {
         let has = |n: &str| names.iter().any(|x| x == n);
         let key = |n: &str| (*t, n.to_string());
+        for s in ["open", "short", "load"] {
+            for (x, y) in ('A'..='E').zip('B'..='F') {
+                let (b, c) = (format!("ecal_{s}_{x}"), format!("ecal_{s}_{y}"));
+                if has(&b) && has(&c) {
+                    repeat.push((key(&b), key(&c)));
+                }
+            }
+        }
         for x in 'A'..='F' {
             let group: Vec<String> = ["open", "short", "load"]
                 .iter()
@@ -280,7 +293,38 @@ fn pairs(warm: &[String], cold: &[String]) -> Pairs {
     Pairs {
         cooldown,
         far_end,
+        repeat,
         air_line,
+    }
+}
+
+/// One row of a check that asks a healthy pair for quiet: `lead` (the pair's own cells), the result, the
+/// states, the worst finding above info, the electrical length change and why it failed.
+fn quiet_row(
+    camp: &mut Campaign,
+    b: &Key,
+    c: &Key,
+    lead: &str,
+    check: fn(&CompareReport) -> Result<(), String>,
+    t: &mut Tally,
+) -> String {
+    match camp.report(b, c) {
+        Ok(r) => {
+            let ok = check(r);
+            t.add(ok.is_ok(), false);
+            format!(
+                "| {lead} | {} | {} | {} | {} | {} |",
+                pass(&ok),
+                checks::states(r),
+                worst(r),
+                length_change(r),
+                cell(ok.err().as_deref().unwrap_or(""))
+            )
+        }
+        Err(e) => {
+            t.add(false, true);
+            format!("| {lead} | **FAIL** | | | | {} |", cell(&e))
+        }
     }
 }
 
@@ -291,7 +335,11 @@ fn run(args: &Args) -> Result<(String, bool, Vec<PathBuf>), String> {
     if let Some(only) = &args.only {
         pairs = pairs.keep(only);
     }
-    if pairs.cooldown.is_empty() && pairs.far_end.is_empty() && pairs.air_line.is_empty() {
+    if pairs.cooldown.is_empty()
+        && pairs.far_end.is_empty()
+        && pairs.repeat.is_empty()
+        && pairs.air_line.is_empty()
+    {
         return Err(format!(
             "{}: no pair of sweeps found (expected 295k/ and 3k/ with .s1p files)",
             args.dir.display()
@@ -305,7 +353,10 @@ fn run(args: &Args) -> Result<(String, bool, Vec<PathBuf>), String> {
         inputs: Vec::new(),
         done: 0,
         // The air-line pairs are far-end pairs already; their reverse is new.
-        total: pairs.cooldown.len() + pairs.far_end.len() + pairs.air_line.len(),
+        total: pairs.cooldown.len()
+            + pairs.far_end.len()
+            + pairs.repeat.len()
+            + pairs.air_line.len(),
         started: Instant::now(),
     };
     let name = |k: &Key| format!("`{}`", k.1);
@@ -318,25 +369,7 @@ fn run(args: &Args) -> Result<(String, bool, Vec<PathBuf>), String> {
          |---|---|---|---|---|---|\n",
     );
     for (b, c) in &pairs.cooldown {
-        let row = match camp.report(b, c) {
-            Ok(r) => {
-                let ok = checks::check_cooldown(r);
-                ta.add(ok.is_ok(), false);
-                format!(
-                    "| {} | {} | {} | {} | {} | {} |",
-                    name(b),
-                    pass(&ok),
-                    checks::states(r),
-                    worst(r),
-                    length_change(r),
-                    cell(ok.err().as_deref().unwrap_or(""))
-                )
-            }
-            Err(e) => {
-                ta.add(false, true);
-                format!("| {} | **FAIL** | | | | {} |", name(b), cell(&e))
-            }
-        };
+        let row = quiet_row(&mut camp, b, c, &name(b), checks::check_cooldown, &mut ta);
         a.push_str(&row);
         a.push('\n');
     }
@@ -402,6 +435,20 @@ fn run(args: &Args) -> Result<(String, bool, Vec<PathBuf>), String> {
         };
         bt.push_str(&row);
         bt.push('\n');
+    }
+
+    // (d) Repeat.
+    let mut dt = String::new();
+    let mut td = Tally::default();
+    dt.push_str(
+        "| temperature | baseline | current | result | states | worst finding above info | electrical length \
+         change | why |\n|---|---|---|---|---|---|---|---|\n",
+    );
+    for (b, c) in &pairs.repeat {
+        let lead = format!("{} | {} | {}", b.0, name(b), name(c));
+        let row = quiet_row(&mut camp, b, c, &lead, checks::check_repeat, &mut td);
+        dt.push_str(&row);
+        dt.push('\n');
     }
 
     // (c) Air line: each pair both ways (flush -> offset and offset -> flush).
@@ -507,6 +554,10 @@ fn run(args: &Args) -> Result<(String, bool, Vec<PathBuf>), String> {
             "(c) offset shorts: the comparator moves the far end by the air line, within 1 mm",
             &tc,
         ),
+        (
+            "(d) repeats across a thermal cycle: no finding above info, one state left open",
+            &td,
+        ),
     ] {
         let _ = writeln!(
             md,
@@ -532,7 +583,16 @@ fn run(args: &Args) -> Result<(String, bool, Vec<PathBuf>), String> {
          line, **(off)** marks the others).\n\n{ct}",
         pairs.air_line.len()
     );
-    let all_pass = ta.passed == ta.pairs && tb.passed == tb.pairs && tc.passed == tc.pairs;
+    let _ = writeln!(
+        md,
+        "## (d) One switch-board standard in consecutive cooldowns\n\nThe standard is built into the switch \
+         board and never re-mated; between the two sweeps the line was warmed up, cooled down again and its \
+         switch actuated.\n\n{dt}"
+    );
+    let all_pass = ta.passed == ta.pairs
+        && tb.passed == tb.pairs
+        && tc.passed == tc.pairs
+        && td.passed == td.pairs;
     Ok((md, all_pass, camp.inputs))
 }
 

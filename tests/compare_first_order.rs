@@ -33,6 +33,8 @@ fn sweep(parts: &[(f64, ModelType, f64)], scale_after: Option<(f64, f64)>) -> Ne
     Network::one_port(freqs, s11, 50.0)
 }
 
+use coldtrace::compare::states::Hypothesis;
+
 fn states() -> StateReport {
     StateReport::given(coldtrace::line::State::Warm, coldtrace::line::State::Cold)
 }
@@ -67,6 +69,7 @@ fn pin_gap_at_a_mid_line_joint_is_found_and_explained() {
         },
         &chain,
         &AnalysisConfig::default(),
+        Hypothesis::WarmCold,
         states(),
     )
     .unwrap();
@@ -123,6 +126,7 @@ fn compare_one_state(base: &Network, cur: &Network) -> coldtrace::compare::Compa
         },
         &chain,
         &AnalysisConfig::default(),
+        Hypothesis::ColdCold,
         StateReport::given(coldtrace::line::State::Cold, coldtrace::line::State::Cold),
     )
     .unwrap()
@@ -262,6 +266,7 @@ fn far_end_moved_by_an_air_line_reads_its_delay() {
                 },
                 &chain,
                 &AnalysisConfig::default(),
+                Hypothesis::of(b_state, c_state),
                 StateReport::given(b_state, c_state),
             )
             .unwrap();

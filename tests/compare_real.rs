@@ -29,6 +29,7 @@ fn run(b: &str, c: &str, sb: &'static str, sc: &'static str) -> CompareReport {
         },
         &chain,
         &AnalysisConfig::default(),
+        coldtrace::compare::states::Hypothesis::of(sb.parse().unwrap(), sc.parse().unwrap()),
         StateReport::given(sb.parse().unwrap(), sc.parse().unwrap()),
     )
     .unwrap()

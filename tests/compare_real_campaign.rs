@@ -7,7 +7,9 @@
 //! - two terminations of one cooldown differ only at the far end: the rank-1 change and every finding above
 //!   info lie there;
 //! - an offset short against the flush short of the same port moves the far end by its air line (5, 10.8, 18
-//!   and 30 mm, at c0), within 1 mm.
+//!   and 30 mm, at c0), within 1 mm;
+//! - one switch-board standard (never re-mated) in two cooldowns, at one temperature, is a healthy repeat
+//!   across a thermal cycle: no finding above info, one state for both sweeps left open.
 //!
 //! The checks themselves are in tests/common/real_campaign.rs, shared with `examples/real_campaign.rs`, which
 //! runs them over the whole campaign. Which files count as "one cooldown": the switch-board standards of one
@@ -87,6 +89,31 @@ fn warm_to_cold_of_one_file_is_a_healthy_cooldown_inferred_warm_to_cold() {
     assert_all(
         "warm -> cold (no finding above info, inferred warm -> cold)",
         BOTH_TEMPERATURES.len(),
+        &failures,
+    );
+}
+
+#[test]
+fn one_switch_board_standard_in_two_cooldowns_is_a_healthy_repeat() {
+    let mut failures = Vec::new();
+    for t in ["295k", "3k"] {
+        let pair = format!(
+            "{} -> {}",
+            label(t, "ecal_short_A"),
+            label(t, "ecal_short_B")
+        );
+        match compare((t, "ecal_short_A"), (t, "ecal_short_B")) {
+            Ok(r) => {
+                if let Err(e) = checks::check_repeat(&r) {
+                    failures.push(format!("{pair}: {e}"));
+                }
+            }
+            Err(e) => failures.push(format!("{pair}: {e}")),
+        }
+    }
+    assert_all(
+        "repeats across a thermal cycle (no finding above info, one state left open)",
+        2,
         &failures,
     );
 }

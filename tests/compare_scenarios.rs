@@ -43,6 +43,16 @@ fn report(what: &str, bad: &[String]) {
     );
 }
 
+/// The fault's element is ranked first, states given or inferred as `given` says.
+fn assert_right_first(e: &Evaluated, given: bool) {
+    assert_eq!(
+        e.right_element(given),
+        Some(true),
+        "{}",
+        case_line(e, given)
+    );
+}
+
 fn case_line(e: &Evaluated, given: bool) -> String {
     format!(
         "  {}:{} [{}]: {}",
@@ -164,12 +174,7 @@ fn faults_over_the_noise_are_ranked_first_at_their_element_as_often_as_before() 
 fn a_lossy_joint_at_an_open_far_end_is_found_not_put_down_to_loss() {
     let e = scenario::score::evaluate(1_500_115, Case::Fault);
     for given in [true, false] {
-        assert_eq!(
-            e.right_element(given),
-            Some(true),
-            "{}",
-            case_line(&e, given)
-        );
+        assert_right_first(&e, given);
     }
     assert!(
         e.given
@@ -186,6 +191,72 @@ fn a_lossy_joint_at_an_open_far_end_is_found_not_put_down_to_loss() {
     );
 }
 
+/// A pin gap of 5 fF at J3, right behind an 18 dB attenuator (seed 1500189): the gap now reflects nearly all
+/// (+9 dB where the baseline showed J3 and the attenuator), and the open far end vanished (-56 dB). Behind
+/// the capped compensation the rise alone lay within the interval the model's loss error leaves (a
+/// component's 6 dB, widened), so nothing above info was found. A far end does not vanish by itself: the
+/// echo in front of it that rose the most is what blocks the line now, and it is found at J3, critical.
+#[test]
+fn a_far_end_that_vanished_is_put_down_to_the_echo_that_now_blocks_the_line() {
+    let e = scenario::score::evaluate(1_500_189, Case::Fault);
+    for given in [true, false] {
+        assert_right_first(&e, given);
+        assert!(
+            e.run(given)
+                .alarms
+                .iter()
+                .any(|a| a.2 == coldtrace::compare::Severity::Critical),
+            "{}",
+            case_line(&e, given)
+        );
+    }
+}
+
+/// A contact of 1.4 ohm at J4 of a cold -> cold repeat (seed 1500193), one resolution cell in front of the
+/// stronger echo of a 0 dB attenuator and J5: it forms no peak of its own, and J5's echo, read at its peak,
+/// barely moved. Judged at J4's own place (a joint probe, in one state only), its response changed by far
+/// more than counts as a change: the finding is at J4, with the states given and inferred (all four left
+/// open; kept at info, as it is not a change under the states it could also be).
+#[test]
+fn in_one_state_a_contact_beside_a_stronger_echo_is_found_at_its_own_joint() {
+    let e = scenario::score::evaluate(1_500_193, Case::Fault);
+    for given in [true, false] {
+        assert_right_first(&e, given);
+    }
+}
+
+/// Healthy cooldowns found out of sample (seeds 11000154, 11000382, 11000076 of `--seed 11`; 7000102 of
+/// `--seed 7`; 11000497 and 1000170 of `--seed 11` and `--seed 1`). Each once raised a finding above info:
+/// - 11000154, 11000382, 11000076: the delay scale rested on one echo down the line (a connector either
+///   side of an attenuator), which read -0.3 % to -1 % and settled the states as a warm-up at 6 to 39 sigma;
+///   one echo that nothing checks is now known to a quarter of a cell, and the states stay open;
+/// - 7000102: the cold dielectric changed twice as much as the model's (+1.3 %), past the bounds the
+///   alignment allowed a segment, so the far echoes were misplaced by 37 mm and an attenuator's echo read as
+///   a crush;
+/// - 11000497: a matched far end whose echo rose from -56 dB to -37 dB on cooling (the cold cable's
+///   impedance a few per cent under the load's), read as an impedance step costing the worse plausible
+///   cost of a contact;
+/// - 1000170: with the states left open, every hypothesis was judged by the states of the one chosen
+///   (cold -> cold), so a cooldown's changes were held to one state's thresholds.
+#[test]
+fn healthy_cooldowns_found_out_of_sample_raise_nothing_above_info() {
+    let mut bad = Vec::new();
+    for seed in [
+        11_000_154, 11_000_382, 11_000_076, 7_000_102, 11_000_497, 1_000_170,
+    ] {
+        let e = scenario::score::evaluate(seed, Case::Healthy);
+        for given in [false, true] {
+            if e.false_alarm(given) {
+                bad.push(case_line(&e, given));
+            }
+        }
+        if !e.inferred.open.iter().any(|h| h == "warm->cold") {
+            bad.push(case_line(&e, false));
+        }
+    }
+    report("healthy cooldowns with a finding above info", &bad);
+}
+
 /// A contact of 0.63 ohm at J3 of a cold -> cold repeat (seed 1500119): it turns J3's echo (a 7.8 fF joint,
 /// 60 dB over the noise) by 21 degrees and 0.45 dB, a relative complex change of 0.37, under the 0.41 that
 /// counts as a change. It costs nothing yet (info), but it is reported, and ranked first, rather than lost.
@@ -193,12 +264,7 @@ fn a_lossy_joint_at_an_open_far_end_is_found_not_put_down_to_loss() {
 fn a_small_change_of_a_strong_joint_in_one_state_is_reported_at_info() {
     let e = scenario::score::evaluate(1_500_119, Case::Fault);
     for given in [true, false] {
-        assert_eq!(
-            e.right_element(given),
-            Some(true),
-            "{}",
-            case_line(&e, given)
-        );
+        assert_right_first(&e, given);
         assert!(e.run(given).alarms.is_empty(), "{}", case_line(&e, given));
     }
 }
@@ -210,12 +276,7 @@ fn a_small_change_of_a_strong_joint_in_one_state_is_reported_at_info() {
 fn nothing_behind_a_pin_gap_that_reflects_as_an_open_is_claimed() {
     let e = scenario::score::evaluate(1_500_144, Case::Fault);
     for given in [true, false] {
-        assert_eq!(
-            e.right_element(given),
-            Some(true),
-            "{}",
-            case_line(&e, given)
-        );
+        assert_right_first(&e, given);
         assert_eq!(e.run(given).alarms.len(), 1, "{}", case_line(&e, given));
     }
 }
@@ -360,6 +421,39 @@ fn every_fault_kind_and_several_bands_are_generated() {
     assert!(bands.len() >= 4, "{bands:?}");
 }
 
+/// The level as the port sees it against the lumped estimate, on a fault in the open with nothing beside it:
+/// a crush inside a cable of a line without attenuators and with under 10 dB of round-trip loss in front of
+/// it (the seeds below), where the two measures share
+/// their physics (the same reflection, the same round-trip loss) and must agree within what the lumped
+/// estimate leaves out (the perturbed surface resistance, the crush's own length against the window's main
+/// lobe, the connectors' mismatches): a few dB.
+#[test]
+fn fault_level_as_the_port_sees_it_agrees_with_the_lumped_estimate_in_the_open() {
+    let mut checked = 0;
+    for seed in 0..400u64 {
+        let s = Scenario::generate(seed, Case::Fault);
+        let f = s.fault.clone().unwrap();
+        let plain = !s
+            .nominal
+            .elements
+            .iter()
+            .any(|e| matches!(e.kind, coldtrace::line::ElementKind::Attenuator { .. }));
+        // Little loss in front of it: the surface resistance the truth perturbs by up to 30 % moves a
+        // 10 dB round trip by 3 dB at most.
+        if f.kind != scenario::TrueKind::Crush || !plain || f.loss_db > 10.0 {
+            continue;
+        }
+        checked += 1;
+        assert!(
+            (f.level_db - f.lumped_level_db).abs() < 6.0,
+            "seed {seed}: seen {:.1} dB, lumped {:.1} dB",
+            f.level_db,
+            f.lumped_level_db
+        );
+    }
+    assert!(checked >= 5, "only {checked} crushes in plain lines");
+}
+
 #[test]
 fn fault_level_follows_the_noise_and_the_fault_size() {
     // The level is 20 log10(|rho| 10^(-loss/20) / noise_rms) (module documentation).
@@ -367,7 +461,7 @@ fn fault_level_follows_the_noise_and_the_fault_size() {
     let f = s.fault.clone().unwrap();
     let n0 = s.band.trace_noise_rms();
     let want = 20.0 * (f.local_rho * 10f64.powf(-f.loss_db / 20.0) / n0).log10();
-    assert!((f.level_db - want).abs() < 1e-9);
+    assert!((f.lumped_level_db - want).abs() < 1e-9);
     // Band-pass noise RMS of N points under a window: sigma sqrt(sum w^2) / sum w, which is sigma / sqrt(N)
     // for a flat window; any taper raises it (Cauchy-Schwarz), the Kaiser beta 9 by under a factor 2.
     let flat = 10f64.powf(s.band.noise_db / 20.0) / (s.band.points as f64).sqrt();

@@ -53,6 +53,7 @@ fn run(
         },
         &chain,
         &AnalysisConfig::default(),
+        coldtrace::compare::states::Hypothesis::of(b, c),
         StateReport::given(b, c),
     )
     .unwrap()

@@ -12,6 +12,7 @@ use super::detect::NOISE_SIGMAS;
 use super::far_end::{Termination, ALIAS_EDGE};
 use super::landmarks::{match_events, Fitted, AMPLITUDE_SIGMA_DB, MODEL_LOSS_ERROR};
 use super::sweep::db;
+use crate::line::Load;
 use crate::transform::TraceEngine;
 use num_complex::Complex64;
 
@@ -82,6 +83,20 @@ pub struct Change {
     /// [`AMPLITUDE_SIGMA_DB`], in quadrature) and [`CHANGE_DB`]: the termination's own joint changed. (An
     /// open or short reflects all; its echo moves with the line's loss, not with its joint's contraction.)
     pub far_level_db: Option<f64>,
+    /// True for the echo that now blocks the line: the baseline's far end vanished from the current sweep
+    /// (it fell by [`SHADOW_MAX_DB`] or more beyond what the calibration explains), and this echo in front of
+    /// it rose the most beyond its own calibration ([`blocker`]). It counts as a change under its own
+    /// threshold: the two together are one change, a joint that now reflects what used to reach the far end.
+    /// The far end's fall beyond its interval, dB (positive; a lower bound where it fell into the noise).
+    pub blocks_far_end: Option<f64>,
+    /// For a joint of the line file judged at its own place, both sweeps in one state ([`joint_probes`]):
+    /// its complex change over what counts as one (>= 1).
+    pub joint_change: Option<f64>,
+    /// True for an echo within a resolution cell of the line file's device that ends the visible line (a
+    /// load, an amplifier's input; not an open or short): a component's echo however weak it is (a cold
+    /// load's resistance and a cold cable's impedance both move, so a matched end's faint echo may rise by
+    /// tens of dB on cooling and still cost nothing).
+    pub at_device: bool,
 }
 
 /// Standard uncertainties by which a far end's echo must lie beyond the prediction of the landmarks in
@@ -120,6 +135,13 @@ pub const ACROSS_STATES_INTERVAL_DB: f64 = 1.0;
 /// 10 GHz (common practice, no source).
 pub const COMPONENT_REFLECTION: f64 = 0.1;
 
+/// Reflection a device at the end of the visible line (a load, an amplifier's input) may show in either
+/// state on its own, across a change of state: 0.03 (-30 dB), a 50 ohm load 6 % off (a chip resistor's
+/// temperature coefficient of 100-200 ppm/K over the 290 K of a cooldown) or a cold cable's impedance a
+/// few per cent under the load's (common practice, no source). Below it in both sweeps, the device's echo
+/// is reported at `info` at most across a change of state.
+pub const DEVICE_DRIFT_REFLECTION: f64 = 0.03;
+
 /// Strength change of a component's echo that counts as a change across a change of state, dB: a
 /// component's match moves by several dB on cooling (its semiconductors, ferrites and resonances move with
 /// temperature) where a joint's moves by a dB or two (common practice, no source). A component that failed
@@ -153,6 +175,8 @@ impl Change {
     /// calibration explains, or, both sweeps in one state, its phase turned by [`PHASE_CHANGE_DEG`] or more.
     pub fn changed(&self, same_state: bool) -> bool {
         self.far_level_db.is_some()
+            || self.blocks_far_end.is_some()
+            || (same_state && self.joint_change.is_some())
             || self.excess_db.abs() >= self.threshold_db(same_state)
             || self.complex_significance(same_state) >= 1.0
     }
@@ -176,7 +200,7 @@ impl Change {
     /// The strength change that counts as a change here: [`CHANGE_DB`], or across a change of state
     /// [`COMPONENT_CHANGE_DB`] for an echo the baseline already saw at [`COMPONENT_REFLECTION`] or more.
     pub fn threshold_db(&self, same_state: bool) -> f64 {
-        if !same_state && self.base.is_some() && self.base_level >= COMPONENT_REFLECTION {
+        if !same_state && self.base.is_some() && self.is_component() {
             COMPONENT_CHANGE_DB
         } else {
             CHANGE_DB
@@ -224,7 +248,7 @@ impl Change {
         // with it, turns the phase too.
         let sure =
             same_state || self.expected_db.1 - self.expected_db.0 <= ACROSS_STATES_INTERVAL_DB;
-        self.base.is_some() && self.base_level < COMPONENT_REFLECTION && self.snr > snr && sure
+        self.base.is_some() && !self.is_component() && self.snr > snr && sure
     }
 
     /// Whether, both sweeps in one state, a joint's echo (under [`COMPONENT_REFLECTION`]) that stands
@@ -237,6 +261,19 @@ impl Change {
             && self.base_level < COMPONENT_REFLECTION
             && self.snr >= NOTED_SNR
             && self.vector_change() >= NOTED_VECTOR_CHANGE
+    }
+
+    /// Whether, across a change of state, this is the device's own echo at the end of the visible line
+    /// and under [`DEVICE_DRIFT_REFLECTION`] in both sweeps: what the device's own cooling can make of it.
+    /// Such a change is reported at `info`, never above.
+    pub fn within_device_drift(&self, same_state: bool) -> bool {
+        !same_state && self.at_device && self.mag_c.max(self.base_level) < DEVICE_DRIFT_REFLECTION
+    }
+
+    /// Whether the baseline saw a component's echo here: one of [`COMPONENT_REFLECTION`] or more, or the
+    /// line file's device at the end of the visible line ([`Change::at_device`]).
+    pub fn is_component(&self) -> bool {
+        self.base_level >= COMPONENT_REFLECTION || self.at_device
     }
 
     /// Whether it may be reported above info at all.
@@ -267,6 +304,8 @@ pub struct Inputs<'a> {
     pub far: &'a FarEnds,
     /// Places of the joints the baseline showed, on which the chain was anchored, m.
     pub anchors_m: &'a [f64],
+    /// Both sweeps in one state (the hypothesis under which the changes are judged).
+    pub same_state: bool,
 }
 
 impl Inputs<'_> {
@@ -488,6 +527,9 @@ pub fn changes(inp: &Inputs) -> Vec<Change> {
             was_total: pair.is_some() && pair == term_pair && was_total,
             snr: c.snr(ec.magnitude, ec.delay_s),
             far_level_db: None,
+            blocks_far_end: None,
+            joint_change: None,
+            at_device: false,
         });
     }
     // Baseline echoes with no partner: the reflection there fell.
@@ -516,17 +558,30 @@ pub fn changes(inp: &Inputs) -> Vec<Change> {
             was_total: false,
             snr: c.snr(mag_c, d_c),
             far_level_db: None,
+            blocks_far_end: None,
+            joint_change: None,
+            at_device: false,
         });
     }
     let flanks = flank_changes(inp, &out);
     out.extend(flanks);
+    let probes = joint_probes(inp, &out);
+    out.extend(probes);
     out.sort_by(|p, q| p.x.total_cmp(&q.x));
+    // Where the line file's device (not an open or short) ends the visible line.
+    let device_end = inp
+        .chain
+        .first_blocking()
+        .filter(|_| inp.chain.as_built)
+        .filter(|&i| !matches!(inp.chain.segments[i].load, Some(Load::Open | Load::Short)))
+        .map(|i| inp.chain.segments[i].start_m);
     // Calibration and shadowing, front to back: a joint that got worse dims everything behind it.
     let mut shadow = (0.0f64, 0.0f64);
     let mut engine = TraceEngine::new();
     for ch in &mut out {
         let res_m = res_s * super::place::speed_at(&fit.chain, ch.x, Which::Current);
         ch.zone = inp.zone(ch.x, ch.d_c, res_m);
+        ch.at_device = device_end.is_some_and(|x_d| ch.x >= x_d - res_m);
         // Where compensation stopped at its cap, a sweep reads low by the loss it left undone.
         let cal = fit.expected_change_db(ch.x);
         // Where the caps' difference varies across the band, weigh it by the echo's own spectrum.
@@ -574,7 +629,181 @@ pub fn changes(inp: &Inputs) -> Vec<Change> {
             );
         }
     }
+    if let Some((k, fall)) = blocker(inp, &out) {
+        out[k].blocks_far_end = Some(fall);
+    }
     out
+}
+
+/// The echo that blocks the line now, by index in `changes` (in order of position), and the far end's fall
+/// beyond its interval, dB: when the baseline's far
+/// end is no termination of the current sweep and its echo fell by [`SHADOW_MAX_DB`] or more beyond the
+/// interval the calibration explains, the claimable echo in front of it (by more than a resolution cell)
+/// that reads at least [`COMPONENT_REFLECTION`] now and rose the most beyond its own interval, by at least
+/// [`CHANGE_DB`]. A far end does not vanish by itself: what it used to reflect now comes back from in front
+/// of it (a pin pulled back to an open, a joint cracked), so the rise in front and the fall behind are one
+/// change, whatever threshold the rise alone would have to pass (a component's, or one widened by a capped
+/// compensation).
+fn blocker(inp: &Inputs, changes: &[Change]) -> Option<(usize, f64)> {
+    let tb = inp.far.baseline.as_ref()?;
+    if inp.far.current.is_some() {
+        return None;
+    }
+    let res_s = inp.b.resolution_s.max(inp.c.resolution_s);
+    let x_end = inp.fit.chain.position_of(tb.delay_s, Which::Baseline, None);
+    let end = changes.iter().find(|ch| {
+        (ch.x - x_end).abs() < 1e-9 && ch.zone == Zone::Line && ch.excess_db <= -SHADOW_MAX_DB
+    })?;
+    let d_end = end.d_c - res_s;
+    changes
+        .iter()
+        .enumerate()
+        .filter(|(_, ch)| {
+            ch.d_c < d_end
+                && ch.claimable()
+                && ch.mag_c >= COMPONENT_REFLECTION
+                && ch.excess_db >= CHANGE_DB
+        })
+        .max_by(|p, q| p.1.excess_db.total_cmp(&q.1.excess_db))
+        .map(|(k, _)| (k, -end.excess_db))
+}
+
+/// Half-width of the window around a joint's mapped place in which, both sweeps in one state, its complex
+/// change is read ([`joint_probes`]), in resolution cells: the anchors and the alignment place a joint to a
+/// small fraction of a cell (common practice, no source).
+pub const JOINT_PROBE_CELLS: f64 = 0.5;
+
+/// Steps of that window on each side of the joint's place.
+const JOINT_PROBE_STEPS: i32 = 4;
+
+/// Both sweeps in one state, every connector of the line file judged at its own place as well as where
+/// echoes peak: a joint next to a stronger echo forms no peak of its own (a contact that opened beside an
+/// attenuator, or a connector a few millimetres from the next), so the pairing of echoes never judges it.
+///
+/// Within [`JOINT_PROBE_CELLS`] of the connector's place on the aligned map, the current response is set
+/// against the baseline's at the same place, scaled by the calibration. Where their difference stands
+/// [`NOISE_SIGMAS`] over both sweeps' noise, it is weighed against what the baseline's response itself is
+/// there plus what it moves by within the alignment's tolerance (a misalignment's residue): a relative
+/// complex change of [`VECTOR_CHANGE`] or more, at the step where it is largest, is a change, the same rule
+/// as a paired echo's in one state. Places within [`FLANK_CLEARANCE_CELLS`] of an echo already counted as a
+/// change are left to that echo. Across a change of state the two responses do not compare so closely
+/// (what the compensation leaves of the dispersion turns them), and nothing is probed.
+fn joint_probes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
+    if !inp.same_state || !inp.chain.as_built {
+        return Vec::new();
+    }
+    let (b, c, fit) = (inp.b, inp.c, inp.fit);
+    let res_s = b.resolution_s.max(c.resolution_s);
+    let alias = c.alias_free_s.min(b.alias_free_s);
+    let end = inp.chain.visible_end_m();
+    let mut out = Vec::new();
+    for seg in inp
+        .chain
+        .segments
+        .iter()
+        .filter(|s| s.kind == SegmentKind::Connector)
+    {
+        let x0 = 0.5 * (seg.start_m + seg.end_m);
+        if x0 > end {
+            continue;
+        }
+        let d0 = fit.chain.delay_to(x0, Which::Current, None);
+        if d0 >= ALIAS_EDGE * alias {
+            continue;
+        }
+        let shift = local_shift(inp, d0);
+        // The step where the two responses differ most: (|difference|, d_c, d_b, gain, current, baseline).
+        let mut best: Option<(f64, f64, f64, f64, Complex64, Complex64)> = None;
+        for k in -JOINT_PROBE_STEPS..=JOINT_PROBE_STEPS {
+            let d_c = d0 + res_s * JOINT_PROBE_CELLS * k as f64 / JOINT_PROBE_STEPS as f64;
+            let x = fit.chain.position_of(d_c, Which::Current, None);
+            let d_b = fit.chain.delay_to(x, Which::Baseline, None) - shift;
+            let g = 10f64.powf(fit.expected_change_db(x) / 20.0);
+            let (gc, gb) = (c.h(d_c), b.h(d_b) * g);
+            let diff = (gc - gb).norm();
+            let noise = NOISE_SIGMAS * c.sigma_at(d_c).hypot(g * b.sigma_at(d_b));
+            if diff >= noise && best.map_or(true, |p| diff > p.0) {
+                best = Some((diff, d_c, d_b, g, gc, gb));
+            }
+        }
+        let Some((diff, d_c, d_b, g, gc, gb)) = best else {
+            continue;
+        };
+        if have
+            .iter()
+            .any(|h| (h.d_c - d_c).abs() < FLANK_CLEARANCE_CELLS * res_s && h.changed(true))
+        {
+            continue;
+        }
+        let x = fit.chain.position_of(d_c, Which::Current, None);
+        let speed = super::place::speed_at(&fit.chain, x, Which::Current);
+        let tol = FLANK_TOLERANCE_CELLS * res_s + 2.0 * fit.report.residual_m / speed.max(1.0);
+        let moved = 0.5 * g * (b.h(d_b + tol) - b.h(d_b - tol)).norm();
+        let ratio = diff / (gb.norm() + moved) / VECTOR_CHANGE;
+        if ratio < 1.0 {
+            continue;
+        }
+        let level_b = gb.norm() / g;
+        out.push(Change {
+            x,
+            d_c,
+            mag_c: gc.norm(),
+            gamma_c: gc,
+            base: Some((level_b, gb / g)),
+            base_level: level_b,
+            raw_change_db: db(gc.norm()) - db(level_b),
+            expected_db: (0.0, 0.0),
+            excess_db: 0.0,
+            phase_deg: (gc / gb).arg().to_degrees(),
+            zone: Zone::Line,
+            ghost: false,
+            same_termination: false,
+            was_total: false,
+            snr: c.snr(gc.norm(), d_c),
+            far_level_db: None,
+            blocks_far_end: None,
+            joint_change: Some(ratio),
+            at_device: false,
+        });
+    }
+    out
+}
+
+/// Reach of the registration of a joint probe on its neighbouring echo, in resolution cells: the strongest
+/// baseline echo within it of the joint's place registers the two sweeps there.
+pub const PROBE_REGISTRATION_CELLS: f64 = 2.0;
+
+/// How much later, round trip, the current sweep shows an echo near current delay `d_c` than the aligned map
+/// puts it, s: the strongest baseline echo within [`PROBE_REGISTRATION_CELLS`] of `d_c` on the map, against
+/// the current echo nearest its mapped place (within [`PAIR_CLEAR_CELLS`] of a cell); 0 when there is none.
+/// The alignment places landmarks to a small fraction of a cell, but between them, near the far end or
+/// beside a component, the map may be off by more than a complex comparison bears (a tenth of a cell turns
+/// a response by some 30 degrees at the band centre).
+fn local_shift(inp: &Inputs, d_c: f64) -> f64 {
+    let (b, c, fit) = (inp.b, inp.c, inp.fit);
+    let res_s = b.resolution_s.max(c.resolution_s);
+    let to_c = |d_b: f64| {
+        fit.chain.delay_to(
+            fit.chain.position_of(d_b, Which::Baseline, None),
+            Which::Current,
+            None,
+        )
+    };
+    let Some(eb) = b
+        .events
+        .iter()
+        .filter(|e| (to_c(e.delay_s) - d_c).abs() <= PROBE_REGISTRATION_CELLS * res_s)
+        .max_by(|p, q| p.magnitude.total_cmp(&q.magnitude))
+    else {
+        return 0.0;
+    };
+    let mapped = to_c(eb.delay_s);
+    c.events
+        .iter()
+        .map(|e| e.delay_s - mapped)
+        .filter(|d| d.abs() <= PAIR_CLEAR_CELLS * res_s)
+        .min_by(|p, q| p.abs().total_cmp(&q.abs()))
+        .unwrap_or(0.0)
 }
 
 /// How far `v` lies outside `[lo, hi]`, signed (0 inside).
@@ -769,6 +998,9 @@ fn flank_changes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
             was_total: false,
             snr: c.snr(c.mag[i], d_c),
             far_level_db: None,
+            blocks_far_end: None,
+            joint_change: None,
+            at_device: false,
         });
     }
     out
@@ -797,6 +1029,9 @@ mod tests {
             was_total: false,
             snr,
             far_level_db: None,
+            blocks_far_end: None,
+            joint_change: None,
+            at_device: false,
         }
     }
 

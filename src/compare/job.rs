@@ -371,6 +371,7 @@ pub fn compare_networks(req: &PairRequest) -> Result<CompareReport> {
             },
             &chain,
             req.analysis,
+            h,
             states,
         )?)
     };

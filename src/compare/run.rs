@@ -34,7 +34,6 @@ use super::states::Hypothesis;
 use super::sweep::{analyse, band_centre, db, no_line_file, sized};
 pub use super::sweep::{AnalysisConfig, Sweep};
 use super::CompareError;
-use crate::line::State;
 use crate::transform::TraceEngine;
 use crate::{Network, Warning};
 
@@ -150,9 +149,10 @@ pub fn analyse_pair(
     })
 }
 
-/// Bounds of each segment's delay scale under hypothesis `h`.
+/// Bounds of each segment's delay scale under hypothesis `h` (across a change of state,
+/// [`ALIGNMENT_WARM_TO_COLD_CHANGE`]).
 pub fn scale_bounds(h: Hypothesis) -> (f64, f64) {
-    let (lo, hi) = WARM_TO_COLD_CHANGE;
+    let (lo, hi) = ALIGNMENT_WARM_TO_COLD_CHANGE;
     match h {
         Hypothesis::WarmCold => (1.0 + lo, 1.0 + hi),
         Hypothesis::ColdWarm => (1.0 / (1.0 + hi), 1.0 / (1.0 + lo)),
@@ -426,6 +426,13 @@ pub fn explain_change(
             kind = FaultKind::Unknown;
         }
     }
+    if let Some(fall) = ch.blocks_far_end {
+        // What the far end lost behind it went through this joint twice: one pass lost at least half of
+        // that fall (a lower bound: the far end may have fallen into the noise).
+        lo = lo.max(0.5 * fall);
+        hi = hi.max(lo);
+        severity = severity.max(Severity::from_drop_db(hi));
+    }
     if !rising && ch.base.is_none() {
         kind = FaultKind::Unknown;
     }
@@ -439,6 +446,12 @@ pub fn explain_change(
              termination changed (a series resistance or a partly open pin)",
             if d < 0.0 { "fell" } else { "rose" },
             ch.excess_db.abs()
+        )
+    } else if let Some(fall) = ch.blocks_far_end {
+        format!(
+            "{}; the far end's echo vanished behind it (fell {fall:.1} dB beyond the line's loss change): \
+             this joint now reflects what used to reach the far end",
+            describe_model(kind, &model)
         )
     } else if !rising {
         format!(
@@ -677,24 +690,17 @@ pub fn rank(findings: &mut [Finding]) {
     }
 }
 
-fn state_of(name: &str) -> State {
-    if name == "warm" {
-        State::Warm
-    } else {
-        State::Cold
-    }
-}
-
 /// Compare `baseline` with `current` on `chain` (whose per-segment delays and losses are for the two sweeps'
-/// states, in that order), under the states `states` names.
+/// states, in that order) under hypothesis `h` (the states the chain was built for; one of those the data
+/// leave open). `states` is what the report says of the states: the one decision for every hypothesis run.
 pub fn compare(
     baseline: Sweep,
     current: Sweep,
     chain: &ChainView,
     cfg: &AnalysisConfig,
+    h: Hypothesis,
     states: StateReport,
 ) -> Result<CompareReport, CompareError> {
-    let h = Hypothesis::of(state_of(states.baseline), state_of(states.current));
     let mut engine = TraceEngine::new();
     let fc = &current.network.freqs_hz;
     let f_ref = cfg.reference_hz.unwrap_or_else(|| band_centre(fc));
@@ -725,6 +731,7 @@ pub fn compare(
         fit: &fit,
         far: &pa.far,
         anchors_m: &pa.anchors.iter().map(|a| a.position_m).collect::<Vec<_>>(),
+        same_state: h.same_state(),
     });
     let same_state = h.same_state();
     let far_end = far_end_report(&pa, &fit, same_state, &mut engine)?;
@@ -742,6 +749,8 @@ pub fn compare(
 
     let mut findings = Vec::new();
     let mut behind = 0usize;
+    // Where the echo that now blocks the line (the far end vanished behind it) was found.
+    let mut blocker_at = f64::INFINITY;
     for ch in &changes {
         let at_end = ch.same_termination || ch.was_total;
         let end_change = at_end && (moved || kind_flip);
@@ -768,6 +777,12 @@ pub fn compare(
             f.severity = Severity::Info;
             f.explanation
                 .push_str(" (a small change, below what counts as one; follow it in the history)");
+        } else if ch.within_device_drift(same_state) {
+            f.severity = Severity::Info;
+            f.explanation.push_str(
+                " (the device's own echo, within what its cooling makes of it: a load's resistance and the \
+                 cable's impedance move)",
+            );
         }
         if at_end && (moved || kind_flip) {
             // The move beyond what the line in front explains (its tolerance), as every change is taken
@@ -780,6 +795,9 @@ pub fn compare(
                 .changed_reflection
                 .max(moved_reflection(ch.mag_c, dt, kind_flip, f_ref));
         }
+        if ch.blocks_far_end.is_some() && f.severity == Severity::Critical {
+            blocker_at = blocker_at.min(f.place.distance_m);
+        }
         findings.push(f);
     }
     if behind > 0 {
@@ -791,7 +809,7 @@ pub fn compare(
     }
     // A new open or short is as far as reflection now sees: nothing behind it is claimed. So is a pin gap
     // that reflects as much as `explain` reads an open from (a pulled-back pin of a few fF is an open across
-    // the band).
+    // the band), and a joint that now blocks the line, its far end vanished behind it.
     let res_s = pa.b.resolution_s.max(pa.c.resolution_s);
     let total_db = db(difference::SHADOW_MAX_REFLECTION);
     let wall = findings
@@ -799,7 +817,8 @@ pub fn compare(
         .filter(|f| {
             f.severity == Severity::Critical
                 && (matches!(f.kind, FaultKind::Open | FaultKind::Short)
-                    || (f.kind == FaultKind::PinGap && f.reflection_db >= total_db))
+                    || (f.kind == FaultKind::PinGap && f.reflection_db >= total_db)
+                    || f.place.distance_m == blocker_at)
         })
         .map(|f| {
             f.place.distance_m

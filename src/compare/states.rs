@@ -241,15 +241,35 @@ pub(super) fn pair_signatures(
         }
         _ => false,
     };
-    let m = if moved || front.len() == strong.len() {
+    // A far end that is an open or short in one sweep only (a device's end turned into an open by a pin
+    // gap in front of it, a load swapped for a short) is another termination too: behind it, the echoes of
+    // one sweep are multiples of the new one.
+    let end_changed = match (&tb, &tc) {
+        (Some(b), Some(c)) => b.total != c.total,
+        (Some(t), None) | (None, Some(t)) => t.total,
+        (None, None) => false,
+    };
+    let m = if moved || end_changed || front.len() == strong.len() {
         m_front
     } else {
         scale_search(ab, ac, &strong, bounds)
     };
+    // The far echo's strength says something of the loss only if the same kind of termination ends
+    // both sweeps (an open swapped for a short, or a load for an open, changes it by itself).
+    // A joint's own reflection changes its shape with temperature (its parts contract, its
+    // permittivity moves), so only an open or short far end is read this way.
+    // A far end that moved against the line in front of it is another termination (an offset short
+    // for a flush one, a pin pulled back): its echo's shape is the new termination's, not the line's loss.
+    let same_end = match (&tb, &tc) {
+        (Some(b), Some(c)) => b.total && c.total && b.polarity * c.polarity > 0.0 && !moved,
+        _ => false,
+    };
     if let Some(m) = &m {
-        // The far end's own echo moves when the termination is swapped: the line's change is read on the
-        // other echoes when there are enough of them.
-        let (scale, sigma, used) = robust_scale(ab, ac, &m.pairs, tb.as_ref().map(|t| t.event));
+        // The far end's own echo moves when the termination is swapped: the line's change is then read on
+        // the other echoes when there are enough of them. The same open or short, unmoved, is a landmark
+        // like any other, and the cleanest (a total reflection outweighs any joint beside it).
+        let exclude = tb.as_ref().filter(|_| !same_end).map(|t| t.event);
+        let (scale, sigma, used) = robust_scale(ab, ac, &m.pairs, exclude);
         let v = scale - 1.0;
         let sig = sigma.max(1e-7);
         let same = outside(v, (-SAME_STATE_DRIFT, SAME_STATE_DRIFT), sig);
@@ -276,16 +296,6 @@ pub(super) fn pair_signatures(
                 100.0 * v,
             ),
         });
-        // The far echo's strength says something of the loss only if the same kind of termination ends
-        // both sweeps (an open swapped for a short, or a load for an open, changes it by itself).
-        // A joint's own reflection changes its shape with temperature (its parts contract, its
-        // permittivity moves), so only an open or short far end is read this way.
-        // A far end that moved against the line in front of it is another termination (an offset short
-        // for a flush one, a pin pulled back): its echo's shape is the new termination's, not the line's loss.
-        let same_end = match (&tb, &tc) {
-            (Some(b), Some(c)) => b.total && c.total && b.polarity * c.polarity > 0.0 && !moved,
-            _ => false,
-        };
         if same_end {
             if let Some(sig) = loss_signature(ab, ac, m, tb.clone(), engine)? {
                 out.push(sig);
@@ -343,6 +353,20 @@ fn robust_scale(
     if use_.iter().filter(|p| Some(p.0) != exclude).count() >= 2 {
         use_.retain(|p| Some(p.0) != exclude);
     }
+    // How many landmarks far enough down the line to weigh there are to begin with (before any is dropped
+    // as an outlier).
+    let weighing = |v: &[(usize, usize)]| {
+        let t_far = v
+            .iter()
+            .map(|&(i, _)| ab.events[i].delay_s)
+            .fold(0.0f64, f64::max);
+        let n = v
+            .iter()
+            .filter(|&&(i, _)| ab.events[i].delay_s >= LEVER_SHARE * t_far)
+            .count();
+        (n, t_far)
+    };
+    let (weighing_at_first, _) = weighing(&use_);
     loop {
         let (mut num, mut den) = (0.0, 0.0);
         for &(i, j) in &use_ {
@@ -378,9 +402,31 @@ fn robust_scale(
         } else {
             1.0
         };
-        return (s, infl / den.sqrt(), n);
+        // A line that shows one echo far enough down it to weigh: nothing checks that echo's place, and an
+        // echo may be two joints within a cell or two (a connector either side of an attenuator, a joint
+        // beside a component) whose shares of the peak move with the state. Its place is then known to
+        // [`LONE_LANDMARK_CELLS`] of a cell in each sweep, not to its noise. (Where several weighed and
+        // the others were dropped as outliers, they disagreed with it by more than their noise, and the
+        // spread is already in the scale's uncertainty.)
+        let (weighing_now, t_far) = weighing(&use_);
+        let mut sigma = infl / den.sqrt();
+        if weighing_at_first < 2 && weighing_now < 2 && t_far > 0.0 {
+            let res = ab.resolution_s.max(ac.resolution_s);
+            sigma = sigma.max(std::f64::consts::SQRT_2 * LONE_LANDMARK_CELLS * res / t_far);
+        }
+        return (s, sigma, n);
     }
 }
+
+/// Share of the farthest landmark's delay from which a landmark weighs in the delay scale: one nearer the
+/// reference plane moves by too little with the line's change to check the farthest (project choice, no
+/// source).
+pub const LEVER_SHARE: f64 = 1.0 / 3.0;
+
+/// How well a lone weighing landmark's place is known in each sweep, in resolution cells, when no other
+/// landmark checks it (see `robust_scale`): a quarter of a cell, the shift of a peak made of two joints a
+/// cell apart when their shares change by a few dB (common practice, no source).
+pub const LONE_LANDMARK_CELLS: f64 = 0.25;
 
 /// Fit y = a + b sqrt(g) (g = f / 1 GHz) by least squares; (b, sigma_b).
 fn sqrt_slope(freqs: &[f64], y: &[f64]) -> Option<(f64, f64)> {

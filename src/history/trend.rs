@@ -16,8 +16,12 @@
 //! [`TrendRule::min_slope_db`] per cycle; the rise, the Theil-Sen line's latest value over the median of
 //! the values before the window (at least [`TrendRule::min_reference`] of them: the connector's own level
 //! before the climb), >= [`TrendRule::min_rise_db`] (more than the re-mating scatter of a connector); the
-//! same value over every earlier value by [`TrendRule::min_excess_db`] (out of the connector's own past
-//! range); and the latest value above the sweep's detection floor there (a climb inside the noise is not a
+//! same value, and the last two values measured, over every value before the window by
+//! [`TrendRule::min_excess_db`] (out of the connector's own past range, and for two cooldowns running: the
+//! data must show it, not only the line fitted through them, whose end overshoots a window that jumped from
+//! one of a re-made connector's levels to another; and a re-made connector's first visit to a level it had
+//! not shown is one value, where a connector that degrades stays out; a run of points beyond a limit
+//! rather than one, as in the Western Electric rules for control charts, from memory); and the latest value above the sweep's detection floor there (a climb inside the noise is not a
 //! reflection growing).
 //!
 //! Projection: the cycles until the Theil-Sen line reaches the reflection at which a series resistance
@@ -52,8 +56,8 @@ pub struct TrendRule {
     pub min_rise_db: f64,
     /// Fewest values before the window for a reference level (a line's first records cannot warn).
     pub min_reference: usize,
-    /// Least margin by which the Theil-Sen line's latest value must stand over every value before the
-    /// window, dB: a re-made connector may read anywhere in its own past range (where its own mismatch and
+    /// Least margin by which the Theil-Sen line's latest value, and each of the last two values measured,
+    /// must stand over every value before the window, dB: a re-made connector may read anywhere in its own past range (where its own mismatch and
     /// a re-made parasitic add, several dB apart), a degrading one leaves that range (common practice, no
     /// source).
     pub min_excess_db: f64,
@@ -315,7 +319,8 @@ impl TrendRule {
             && climbs
             && slope >= self.min_slope_db
             && verdict.rise_db.is_some_and(|r| r >= self.min_rise_db)
-            && now - highest >= self.min_excess_db
+            && now.min(last) - highest >= self.min_excess_db
+            && w[w.len() - 2] - highest >= self.min_excess_db
             && floor_db.map_or(true, |f| last > f);
         if climbs {
             for (name, drop) in PROJECTED {
@@ -532,5 +537,18 @@ mod tests {
             "{v:?}"
         );
         assert!(!rule.evaluate(&modes, None).warning);
+        // A re-made connector's first visit to a level it had not shown (seed 550016 of the trend program):
+        // one value 12 dB over its past, after values inside it. The last four climb (Mann-Kendall
+        // p = 1/24) and the line fitted through them ends far over every earlier value, but only one value
+        // measured does: no warning. With the value before it out of the past range too, the climb is a
+        // warning.
+        let visit = [
+            -43.0, -51.4, -50.4, -43.4, -43.2, -51.1, -49.5, -43.8, -41.6, -29.5,
+        ];
+        assert!(!rule.evaluate(&visit, None).warning);
+        let mut stays = visit.to_vec();
+        stays[8] = -36.0;
+        let v = rule.evaluate(&stays, None);
+        assert!(v.warning, "{v:?}");
     }
 }

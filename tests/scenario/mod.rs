@@ -13,19 +13,24 @@
 //! the reference plane in the **nominal** line's coordinates (see [`FaultTruth::position_m`]); noise levels
 //! are the simulator's (power per point relative to |S| = 1, dB).
 //!
-//! How a fault's level against the noise is computed (approximate, by design):
-//! - its local reflection |rho| at the band centre from its lumped model between two lines of the line's
-//!   impedance (series Z: |Z / (2 Z0 + Z)|; a crush: one section of impedance Z1 and the cable's room
+//! A fault's level against the noise (`FaultTruth::level_db`, which decides whether it counts as visible) is
+//! its echo as the port sees it: the truth simulated without noise in the current state with and without the
+//! fault, the band-pass trace of the difference (the comparator's default window, normalised by its sum) at
+//! its largest within [`SEEN_SPAN_CELLS`] resolution cells of the fault's round-trip delay on the truth, over
+//! the band-pass trace's noise RMS, sigma_point sqrt(sum w^2) / sum w with sigma_point = 10^(noise_db/20)
+//! and w the comparator's default window over the sweep's points (a trace normalised by the window sum, so a
+//! lone reflection rho reads |rho|: docs/method.md). It carries the truth's own loss, mismatches and
+//! context (a fault beside a device also moves the device's echo, within the same few cells).
+//!
+//! The lumped estimate (`FaultTruth::lumped_level_db`, the measure used before) is kept for comparison:
+//! - the fault's local reflection |rho| at the band centre from its lumped model between two lines of the
+//!   line's impedance (series Z: |Z / (2 Z0 + Z)|; a crush: one section of impedance Z1 and the cable's room
 //!   permittivity, |G1 (1 - e^{-2j theta})| / |1 - G1^2 e^{-2j theta}|, G1 = (Z1 - Z0)/(Z1 + Z0), circuit and
 //!   transmission-line theory);
 //! - times the nominal model's round-trip loss to its place in the current state at the band centre
 //!   (`line::visibility` on the nominal line; inside a cable, interpolated linearly between the cable's ends;
 //!   the perturbed surface resistance and the connectors' mismatches are ignored);
-//! - against the noise RMS of the band-pass trace, sigma_point sqrt(sum w^2) / sum w, with sigma_point =
-//!   10^(noise_db/20) and w the comparator's default window over the sweep's points (a trace normalised by
-//!   the window sum, so a lone reflection rho reads |rho|: docs/method.md).
-//!
-//! `level_db = 20 log10(|rho| 10^(-loss_db/20) / noise_rms)`.
+//! - against the same noise RMS: `lumped_level_db = 20 log10(|rho| 10^(-loss_db/20) / noise_rms)`.
 //!
 //! The scoring (comparisons, figures, tables) is in `score.rs`.
 
@@ -131,6 +136,12 @@ pub const PARTIAL_CONTACT_OHM: (f64, f64) = (20.0, 500.0);
 pub const CONTACT_OHM: (f64, f64) = (0.5, 10.0);
 pub const CRUSH_OHM: (f64, f64) = (35.0, 45.0);
 pub const CRUSH_M: (f64, f64) = (5e-3, 10e-3);
+/// Half-width of the span around a fault's delay over which its seen echo is looked for, resolution cells
+/// (1/bandwidth): the cold physics' delay error and the window's main lobe.
+pub const SEEN_SPAN_CELLS: f64 = 4.0;
+/// Time steps per resolution cell in that search.
+pub const SEEN_STEPS_PER_CELL: f64 = 8.0;
+
 /// Level above the noise floor from which a fault must be found and ranked first, dB (the project's goal).
 pub const VISIBLE_LEVEL_DB: f64 = 10.0;
 
@@ -236,10 +247,14 @@ pub struct FaultTruth {
     /// a cable (a crush: its centre) the nominal start of the cable plus the true offset scaled by nominal
     /// over true length (where an analysis that aligns on the connectors would put it).
     pub position_m: f64,
-    /// Local |rho| at the band centre, round-trip loss to it (dB) and level over the noise floor (dB), as in
-    /// the module documentation.
+    /// Local |rho| at the band centre and the nominal round-trip loss to it (dB), as in the module
+    /// documentation (the lumped estimate).
     pub local_rho: f64,
     pub loss_db: f64,
+    /// The lumped estimate of the level over the noise floor (module documentation), dB.
+    pub lumped_level_db: f64,
+    /// The level over the noise floor of the fault's echo as the port sees it (`seen_level_db`), dB: what
+    /// decides whether the fault counts as visible.
     pub level_db: f64,
 }
 
@@ -810,7 +825,8 @@ impl Scenario {
         let position_m = ne.start_m + true_offset * ne.length_m / te.length_m;
         let loss_db = self.nominal_loss_db(&element, true_offset * ne.length_m / te.length_m);
         let noise = self.band.trace_noise_rms();
-        let level_db = 20.0 * (local_rho * 10f64.powf(-loss_db / 20.0) / noise).log10();
+        let lumped_level_db = 20.0 * (local_rho * 10f64.powf(-loss_db / 20.0) / noise).log10();
+        let level_db = self.seen_level_db(&spec, te.start_m + true_offset);
         FaultTruth {
             kind,
             spec,
@@ -819,8 +835,59 @@ impl Scenario {
             position_m,
             local_rho,
             loss_db,
+            lumped_level_db,
             level_db,
         }
+    }
+
+    /// The fault's echo as the port sees it, over the noise floor at its place, dB: the truth simulated
+    /// without noise in the current state with and without the fault; the band-pass trace of the difference
+    /// (the comparator's default window, normalised by its sum) at its largest within [`SEEN_SPAN_CELLS`]
+    /// resolution cells of the fault's round-trip delay on the truth (`truth_x`, as-built metres); over
+    /// [`Band::trace_noise_rms`].
+    fn seen_level_db(&self, spec: &str, truth_x: f64) -> f64 {
+        let sim = |fault: Option<&str>| {
+            let mut cfg = SimConfig::linear(
+                self.current_state,
+                self.band.start_hz,
+                self.band.stop_hz,
+                self.band.points,
+            );
+            cfg.perturbation = self.perturbation;
+            cfg.faults = self
+                .parasitics
+                .iter()
+                .map(String::as_str)
+                .chain(fault)
+                .map(|s| Fault::parse(s).expect("a generated fault spec"))
+                .collect();
+            simulate(&self.truth, &cfg)
+                .expect("simulate a generated line")
+                .s11()
+        };
+        let (without, with) = (sim(None), sim(Some(spec)));
+        let freqs = self.band.freqs();
+        let w = AnalysisConfig::default()
+            .window
+            .coefficients(self.band.points);
+        let s1: f64 = w.iter().sum();
+        let t0 = self.truth.round_trip_s(truth_x, self.current_state);
+        let cell = 1.0 / (self.band.stop_hz - self.band.start_hz);
+        let steps = (SEEN_SPAN_CELLS * SEEN_STEPS_PER_CELL) as i64;
+        let peak = (-steps..=steps)
+            .map(|k| {
+                let t = t0 + k as f64 * cell / SEEN_STEPS_PER_CELL;
+                let h: Complex64 = (0..freqs.len())
+                    .map(|i| {
+                        (with[i] - without[i])
+                            * w[i]
+                            * Complex64::from_polar(1.0, 2.0 * std::f64::consts::PI * freqs[i] * t)
+                    })
+                    .sum();
+                h.norm() / s1
+            })
+            .fold(0.0, f64::max);
+        20.0 * (peak.max(1e-300) / self.band.trace_noise_rms()).log10()
     }
 
     /// Round-trip loss of the nominal model to `offset_m` inside `element` in the current state at the band
@@ -940,13 +1007,14 @@ impl Scenario {
         if let Some(f) = &self.fault {
             let _ = writeln!(
                 s,
-                "  fault: {} ({}) at {:.4} m nominal, |rho| {:.2e}, loss {:.1} dB, {:.1} dB over the noise",
+                "  fault: {} ({}) at {:.4} m nominal, |rho| {:.2e}, loss {:.1} dB, {:.1} dB over the noise as the port sees it ({:.1} dB by the lumped estimate)",
                 f.spec,
                 f.kind.name(),
                 f.position_m,
                 f.local_rho,
                 f.loss_db,
-                f.level_db
+                f.level_db,
+                f.lumped_level_db
             );
         }
         s
