@@ -83,11 +83,11 @@ pub struct Change {
     /// [`AMPLITUDE_SIGMA_DB`], in quadrature) and [`CHANGE_DB`]: the termination's own joint changed. (An
     /// open or short reflects all; its echo moves with the line's loss, not with its joint's contraction.)
     pub far_level_db: Option<f64>,
-    /// True for the echo that now blocks the line: the baseline's far end vanished from the current sweep
-    /// (it fell by [`SHADOW_MAX_DB`] or more beyond what the calibration explains), and this echo in front of
-    /// it rose the most beyond its own calibration ([`blocker`]). It counts as a change under its own
-    /// threshold: the two together are one change, a joint that now reflects what used to reach the far end.
-    /// The far end's fall beyond its interval, dB (positive; a lower bound where it fell into the noise).
+    /// For the echo that now blocks the line, the far end's fall beyond its interval, dB (positive; a lower
+    /// bound where it fell into the noise): the baseline's far end vanished from the current sweep (it fell
+    /// by [`SHADOW_MAX_DB`] or more beyond what the calibration explains), and this echo in front of it rose
+    /// the most beyond its own calibration ([`blocker`]). It counts as a change under its own threshold: the
+    /// two together are one change, a joint that now reflects what used to reach the far end.
     pub blocks_far_end: Option<f64>,
     /// For a joint of the line file judged at its own place, both sweeps in one state ([`joint_probes`]):
     /// its complex change over what counts as one (>= 1).

@@ -241,15 +241,7 @@ pub(super) fn pair_signatures(
         }
         _ => false,
     };
-    // A far end that is an open or short in one sweep only (a device's end turned into an open by a pin
-    // gap in front of it, a load swapped for a short) is another termination too: behind it, the echoes of
-    // one sweep are multiples of the new one.
-    let end_changed = match (&tb, &tc) {
-        (Some(b), Some(c)) => b.total != c.total,
-        (Some(t), None) | (None, Some(t)) => t.total,
-        (None, None) => false,
-    };
-    let m = if moved || end_changed || front.len() == strong.len() {
+    let m = if moved || front.len() == strong.len() {
         m_front
     } else {
         scale_search(ab, ac, &strong, bounds)
