@@ -1,24 +1,8 @@
 //! The whole binary's plots and reports: `--span` on every command that plots, and `--report FILE.html`.
 
-use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
-
-fn sample(name: &str) -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR"))
-        .join("sample-sweeps/north-fridge")
-        .join(name)
-}
-
-fn run(args: &[&std::ffi::OsStr]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_coldtrace"))
-        .args(args)
-        .output()
-        .unwrap()
-}
-
-fn stderr(o: &Output) -> String {
-    String::from_utf8_lossy(&o.stderr).into_owned()
-}
+#[path = "common/first_hour.rs"]
+mod first_hour;
+use first_hour::{run_os as run, sample, stderr};
 
 /// True when an SVG written by plotters has a text element reading exactly `text` (plotters puts each
 /// text on a line of its own).

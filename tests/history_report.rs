@@ -4,7 +4,11 @@
 //! from elsewhere, and the database and existing files never written over. On the shipped demo fleet's
 //! output line (invented scenario), whose J3 degrades over six cooldowns.
 
-use scraper::{Html, Selector};
+use scraper::Html;
+
+#[path = "common/html_page.rs"]
+mod html_page;
+use html_page::sel;
 use sha2::{Digest, Sha256};
 use std::path::{Path, PathBuf};
 use std::process::Output;
@@ -23,10 +27,6 @@ fn fleet(name: &str) -> PathBuf {
 
 fn run(db: &Path, args: &[&str]) -> Output {
     bin().args(args).arg("--db").arg(db).output().unwrap()
-}
-
-fn sel(s: &str) -> Selector {
-    Selector::parse(s).unwrap()
 }
 
 fn sha256(path: &Path) -> String {
@@ -203,23 +203,7 @@ fn the_history_report_has_its_sections_rows_and_plots() {
 fn the_history_report_fetches_nothing_and_keeps_every_file() {
     let dir = tempfile::tempdir().unwrap();
     let (_, _, html, db) = show_with_report(dir.path());
-    assert_eq!(html.select(&sel("script")).count(), 0, "a script");
-    for tag in ["link", "iframe", "object", "embed", "img", "image", "use"] {
-        assert_eq!(html.select(&sel(tag)).count(), 0, "a <{tag}>");
-    }
-    for el in html.select(&sel("*")) {
-        for (name, value) in el.value().attrs() {
-            let name = name.to_ascii_lowercase();
-            assert!(
-                !(name == "src" || name.ends_with("href")),
-                "<{} {name}=\"{value}\">",
-                el.value().name()
-            );
-            assert!(!name.starts_with("on"), "an event handler {name}");
-        }
-    }
-    let style: String = html.select(&sel("style")).flat_map(|s| s.text()).collect();
-    assert!(!style.contains("url(") && !style.contains("@import"));
+    html_page::assert_self_contained(&html);
 
     // An existing report is kept without --force, and replaced with it.
     let report = dir.path().join("out-03.html");

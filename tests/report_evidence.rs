@@ -2,31 +2,17 @@
 //! lumped model over it, for the shipped sample's J2 pin gap (`in-07-cold.s1p` against `in-07-warm.s1p`,
 //! the cold sweep simulated with `J2:gap=15um`). Checked on the figure's numbers, not its pixels.
 
-use coldtrace::compare::job::{run_compare, run_locate, CompareJob, LineSource, LocateJob};
 use coldtrace::compare::lumped::ModelType;
 use coldtrace::compare::report::CompareReport;
-use coldtrace::compare::{AnalysisConfig, FaultKind, Severity};
+use coldtrace::compare::{FaultKind, Severity};
 use coldtrace::report::evidence::{compare_evidence, locate_evidence, MEASURED_NAME};
 use coldtrace::report::render_svg;
-use std::path::PathBuf;
-
-fn sample(name: &str) -> PathBuf {
-    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
-        .join("sample-sweeps/north-fridge")
-        .join(name)
-}
+#[path = "common/first_hour.rs"]
+mod first_hour;
+use first_hour::{demo_compare, demo_locate, sample};
 
 fn compare_report() -> CompareReport {
-    run_compare(&CompareJob {
-        baseline: sample("in-07-warm.s1p"),
-        current: sample("in-07-cold.s1p"),
-        line: LineSource::File(sample("in-07.toml")),
-        baseline_state: None,
-        current_state: None,
-        analysis: AnalysisConfig::default(),
-        source: Default::default(),
-    })
-    .unwrap()
+    demo_compare()
 }
 
 /// RMS of (a - b) over RMS of a.
@@ -137,14 +123,7 @@ fn the_evidence_figure_is_labelled_by_element_and_kind() {
 
 #[test]
 fn locate_draws_the_anomalys_evidence() {
-    let r = run_locate(&LocateJob {
-        sweep: sample("in-07-cold.s1p"),
-        line: LineSource::File(sample("in-07.toml")),
-        state: None,
-        analysis: AnalysisConfig::default(),
-        source: Default::default(),
-    })
-    .unwrap();
+    let r = demo_locate(sample("in-07-cold.s1p"));
     let figs = locate_evidence(&r);
     assert!(!figs.is_empty());
     assert!(figs[0].label.contains("J2 pin-gap"), "{}", figs[0].label);

@@ -3,8 +3,6 @@
 //! every figure is also drawn, which checks (debug assertion in `plot.rs`) that plotters put the plot
 //! where the layout placed the labels.
 
-use coldtrace::compare::job::{run_compare, run_locate, CompareJob, LineSource, LocateJob};
-use coldtrace::compare::AnalysisConfig;
 use coldtrace::line::file::read_file as read_line;
 use coldtrace::line::Line;
 use coldtrace::report::layout::{layout, FigureLayout, Rect};
@@ -13,29 +11,17 @@ use coldtrace::report::views::{
 };
 use coldtrace::report::{render_svg, ChainStrip, Figure, Marker, Series};
 use coldtrace::transform::{run_trace, TraceConfig, TraceEngine, UniformLine};
+#[path = "common/first_hour.rs"]
+mod first_hour;
+use first_hour::{demo_compare, demo_locate, sample};
 use std::path::PathBuf;
-
-fn sample(name: &str) -> PathBuf {
-    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
-        .join("sample-sweeps/north-fridge")
-        .join(name)
-}
 
 fn line() -> Line {
     read_line(&sample("in-07.toml")).unwrap()
 }
 
 fn compare_report() -> coldtrace::compare::report::CompareReport {
-    run_compare(&CompareJob {
-        baseline: sample("in-07-warm.s1p"),
-        current: sample("in-07-cold.s1p"),
-        line: LineSource::File(sample("in-07.toml")),
-        baseline_state: None,
-        current_state: None,
-        analysis: AnalysisConfig::default(),
-        source: Default::default(),
-    })
-    .unwrap()
+    demo_compare()
 }
 
 /// No two of the rectangles share a pixel.
@@ -265,28 +251,14 @@ fn the_y_axis_says_compensated_only_when_something_was() {
     let fig = trace_figure(&outcome.trace, "t", None, false);
     assert!(!fig.y_label.contains("compensated"), "{}", fig.y_label);
 
-    let located = run_locate(&LocateJob {
-        sweep: sweep.clone(),
-        line: LineSource::File(sample("in-07.toml")),
-        state: None,
-        analysis: AnalysisConfig::default(),
-        source: Default::default(),
-    })
-    .unwrap();
+    let located = demo_locate(sweep.clone());
     let fig = locate_figure(&located, Some(&line()), None);
     assert!(fig.y_label.contains("loss-compensated"), "{}", fig.y_label);
 }
 
 #[test]
 fn locate_marks_its_events() {
-    let located = run_locate(&LocateJob {
-        sweep: sample("in-07-cold.s1p"),
-        line: LineSource::File(sample("in-07.toml")),
-        state: None,
-        analysis: AnalysisConfig::default(),
-        source: Default::default(),
-    })
-    .unwrap();
+    let located = demo_locate(sample("in-07-cold.s1p"));
     let fig = locate_figure(&located, Some(&line()), None);
     assert!(
         fig.findings.iter().any(|m| m.label == "J2 pin-gap"),

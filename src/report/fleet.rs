@@ -5,7 +5,7 @@
 //!
 //! Conventions as in `html.rs`: distances as-built metres, levels dB.
 
-use super::html::{escape, finish_page, section, sha256_of, InputFile, RunContext};
+use super::html::{escape, finish_page, opening, section, sha256_of, InputFile, RunContext};
 use crate::compare::Severity;
 use crate::survey::{SurveyItem, SurveyReport};
 use std::fmt::Write;
@@ -64,13 +64,9 @@ pub fn survey_summary(r: &SurveyReport) -> String {
 
 /// The whole report of a survey.
 pub fn survey_html(r: &SurveyReport, ctx: &RunContext) -> String {
-    let mut body = String::new();
     let title = "coldtrace survey report";
-    let _ = writeln!(body, "<h1>{title}</h1>");
-    section(
-        &mut body,
-        "summary",
-        "Summary",
+    let mut body = opening(
+        title,
         &format!("<p class=\"summary\">{}</p>\n", escape(&survey_summary(r))),
     );
     let mut table = String::from(

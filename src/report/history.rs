@@ -9,7 +9,7 @@
 //! Conventions: reflections 20 log10 |rho|, dB, compensated as stored; cooldowns counted 1, 2, ... oldest
 //! first among the records of one state; times RFC 3339 UTC as stored.
 
-use super::html::{escape, figure_html, finish_page, section, InputFile, RunContext};
+use super::html::{escape, figure_html, finish_page, opening, section, InputFile, RunContext};
 use super::plot::{render_svg, Figure, Series};
 use super::ReportError;
 use crate::compare::Severity;
@@ -238,19 +238,11 @@ fn not_seen_html(records: &[RecordDetail], trends: &[TrendReport]) -> String {
         }
         s.push_str("</ul>\n");
     }
-    let warnings: Vec<_> = trends.iter().flat_map(|t| &t.warnings).collect();
-    if !warnings.is_empty() {
-        s.push_str("<p>Warnings of the trend:</p>\n<ul class=\"warnings\">\n");
-        for w in warnings {
-            let _ = writeln!(
-                s,
-                "<li>{}; what to do: {}</li>",
-                escape(&w.message),
-                escape(&w.fix)
-            );
-        }
-        s.push_str("</ul>\n");
-    }
+    super::html::warnings_html(
+        &mut s,
+        "Warnings of the trend",
+        trends.iter().flat_map(|t| &t.warnings),
+    );
     s
 }
 
@@ -263,13 +255,9 @@ pub fn history_html(
     trends: &[TrendReport],
     ctx: &RunContext,
 ) -> Result<String, ReportError> {
-    let mut body = String::new();
     let title = format!("coldtrace history: {line}");
-    let _ = writeln!(body, "<h1>{}</h1>", escape(&title));
-    section(
-        &mut body,
-        "summary",
-        "Summary",
+    let mut body = opening(
+        &title,
         &format!(
             "<p class=\"summary\">{}</p>\n",
             escape(&history_summary(line, records, trends))

@@ -150,6 +150,14 @@ pub(crate) fn finish_page(
     page(title, &body)
 }
 
+/// The opening of a report page: its heading `title` and the summary section holding `summary` (HTML).
+pub(crate) fn opening(title: &str, summary: &str) -> String {
+    let mut body = String::new();
+    let _ = writeln!(body, "<h1>{}</h1>", escape(title));
+    section(&mut body, "summary", "Summary", summary);
+    body
+}
+
 pub(crate) fn section(out: &mut String, id: &str, heading: &str, body: &str) {
     let _ = write!(
         out,
@@ -247,24 +255,36 @@ fn not_visible_html(items: &[NotVisible], warnings: &[Warning]) -> String {
         }
         s.push_str("</ul>\n");
     }
-    if !warnings.is_empty() {
-        s.push_str("<p>Warnings of this run:</p>\n<ul class=\"warnings\">\n");
-        for w in warnings {
-            let at = w
-                .location
-                .as_deref()
-                .map(|l| format!(" ({})", escape(l)))
-                .unwrap_or_default();
-            let _ = writeln!(
-                s,
-                "<li>{}{at}; what to do: {}</li>",
-                escape(&w.message),
-                escape(&w.fix)
-            );
-        }
-        s.push_str("</ul>\n");
-    }
+    warnings_html(&mut s, "Warnings of this run", warnings);
     s
+}
+
+/// A list of warnings under `intro`, each with its place (when it is about a file) and what to do; nothing
+/// when there are none.
+pub(super) fn warnings_html<'a>(
+    s: &mut String,
+    intro: &str,
+    warnings: impl IntoIterator<Item = &'a Warning>,
+) {
+    let mut warnings = warnings.into_iter().peekable();
+    if warnings.peek().is_none() {
+        return;
+    }
+    let _ = writeln!(s, "<p>{}:</p>\n<ul class=\"warnings\">", escape(intro));
+    for w in warnings {
+        let at = w
+            .location
+            .as_deref()
+            .map(|l| format!(" ({})", escape(l)))
+            .unwrap_or_default();
+        let _ = writeln!(
+            s,
+            "<li>{}{at}; what to do: {}</li>",
+            escape(&w.message),
+            escape(&w.fix)
+        );
+    }
+    s.push_str("</ul>\n");
 }
 
 /// Inputs with their hashes, the version and the settings.
@@ -367,13 +387,9 @@ pub fn compare_html(
 ) -> Result<String, ReportError> {
     let fig = compare_figure(r, line, ctx.span);
     let svg = render_svg(&fig)?;
-    let mut body = String::new();
     let title = format!("coldtrace report: {}", r.line);
-    let _ = writeln!(body, "<h1>{}</h1>", escape(&title));
-    section(
-        &mut body,
-        "summary",
-        "Summary",
+    let mut body = opening(
+        &title,
         &format!(
             "<p class=\"summary\">{}</p>\n<p>States: {} ({}).</p>\n",
             escape(&compare_summary(r)),
@@ -445,13 +461,9 @@ pub fn locate_html(
     ctx: &RunContext,
 ) -> Result<String, ReportError> {
     let svg = render_svg(&locate_figure(r, line, ctx.span))?;
-    let mut body = String::new();
     let title = format!("coldtrace report: {}", r.line);
-    let _ = writeln!(body, "<h1>{}</h1>", escape(&title));
-    section(
-        &mut body,
-        "summary",
-        "Summary",
+    let mut body = opening(
+        &title,
         &format!(
             "<p class=\"summary\">{}</p>\n<p>State: {} ({}).</p>\n",
             escape(&locate_summary(r)),

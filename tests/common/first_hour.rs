@@ -1,12 +1,20 @@
 //! The whole binary as a new user meets it, shared by the first-hour tests (`tests/cli_first_hour.rs`,
-//! `tests/cli_line_quantities.rs`, `tests/cli_messages.rs`, each `#[path = "common/first_hour.rs"] mod
-//! first_hour;`): run it, read its output, the demo sample, and refusals.
+//! `tests/cli_line_quantities.rs`, `tests/cli_messages.rs` and others, each `#[path = "common/first_hour.rs"]
+//! mod first_hour;`): run it, read its output, the demo sample, and refusals.
 #![allow(dead_code)]
 
 use std::path::{Path, PathBuf};
 use std::process::Output;
 
 pub fn run(args: &[&str]) -> Output {
+    std::process::Command::new(env!("CARGO_BIN_EXE_coldtrace"))
+        .args(args)
+        .output()
+        .unwrap()
+}
+
+/// `run` with arguments that need not be UTF-8 (paths as they are).
+pub fn run_os(args: &[&std::ffi::OsStr]) -> Output {
     std::process::Command::new(env!("CARGO_BIN_EXE_coldtrace"))
         .args(args)
         .output()
@@ -37,6 +45,35 @@ pub fn sample(name: &str) -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR"))
         .join("sample-sweeps/north-fridge")
         .join(name)
+}
+
+/// The demo pair of the shipped sample (`in-07` warm against cold, its line file), compared through the
+/// library with the states inferred.
+pub fn demo_compare() -> coldtrace::compare::report::CompareReport {
+    use coldtrace::compare::job::{run_compare, CompareJob, LineSource};
+    run_compare(&CompareJob {
+        baseline: sample("in-07-warm.s1p"),
+        current: sample("in-07-cold.s1p"),
+        line: LineSource::File(sample("in-07.toml")),
+        baseline_state: None,
+        current_state: None,
+        analysis: coldtrace::compare::AnalysisConfig::default(),
+        source: Default::default(),
+    })
+    .unwrap()
+}
+
+/// `sweep` located through the library on the demo line file (`in-07.toml`), its state inferred.
+pub fn demo_locate(sweep: PathBuf) -> coldtrace::compare::report::LocateReport {
+    use coldtrace::compare::job::{run_locate, LineSource, LocateJob};
+    run_locate(&LocateJob {
+        sweep,
+        line: LineSource::File(sample("in-07.toml")),
+        state: None,
+        analysis: coldtrace::compare::AnalysisConfig::default(),
+        source: Default::default(),
+    })
+    .unwrap()
 }
 
 pub fn s(p: &Path) -> &str {
