@@ -8,6 +8,8 @@
 //! cargo run --release --example trend_accuracy -- --rule 6,4,0.05,1,8,2,3 ...  # other rule parameters
 //! ```
 
+#[path = "common/section.rs"]
+mod section;
 #[path = "../tests/trend/mod.rs"]
 mod trend;
 
@@ -168,7 +170,7 @@ fn main() {
     match into {
         Some(path) => {
             let old = std::fs::read_to_string(&path).unwrap_or_default();
-            std::fs::write(&path, replace_section(&old, &out))
+            std::fs::write(&path, section::replace_section(&old, SECTION, &out))
                 .expect("the Markdown file is writable");
         }
         None => print!("{out}"),
@@ -202,25 +204,3 @@ compared with the first (as `history record` does against a baseline) for the se
 Healthy lines: 20 cooldowns of re-made connectors. The rule runs after every cooldown on the records so far; \
 a warning elsewhere is one on a connector that is not degrading (on a gap line, typically the connector behind \
 the opening gap once the gap is major).";
-
-/// `doc` with its trend section replaced by `section` (appended when it has none); every other section
-/// is kept as it was.
-fn replace_section(doc: &str, section: &str) -> String {
-    let Some(start) = doc.find(SECTION) else {
-        let mut s = doc.trim_end().to_string();
-        s.push_str("\n\n");
-        s.push_str(section);
-        return s;
-    };
-    let rest = &doc[start + SECTION.len()..];
-    let end = rest
-        .find("\n## ")
-        .map_or(doc.len(), |i| start + SECTION.len() + i + 1);
-    format!(
-        "{}{}{}{}",
-        &doc[..start],
-        section,
-        if end < doc.len() { "\n" } else { "" },
-        &doc[end..]
-    )
-}

@@ -30,6 +30,18 @@ pub fn golden_min(mut a: f64, mut b: f64, tol: f64, f: impl Fn(f64) -> f64) -> f
     0.5 * (a + b)
 }
 
+/// The median of `v` (sorted in place; the mean of the middle two for an even count). `v` must not be
+/// empty.
+pub fn median(v: &mut [f64]) -> f64 {
+    v.sort_by(f64::total_cmp);
+    let n = v.len();
+    if n % 2 == 1 {
+        v[n / 2]
+    } else {
+        0.5 * (v[n / 2 - 1] + v[n / 2])
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -63,6 +63,9 @@ pub struct AlignProblem {
     pub sigma_db: f64,
     /// Bounds of each segment's delay scale (physical limits of the state change); `None`: unbounded.
     pub bounds: Option<(f64, f64)>,
+    /// True when a sweep shows gain in its path (an amplifier in front of the line): the level change is
+    /// then expected and fitted freely, however few landmarks there are.
+    pub level_free: bool,
 }
 
 /// The solved alignment.
@@ -131,15 +134,16 @@ impl AlignProblem {
             })
             .collect();
         let usable = robust.iter().filter(|&&w| w > 0.0).count();
+        let free = usable >= MIN_LEVEL_LANDMARKS || (self.level_free && usable > 0);
         // With too few landmarks to outvote a changed one, the loss keeps the plain prior width too.
         let w_l = |j: usize| {
-            if usable >= MIN_LEVEL_LANDMARKS {
+            if free {
                 w_l(j)
             } else {
                 1.0 / LOSS_PRIOR_SIGMA_DB
             }
         };
-        let w_g = if usable >= MIN_LEVEL_LANDMARKS {
+        let w_g = if free {
             1.0 / LEVEL_PRIOR_SIGMA_DB
         } else {
             1.0 / self.sigma_db.max(1e-6)
@@ -352,6 +356,7 @@ mod tests {
             sigma_s: 0.2e-12,
             sigma_db: 0.1,
             bounds: None,
+            level_free: false,
         };
         let s = p.solve();
         for (got, want) in s.scale.iter().zip(truth) {
@@ -387,6 +392,7 @@ mod tests {
             sigma_s: 0.2e-12,
             sigma_db: 0.3,
             bounds: Some((0.998, 1.01)),
+            level_free: false,
         };
         let s = p.solve();
         assert!((s.level_db - 5.0).abs() < 0.3, "level {}", s.level_db);
@@ -416,6 +422,7 @@ mod tests {
             sigma_s: 0.1e-12,
             sigma_db: 0.1,
             bounds: Some((0.998, 1.01)),
+            level_free: false,
         };
         let s = p.solve();
         assert!((s.scale[0] - 1.01).abs() < 1e-12, "{:?}", s.scale);
@@ -435,6 +442,7 @@ mod tests {
             sigma_s: 0.1e-12,
             sigma_db: 0.1,
             bounds: None,
+            level_free: false,
         };
         let s = p.solve();
         assert!((s.scale[0] - 1.001).abs() < 1e-5);

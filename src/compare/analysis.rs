@@ -63,6 +63,12 @@ pub struct SweepAnalysis {
     pub warnings: Vec<Warning>,
     /// The window's coefficients over the sweep (for the compensation's band-weighted gain).
     pub window_w: Vec<f64>,
+    /// With an amplifier in the sweep's path (this sweep or the other of its pair returned more power
+    /// than it was sent): the gain the sweep was scaled down by before the analysis, dB. `None` for a passive line.
+    pub path_gain_db: Option<f64>,
+    /// False when an amplifier in the path leaves the absolute size of the sweep's reflections unknown (no
+    /// open or short end and too few of the line file's joints to set it): costs read from them mean nothing.
+    pub scale_known: bool,
 }
 
 /// The window's shape as the detector needs it, and the resolution (round-trip s) over `bandwidth_hz`.
@@ -265,6 +271,8 @@ impl SweepAnalysis {
             alias_free_s,
             warnings,
             window_w: w.clone(),
+            path_gain_db: None,
+            scale_known: true,
         };
         for e in &mut events {
             let piece = out.piece_at(e.delay_s);

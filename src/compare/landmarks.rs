@@ -471,6 +471,7 @@ pub(super) fn fit_alignment(
         sigma_s,
         sigma_db: AMPLITUDE_SIGMA_DB,
         bounds: Some(bounds),
+        level_free: gain_in_path(b) || gain_in_path(c),
     };
     // Baseline delays of the landmarks against the model: a per-segment correction of the model's baseline
     // delays by the same solve (prior 1), so the current scale is relative to what the baseline measured.
@@ -485,6 +486,7 @@ pub(super) fn fit_alignment(
         sigma_s,
         sigma_db: 1.0,
         bounds: None,
+        level_free: false,
     }
     .solve();
     let mut corrected = work.clone();
@@ -547,6 +549,12 @@ pub(super) fn fit_alignment(
             .collect(),
         far_end_prediction: None,
     }
+}
+
+/// Whether an amplifier lies in sweep `a`'s path (`super::sweep::shows_gain` of it or of the other sweep
+/// of its pair).
+pub fn gain_in_path(a: &SweepAnalysis) -> bool {
+    a.path_gain_db.is_some()
 }
 
 /// A uniform chain split at landmark positions into segments named by their extent.

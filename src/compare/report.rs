@@ -198,7 +198,8 @@ pub struct Alignment {
     /// Change of the round-trip delay to the farthest landmark, current over baseline minus one.
     pub electrical_length_change: f64,
     /// Change of the whole trace's level, current over baseline, dB (an amplifier's gain, a source power):
-    /// what every echo shares before the line's own loss change.
+    /// what every echo shares before the line's own loss change. In the report, as swept: with the gain
+    /// each sweep was read scaled down by (`gain-in-path`) put back.
     pub level_change_db: f64,
     /// The line file's joints the baseline showed, on which positions are anchored (docs/method.md), front
     /// to back; empty without a line file.

@@ -31,7 +31,7 @@ use super::place::{place, position_sigma, speed_at, where_text};
 use super::report::*;
 use super::severity::{mismatch_loss_db, Severity};
 use super::states::Hypothesis;
-use super::sweep::{analyse, band_centre, db, no_line_file, sized};
+use super::sweep::{analyse_through, band_centre, db, no_line_file, shows_gain, sized};
 pub use super::sweep::{AnalysisConfig, Sweep};
 use super::CompareError;
 use crate::transform::TraceEngine;
@@ -81,7 +81,12 @@ pub fn analyse_pair(
         chain,
         &[&baseline.network.freqs_hz, &current.network.freqs_hz],
     );
-    let mut b = analyse(baseline, &chain, cfg, Which::Baseline, engine)?;
+    // An amplifier that shows in one sweep of the line is in the other's path too.
+    let amplified = shows_gain(baseline)? || shows_gain(current)?;
+    let analyse = |sweep: &Sweep, chain: &ChainView, which: Which, engine: &mut TraceEngine| {
+        analyse_through(sweep, chain, cfg, which, engine, amplified)
+    };
+    let mut b = analyse(baseline, &chain, Which::Baseline, engine)?;
     // The line file's joints pinned where the baseline shows them, and the baseline analysed again on them.
     let anchors = super::anchor::find(&chain, &b, Which::Baseline);
     let joints: Vec<JointAnchor> = anchors
@@ -96,10 +101,10 @@ pub fn analyse_pair(
     if !anchors.is_empty() {
         chain = super::anchor::anchored(&chain, &anchors, Which::Baseline);
         if super::anchor::worth_reanalysing(&anchors, b.resolution_s) {
-            b = analyse(baseline, &chain, cfg, Which::Baseline, engine)?;
+            b = analyse(baseline, &chain, Which::Baseline, engine)?;
         }
     }
-    let mut c = analyse(current, &chain, cfg, Which::Current, engine)?;
+    let mut c = analyse(current, &chain, Which::Current, engine)?;
     let mut far = FarEnds {
         baseline: far_end::find(&b, &chain, Which::Baseline, engine)?,
         current: far_end::find(&c, &chain, Which::Current, engine)?,
@@ -129,8 +134,8 @@ pub fn analyse_pair(
                     per(lc, tc.delay_s, Which::Current),
                 ];
                 chain.segments[0].loss = lossy;
-                b = analyse(baseline, &chain, cfg, Which::Baseline, engine)?;
-                c = analyse(current, &chain, cfg, Which::Current, engine)?;
+                b = analyse(baseline, &chain, Which::Baseline, engine)?;
+                c = analyse(current, &chain, Which::Current, engine)?;
                 far = FarEnds {
                     baseline: far_end::find(&b, &chain, Which::Baseline, engine)?,
                     current: far_end::find(&c, &chain, Which::Current, engine)?,
@@ -163,6 +168,60 @@ pub fn scale_bounds(h: Hypothesis) -> (f64, f64) {
     }
 }
 
+/// The landmarks among `candidates` (pairs of strong echoes): none at a termination that changed kind, none
+/// behind an open or short far end or a part reflection cannot see through, none at or behind an echo that
+/// changed more than a level or loss change explains; of the rest, the longest chain whose stretches change
+/// their delays within `bounds`.
+fn keep_landmarks(pa: &PairAnalysis, candidates: &Pairs, bounds: (f64, f64)) -> Pairs {
+    let (b, c) = (&pa.b, &pa.c);
+    let res = b.resolution_s.max(c.resolution_s);
+    // A termination swapped for another kind moves its echo by itself: no landmark there.
+    let swapped = match (&pa.far.baseline, &pa.far.current) {
+        (Some(tb), Some(tc)) => {
+            (tb.total != tc.total || tb.polarity * tc.polarity < 0.0).then_some(tb.event)
+        }
+        _ => None,
+    };
+    // Nothing behind an open or short far end is a landmark: only multiple reflections live there.
+    let wall = [&pa.far.baseline, &pa.far.current]
+        .iter()
+        .filter_map(|t| {
+            t.as_ref()
+                .filter(|t| t.total)
+                .map(|t| t.delay_s + 1.5 * res)
+        })
+        .fold(f64::INFINITY, f64::min);
+    // Nor anything behind a part reflection cannot see through.
+    let device = if pa.chain.as_built {
+        pa.chain
+            .delay_to(pa.chain.visible_end_m(), Which::Baseline, None)
+            * 1.02
+            + res
+    } else {
+        f64::INFINITY
+    };
+    // Nor an echo that changed more than a level or loss change can explain (its own joint changed),
+    // nor anything behind it: a changed joint's transmission phase delays every echo behind it.
+    let changed_at = candidates
+        .iter()
+        .filter(|&&(i, j)| {
+            (db(c.events[j].magnitude) - db(b.events[i].magnitude)).abs()
+                > crate::compare::align::MAX_LANDMARK_AMPLITUDE_DB
+        })
+        .map(|&(i, _)| b.events[i].delay_s)
+        .fold(f64::INFINITY, f64::min);
+    let kept: Pairs = candidates
+        .iter()
+        .copied()
+        .filter(|p| {
+            let t = b.events[p.0].delay_s;
+            Some(p.0) != swapped && t <= wall && t <= device && t < changed_at
+        })
+        .collect();
+    // Per-landmark delay uncertainty: a tenth of a cell covers a peak at 30 dB SNR and more.
+    consistent(&kept, b, c, bounds, 0.1 * res)
+}
+
 /// Stage 2: pair landmarks by a bounded search of the delay scale and fit the alignment and the level
 /// calibration to them. Warnings go to `warnings`.
 pub fn align_pair(
@@ -192,7 +251,7 @@ pub fn align_pair(
     let widen = 2e-3;
     let found = scale_search(b, c, &strong, (bounds.0 - widen, bounds.1 + widen));
     let mut chain = pa.chain.clone();
-    let pairs = match &found {
+    let mut pairs = match &found {
         Some(m) => {
             if !chain.as_built {
                 // The uniform line's prior is the scale the search found.
@@ -214,53 +273,7 @@ pub fn align_pair(
                     "check the states given (--baseline-state, --current-state), or leave them out to have them inferred",
                 ));
             }
-            // A termination swapped for another kind moves its echo by itself: no landmark there.
-            let swapped = match (&pa.far.baseline, &pa.far.current) {
-                (Some(tb), Some(tc)) => {
-                    (tb.total != tc.total || tb.polarity * tc.polarity < 0.0).then_some(tb.event)
-                }
-                _ => None,
-            };
-            // Nothing behind an open or short far end is a landmark: only multiple reflections live there.
-            let wall = [&pa.far.baseline, &pa.far.current]
-                .iter()
-                .filter_map(|t| {
-                    t.as_ref()
-                        .filter(|t| t.total)
-                        .map(|t| t.delay_s + 1.5 * res)
-                })
-                .fold(f64::INFINITY, f64::min);
-            // Nor anything behind a part reflection cannot see through.
-            let device = if pa.chain.as_built {
-                pa.chain
-                    .delay_to(pa.chain.visible_end_m(), Which::Baseline, None)
-                    * 1.02
-                    + res
-            } else {
-                f64::INFINITY
-            };
-            // Nor an echo that changed more than a level or loss change can explain (its own joint changed),
-            // nor anything behind it: a changed joint's transmission phase delays every echo behind it.
-            let changed_at = m
-                .pairs
-                .iter()
-                .filter(|&&(i, j)| {
-                    (db(c.events[j].magnitude) - db(b.events[i].magnitude)).abs()
-                        > crate::compare::align::MAX_LANDMARK_AMPLITUDE_DB
-                })
-                .map(|&(i, _)| b.events[i].delay_s)
-                .fold(f64::INFINITY, f64::min);
-            let kept: Pairs = m
-                .pairs
-                .iter()
-                .copied()
-                .filter(|p| {
-                    let t = b.events[p.0].delay_s;
-                    Some(p.0) != swapped && t <= wall && t <= device && t < changed_at
-                })
-                .collect();
-            // Per-landmark delay uncertainty: a tenth of a cell covers a peak at 30 dB SNR and more.
-            consistent(&kept, b, c, (bounds.0 - widen, bounds.1 + widen), 0.1 * res)
+            keep_landmarks(pa, &m.pairs, (bounds.0 - widen, bounds.1 + widen))
         }
         None => Vec::new(),
     };
@@ -278,6 +291,24 @@ pub fn align_pair(
         .filter(|t| !t.total)
         .map(|t| t.event);
     let mut fit = fit_alignment(&chain, b, c, &pairs, f_ref, bounds, device_end);
+    // The search paired echoes under one scale of the whole line; a line whose warm part keeps its length
+    // while its cold part shrinks pairs fewer that way. Pair every strong echo again on the fitted map.
+    if chain.as_built && !pairs.is_empty() {
+        let tol = res / 3.0;
+        let on_map = |t: f64| {
+            fit.chain.delay_to(
+                fit.chain.position_of(t, Which::Baseline, None),
+                Which::Current,
+                None,
+            )
+        };
+        let again = match_events(b, c, on_map, |_| tol, |i, _| strong.contains(&i));
+        let again = keep_landmarks(pa, &again, (bounds.0 - widen, bounds.1 + widen));
+        if again.len() > pairs.len() {
+            pairs = again;
+            fit = fit_alignment(&chain, b, c, &pairs, f_ref, bounds, device_end);
+        }
+    }
     fit.far_end_prediction = far_end_prediction(pa, &chain, &pairs, f_ref, bounds);
     fit
 }
@@ -839,6 +870,31 @@ pub fn compare(
             "mend the open or short first, then sweep again",
         ));
     }
+    if !(pa.b.scale_known && pa.c.scale_known) {
+        // An amplifier in the path and nothing to set the reflections' size by: what changed is known, what
+        // it costs is not, so nothing is claimed above info.
+        let capped = findings
+            .iter()
+            .filter(|f| f.severity > Severity::Info)
+            .count();
+        for f in findings.iter_mut().filter(|f| f.severity > Severity::Info) {
+            f.severity = Severity::Info;
+            f.power_drop_range_db[0] = 0.0;
+            f.power_drop_db = 0.0;
+            f.explanation.push_str(
+                " (the amplifier in the path leaves the reflection's size unknown: the cost is not known)",
+            );
+        }
+        warnings.push(Warning::new(
+            "gain-scale-unknown",
+            format!(
+                "an amplifier lies in the line's path and the sweeps show no open or short end and too few of \
+                 the line file's joints to tell how strong their reflections are: {capped} change(s) that \
+                 would have been reported above info are reported at info"
+            ),
+            "sweep the passive line without the amplifier, or from its other end",
+        ));
+    }
     if !kind_flip {
         if let Some(dt) = far_end.as_ref().and_then(|f| f.delay_change_s) {
             explain_far_end_move(&mut findings, 2.0 * std::f64::consts::PI * f_ref * dt.abs());
@@ -861,7 +917,13 @@ pub fn compare(
         states,
         resolution_m,
         reference_hz: f_ref,
-        alignment: fit.report.clone(),
+        alignment: {
+            // The sweeps were read scaled down by the gain in their paths: the level change as swept.
+            let mut a = fit.report.clone();
+            a.level_change_db +=
+                pa.c.path_gain_db.unwrap_or(0.0) - pa.b.path_gain_db.unwrap_or(0.0);
+            a
+        },
         findings,
         not_visible,
         power,

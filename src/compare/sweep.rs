@@ -50,18 +50,161 @@ pub fn analyse(
     which: Which,
     engine: &mut TraceEngine,
 ) -> Result<SweepAnalysis, CompareError> {
+    let amplified = shows_gain(sweep)?;
+    analyse_through(sweep, chain, cfg, which, engine, amplified)
+}
+
+/// Power a passive line may return, band-averaged, over what it is sent, dB: at most all of it (0 dB). A
+/// calibrated sweep of an open reads a few hundredths above 1 at most (the real campaign's, 1.03), and a
+/// sum of echoes each taken without the transmission through the others (a first-order simulation) a
+/// fraction more; 3 dB over is gain (common practice, no source).
+pub const PASSIVE_POWER_LIMIT_DB: f64 = 3.0;
+
+/// Whether `sweep` returns more power, band-averaged (mean |S11|^2), than a passive line can
+/// ([`PASSIVE_POWER_LIMIT_DB`]): an amplifier lies in its path.
+pub fn shows_gain(sweep: &Sweep) -> Result<bool, CompareError> {
     let s = s11_of(sweep)?;
+    let mean = s.iter().map(|g| g.norm_sqr()).sum::<f64>() / s.len().max(1) as f64;
+    Ok(10.0 * mean.log10() > PASSIVE_POWER_LIMIT_DB)
+}
+
+/// [`analyse`], told whether an amplifier lies in the sweep's path (`amplified`: this sweep or the other of
+/// its pair returned more power than it was sent; the same amplifier is in both).
+pub fn analyse_through(
+    sweep: &Sweep,
+    chain: &ChainView,
+    cfg: &AnalysisConfig,
+    which: Which,
+    engine: &mut TraceEngine,
+    amplified: bool,
+) -> Result<SweepAnalysis, CompareError> {
+    let mut s = s11_of(sweep)?;
     let f = &sweep.network.freqs_hz;
     let res0 = super::analysis::lobe_shape(&cfg.window, f[f.len() - 1] - f[0]).1;
-    SweepAnalysis::new(
-        f,
-        &s,
-        &cfg.window,
-        t_max(chain, which, res0),
-        chain,
-        which,
-        engine,
-    )
+    // Gain in the path (an amplifier in front of the line): a passive line reflects at most all, so the
+    // sweep is scaled down until its largest reflection reads 1. The gain found is a lower bound of the
+    // amplifier's: reflections read no smaller than they are, and costs read from them are upper bounds.
+    let peak = s.iter().map(|g| g.norm()).fold(0.0, f64::max);
+    let path_gain = if amplified && peak > 0.0 {
+        for g in &mut s {
+            *g /= peak;
+        }
+        peak
+    } else {
+        1.0
+    };
+    let t_end = t_max(chain, which, res0);
+    let run = |s: &[Complex64], engine: &mut TraceEngine| {
+        SweepAnalysis::new(f, s, &cfg.window, t_end, chain, which, engine)
+    };
+    let mut a = run(&s, engine)?;
+    let mut path_gain = path_gain;
+    if amplified {
+        // Unless an open or short ends the line (whose echo the largest reflection then is), the joints
+        // set the scale: scaled down further until their typical echo reads as a joint's.
+        let joints = joint_level(&a, chain, which);
+        a.scale_known = ends_total(chain) || joints.is_some_and(|j| j.1);
+        if let Some((m, from_joints)) = joints.filter(|j| j.0 > TYPICAL_JOINT_REFLECTION) {
+            let extra = m / TYPICAL_JOINT_REFLECTION;
+            for g in &mut s {
+                *g /= extra;
+            }
+            path_gain *= extra;
+            a = run(&s, engine)?;
+            a.scale_known = ends_total(chain) || from_joints;
+        }
+    }
+    if amplified {
+        a.path_gain_db = Some(db(path_gain));
+        a.warnings.push(Warning::new(
+            "gain-in-path",
+            format!(
+                "{}: an amplifier lies in the line's path (a sweep of it returns more power than it was sent); this \
+                 sweep is read as a passive line's with {:.1} dB of gain taken out (its largest reflection at \
+                 most total, its joints at a few per cent), so reflections and costs are estimates, and a \
+                 change of the gain is a level change of the whole trace",
+                sweep.name,
+                db(path_gain)
+            ),
+            "give the amplifier's gain and match in its own sweep, or sweep the passive line without it",
+        ));
+    }
+    Ok(a)
+}
+
+/// Typical reflection of a good joint of the line, for setting the scale of a sweep taken through gain:
+/// a few per cent (a good SMA-family joint of 0.086-in coax reflects 1-5 % up to 10 GHz; common practice,
+/// no source).
+pub const TYPICAL_JOINT_REFLECTION: f64 = 0.03;
+
+/// Fewest joints whose echoes set a scale ([`joint_level`]).
+pub const MIN_SCALE_JOINTS: usize = 2;
+
+/// The median strength of the line file's joints as sweep `a` (analysed on `chain` in state `which`) shows
+/// them, and true: for each connector clear of the reference plane and of the visible end by more than a
+/// resolution cell, and in front of any place where the compensation stopped at its cap, the strongest echo
+/// within a cell of its place. With fewer than [`MIN_SCALE_JOINTS`]
+/// joints seen, the median of every echo clear of both ends, and false (a weaker scale: the line's faint
+/// ripples count as joints there). `None` on a line of unknown construction, one that an open or short
+/// ends, or with fewer than [`MIN_SCALE_JOINTS`] echoes.
+pub fn joint_level(a: &SweepAnalysis, chain: &ChainView, which: Which) -> Option<(f64, bool)> {
+    use super::chain::SegmentKind;
+    if !chain.as_built || ends_total(chain) {
+        return None;
+    }
+    let end = chain.visible_end_m();
+    let f_top = a.freqs.last().copied().unwrap_or(0.0);
+    // Clear of the reference plane and the visible end by a cell, and not behind so much loss that the
+    // compensation stopped at its cap (such an echo reads low by what it left undone).
+    let clear = |x: f64| {
+        let cell = a.resolution_s * super::place::speed_at(chain, x, which);
+        x >= 1.5 * cell
+            && x <= end - cell
+            && super::difference::cap_shortfall_db(chain, x, f_top, which) <= 0.0
+    };
+    let mut levels: Vec<f64> = chain
+        .segments
+        .iter()
+        .filter(|s| s.kind == SegmentKind::Connector)
+        .filter_map(|s| {
+            let x = 0.5 * (s.start_m + s.end_m);
+            if !clear(x) {
+                return None;
+            }
+            let cell = a.resolution_s * super::place::speed_at(chain, x, which);
+            a.events
+                .iter()
+                .filter(|e| (chain.position_of(e.delay_s, which, None) - x).abs() <= cell)
+                .map(|e| e.magnitude)
+                .fold(None, |m: Option<f64>, v| Some(m.map_or(v, |m| m.max(v))))
+        })
+        .collect();
+    if levels.len() < MIN_SCALE_JOINTS {
+        // Too few joints of the line file seen: every echo on the visible line clear of both ends (most of
+        // a line's echoes are joints').
+        levels = a
+            .events
+            .iter()
+            .filter(|e| clear(chain.position_of(e.delay_s, which, None)))
+            .map(|e| e.magnitude)
+            .collect();
+        if levels.len() < MIN_SCALE_JOINTS {
+            return None;
+        }
+        return Some((crate::numeric::median(&mut levels), false));
+    }
+    Some((crate::numeric::median(&mut levels), true))
+}
+
+/// Whether the line file says an open or short ends the visible line.
+fn ends_total(chain: &ChainView) -> bool {
+    chain.as_built
+        && chain.first_blocking().is_some_and(|i| {
+            matches!(
+                chain.segments[i].load,
+                Some(crate::line::Load::Open | crate::line::Load::Short)
+            )
+        })
 }
 
 /// The kind of [`no_line_file`]'s warning; the text reports print it first, set apart.

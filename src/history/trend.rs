@@ -34,6 +34,7 @@
 //! Conventions: values in dB (20 log10 |rho|), one value per cycle, cycles equally spaced.
 
 use crate::compare::severity::{CRITICAL_DB, MAJOR_DB, MINOR_DB};
+use crate::numeric::median;
 use crate::Warning;
 use serde::Serialize;
 use std::collections::BTreeMap;
@@ -232,16 +233,6 @@ fn tie_groups(x: &[f64]) -> Vec<usize> {
     out.push(run);
     out.retain(|&t| t > 1);
     out
-}
-
-fn median(v: &mut [f64]) -> f64 {
-    v.sort_by(f64::total_cmp);
-    let n = v.len();
-    if n % 2 == 1 {
-        v[n / 2]
-    } else {
-        0.5 * (v[n / 2 - 1] + v[n / 2])
-    }
 }
 
 /// Theil-Sen line of `x` against its index 0, 1, ...: (slope, intercept), the slope the median of the

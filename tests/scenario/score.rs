@@ -35,6 +35,20 @@ pub struct Run {
     pub open: Vec<String>,
 }
 
+/// Each finding above info of `r`, as `Severity Kind at X m`.
+pub fn alarm_lines(r: &CompareReport) -> Vec<String> {
+    r.findings
+        .iter()
+        .filter(|f| f.severity > Severity::Info)
+        .map(|f| {
+            format!(
+                "{:?} {:?} at {:.3} m",
+                f.severity, f.kind, f.place.distance_m
+            )
+        })
+        .collect()
+}
+
 fn state_name(s: State) -> &'static str {
     match s {
         State::Warm => "warm",
