@@ -408,6 +408,34 @@ mod tests {
         );
     }
 
+    /// Two landmarks (the reference plane's echo and one along the line), the whole trace 4 dB higher: on a
+    /// passive line too few to outvote a changed joint, so the level stays near 0; with gain in the path
+    /// the level is expected to move, and it takes the 4 dB.
+    #[test]
+    fn with_gain_in_the_path_two_landmarks_set_the_level() {
+        let problem = |level_free: bool| AlignProblem {
+            tau: vec![10e-9],
+            prior_scale: vec![1.0],
+            prior_loss_db: vec![0.0],
+            loss_sigma_db: Vec::new(),
+            cover: vec![vec![0.0], vec![0.5]],
+            current_delay_s: vec![0.0, 5e-9],
+            amplitude_change_db: vec![4.0, 4.0],
+            sigma_s: 0.2e-12,
+            sigma_db: 1.0,
+            bounds: Some((0.998, 1.01)),
+            level_free,
+        };
+        let passive = problem(false).solve();
+        assert!(passive.level_db < 3.0, "level {}", passive.level_db);
+        let amplified = problem(true).solve();
+        assert!(
+            (amplified.level_db - 4.0).abs() < 0.1,
+            "level {}",
+            amplified.level_db
+        );
+    }
+
     #[test]
     fn bounded_scales_stay_inside_their_bounds() {
         // Landmarks say the segment grew by 3 %, outside what cooling PTFE can do: the scale stops at 1 %.

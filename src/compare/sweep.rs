@@ -81,54 +81,47 @@ pub fn analyse_through(
     let mut s = s11_of(sweep)?;
     let f = &sweep.network.freqs_hz;
     let res0 = super::analysis::lobe_shape(&cfg.window, f[f.len() - 1] - f[0]).1;
-    // Gain in the path (an amplifier in front of the line): a passive line reflects at most all, so the
-    // sweep is scaled down until its largest reflection reads 1. The gain found is a lower bound of the
-    // amplifier's: reflections read no smaller than they are, and costs read from them are upper bounds.
-    let peak = s.iter().map(|g| g.norm()).fold(0.0, f64::max);
-    let path_gain = if amplified && peak > 0.0 {
-        for g in &mut s {
-            *g /= peak;
-        }
-        peak
-    } else {
-        1.0
-    };
     let t_end = t_max(chain, which, res0);
     let run = |s: &[Complex64], engine: &mut TraceEngine| {
         SweepAnalysis::new(f, s, &cfg.window, t_end, chain, which, engine)
     };
+    if !amplified {
+        return run(&s, engine);
+    }
+    // Gain in the path (an amplifier in front of the line): a passive line reflects at most all, so the
+    // sweep is scaled down until its largest reflection reads 1. The gain found is a lower bound of the
+    // amplifier's: reflections read no smaller than they are, and costs read from them are upper bounds.
+    let mut path_gain = s.iter().map(|g| g.norm()).fold(0.0, f64::max).max(1e-300);
+    for g in &mut s {
+        *g /= path_gain;
+    }
     let mut a = run(&s, engine)?;
-    let mut path_gain = path_gain;
-    if amplified {
-        // Unless an open or short ends the line (whose echo the largest reflection then is), the joints
-        // set the scale: scaled down further until their typical echo reads as a joint's.
-        let joints = joint_level(&a, chain, which);
-        a.scale_known = ends_total(chain) || joints.is_some_and(|j| j.1);
-        if let Some((m, from_joints)) = joints.filter(|j| j.0 > TYPICAL_JOINT_REFLECTION) {
-            let extra = m / TYPICAL_JOINT_REFLECTION;
-            for g in &mut s {
-                *g /= extra;
-            }
-            path_gain *= extra;
-            a = run(&s, engine)?;
-            a.scale_known = ends_total(chain) || from_joints;
+    // Unless an open or short ends the line (whose echo the largest reflection then is), the joints set the
+    // scale: scaled down further until their typical echo reads as a joint's.
+    let joints = joint_level(&a, chain, which);
+    a.scale_known = ends_total(chain) || joints.is_some_and(|j| j.1);
+    if let Some((m, from_joints)) = joints.filter(|j| j.0 > TYPICAL_JOINT_REFLECTION) {
+        let extra = m / TYPICAL_JOINT_REFLECTION;
+        for g in &mut s {
+            *g /= extra;
         }
+        path_gain *= extra;
+        a = run(&s, engine)?;
+        a.scale_known = ends_total(chain) || from_joints;
     }
-    if amplified {
-        a.path_gain_db = Some(db(path_gain));
-        a.warnings.push(Warning::new(
-            "gain-in-path",
-            format!(
-                "{}: an amplifier lies in the line's path (a sweep of it returns more power than it was sent); this \
-                 sweep is read as a passive line's with {:.1} dB of gain taken out (its largest reflection at \
-                 most total, its joints at a few per cent), so reflections and costs are estimates, and a \
-                 change of the gain is a level change of the whole trace",
-                sweep.name,
-                db(path_gain)
-            ),
-            "give the amplifier's gain and match in its own sweep, or sweep the passive line without it",
-        ));
-    }
+    a.path_gain_db = Some(db(path_gain));
+    a.warnings.push(Warning::new(
+        "gain-in-path",
+        format!(
+            "{}: an amplifier lies in the line's path (a sweep of it returns more power than it was sent); this \
+             sweep is read as a passive line's with {:.1} dB of gain taken out (its largest reflection at \
+             most total, its joints at a few per cent), so reflections and costs are estimates, and a \
+             change of the gain is a level change of the whole trace",
+            sweep.name,
+            db(path_gain)
+        ),
+        "give the amplifier's gain and match in its own sweep, or sweep the passive line without it",
+    ));
     Ok(a)
 }
 
