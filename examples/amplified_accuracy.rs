@@ -21,7 +21,6 @@ mod scenario;
 mod section;
 
 use coldtrace::compare::CompareReport;
-use num_complex::Complex64;
 use scenario::{Case, Scenario};
 use std::f64::consts::PI;
 
@@ -60,34 +59,26 @@ impl Shape {
 }
 
 /// `n` as swept through the amplifier in `warm` or cold state.
-fn through(mut n: coldtrace::Network, shape: Shape, warm: bool) -> coldtrace::Network {
-    let freqs = n.freqs_hz.clone();
-    let (f0, f1) = (freqs[0], freqs[freqs.len() - 1]);
-    for (s, &f) in n.s.iter_mut().zip(&freqs) {
-        let u = (f - f0) / (f1 - f0);
-        let (gain, tilt) = if warm { (36.0, -1.0) } else { (40.0, -1.5) };
-        let mut g_db = gain + tilt * u;
-        match shape {
-            Shape::Flat => {}
-            Shape::Band => {
-                let width = 0.3 * (f1 - f0) * if warm { 1.0 } else { 1.05 };
-                let x = (f - 0.5 * (f0 + f1)) / width;
-                g_db -= 10.0 * (1.0 + x.powi(8)).log10();
+fn through(n: coldtrace::Network, shape: Shape, warm: bool) -> coldtrace::Network {
+    let (gain, tilt) = if warm { (36.0, -1.0) } else { (40.0, -1.5) };
+    scenario::through_gain(n, |f, u| {
+        gain + tilt * u
+            + match shape {
+                Shape::Flat => 0.0,
+                // The middle 60 % of the band (u from 0.2 to 0.8), wider by 5 % cold.
+                Shape::Band => {
+                    let x = (u - 0.5) / (0.3 * if warm { 1.0 } else { 1.05 });
+                    -10.0 * (1.0 + x.powi(8)).log10()
+                }
+                Shape::Ripple => 0.5 * (2.0 * PI * f / 700e6 + if warm { 0.0 } else { 1.3 }).sin(),
             }
-            Shape::Ripple => {
-                g_db += 0.5 * (2.0 * PI * f / 700e6 + if warm { 0.0 } else { 1.3 }).sin();
-            }
-        }
-        *s *= Complex64::from_polar(10f64.powf(g_db / 20.0), 0.0);
-    }
-    n
+    })
 }
 
 /// Whether a sweep returns more power than a passive line can (the amplifier shows in the data).
 fn reads_above_total(n: &coldtrace::Network) -> bool {
-    let s = n.s11();
-    let mean = s.iter().map(|g| g.norm_sqr()).sum::<f64>() / s.len().max(1) as f64;
-    10.0 * mean.log10() > coldtrace::compare::sweep::PASSIVE_POWER_LIMIT_DB
+    use coldtrace::compare::sweep::{returned_power_db, PASSIVE_POWER_LIMIT_DB};
+    returned_power_db(&n.s11()) > PASSIVE_POWER_LIMIT_DB
 }
 
 /// The comparison of healthy scenario `seed` through `shape`, states given or inferred, and whether the

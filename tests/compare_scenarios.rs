@@ -266,14 +266,8 @@ fn healthy_cooldowns_found_out_of_sample_raise_nothing_above_info() {
 /// three amplitude landmarks held the level near 0.
 #[test]
 fn healthy_cooldowns_through_an_amplifier_raise_nothing_above_info() {
-    let through = |mut n: coldtrace::Network, gain_db: f64, tilt_db: f64| {
-        let (f0, f1) = (n.freqs_hz[0], n.freqs_hz[n.len() - 1]);
-        let freqs = n.freqs_hz.clone();
-        for (g, f) in n.s.iter_mut().zip(&freqs) {
-            *g *= 10f64.powf((gain_db + tilt_db * (f - f0) / (f1 - f0)) / 20.0);
-        }
-        n
-    };
+    let through =
+        |n, gain_db: f64, tilt_db: f64| scenario::through_gain(n, |_, u| gain_db + tilt_db * u);
     let mut bad = Vec::new();
     for seed in [
         9_000_022, 9_000_023, 9_000_031, 9_000_002, 9_000_003, 9_000_005,
@@ -281,10 +275,8 @@ fn healthy_cooldowns_through_an_amplifier_raise_nothing_above_info() {
         let s = Scenario::generate(seed, Case::Healthy);
         let (b, c) = s.sweeps().unwrap();
         let (b, c) = (through(b, 36.0, -1.0), through(c, 40.0, -1.5));
-        let power_db = |n: &coldtrace::Network| {
-            let s = n.s11();
-            10.0 * (s.iter().map(|g| g.norm_sqr()).sum::<f64>() / s.len() as f64).log10()
-        };
+        let power_db =
+            |n: &coldtrace::Network| coldtrace::compare::sweep::returned_power_db(&n.s11());
         assert!(
             power_db(&b).max(power_db(&c)) > coldtrace::compare::sweep::PASSIVE_POWER_LIMIT_DB,
             "seed {seed}: the gain should show"

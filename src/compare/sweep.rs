@@ -60,12 +60,16 @@ pub fn analyse(
 /// fraction more; 3 dB over is gain (common practice, no source).
 pub const PASSIVE_POWER_LIMIT_DB: f64 = 3.0;
 
-/// Whether `sweep` returns more power, band-averaged (mean |S11|^2), than a passive line can
-/// ([`PASSIVE_POWER_LIMIT_DB`]): an amplifier lies in its path.
+/// Power a reflection returns over what it is sent, band-averaged (mean |S11|^2), dB.
+pub fn returned_power_db(s11: &[Complex64]) -> f64 {
+    let mean = s11.iter().map(|g| g.norm_sqr()).sum::<f64>() / s11.len().max(1) as f64;
+    10.0 * mean.log10()
+}
+
+/// Whether `sweep` returns more power than a passive line can ([`returned_power_db`] over
+/// [`PASSIVE_POWER_LIMIT_DB`]): an amplifier lies in its path.
 pub fn shows_gain(sweep: &Sweep) -> Result<bool, CompareError> {
-    let s = s11_of(sweep)?;
-    let mean = s.iter().map(|g| g.norm_sqr()).sum::<f64>() / s.len().max(1) as f64;
-    Ok(10.0 * mean.log10() > PASSIVE_POWER_LIMIT_DB)
+    Ok(returned_power_db(&s11_of(sweep)?) > PASSIVE_POWER_LIMIT_DB)
 }
 
 /// [`analyse`], told whether an amplifier lies in the sweep's path (`amplified`: this sweep or the other of
@@ -136,9 +140,8 @@ pub const MIN_SCALE_JOINTS: usize = 2;
 /// The median strength of the line file's joints as sweep `a` (analysed on `chain` in state `which`) shows
 /// them, and true: for each connector clear of the reference plane and of the visible end by more than a
 /// resolution cell, and in front of any place where the compensation stopped at its cap, the strongest echo
-/// within a cell of its place. With fewer than [`MIN_SCALE_JOINTS`]
-/// joints seen, the median of every echo clear of both ends, and false (a weaker scale: the line's faint
-/// ripples count as joints there). `None` on a line of unknown construction, one that an open or short
+/// within a cell of its place. With fewer than [`MIN_SCALE_JOINTS`] joints seen, the median of every echo
+/// clear of both ends, and false (a weaker scale: the line's faint ripples count as joints there). `None` on a line of unknown construction, one that an open or short
 /// ends, or with fewer than [`MIN_SCALE_JOINTS`] echoes.
 pub fn joint_level(a: &SweepAnalysis, chain: &ChainView, which: Which) -> Option<(f64, bool)> {
     use super::chain::SegmentKind;

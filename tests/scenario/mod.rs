@@ -440,6 +440,17 @@ fn kinds_for(from: usize, to: usize) -> &'static [&'static str] {
     }
 }
 
+/// `n` as swept through an amplifier in front of the line: every point scaled by the round-trip gain
+/// `gain_db(f, u)`, dB, at frequency `f` (Hz) whose place in the band is `u` (0 at its bottom, 1 at its top).
+pub fn through_gain(mut n: Network, gain_db: impl Fn(f64, f64) -> f64) -> Network {
+    let freqs = n.freqs_hz.clone();
+    let (f0, f1) = (freqs[0], freqs[freqs.len() - 1]);
+    for (s, &f) in n.s.iter_mut().zip(&freqs) {
+        *s *= 10f64.powf(gain_db(f, (f - f0) / (f1 - f0)) / 20.0);
+    }
+    n
+}
+
 impl Scenario {
     /// The scenario of `seed` and `case`.
     pub fn generate(seed: u64, case: Case) -> Scenario {
