@@ -14,7 +14,9 @@
 #[path = "../tests/scenario/mod.rs"]
 mod scenario;
 
-use scenario::score::{confusion_table, evaluate, evaluate_all, plan, table, Evaluated, Figures};
+use scenario::score::{
+    confusion_table, evaluate, evaluate_all, kind_table, plan, table, Evaluated, Figures,
+};
 use scenario::Case;
 use std::fmt::Write as _;
 use std::path::PathBuf;
@@ -304,6 +306,14 @@ fn main() {
          (`none`: no finding).\n"
     );
     let _ = writeln!(md, "{}", confusion_table(&inferred));
+    let _ = writeln!(
+        md,
+        "Faults over the noise ranked first at their element (of all such faults), states inferred, by true kind \
+         and the pair's true states; a fault at the joint in front of a far end that reflects {} or more is \
+         counted apart (docs/method.md, \"Where the comparator cannot tell\").\n",
+        scenario::END_REFLECTION
+    );
+    let _ = writeln!(md, "{}", kind_table(&inferred));
     let _ = writeln!(
         md,
         "## Worst cases\n\nReplay any of them with `cargo run --release --example accuracy -- --show CASE:SEED` \

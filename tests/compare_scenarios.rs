@@ -318,6 +318,25 @@ fn a_small_change_of_a_strong_joint_in_one_state_is_reported_at_info() {
     }
 }
 
+/// A gap of 18 fF bridged by 24 ohm at J3 of a warm -> cold pair (seed 1500194), J3 the joint right in
+/// front of a device of 5.4 dB return loss: the two share one resolution cell, and what the port sees is the
+/// device's echo falling by 2.8 dB (2.2 dB beyond the calibration), under the 6 dB a component's echo may
+/// move by on cooling. Nothing was reported. It is now noted at info at the far end, whose nearest connector
+/// is J3, and ranked first; nothing is raised above info (it may as well be the device's own cooling).
+#[test]
+fn a_fault_in_front_of_a_device_across_a_cooldown_is_noted_at_the_far_end() {
+    let e = scenario::score::evaluate(1_500_194, Case::Fault);
+    assert!(
+        e.scenario.fault_masked_by_end(),
+        "the seed should place the fault in front of the device: {}",
+        case_line(&e, true)
+    );
+    for given in [true, false] {
+        assert_right_first(&e, given);
+        assert!(e.run(given).alarms.is_empty(), "{}", case_line(&e, given));
+    }
+}
+
 /// A pin gap of 8.6 fF at J3 (seed 1500144) reflects 0.999 across 0.01-20 GHz: an open. What appears behind
 /// it (multiple reflections, lifted by the compensation of the attenuators behind) is not claimed, and the
 /// pin gap ranks first.

@@ -162,6 +162,12 @@ pub const VECTOR_CHANGE: f64 = 0.412_537_5;
 /// alignment (common practice, no source).
 pub const NOTED_VECTOR_CHANGE: f64 = 0.15;
 
+/// Strength change of a component's echo beyond the calibration, across a change of state, from which it
+/// is reported at `info` though under [`COMPONENT_CHANGE_DB`]: half as much again as a landmark's own
+/// amplitude uncertainty in the calibration of levels ([`AMPLITUDE_SIGMA_DB`], 1 dB; common practice, no
+/// source).
+pub const NOTED_COMPONENT_DB: f64 = 1.5;
+
 /// Least amplitude SNR of an echo whose small change is reported (1000: 60 dB): the noise then moves its
 /// complex response by a thousandth, and a faint echo's response is shaped by its neighbours' skirts and
 /// the compensation's residue more than by its joint (common practice, no source).
@@ -255,9 +261,19 @@ impl Change {
     /// [`NOTED_SNR`] over the noise moved its complex response by less than counts as a change but by more
     /// than [`NOTED_VECTOR_CHANGE`] of itself: a joint that changed a little (a contact that has started to
     /// open). It is reported at `info`, never above, so that its history can be followed.
+    ///
+    /// Across a change of state, a component's echo ([`Change::is_component`]) well over the noise
+    /// ([`ACROSS_STATES_SNR`]) whose strength moved beyond the calibration by [`NOTED_COMPONENT_DB`] or more
+    /// but by less than counts as a change there ([`COMPONENT_CHANGE_DB`]) is noted too: its own cooling
+    /// may have made it, and so may a fault at the joint in front of it, which shares its resolution cell.
     pub fn noted(&self, same_state: bool) -> bool {
-        same_state
-            && self.base.is_some()
+        if !same_state {
+            return self.base.is_some()
+                && self.is_component()
+                && self.snr >= ACROSS_STATES_SNR
+                && self.excess_db.abs() >= NOTED_COMPONENT_DB;
+        }
+        self.base.is_some()
             && self.base_level < COMPONENT_REFLECTION
             && self.snr >= NOTED_SNR
             && self.vector_change() >= NOTED_VECTOR_CHANGE
@@ -1045,6 +1061,25 @@ mod tests {
         // The same change of a faint echo, or a change within the analyser's drift, is not.
         assert!(!paired(0.0224, 0.0236, 21.0, 500.0).noted(true));
         assert!(!paired(0.0224, 0.0226, 3.0, 30_000.0).noted(true));
+    }
+
+    #[test]
+    fn a_components_echo_moved_under_what_counts_across_states_is_noted() {
+        // A device's echo, 0.79 -> 0.57 (-2.8 dB) beyond the calibration, well over the noise: under the
+        // 6 dB a component's echo may move by on cooling, over the 1.5 dB that is noted.
+        let mut ch = paired(0.79, 0.57, -3.6, 97_000.0);
+        ch.at_device = true;
+        assert!(!ch.changed(false), "{ch:?}");
+        assert!(ch.noted(false), "{ch:?}");
+        // Within 1.5 dB of the calibration, or too close to the noise, it is not.
+        let mut small = paired(0.79, 0.70, -3.6, 97_000.0);
+        small.at_device = true;
+        assert!(!small.noted(false), "{small:?}");
+        let mut faint = paired(0.79, 0.57, -3.6, 50.0);
+        faint.at_device = true;
+        assert!(!faint.noted(false), "{faint:?}");
+        // A joint's echo (not a component's) is not noted across states.
+        assert!(!paired(0.03, 0.022, 0.0, 97_000.0).noted(false));
     }
 
     #[test]

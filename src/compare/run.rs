@@ -806,8 +806,12 @@ pub fn compare(
         if noted_only {
             // Too small to count: reported, never above info.
             f.severity = Severity::Info;
-            f.explanation
-                .push_str(" (a small change, below what counts as one; follow it in the history)");
+            f.explanation.push_str(if same_state {
+                " (a small change, below what counts as one; follow it in the history)"
+            } else {
+                " (within what a component's own cooling makes of its echo; a fault at the joint in front of \
+                 it would look alike: compare two sweeps taken in one state, or follow it in the history)"
+            });
         } else if ch.within_device_drift(same_state) {
             f.severity = Severity::Info;
             f.explanation.push_str(

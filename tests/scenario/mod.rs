@@ -41,7 +41,7 @@ pub mod score;
 use coldtrace::compare::job::{compare_networks, LineModel, PairRequest};
 use coldtrace::compare::{AnalysisConfig, CompareReport};
 use coldtrace::line::rng::Rng;
-use coldtrace::line::{simulate, ElementKind, Fault, Line, Perturbation, SimConfig, State};
+use coldtrace::line::{simulate, ElementKind, Fault, Line, Load, Perturbation, SimConfig, State};
 use coldtrace::Network;
 use num_complex::Complex64;
 use std::fmt::Write as _;
@@ -59,6 +59,9 @@ pub const USER_KIND_SHARE: f64 = 0.15;
 pub const USER_VF: (f64, f64) = (0.69, 0.84);
 pub const USER_LOSS_DB_PER_M_1GHZ: (f64, f64) = (0.3, 2.0);
 pub const USER_CONDUCTORS: [&str; 3] = ["copper", "cupronickel", "stainless304"];
+/// Reflection of a far end from which a fault at the joint in front of it is counted apart: the end's
+/// echo and the fault's share one resolution cell (the comparator's own `COMPONENT_REFLECTION`, 0.1).
+pub const END_REFLECTION: f64 = 0.1;
 /// Share of lines with a connector between the last cable and the device (common practice, no source).
 pub const END_CONNECTOR_SHARE: f64 = 0.5;
 /// Far-end devices: a resistive load (20 or 120 ohm, or any in this range) or a stated return loss, dB
@@ -694,6 +697,36 @@ impl Scenario {
             sc.fault = Some(sc.place_fault(&mut g));
         }
         sc
+    }
+
+    /// Whether the fault lies at the joint right in front of a far end that reflects strongly (an open, a
+    /// short, or a device of [`END_REFLECTION`] or more): its echo and the end's share one resolution cell,
+    /// so what the comparator sees of it is a change of the end's own echo, which a device's cooling also
+    /// makes (docs/method.md, "Where the comparator cannot tell").
+    pub fn fault_masked_by_end(&self) -> bool {
+        let Some(f) = &self.fault else {
+            return false;
+        };
+        if !f.at_connector {
+            return false;
+        }
+        let els = &self.truth.elements;
+        let Some(k) = els.iter().position(|e| e.name == f.element) else {
+            return false;
+        };
+        match els.get(k + 1).map(|e| &e.kind) {
+            Some(ElementKind::Device { load }) => {
+                let z0 = self.truth.impedance_ohm;
+                let rho = match *load {
+                    Load::Match => 0.0,
+                    Load::Open | Load::Short => 1.0,
+                    Load::Ohms(r) => ((r - z0) / (r + z0)).abs(),
+                    Load::Reflection(x) => x.abs(),
+                };
+                rho >= END_REFLECTION
+            }
+            _ => false,
+        }
     }
 
     /// One-way as-built distance a resolution cell's main lobe covers around an echo in a line of

@@ -4,7 +4,7 @@
 //!
 //! Conventions: as the parent module: positions in the nominal line's as-built metres, levels in dB.
 
-use super::{Case, Scenario, TrueKind, VISIBLE_LEVEL_DB};
+use super::{Case, Scenario, TrueKind, END_REFLECTION, VISIBLE_LEVEL_DB};
 use coldtrace::compare::{CompareReport, Severity};
 use coldtrace::line::State;
 use std::fmt::Write as _;
@@ -336,6 +336,10 @@ pub struct Figures {
     /// the level as the port sees it.
     pub lumped_visible_faults: usize,
     pub lumped_visible_right: usize,
+    /// Visible faults not at the joint in front of a strongly reflecting far end
+    /// (`Scenario::fault_masked_by_end`), and those ranked first at their element.
+    pub clear_visible_faults: usize,
+    pub clear_visible_right: usize,
     pub all_faults: usize,
     pub all_right: usize,
     /// Location errors of visible faults with a rank-1 finding, m; and of those whose element is right.
@@ -350,6 +354,9 @@ pub struct Figures {
     pub errors: usize,
     /// (true kind, reported rank-1 kind or "none") -> count, visible faults.
     pub confusion: std::collections::BTreeMap<(TrueKind, &'static str), usize>,
+    /// (true kind, the pair's true states, masked by the far end) -> (ranked first at the element, visible
+    /// faults).
+    pub by_kind: std::collections::BTreeMap<(TrueKind, &'static str, bool), (usize, usize)>,
 }
 
 impl Figures {
@@ -366,6 +373,8 @@ impl Figures {
             visible_right: 0,
             lumped_visible_faults: 0,
             lumped_visible_right: 0,
+            clear_visible_faults: 0,
+            clear_visible_right: 0,
             all_faults: 0,
             all_right: 0,
             location_errors_m: Vec::new(),
@@ -377,6 +386,7 @@ impl Figures {
             fault_states_right: 0,
             errors: 0,
             confusion: Default::default(),
+            by_kind: Default::default(),
         };
         for e in all {
             let r = e.run(states_given);
@@ -412,6 +422,10 @@ impl Figures {
                     if t.visible() {
                         f.visible_faults += 1;
                         f.visible_right += right as usize;
+                        if !e.scenario.fault_masked_by_end() {
+                            f.clear_visible_faults += 1;
+                            f.clear_visible_right += right as usize;
+                        }
                         if let Some(x) = e.location_error_m(states_given) {
                             f.location_errors_m.push(x);
                             if right {
@@ -420,6 +434,17 @@ impl Figures {
                         }
                         let k = r.top.as_ref().map(|t| t.kind).unwrap_or("none");
                         *f.confusion.entry((t.kind, k)).or_default() += 1;
+                        let states = if e.scenario.baseline_state == e.scenario.current_state {
+                            "same state"
+                        } else {
+                            "across states"
+                        };
+                        let cell = f
+                            .by_kind
+                            .entry((t.kind, states, e.scenario.fault_masked_by_end()))
+                            .or_default();
+                        cell.0 += right as usize;
+                        cell.1 += 1;
                     }
                 }
             }
@@ -460,6 +485,15 @@ pub fn table(inferred: &Figures, given: &Figures) -> String {
         &format!("right element first, faults >= {VISIBLE_LEVEL_DB} dB over noise"),
         ">= 98 %",
         |f| (f.visible_right, f.visible_faults),
+    );
+    share(
+        &mut s,
+        &format!(
+            "the same, faults >= {VISIBLE_LEVEL_DB} dB over noise except at the joint in front of a far end \
+             reflecting {END_REFLECTION} or more"
+        ),
+        "-",
+        |f| (f.clear_visible_right, f.clear_visible_faults),
     );
     share(
         &mut s,
@@ -521,6 +555,43 @@ pub fn table(inferred: &Figures, given: &Figures) -> String {
         format!("{} of {n}", inferred.errors),
         format!("{} of {n}", given.errors),
     );
+    s
+}
+
+/// Faults over the noise ranked first at their element, by true kind and the pair's true states (one
+/// state, or across a change of state), apart for those at the joint in front of a strongly reflecting
+/// far end (Markdown).
+pub fn kind_table(f: &Figures) -> String {
+    let mut s = String::new();
+    let cols = [
+        ("same state", false),
+        ("across states", false),
+        ("same state", true),
+        ("across states", true),
+    ];
+    let _ = writeln!(
+        s,
+        "| true kind | one state | across a change of state | one state, at the far end's joint | across a \
+         change of state, at the far end's joint |"
+    );
+    let _ = writeln!(s, "|---|---|---|---|---|");
+    let mut kinds: Vec<TrueKind> = f.by_kind.keys().map(|k| k.0).collect();
+    kinds.sort();
+    kinds.dedup();
+    for k in kinds {
+        let cells: Vec<String> = cols
+            .iter()
+            .map(|&(st, masked)| {
+                let (n, d) = f.by_kind.get(&(k, st, masked)).copied().unwrap_or((0, 0));
+                if d == 0 {
+                    "-".to_string()
+                } else {
+                    format!("{n}/{d}")
+                }
+            })
+            .collect();
+        let _ = writeln!(s, "| {} | {} |", k.name(), cells.join(" | "));
+    }
     s
 }
 
