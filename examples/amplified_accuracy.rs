@@ -151,7 +151,9 @@ fn main() {
          examples/amplified_accuracy.rs. A false alarm is any finding above info. Where a sweep returns more \
          power than it was sent (band-averaged, by 3 dB), the amplifier shows in the data: the sweeps are read scaled down to a passive line's \
          and the gain's change is fitted as a level change (docs/method.md, \"Gain in the path\"). On a line \
-         matched well enough that even 40 dB of gain returns less, nothing in the sweeps tells that an amplifier is there; those lines are counted apart.\n\n"
+         matched well enough that even 40 dB of gain returns less, the power does not tell that an amplifier is \
+         there; those lines are counted apart (the gain hidden), and the amplifier shows there only where both \
+         sweeps show every joint of the line file they see, two at least, at 0.1 or more.\n\n"
     ));
     out.push_str(
         "| gain | lines whose sweeps return more power than a passive line (3 dB) | false alarms among them, states given | \

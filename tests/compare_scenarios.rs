@@ -266,20 +266,47 @@ fn healthy_cooldowns_found_out_of_sample_raise_nothing_above_info() {
 /// three amplitude landmarks held the level near 0.
 #[test]
 fn healthy_cooldowns_through_an_amplifier_raise_nothing_above_info() {
+    let bad = through_an_amplifier(
+        &[
+            9_000_022, 9_000_023, 9_000_031, 9_000_002, 9_000_003, 9_000_005,
+        ],
+        true,
+    );
+    report("healthy cooldowns through an amplifier", &bad);
+}
+
+/// Healthy cooldowns through the same amplifier on lines matched so well that neither sweep returns more
+/// power than a passive line may (seeds 9000050, 9000101 and 9000167 of `amplified_accuracy --seed 9`):
+/// nothing in the sweeps' power tells the gain, and each was read as a passive line whose joints reflect
+/// a third or more, with a major or critical finding. Every joint of the line file the sweeps show reads at
+/// a component's level in both sweeps: that is the gain, and it is taken out as where it shows.
+#[test]
+fn healthy_cooldowns_through_an_amplifier_that_returns_little_power_raise_nothing_above_info() {
+    let bad = through_an_amplifier(&[9_000_050, 9_000_101, 9_000_167], false);
+    report(
+        "healthy cooldowns through an amplifier, the gain hidden in power",
+        &bad,
+    );
+}
+
+/// Each healthy cooldown of `seeds` swept through a round-trip gain of 36 dB warm and 40 dB cold, tilted by
+/// 1 and 1.5 dB across the band; the sweeps return more power than a passive line when `shows`, and no more
+/// otherwise. Whatever is wrong with the comparisons, one line each.
+fn through_an_amplifier(seeds: &[u64], shows: bool) -> Vec<String> {
     let through =
         |n, gain_db: f64, tilt_db: f64| scenario::through_gain(n, |_, u| gain_db + tilt_db * u);
     let mut bad = Vec::new();
-    for seed in [
-        9_000_022, 9_000_023, 9_000_031, 9_000_002, 9_000_003, 9_000_005,
-    ] {
+    for &seed in seeds {
         let s = Scenario::generate(seed, Case::Healthy);
         let (b, c) = s.sweeps().unwrap();
         let (b, c) = (through(b, 36.0, -1.0), through(c, 40.0, -1.5));
         let power_db =
             |n: &coldtrace::Network| coldtrace::compare::sweep::returned_power_db(&n.s11());
-        assert!(
+        assert_eq!(
             power_db(&b).max(power_db(&c)) > coldtrace::compare::sweep::PASSIVE_POWER_LIMIT_DB,
-            "seed {seed}: the gain should show"
+            shows,
+            "seed {seed}: the gain should {}show in the power returned",
+            if shows { "" } else { "not " }
         );
         for given in [true, false] {
             let r = s.compare(&b, &c, given).unwrap();
@@ -290,11 +317,11 @@ fn healthy_cooldowns_through_an_amplifier_raise_nothing_above_info() {
                     alarms.join("; ")
                 ));
             }
-            assert!(
-                r.warnings.iter().any(|w| w.kind == "gain-in-path"),
-                "seed {seed}: {:?}",
-                r.warnings
-            );
+            if !r.warnings.iter().any(|w| w.kind == "gain-in-path") {
+                bad.push(format!(
+                    "  seed {seed}, states given {given}: no gain-in-path warning"
+                ));
+            }
             if given && (r.alignment.level_change_db - 4.0).abs() > 1.5 {
                 bad.push(format!(
                     "  seed {seed}: level change {:.2} dB, the gain moved by 4 dB",
@@ -303,7 +330,7 @@ fn healthy_cooldowns_through_an_amplifier_raise_nothing_above_info() {
             }
         }
     }
-    report("healthy cooldowns through an amplifier", &bad);
+    bad
 }
 
 /// A contact of 0.63 ohm at J3 of a cold -> cold repeat (seed 1500119): it turns J3's echo (a 7.8 fF joint,

@@ -82,11 +82,14 @@ pub fn analyse_pair(
         &[&baseline.network.freqs_hz, &current.network.freqs_hz],
     );
     // An amplifier that shows in one sweep of the line is in the other's path too.
-    let amplified = shows_gain(baseline)? || shows_gain(current)?;
-    let analyse = |sweep: &Sweep, chain: &ChainView, which: Which, engine: &mut TraceEngine| {
-        analyse_through(sweep, chain, cfg, which, engine, amplified)
-    };
-    let mut b = analyse(baseline, &chain, Which::Baseline, engine)?;
+    let mut amplified = shows_gain(baseline)? || shows_gain(current)?;
+    let analyse =
+        |sweep: &Sweep,
+         chain: &ChainView,
+         which: Which,
+         engine: &mut TraceEngine,
+         amplified: bool| { analyse_through(sweep, chain, cfg, which, engine, amplified) };
+    let mut b = analyse(baseline, &chain, Which::Baseline, engine, amplified)?;
     // The line file's joints pinned where the baseline shows them, and the baseline analysed again on them.
     let anchors = super::anchor::find(&chain, &b, Which::Baseline);
     let joints: Vec<JointAnchor> = anchors
@@ -101,10 +104,20 @@ pub fn analyse_pair(
     if !anchors.is_empty() {
         chain = super::anchor::anchored(&chain, &anchors, Which::Baseline);
         if super::anchor::worth_reanalysing(&anchors, b.resolution_s) {
-            b = analyse(baseline, &chain, Which::Baseline, engine)?;
+            b = analyse(baseline, &chain, Which::Baseline, engine, amplified)?;
         }
     }
-    let mut c = analyse(current, &chain, Which::Current, engine)?;
+    let mut c = analyse(current, &chain, Which::Current, engine, amplified)?;
+    // A well-matched line behind an amplifier may return less power than it is sent; its joints then read
+    // as no passive joint reflects, in both sweeps (a fault changes one joint, or a few).
+    if !amplified
+        && joints_lifted(&b, &chain, Which::Baseline)
+        && joints_lifted(&c, &chain, Which::Current)
+    {
+        amplified = true;
+        b = analyse(baseline, &chain, Which::Baseline, engine, amplified)?;
+        c = analyse(current, &chain, Which::Current, engine, amplified)?;
+    }
     let mut far = FarEnds {
         baseline: far_end::find(&b, &chain, Which::Baseline, engine)?,
         current: far_end::find(&c, &chain, Which::Current, engine)?,
@@ -134,8 +147,8 @@ pub fn analyse_pair(
                     per(lc, tc.delay_s, Which::Current),
                 ];
                 chain.segments[0].loss = lossy;
-                b = analyse(baseline, &chain, Which::Baseline, engine)?;
-                c = analyse(current, &chain, Which::Current, engine)?;
+                b = analyse(baseline, &chain, Which::Baseline, engine, amplified)?;
+                c = analyse(current, &chain, Which::Current, engine, amplified)?;
                 far = FarEnds {
                     baseline: far_end::find(&b, &chain, Which::Baseline, engine)?,
                     current: far_end::find(&c, &chain, Which::Current, engine)?,
@@ -152,6 +165,20 @@ pub fn analyse_pair(
         loss_from_far_end,
         anchors: joints,
     })
+}
+
+/// Reflection that the best joint of a passive line does not reach ([`joints_lifted`]): 0.1, from which an
+/// echo is a component's (`difference::COMPONENT_REFLECTION`). A connector pair of 48-53 ohm reflects under
+/// 0.03, and 15 fF of shunt capacitance 0.05 at 20 GHz (omega C Z0 / 2; circuit theory).
+pub const LIFTED_JOINT_REFLECTION: f64 = super::difference::COMPONENT_REFLECTION;
+
+/// Whether sweep `a` (analysed as a passive line's on `chain` in state `which`) shows every joint of the
+/// line file it sees, at least [`super::sweep::MIN_SCALE_JOINTS`] of them, at [`LIFTED_JOINT_REFLECTION`]
+/// or more. When both sweeps of a pair do, an amplifier lies in the path, though neither returns more power
+/// than a passive line may (a well-matched line). One bad joint, or a few, leave the best ones where they
+/// were.
+fn joints_lifted(a: &SweepAnalysis, chain: &ChainView, which: Which) -> bool {
+    super::sweep::weakest_joint(a, chain, which).is_some_and(|m| m >= LIFTED_JOINT_REFLECTION)
 }
 
 /// Bounds of each segment's delay scale under hypothesis `h` (across a change of state,

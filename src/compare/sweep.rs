@@ -117,8 +117,9 @@ pub fn analyse_through(
     a.warnings.push(Warning::new(
         "gain-in-path",
         format!(
-            "{}: an amplifier lies in the line's path (a sweep of it returns more power than it was sent); this \
-             sweep is read as a passive line's with {:.1} dB of gain taken out (its largest reflection at \
+            "{}: an amplifier lies in the line's path (a sweep of it returns more power than it was sent, or \
+             every joint of the line file both sweeps show reflects as no passive joint does); this sweep is \
+             read as a passive line's with {:.1} dB of gain taken out (its largest reflection at \
              most total, its joints at a few per cent), so reflections and costs are estimates, and a \
              change of the gain is a level change of the whole trace",
             sweep.name,
@@ -144,21 +145,58 @@ pub const MIN_SCALE_JOINTS: usize = 2;
 /// clear of both ends, and false (a weaker scale: the line's faint ripples count as joints there). `None` on a line of unknown construction, one that an open or short
 /// ends, or with fewer than [`MIN_SCALE_JOINTS`] echoes.
 pub fn joint_level(a: &SweepAnalysis, chain: &ChainView, which: Which) -> Option<(f64, bool)> {
-    use super::chain::SegmentKind;
     if !chain.as_built || ends_total(chain) {
         return None;
     }
+    let (mut levels, clear) = joint_levels(a, chain, which);
+    if levels.len() < MIN_SCALE_JOINTS {
+        // Too few joints of the line file seen: every echo on the visible line clear of both ends (most of
+        // a line's echoes are joints').
+        levels = a
+            .events
+            .iter()
+            .filter(|e| clear(chain.position_of(e.delay_s, which, None)))
+            .map(|e| e.magnitude)
+            .collect();
+        if levels.len() < MIN_SCALE_JOINTS {
+            return None;
+        }
+        return Some((crate::numeric::median(&mut levels), false));
+    }
+    Some((crate::numeric::median(&mut levels), true))
+}
+
+/// The weakest of the line file's joints as sweep `a` (analysed on `chain` in state `which`) shows them
+/// (as [`joint_level`] picks them), when it shows at least [`MIN_SCALE_JOINTS`]; `None` on a line of
+/// unknown construction or with fewer joints seen.
+pub fn weakest_joint(a: &SweepAnalysis, chain: &ChainView, which: Which) -> Option<f64> {
+    if !chain.as_built {
+        return None;
+    }
+    let (levels, _) = joint_levels(a, chain, which);
+    (levels.len() >= MIN_SCALE_JOINTS).then(|| levels.iter().copied().fold(f64::INFINITY, f64::min))
+}
+
+/// For each connector of the line file clear of the reference plane and of the visible end by more than a
+/// resolution cell, and in front of any place where the compensation stopped at its cap, the strongest
+/// echo of sweep `a` within a cell of its place; and the test of a place's being clear.
+fn joint_levels<'a>(
+    a: &'a SweepAnalysis,
+    chain: &'a ChainView,
+    which: Which,
+) -> (Vec<f64>, impl Fn(f64) -> bool + 'a) {
+    use super::chain::SegmentKind;
     let end = chain.visible_end_m();
     let f_top = a.freqs.last().copied().unwrap_or(0.0);
     // Clear of the reference plane and the visible end by a cell, and not behind so much loss that the
     // compensation stopped at its cap (such an echo reads low by what it left undone).
-    let clear = |x: f64| {
+    let clear = move |x: f64| {
         let cell = a.resolution_s * super::place::speed_at(chain, x, which);
         x >= 1.5 * cell
             && x <= end - cell
             && super::difference::cap_shortfall_db(chain, x, f_top, which) <= 0.0
     };
-    let mut levels: Vec<f64> = chain
+    let levels: Vec<f64> = chain
         .segments
         .iter()
         .filter(|s| s.kind == SegmentKind::Connector)
@@ -175,21 +213,7 @@ pub fn joint_level(a: &SweepAnalysis, chain: &ChainView, which: Which) -> Option
                 .fold(None, |m: Option<f64>, v| Some(m.map_or(v, |m| m.max(v))))
         })
         .collect();
-    if levels.len() < MIN_SCALE_JOINTS {
-        // Too few joints of the line file seen: every echo on the visible line clear of both ends (most of
-        // a line's echoes are joints').
-        levels = a
-            .events
-            .iter()
-            .filter(|e| clear(chain.position_of(e.delay_s, which, None)))
-            .map(|e| e.magnitude)
-            .collect();
-        if levels.len() < MIN_SCALE_JOINTS {
-            return None;
-        }
-        return Some((crate::numeric::median(&mut levels), false));
-    }
-    Some((crate::numeric::median(&mut levels), true))
+    (levels, clear)
 }
 
 /// Whether the line file says an open or short ends the visible line.
