@@ -1,5 +1,8 @@
 //! The comparator on sweeps built to first order (each discontinuity's own reflection, delayed; no multiple
-//! reflections) from the lumped formulas, so the expected answer is known exactly.
+//! reflections) from the lumped formulas, so the expected answer is known exactly. Each echo passes the
+//! discontinuities in front of it both ways as a lossless one does, |1 - Gamma^2| of its amplitude (circuit
+//! theory), so that the sweep stays passive: a plain sum of total reflections reads |S11| near 2 at some
+//! frequencies, which only gain in the path makes.
 
 use coldtrace::compare::lumped::ModelType;
 use coldtrace::compare::report::StateReport;
@@ -25,7 +28,12 @@ fn sweep(parts: &[(f64, ModelType, f64)], scale_after: Option<(f64, f64)>) -> Ne
                         t = t0 + (t - t0) * s;
                     }
                 }
-                g += m.gamma(v, f, 50.0) * Complex64::from_polar(1.0, -2.0 * PI * f * t);
+                let through: f64 = parts
+                    .iter()
+                    .filter(|p| p.0 < x)
+                    .map(|&(_, mi, vi)| 1.0 - mi.gamma(vi, f, 50.0).norm_sqr().min(1.0))
+                    .product();
+                g += m.gamma(v, f, 50.0) * through * Complex64::from_polar(1.0, -2.0 * PI * f * t);
             }
             g
         })

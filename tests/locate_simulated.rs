@@ -107,3 +107,71 @@ load = 100.0
         ev.reflection_db
     );
 }
+
+/// The shipped demo line (north-fridge/in-07: attenuators, a lossy run and an open far end behind them)
+/// simulated warm, and cold with a pin gap at J2, each swept through a round-trip gain of 36 and 40 dB:
+/// |S11| reads over 1.41 at some frequencies, while the healthy sweep's band-averaged power stays under
+/// what a passive line returns. Read as a passive line's, every joint was a critical finding (J5 reflecting +12 dB). Now the
+/// gain is found (no passive port reads 3 dB over all it was sent at any frequency) and taken out until the
+/// joints read as joints (the open end lies behind the compensation's cap, so it cannot set the scale): the
+/// warm sweep shows nothing above info, and the cold one the pin gap at J2, first.
+#[test]
+fn a_sweep_through_an_amplifier_is_located_as_the_passive_lines() {
+    use coldtrace::compare::job::{locate_network, LineModel};
+    use coldtrace::compare::Severity;
+    let line = coldtrace::line::file::read_file(Path::new("sample-sweeps/north-fridge/in-07.toml"))
+        .unwrap();
+    for (state, faults, gain_db) in [
+        (State::Warm, &[][..], 36.0),
+        (State::Cold, &["J2:gap=15um"][..], 40.0),
+    ] {
+        let mut cfg = SimConfig::linear(state, 0.5e9, 10e9, 2001);
+        cfg.noise_db = Some(-85.0);
+        cfg.seed = 7;
+        cfg.faults = faults.iter().map(|f| Fault::parse(f).unwrap()).collect();
+        let mut n = simulate(&line, &cfg).unwrap();
+        let g = 10f64.powf(gain_db / 20.0);
+        for s in n.s.iter_mut() {
+            *s *= g;
+        }
+        // The premise: the gain shows at some frequency; on the healthy line, not in the power over the
+        // band.
+        let s11 = n.s11();
+        let peak = s11.iter().map(|v| v.norm()).fold(0.0, f64::max);
+        let power = coldtrace::compare::sweep::returned_power_db(&s11);
+        assert!(
+            20.0 * peak.log10() > coldtrace::compare::sweep::PASSIVE_PEAK_LIMIT_DB
+                && (!faults.is_empty()
+                    || power <= coldtrace::compare::sweep::PASSIVE_POWER_LIMIT_DB),
+            "{state:?}: peak {peak:.2}, power {power:.1} dB"
+        );
+        let r = locate_network(
+            "amplified",
+            &n,
+            LineModel::Line(&line),
+            Some(state),
+            &AnalysisConfig::default(),
+        )
+        .unwrap();
+        assert!(
+            r.warnings.iter().any(|w| w.kind == "gain-in-path"),
+            "{state:?}: {:?}",
+            r.warnings
+        );
+        let above: Vec<_> = r
+            .events
+            .iter()
+            .filter(|e| e.severity > Severity::Info)
+            .map(|e| (e.place.element.clone(), e.severity))
+            .collect();
+        if faults.is_empty() {
+            assert!(above.is_empty(), "{state:?}: {above:?}");
+        } else {
+            assert_eq!(
+                above.first().map(|a| a.0.as_str()),
+                Some("J2"),
+                "{state:?}: {above:?}"
+            );
+        }
+    }
+}

@@ -111,6 +111,21 @@ pub fn locate(
             evidence,
         });
     }
+    if !a.scale_known {
+        // An amplifier in the path and nothing to set the reflections' size by: where the events are is
+        // known, what they cost is not.
+        let capped = events
+            .iter()
+            .filter(|e| e.severity > Severity::Info)
+            .count();
+        for e in events.iter_mut().filter(|e| e.severity > Severity::Info) {
+            e.severity = Severity::Info;
+            e.power_drop_db = 0.0;
+            e.explanation
+                .push_str(super::sweep::GAIN_SCALE_UNKNOWN_NOTE);
+        }
+        warnings.push(super::sweep::gain_scale_unknown(capped));
+    }
     warnings.extend(no_line_file(&chain));
     let resolution_m = a.resolution_s * speed_at(&chain, 0.0, Which::Current);
     let (not_visible, capped) = not_visible(&chain, &a, Which::Current, f_c);

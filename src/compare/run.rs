@@ -912,19 +912,10 @@ pub fn compare(
             f.severity = Severity::Info;
             f.power_drop_range_db[0] = 0.0;
             f.power_drop_db = 0.0;
-            f.explanation.push_str(
-                " (the amplifier in the path leaves the reflection's size unknown: the cost is not known)",
-            );
+            f.explanation
+                .push_str(super::sweep::GAIN_SCALE_UNKNOWN_NOTE);
         }
-        warnings.push(Warning::new(
-            "gain-scale-unknown",
-            format!(
-                "an amplifier lies in the line's path and the sweeps show no open or short end and too few of \
-                 the line file's joints to tell how strong their reflections are: {capped} change(s) that \
-                 would have been reported above info are reported at info"
-            ),
-            "sweep the passive line without the amplifier, or from its other end",
-        ));
+        warnings.push(super::sweep::gain_scale_unknown(capped));
     }
     if !kind_flip {
         if let Some(dt) = far_end.as_ref().and_then(|f| f.delay_change_s) {

@@ -66,11 +66,37 @@ pub fn returned_power_db(s11: &[Complex64]) -> f64 {
     10.0 * mean.log10()
 }
 
-/// Whether `sweep` returns more power than a passive line can ([`returned_power_db`] over
-/// [`PASSIVE_POWER_LIMIT_DB`]): an amplifier lies in its path.
+/// Largest |S11| a passive port may read at any one frequency, dB: 1 (0 dB), and a calibrated sweep a few
+/// hundredths over at a band edge (the real campaign's largest, 1.03); 3 dB over (1.41) is gain (common
+/// practice, no source).
+pub const PASSIVE_PEAK_LIMIT_DB: f64 = 3.0;
+
+/// Whether `sweep` returns more than a passive line can: more power over the band ([`returned_power_db`]
+/// over [`PASSIVE_POWER_LIMIT_DB`]), or more than it was sent at some frequency (|S11| over
+/// [`PASSIVE_PEAK_LIMIT_DB`]). An amplifier lies in its path.
 pub fn shows_gain(sweep: &Sweep) -> Result<bool, CompareError> {
-    Ok(returned_power_db(&s11_of(sweep)?) > PASSIVE_POWER_LIMIT_DB)
+    let s = s11_of(sweep)?;
+    let peak = s.iter().map(|g| g.norm()).fold(0.0, f64::max);
+    Ok(returned_power_db(&s) > PASSIVE_POWER_LIMIT_DB || db(peak) > PASSIVE_PEAK_LIMIT_DB)
 }
+
+/// The warning of a result whose reflections' size nothing sets, an amplifier in the path (`capped`: how
+/// many findings were kept at info for it).
+pub fn gain_scale_unknown(capped: usize) -> Warning {
+    Warning::new(
+        "gain-scale-unknown",
+        format!(
+            "an amplifier lies in the line's path and the sweeps show no open or short end and too few of the \
+             line file's joints to tell how strong their reflections are: {capped} change(s) that would have \
+             been reported above info are reported at info"
+        ),
+        "sweep the passive line without the amplifier, or from its other end",
+    )
+}
+
+/// The words a finding kept at info by [`gain_scale_unknown`] carries.
+pub const GAIN_SCALE_UNKNOWN_NOTE: &str =
+    " (the amplifier in the path leaves the reflection's size unknown: the cost is not known)";
 
 /// [`analyse`], told whether an amplifier lies in the sweep's path (`amplified`: this sweep or the other of
 /// its pair returned more power than it was sent; the same amplifier is in both).
@@ -100,25 +126,32 @@ pub fn analyse_through(
         *g /= path_gain;
     }
     let mut a = run(&s, engine)?;
-    // Unless an open or short ends the line (whose echo the largest reflection then is), the joints set the
-    // scale: scaled down further until their typical echo reads as a joint's.
-    let joints = joint_level(&a, chain, which);
-    a.scale_known = ends_total(chain) || joints.is_some_and(|j| j.1);
-    if let Some((m, from_joints)) = joints.filter(|j| j.0 > TYPICAL_JOINT_REFLECTION) {
-        let extra = m / TYPICAL_JOINT_REFLECTION;
+    // What sets the scale: an open or short end that the line file gives, when its echo stands clear of the
+    // compensation's cap (scaled down further until it reads all); else the joints (until their typical
+    // echo reads as a joint's); else nothing. The largest reflection is the end's only on a line that loses
+    // little: behind attenuators a joint in front of them is larger.
+    let (extra, known) = match total_end_level(&a, chain, which) {
+        Some(m) => (m.max(1.0), true),
+        None => match joint_level(&a, chain, which) {
+            Some((m, from_joints)) => ((m / TYPICAL_JOINT_REFLECTION).max(1.0), from_joints),
+            None => (1.0, false),
+        },
+    };
+    if extra > 1.0 {
         for g in &mut s {
             *g /= extra;
         }
         path_gain *= extra;
         a = run(&s, engine)?;
-        a.scale_known = ends_total(chain) || from_joints;
     }
+    a.scale_known = known;
     a.path_gain_db = Some(db(path_gain));
     a.warnings.push(Warning::new(
         "gain-in-path",
         format!(
-            "{}: an amplifier lies in the line's path (a sweep of it returns more power than it was sent, or \
-             every joint of the line file both sweeps show reflects as no passive joint does); this sweep is \
+            "{}: an amplifier lies in the line's path (a sweep of it returns more power than it was sent, at \
+             some frequency or over the band, or every joint of the line file both sweeps show reflects as \
+             no passive joint does); this sweep is \
              read as a passive line's with {:.1} dB of gain taken out (its largest reflection at \
              most total, its joints at a few per cent), so reflections and costs are estimates, and a \
              change of the gain is a level change of the whole trace",
@@ -142,10 +175,10 @@ pub const MIN_SCALE_JOINTS: usize = 2;
 /// them, and true: for each connector clear of the reference plane and of the visible end by more than a
 /// resolution cell, and in front of any place where the compensation stopped at its cap, the strongest echo
 /// within a cell of its place. With fewer than [`MIN_SCALE_JOINTS`] joints seen, the median of every echo
-/// clear of both ends, and false (a weaker scale: the line's faint ripples count as joints there). `None` on a line of unknown construction, one that an open or short
-/// ends, or with fewer than [`MIN_SCALE_JOINTS`] echoes.
+/// clear of both ends, and false (a weaker scale: the line's faint ripples count as joints there). `None` on a line of unknown construction or with fewer than
+/// [`MIN_SCALE_JOINTS`] echoes.
 pub fn joint_level(a: &SweepAnalysis, chain: &ChainView, which: Which) -> Option<(f64, bool)> {
-    if !chain.as_built || ends_total(chain) {
+    if !chain.as_built {
         return None;
     }
     let (mut levels, clear) = joint_levels(a, chain, which);
@@ -215,6 +248,32 @@ fn joint_levels<'a>(
         .collect();
     (levels, clear)
 }
+
+/// The strength of the open or short that the line file says ends the visible line, as sweep `a` (analysed
+/// on `chain` in state `which`) shows it: the strongest echo within a resolution cell, or 1 % of its
+/// distance, of its place. `None` on a line of unknown construction, one that no open or short ends, one
+/// whose end lies behind so much loss that the compensation stopped at its cap (its echo reads low by what
+/// was left undone), or where no echo is seen there.
+pub fn total_end_level(a: &SweepAnalysis, chain: &ChainView, which: Which) -> Option<f64> {
+    if !ends_total(chain) {
+        return None;
+    }
+    let x = chain.visible_end_m();
+    let f_top = a.freqs.last().copied().unwrap_or(0.0);
+    if super::difference::cap_shortfall_db(chain, x, f_top, which) > 0.0 {
+        return None;
+    }
+    let tol = (a.resolution_s * super::place::speed_at(chain, x, which)).max(END_PLACE_SHARE * x);
+    a.events
+        .iter()
+        .filter(|e| (chain.position_of(e.delay_s, which, None) - x).abs() <= tol)
+        .map(|e| e.magnitude)
+        .fold(None, |m: Option<f64>, v| Some(m.map_or(v, |m| m.max(v))))
+}
+
+/// Share of its distance within which an open or short end's echo is looked for around the line file's
+/// place of it (twice the cold model's error of a delay, `difference::COLD_DELAY_ERROR`).
+pub const END_PLACE_SHARE: f64 = 0.01;
 
 /// Whether the line file says an open or short ends the visible line.
 fn ends_total(chain: &ChainView) -> bool {
