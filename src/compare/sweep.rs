@@ -151,10 +151,9 @@ pub fn analyse_through(
         format!(
             "{}: an amplifier lies in the line's path (a sweep of it returns more power than it was sent, at \
              some frequency or over the band, or every joint of the line file both sweeps show reflects as \
-             no passive joint does); this sweep is \
-             read as a passive line's with {:.1} dB of gain taken out (its largest reflection at \
-             most total, its joints at a few per cent), so reflections and costs are estimates, and a \
-             change of the gain is a level change of the whole trace",
+             no passive joint does); this sweep is read as a passive line's with {:.1} dB of gain taken out \
+             (its largest reflection at most total, its joints at a few per cent), so reflections and costs \
+             are estimates, and a change of the gain is a level change of the whole trace",
             sweep.name,
             db(path_gain)
         ),
@@ -175,8 +174,8 @@ pub const MIN_SCALE_JOINTS: usize = 2;
 /// them, and true: for each connector clear of the reference plane and of the visible end by more than a
 /// resolution cell, and in front of any place where the compensation stopped at its cap, the strongest echo
 /// within a cell of its place. With fewer than [`MIN_SCALE_JOINTS`] joints seen, the median of every echo
-/// clear of both ends, and false (a weaker scale: the line's faint ripples count as joints there). `None` on a line of unknown construction or with fewer than
-/// [`MIN_SCALE_JOINTS`] echoes.
+/// clear of both ends, and false (a weaker scale: the line's faint ripples count as joints there). `None`
+/// on a line of unknown construction or with fewer than [`MIN_SCALE_JOINTS`] echoes.
 pub fn joint_level(a: &SweepAnalysis, chain: &ChainView, which: Which) -> Option<(f64, bool)> {
     if !chain.as_built {
         return None;
