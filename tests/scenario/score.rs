@@ -354,9 +354,9 @@ pub struct Figures {
     pub errors: usize,
     /// (true kind, reported rank-1 kind or "none") -> count, visible faults.
     pub confusion: std::collections::BTreeMap<(TrueKind, &'static str), usize>,
-    /// (true kind, the pair's true states, masked by the far end) -> (ranked first at the element, visible
-    /// faults).
-    pub by_kind: std::collections::BTreeMap<(TrueKind, &'static str, bool), (usize, usize)>,
+    /// (true kind, both sweeps in one state, masked by the far end) -> (ranked first at the element,
+    /// visible faults).
+    pub by_kind: std::collections::BTreeMap<(TrueKind, bool, bool), (usize, usize)>,
 }
 
 impl Figures {
@@ -434,14 +434,10 @@ impl Figures {
                         }
                         let k = r.top.as_ref().map(|t| t.kind).unwrap_or("none");
                         *f.confusion.entry((t.kind, k)).or_default() += 1;
-                        let states = if e.scenario.baseline_state == e.scenario.current_state {
-                            "same state"
-                        } else {
-                            "across states"
-                        };
+                        let one_state = e.scenario.baseline_state == e.scenario.current_state;
                         let cell = f
                             .by_kind
-                            .entry((t.kind, states, e.scenario.fault_masked_by_end()))
+                            .entry((t.kind, one_state, e.scenario.fault_masked_by_end()))
                             .or_default();
                         cell.0 += right as usize;
                         cell.1 += 1;
@@ -563,12 +559,7 @@ pub fn table(inferred: &Figures, given: &Figures) -> String {
 /// far end (Markdown).
 pub fn kind_table(f: &Figures) -> String {
     let mut s = String::new();
-    let cols = [
-        ("same state", false),
-        ("across states", false),
-        ("same state", true),
-        ("across states", true),
-    ];
+    let cols = [(true, false), (false, false), (true, true), (false, true)];
     let _ = writeln!(
         s,
         "| true kind | one state | across a change of state | one state, at the far end's joint | across a \
@@ -581,8 +572,12 @@ pub fn kind_table(f: &Figures) -> String {
     for k in kinds {
         let cells: Vec<String> = cols
             .iter()
-            .map(|&(st, masked)| {
-                let (n, d) = f.by_kind.get(&(k, st, masked)).copied().unwrap_or((0, 0));
+            .map(|&(one_state, masked)| {
+                let (n, d) = f
+                    .by_kind
+                    .get(&(k, one_state, masked))
+                    .copied()
+                    .unwrap_or((0, 0));
                 if d == 0 {
                     "-".to_string()
                 } else {
