@@ -364,6 +364,18 @@ fn a_fault_in_front_of_a_device_across_a_cooldown_is_noted_at_the_far_end() {
     }
 }
 
+/// A crush of 35 ohm in c7 (seed 1500157) lies behind 93 dB of round-trip loss at 10 GHz, past where the
+/// compensation stops: its echo stands some 28 dB over the current sweep's noise where the warm baseline
+/// shows only noise. Its rise is judged against what the baseline shows there, not against the baseline's
+/// detection threshold, and it ranks first at its element.
+#[test]
+fn a_crush_just_over_the_noise_behind_a_lossy_line_is_ranked_first() {
+    let e = scenario::score::evaluate(1_500_157, Case::Fault);
+    for given in [true, false] {
+        assert_right_first(&e, given);
+    }
+}
+
 /// A pin gap of 8.6 fF at J3 (seed 1500144) reflects 0.999 across 0.01-20 GHz: an open. What appears behind
 /// it (multiple reflections, lifted by the compensation of the attenuators behind) is not claimed, and the
 /// pin gap ranks first.

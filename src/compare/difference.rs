@@ -519,8 +519,7 @@ pub fn changes(inp: &Inputs) -> Vec<Change> {
             }
             None => {
                 let d_b = fit.chain.delay_to(x, Which::Baseline, None);
-                let level = b.h(d_b).norm().max(NOISE_SIGMAS * b.sigma_at(d_b));
-                (None, level)
+                (None, unseen_level(inp, x, d_b))
             }
         };
         let phase_deg = base.map_or(0.0, |(_, gb)| (gamma_c / gb).arg().to_degrees());
@@ -783,6 +782,31 @@ fn joint_probes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
         });
     }
     out
+}
+
+/// Noise RMS multiples under which the baseline's level is not taken where it shows no echo paired with a
+/// new one: one RMS, what noise alone leaves there. A new echo is detected only at [`NOISE_SIGMAS`] over the
+/// current sweep's noise, so its rise is judged against what the baseline really shows at its place, not
+/// against the baseline's detection threshold: a reflection that appeared from behind a lossy stretch just
+/// over the noise (a crush behind 90 dB of round-trip loss) rises by 10 dB or more over what was there,
+/// where against the threshold it would not have risen at all.
+pub const UNSEEN_FLOOR_SIGMAS: f64 = 1.0;
+
+/// The baseline's level where a new echo of the current sweep maps to (as-built `x`, baseline delay `d_b`):
+/// the largest compensated magnitude of the baseline within the alignment's tolerance of the mapped place
+/// (as [`flank_changes`] reads it), at least [`UNSEEN_FLOOR_SIGMAS`] of its noise there.
+fn unseen_level(inp: &Inputs, x: f64, d_b: f64) -> f64 {
+    let (b, fit) = (inp.b, inp.fit);
+    let res_s = b.resolution_s.max(inp.c.resolution_s);
+    let speed = super::place::speed_at(&fit.chain, x, Which::Current);
+    let tol = FLANK_TOLERANCE_CELLS * res_s + 2.0 * fit.report.residual_m / speed.max(1.0);
+    let last = b.mag.len().saturating_sub(1);
+    let lo = (((d_b - tol) / b.dt).floor().max(0.0) as usize).min(last);
+    let hi = (((d_b + tol) / b.dt).ceil().max(0.0) as usize).min(last);
+    let b_max = b.mag[lo..=hi].iter().fold(0.0f64, |a, &v| a.max(v));
+    b_max
+        .max(b.h(d_b).norm())
+        .max(UNSEEN_FLOOR_SIGMAS * b.sigma_at(d_b))
 }
 
 /// Reach of the registration of a joint probe on its neighbouring echo, in resolution cells: the strongest
