@@ -30,6 +30,82 @@ pub fn golden_min(mut a: f64, mut b: f64, tol: f64, f: impl Fn(f64) -> f64) -> f
     0.5 * (a + b)
 }
 
+/// Brent's method for the minimum of `f` on [a, b]: golden-section steps where the function is not yet
+/// parabolic, parabolic interpolation through the three best points where it is, until the bracket is
+/// narrower than about `4 tol` (at most 200 steps; R. P. Brent, Algorithms for Minimization without
+/// Derivatives, 1973, ch. 5; Press et al., Numerical Recipes, 3rd ed., sec. 10.3). Returns the abscissa and
+/// value of the least point found. On a smooth minimum it converges superlinearly: about a dozen evaluations
+/// where [`golden_min`] takes thirty for the same bracket.
+pub fn brent_min(a: f64, b: f64, tol: f64, f: impl Fn(f64) -> f64) -> (f64, f64) {
+    /// (3 - sqrt 5)/2, the golden section's smaller part.
+    const CGOLD: f64 = 0.381_966_011_250_105_1;
+    let (mut a, mut b) = (a.min(b), a.max(b));
+    let tol1 = tol.max(f64::EPSILON * (a.abs() + b.abs()));
+    let tol2 = 2.0 * tol1;
+    let mut x = a + CGOLD * (b - a);
+    let mut fx = f(x);
+    let (mut w, mut v, mut fw, mut fv) = (x, x, fx, fx);
+    // d: the last step; e: the step before it (a parabolic step must be under half of it).
+    let (mut d, mut e) = (0.0f64, 0.0f64);
+    for _ in 0..200 {
+        let xm = 0.5 * (a + b);
+        if (x - xm).abs() <= tol2 - 0.5 * (b - a) {
+            break;
+        }
+        let mut golden = true;
+        if e.abs() > tol1 {
+            let r = (x - w) * (fx - fv);
+            let mut q = (x - v) * (fx - fw);
+            let mut p = (x - v) * q - (x - w) * r;
+            q = 2.0 * (q - r);
+            if q > 0.0 {
+                p = -p;
+            }
+            q = q.abs();
+            let e_prev = e;
+            e = d;
+            if p.abs() < (0.5 * q * e_prev).abs() && p > q * (a - x) && p < q * (b - x) {
+                d = p / q;
+                let u = x + d;
+                if u - a < tol2 || b - u < tol2 {
+                    d = tol1.copysign(xm - x);
+                }
+                golden = false;
+            }
+        }
+        if golden {
+            e = if x >= xm { a - x } else { b - x };
+            d = CGOLD * e;
+        }
+        let u = if d.abs() >= tol1 {
+            x + d
+        } else {
+            x + tol1.copysign(d)
+        };
+        let fu = f(u);
+        if fu <= fx {
+            if u >= x {
+                a = x;
+            } else {
+                b = x;
+            }
+            (v, fv, w, fw, x, fx) = (w, fw, x, fx, u, fu);
+        } else {
+            if u < x {
+                a = u;
+            } else {
+                b = u;
+            }
+            if fu <= fw || w == x {
+                (v, fv, w, fw) = (w, fw, u, fu);
+            } else if fu <= fv || v == x || v == w {
+                (v, fv) = (u, fu);
+            }
+        }
+    }
+    (x, fx)
+}
+
 /// The median of `v` (sorted in place; the mean of the middle two for an even count). `v` must not be
 /// empty.
 pub fn median(v: &mut [f64]) -> f64 {
@@ -51,5 +127,39 @@ mod tests {
         let x = golden_min(-3.0, 5.0, 1e-12, |x| (x - 1.25) * (x - 1.25) + 7.0);
         // A minimum is located to about sqrt(machine epsilon) relative: f is flat to 1e-16 within 1e-8 of it.
         assert!((x - 1.25).abs() < 1e-7, "{x}");
+    }
+
+    #[test]
+    fn brent_agrees_with_golden_section_in_fewer_evaluations() {
+        use std::cell::Cell;
+        // A smooth, skewed minimum (x - ln x has its minimum at x = 1, value 1; calculus) and a quadratic.
+        // (function, bracket, true minimum)
+        type Case = (fn(f64) -> f64, f64, f64, f64);
+        let cases: [Case; 2] = [
+            (|x| x - x.ln(), 0.2, 4.0, 1.0),
+            (|x| (x - 1.25) * (x - 1.25) + 7.0, -3.0, 5.0, 1.25),
+        ];
+        for (g, a, b, truth) in cases {
+            let (n_brent, n_golden) = (Cell::new(0), Cell::new(0));
+            let tol = 1e-9 * (b - a);
+            let (x, fx) = brent_min(a, b, tol, |x| {
+                n_brent.set(n_brent.get() + 1);
+                g(x)
+            });
+            let xg = golden_min(a, b, tol, |x| {
+                n_golden.set(n_golden.get() + 1);
+                g(x)
+            });
+            assert!((x - truth).abs() < 1e-6, "{x}");
+            assert!((x - xg).abs() < 1e-6, "{x} vs {xg}");
+            assert_eq!(fx, g(x));
+            assert!(
+                n_brent.get() < n_golden.get(),
+                "{n_brent:?} vs {n_golden:?}"
+            );
+        }
+        // A minimum at the bracket's edge is approached and not passed.
+        let (x, _) = brent_min(0.0, 1.0, 1e-9, |x| x);
+        assert!((0.0..1e-6).contains(&x), "{x}");
     }
 }

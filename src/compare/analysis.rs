@@ -282,7 +282,6 @@ impl SweepAnalysis {
             let exact = if chain.compensates() {
                 out.weighted_gain(
                     &chain.loss_model_to(chain.position_of(d, which, None), which),
-                    chain,
                     &w,
                 )
             } else {
@@ -300,18 +299,18 @@ impl SweepAnalysis {
         if !chain.compensates() {
             return 1.0;
         }
-        self.weighted_gain(&chain.loss_model_to(x, which), chain, &self.window_w)
+        self.weighted_gain(&chain.loss_model_to(x, which), &self.window_w)
     }
 
     /// Window-weighted RMS gain of the compensation for a loss model `m` (how much a reflection there is
     /// lifted, on average over the band as the window weighs it).
-    fn weighted_gain(&self, m: &super::chain::LossModel, chain: &ChainView, w: &[f64]) -> f64 {
+    fn weighted_gain(&self, m: &super::chain::LossModel, w: &[f64]) -> f64 {
         let w2: f64 = w.iter().map(|x| x * x).sum();
         let g2: f64 = self
             .freqs
             .iter()
             .zip(w)
-            .map(|(&f, wn)| wn * wn * chain.compensation(m, f, MAX_COMPENSATION).norm_sqr())
+            .map(|(&f, wn)| (wn * ChainView::compensation_gain(m, f, MAX_COMPENSATION)).powi(2))
             .sum();
         (g2 / w2).sqrt()
     }

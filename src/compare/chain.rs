@@ -266,13 +266,19 @@ impl ChainView {
     /// the loss, A sqrt(f) nepers, lags the phase by A sqrt(f) rad. The part of that lag linear in f about
     /// the delay reference frequency is already in the segments' group delays, so only the rest is undone.
     pub fn compensation(&self, m: &LossModel, f: f64, max_gain: f64) -> Complex64 {
-        let gain = 10f64.powf(m.db(f) / 20.0).min(max_gain);
+        let gain = Self::compensation_gain(m, f, max_gain);
         let a_np = m.a_sqrt / NEPER_DB;
         let g = (f / 1e9).max(0.0);
         let g_ref = (self.delay_reference_hz / 1e9).max(1e-9);
         // phi(g) = A sqrt(g); its tangent at g_ref has slope A / (2 sqrt(g_ref)).
         let phase = a_np * (g.sqrt() - g / (2.0 * g_ref.sqrt()));
         Complex64::from_polar(gain, phase)
+    }
+
+    /// The amplitude of [`Self::compensation`]: 10^{L/20} at most `max_gain`, as e^{L / NEPER_DB} (one
+    /// exponential where a power of ten takes about two).
+    pub fn compensation_gain(m: &LossModel, f: f64, max_gain: f64) -> f64 {
+        (m.db(f) / NEPER_DB).exp().min(max_gain)
     }
 
     /// The nearest connector to `x` and its distance from `x`, m.

@@ -13,7 +13,7 @@ use super::analysis::{SweepAnalysis, FIT_BAND_EDGE, GATE_HALF_WIDTH_CELLS};
 use super::chain::{ChainView, LossModel, Which};
 use super::CompareError;
 use crate::line::Load;
-use crate::transform::{czt::cis_cycles, gate_with, GatePlan, TraceEngine};
+use crate::transform::{czt::direct_sum, gate_with, GatePlan, TraceEngine};
 use num_complex::Complex64;
 
 /// The termination is looked for among echoes no more than this far under the strongest echo, dB
@@ -270,17 +270,11 @@ pub fn echo_lag(
     let range = skip..n.saturating_sub(skip).max(skip + 1).min(n);
     // Frequencies relative to the first kept one: a common phase factor leaves the magnitude alone and the
     // products stay small.
-    let f0 = b.freqs[range.start];
-    let terms: Vec<(f64, Complex64)> = range
-        .map(|k| (b.freqs[k] - f0, gc.values[k] * gb.values[k].conj()))
-        .collect();
-    let corr = |tau: f64| -> f64 {
-        terms
-            .iter()
-            .map(|(df, p)| p * cis_cycles(df * tau))
-            .sum::<Complex64>()
-            .norm()
-    };
+    // The grid is uniform (every sweep analysed is): the sum is evaluated by recurrence.
+    let (f0, f1) = (b.freqs[range.start], b.freqs[range.end - 1]);
+    let df = (f1 - f0) / (range.len() - 1).max(1) as f64;
+    let terms: Vec<Complex64> = range.map(|k| gc.values[k] * gb.values[k].conj()).collect();
+    let corr = |tau: f64| -> f64 { direct_sum(&terms, 0.0, df, tau).norm() };
     let guess = tc - tb;
     let span = LAG_SEARCH_CELLS * res;
     let step = res / 64.0;

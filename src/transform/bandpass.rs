@@ -5,7 +5,7 @@
 //! h(tau) = rho exactly, whatever the window and the padding; the band-pass peak is |rho|. The envelope has no
 //! sign (the carrier phase e^{j 2 pi f0 t} is kept in the complex value).
 
-use super::czt::{cis_cycles, FftCache};
+use super::czt::{cis_cycles, direct_sum, FftCache};
 use super::plan::{Grid, TimeAxis};
 use super::Window;
 use num_complex::Complex64;
@@ -48,18 +48,7 @@ impl BandPassSpectrum {
 
     /// h(t) by the direct sum (O(N)); used for sub-bin refinement.
     pub fn eval(&self, t: f64) -> Complex64 {
-        let rot = cis_cycles(self.step_hz * t);
-        let mut acc = Complex64::new(0.0, 0.0);
-        let mut ph = cis_cycles(self.start_hz * t);
-        for (k, x) in self.weighted.iter().enumerate() {
-            if k % 64 == 0 {
-                // Re-anchor the recurrence to keep rounding from accumulating.
-                ph = cis_cycles((self.start_hz + k as f64 * self.step_hz) * t);
-            }
-            acc += x * ph;
-            ph *= rot;
-        }
-        acc
+        direct_sum(&self.weighted, self.start_hz, self.step_hz, t)
     }
 
     /// h(t) on a time axis: FFT for the whole range, chirp-z for a span.

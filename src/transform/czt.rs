@@ -15,7 +15,28 @@ use num_complex::Complex64;
 use rustfft::{Fft, FftPlanner};
 use std::collections::HashMap;
 use std::f64::consts::PI;
-use std::sync::Arc;
+use std::sync::{Arc, Mutex, OnceLock};
+
+/// Points between exact re-anchorings of [`direct_sum`]'s recurrence: each product adds about one rounding
+/// (1e-16), so 64 of them stay far under what a double carries.
+pub const DIRECT_ANCHOR: usize = 64;
+
+/// The sum `sum_k x_k e^{+j 2 pi (f0 + k df) t}` at one time `t`, in O(N): a recurrence of one rotation
+/// e^{+j 2 pi df t} per point, re-anchored exactly every [`DIRECT_ANCHOR`] points, so two sines and cosines
+/// per anchor instead of one per point.
+pub fn direct_sum(x: &[Complex64], f0: f64, df: f64, t: f64) -> Complex64 {
+    let rot = cis_cycles(df * t);
+    let mut acc = Complex64::new(0.0, 0.0);
+    let mut ph = Complex64::new(1.0, 0.0);
+    for (k, z) in x.iter().enumerate() {
+        if k % DIRECT_ANCHOR == 0 {
+            ph = cis_cycles((f0 + k as f64 * df) * t);
+        }
+        acc += z * ph;
+        ph *= rot;
+    }
+    acc
+}
 
 /// e^{+j 2 pi cycles}, with the phase reduced to [0, 1) cycles first.
 pub fn cis_cycles(cycles: f64) -> Complex64 {
@@ -128,10 +149,21 @@ impl ChirpZ {
 
 type ChirpKey = (usize, usize, u64, u64);
 
-/// FFT planner plus a cache of prepared chirp-z evaluations, shared by every trace on the same grid (warm
-/// and cold sweeps of one line reuse every plan).
+/// The process's one FFT planner: every [`FftCache`] (one per trace engine; a comparison makes several, a
+/// survey one per line) takes its plans from it, so each length's twiddles are worked out once per process.
+/// rustfft's planner keeps what it planned, one entry per length (and lengths are few: the 2-3-5 sizes of
+/// [`fast_len`]).
+fn shared_planner() -> &'static Mutex<FftPlanner<f64>> {
+    static PLANNER: OnceLock<Mutex<FftPlanner<f64>>> = OnceLock::new();
+    PLANNER.get_or_init(|| Mutex::new(FftPlanner::new()))
+}
+
+/// A cache of FFT plans (from the process's one planner) and of prepared chirp-z evaluations, shared by
+/// every trace on the same grid (warm and cold sweeps of one line reuse every plan).
+#[derive(Default)]
 pub struct FftCache {
-    planner: FftPlanner<f64>,
+    /// Plans taken from the shared planner, by length and direction (true: inverse).
+    ffts: HashMap<(usize, bool), Arc<dyn Fft<f64>>>,
     chirps: HashMap<ChirpKey, Arc<ChirpZ>>,
     scratch: Vec<Complex64>,
 }
@@ -142,19 +174,24 @@ impl std::fmt::Debug for FftCache {
     }
 }
 
-impl Default for FftCache {
-    fn default() -> Self {
-        FftCache {
-            planner: FftPlanner::new(),
-            chirps: HashMap::new(),
-            scratch: Vec::new(),
-        }
-    }
-}
-
 impl FftCache {
     pub fn new() -> Self {
         Self::default()
+    }
+
+    /// The plan for an FFT of `len` points (`inverse`: e^{+j}), from this cache or the shared planner.
+    fn plan(&mut self, len: usize, inverse: bool) -> Arc<dyn Fft<f64>> {
+        self.ffts
+            .entry((len, inverse))
+            .or_insert_with(|| {
+                let mut planner = shared_planner().lock().unwrap_or_else(|e| e.into_inner());
+                if inverse {
+                    planner.plan_fft_inverse(len)
+                } else {
+                    planner.plan_fft_forward(len)
+                }
+            })
+            .clone()
     }
 
     /// The prepared chirp-z for these sizes and grid, built once.
@@ -163,20 +200,23 @@ impl FftCache {
         if let Some(c) = self.chirps.get(&key) {
             return c.clone();
         }
-        let c = Arc::new(ChirpZ::new(&mut self.planner, n, m, df_t0, df_dt));
+        let c = {
+            let mut planner = shared_planner().lock().unwrap_or_else(|e| e.into_inner());
+            Arc::new(ChirpZ::new(&mut planner, n, m, df_t0, df_dt))
+        };
         self.chirps.insert(key, c.clone());
         c
     }
 
     /// In-place inverse FFT (e^{+j}, unnormalised) of `buf`, reusing one scratch buffer across calls.
     pub fn inverse_in_place(&mut self, buf: &mut [Complex64]) {
-        let fft = self.planner.plan_fft_inverse(buf.len());
+        let fft = self.plan(buf.len(), true);
         self.run(&fft, buf);
     }
 
     /// In-place forward FFT (e^{-j}, unnormalised) of `buf`, reusing one scratch buffer across calls.
     pub fn forward_in_place(&mut self, buf: &mut [Complex64]) {
-        let fft = self.planner.plan_fft_forward(buf.len());
+        let fft = self.plan(buf.len(), false);
         self.run(&fft, buf);
     }
 
@@ -190,11 +230,11 @@ impl FftCache {
 
     /// An inverse FFT (e^{+j}, unnormalised) of length `len`.
     pub fn inverse(&mut self, len: usize) -> Arc<dyn Fft<f64>> {
-        self.planner.plan_fft_inverse(len)
+        self.plan(len, true)
     }
 
     /// A forward FFT (e^{-j}, unnormalised) of length `len`.
     pub fn forward(&mut self, len: usize) -> Arc<dyn Fft<f64>> {
-        self.planner.plan_fft_forward(len)
+        self.plan(len, false)
     }
 }

@@ -23,7 +23,7 @@
 //! range; close for a dominant echo). Points below the first measured frequency use the low-end model
 //! above. A warning is always attached.
 
-use super::czt::{cis_cycles, FftCache};
+use super::czt::{direct_sum, FftCache};
 use super::plan::{DcMethod, Grid, TimeAxis};
 use super::{TransformError, Window};
 use num_complex::Complex64;
@@ -219,10 +219,7 @@ pub fn interpolate_polar(a: Complex64, b: Complex64, u: f64) -> Complex64 {
 }
 
 fn direct(c: &[Complex64], df: f64, t: f64) -> Complex64 {
-    c.iter()
-        .enumerate()
-        .map(|(k, z)| z * cis_cycles(k as f64 * df * t))
-        .sum()
+    direct_sum(c, 0.0, df, t)
 }
 
 fn evaluate(c: &[Complex64], df: f64, axis: &TimeAxis, cache: &mut FftCache) -> Vec<Complex64> {

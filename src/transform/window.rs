@@ -144,9 +144,12 @@ impl Window {
     }
 
     /// Main-lobe width (-6 dB, bins) and highest sidelobe (dB), measured from a zero-padded FFT of
-    /// [`FIGURES_LENGTH`] coefficients.
-    /// Measured once per window and remembered (a 64k-point FFT each).
+    /// [`FIGURES_LENGTH`] coefficients. Looked up for the windows of [`TABULATED_FIGURES`]; measured once
+    /// per other window and remembered (a 64k-point FFT each).
     pub fn figures(&self) -> WindowFigures {
+        if let Some((_, f)) = TABULATED_FIGURES.iter().find(|(w, _)| w == self) {
+            return *f;
+        }
         static MEMO: Mutex<Vec<(Window, WindowFigures)>> = Mutex::new(Vec::new());
         let mut memo = MEMO.lock().unwrap_or_else(|e| e.into_inner());
         if let Some((_, f)) = memo.iter().find(|(w, _)| w == self) {
@@ -175,6 +178,45 @@ impl Window {
             Window::Kaiser { beta } => format!("kaiser:{beta}"),
             w => w.name().to_string(),
         }
+    }
+}
+
+/// Figures of the windows with fixed parameters and of the Kaiser windows the commands use by default
+/// (beta 6 for traces, 9 for the comparator), exactly as [`measure_figures`] gives them for
+/// [`FIGURES_LENGTH`] coefficients padded [`FIGURES_PADDING`] times; the test
+/// `tabulated_figures_are_the_measured_ones` measures them again. They agree with Harris (1978), Table 1,
+/// where it lists the window (rectangular 1.21 bins and -13 dB, Hann 2.00 and -32, Hamming 1.81 and -43).
+pub const TABULATED_FIGURES: [(Window, WindowFigures); 6] = [
+    (
+        Window::Rectangular,
+        figures(1.204_940_294_501_764_7, -13.263_647_577_714_902),
+    ),
+    (
+        Window::Hann,
+        figures(1.998_787_467_260_603_4, -31.468_461_563_922_062),
+    ),
+    (
+        Window::Hamming,
+        figures(1.813_559_776_411_914_2, -42.674_902_732_049_59),
+    ),
+    (
+        Window::BlackmanHarris4,
+        figures(2.664_611_848_391_099_4, -92.013_876_654_044_18),
+    ),
+    (
+        Window::Kaiser { beta: 6.0 },
+        figures(1.953_074_478_348_094_4, -43.807_237_170_498_794),
+    ),
+    (
+        Window::Kaiser { beta: 9.0 },
+        figures(2.337_762_125_770_843, -66.298_818_908_207_75),
+    ),
+];
+
+const fn figures(mainlobe_6db_bins: f64, highest_sidelobe_db: f64) -> WindowFigures {
+    WindowFigures {
+        mainlobe_6db_bins,
+        highest_sidelobe_db,
     }
 }
 
@@ -222,4 +264,24 @@ pub fn bessel_i0(x: f64) -> f64 {
         k += 1.0;
     }
     sum
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn tabulated_figures_are_the_measured_ones() {
+        for (w, f) in TABULATED_FIGURES {
+            let measured = measure_figures(&w.coefficients(FIGURES_LENGTH), FIGURES_PADDING);
+            assert_eq!(measured, f, "{w:?}");
+            assert_eq!(w.figures(), f);
+        }
+        // A window not in the table is measured.
+        let w = Window::Kaiser { beta: 7.5 };
+        assert_eq!(
+            w.figures(),
+            measure_figures(&w.coefficients(FIGURES_LENGTH), FIGURES_PADDING)
+        );
+    }
 }
