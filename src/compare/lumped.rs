@@ -177,9 +177,11 @@ pub fn fit_all(freqs: &[f64], gamma: &[Complex64], z0: f64, max_delta_s: f64) ->
     );
     let (f, g) = decimate(freqs, gamma, MAX_FIT_POINTS);
     let norm = (g.iter().map(|x| x.norm_sqr()).sum::<f64>() / g.len().max(1) as f64).sqrt();
+    // One turner for every model: the steps of the decimated grid are found once.
+    let turner = Turner::new(&f, &g);
     let mut fits: Vec<ModelFit> = ModelType::ALL
         .iter()
-        .map(|&m| fit_one(m, &f, &g, z0, max_delta_s, norm))
+        .map(|&m| fit_one(m, &turner, z0, max_delta_s, norm))
         .collect();
     fits.sort_by(|a, b| a.fit_error.total_cmp(&b.fit_error));
     fits
@@ -406,19 +408,12 @@ const HINT_CELLS: f64 = 1.0;
 /// so that the residual is unimodal within the best cell and its neighbours.
 pub const VALUE_GRID_CELLS: usize = 16;
 
-fn fit_one(
-    m: ModelType,
-    f: &[f64],
-    g: &[Complex64],
-    z0: f64,
-    max_delta: f64,
-    norm: f64,
-) -> ModelFit {
+fn fit_one(m: ModelType, turner: &Turner, z0: f64, max_delta: f64, norm: f64) -> ModelFit {
+    let f = turner.f;
     let fmax = f.iter().cloned().fold(0.0, f64::max).max(1.0);
     // Delay grid: 0.5 rad of phase at fmax per step, refined by Brent's method round the best.
     let step = 0.5 / (2.0 * PI * fmax);
     let n = ((max_delta / step).ceil() as usize).clamp(0, 400);
-    let turner = Turner::new(f, g);
     let at_delay = |delta: f64, hint: Option<f64>| best_value(m, f, &turner.turn(delta), z0, hint);
     // (delay, value, residual) of the best so far; each delay's value search starts from the previous
     // delay's best value.
