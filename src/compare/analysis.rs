@@ -11,8 +11,9 @@ use super::detect::{find_events, noise_sigma, LobeShape, Peak};
 use super::lumped::{fit_all, ModelFit};
 use super::CompareError;
 use crate::transform::{
-    bandpass::BandPassSpectrum, czt::cis_cycles, gate_with, uniform_grid, GatePlan, Grid,
-    TraceEngine, Window,
+    bandpass::BandPassSpectrum,
+    czt::{cis_cycles, DIRECT_ANCHOR},
+    gate_with, uniform_grid, GatePlan, Grid, TraceEngine, Window,
 };
 use crate::Warning;
 use num_complex::Complex64;
@@ -183,10 +184,7 @@ impl SweepAnalysis {
             };
             let model = chain.loss_model_to(x_mid, which);
             let comp: Vec<Complex64> = if chain.compensates() {
-                freqs
-                    .iter()
-                    .map(|&f| chain.compensation(&model, f, MAX_COMPENSATION))
-                    .collect()
+                chain.compensation_over(&model, freqs, MAX_COMPENSATION)
             } else {
                 vec![Complex64::new(1.0, 0.0); freqs.len()]
             };
@@ -374,18 +372,26 @@ impl SweepAnalysis {
         let skip = ((n as f64) * FIT_BAND_EDGE) as usize;
         let range = skip..n.saturating_sub(skip).max(skip + 1).min(n);
         let f: Vec<f64> = self.freqs[range.clone()].to_vec();
-        let model = chain.loss_model_to(x, which);
+        let comp = if chain.compensates() {
+            chain.compensation_over(&chain.loss_model_to(x, which), &f, MAX_COMPENSATION)
+        } else {
+            vec![Complex64::new(1.0, 0.0); f.len()]
+        };
+        // The move to the event's plane, e^{+j 2 pi f d}, by a recurrence on the uniform grid, re-anchored
+        // every 64 points.
+        let df = (self.freqs[n - 1] - self.freqs[0]) / (n - 1).max(1) as f64;
+        let step = cis_cycles(df * d);
+        let mut turn = Complex64::new(1.0, 0.0);
         let g: Vec<Complex64> = range
-            .map(|k| {
-                let fk = self.freqs[k];
-                let comp = if chain.compensates() {
-                    chain.compensation(&model, fk, MAX_COMPENSATION)
-                } else {
-                    Complex64::new(1.0, 0.0)
-                };
-                gated.values[k]
-                    * comp
-                    * Complex64::from_polar(1.0, 2.0 * std::f64::consts::PI * fk * d)
+            .zip(&comp)
+            .enumerate()
+            .map(|(i, (k, c))| {
+                if i % DIRECT_ANCHOR == 0 {
+                    turn = cis_cycles(self.freqs[k] * d);
+                }
+                let v = gated.values[k] * c * turn;
+                turn *= step;
+                v
             })
             .collect();
         Ok((f, g))
