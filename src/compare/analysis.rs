@@ -11,9 +11,8 @@ use super::detect::{find_events, noise_sigma, LobeShape, Peak};
 use super::lumped::{fit_all, ModelFit};
 use super::CompareError;
 use crate::transform::{
-    bandpass::BandPassSpectrum,
-    czt::{cis_cycles, DIRECT_ANCHOR},
-    gate_with, uniform_grid, GatePlan, Grid, TraceEngine, Window,
+    bandpass::BandPassSpectrum, czt::phasors, gate_with, uniform_grid, GatePlan, Grid, TraceEngine,
+    Window,
 };
 use crate::Warning;
 use num_complex::Complex64;
@@ -227,21 +226,12 @@ impl SweepAnalysis {
                 .chirp_z(freqs.len(), longest, 0.0, grid.step_hz * dt);
             for p in &pieces {
                 let t_s = p.bins.0 as f64 * dt;
-                let step = cis_cycles(grid.step_hz * t_s);
-                let mut turn = Complex64::new(1.0, 0.0);
                 let shifted: Vec<Complex64> = p
                     .spectrum
                     .weighted
                     .iter()
-                    .enumerate()
-                    .map(|(k, x)| {
-                        if k % 64 == 0 {
-                            turn = cis_cycles(grid.step_hz * t_s * k as f64);
-                        }
-                        let v = x * turn;
-                        turn *= step;
-                        v
-                    })
+                    .zip(phasors(0.0, grid.step_hz, t_s))
+                    .map(|(x, turn)| x * turn)
                     .collect();
                 let h = plan.process(&shifted);
                 // |h| needs no carrier e^{+j 2 pi f0 t}: it has unit modulus.
@@ -377,22 +367,13 @@ impl SweepAnalysis {
         } else {
             vec![Complex64::new(1.0, 0.0); f.len()]
         };
-        // The move to the event's plane, e^{+j 2 pi f d}, by a recurrence on the uniform grid, re-anchored
-        // every 64 points.
+        // The move to the event's plane, e^{+j 2 pi f d}, on the uniform grid.
         let df = (self.freqs[n - 1] - self.freqs[0]) / (n - 1).max(1) as f64;
-        let step = cis_cycles(df * d);
-        let mut turn = Complex64::new(1.0, 0.0);
-        let g: Vec<Complex64> = range
+        let g: Vec<Complex64> = gated.values[range]
+            .iter()
             .zip(&comp)
-            .enumerate()
-            .map(|(i, (k, c))| {
-                if i % DIRECT_ANCHOR == 0 {
-                    turn = cis_cycles(self.freqs[k] * d);
-                }
-                let v = gated.values[k] * c * turn;
-                turn *= step;
-                v
-            })
+            .zip(phasors(f[0], df, d))
+            .map(|((v, c), p)| v * c * p)
             .collect();
         Ok((f, g))
     }

@@ -266,13 +266,21 @@ impl ChainView {
     /// the loss, A sqrt(f) nepers, lags the phase by A sqrt(f) rad. The part of that lag linear in f about
     /// the delay reference frequency is already in the segments' group delays, so only the rest is undone.
     pub fn compensation(&self, m: &LossModel, f: f64, max_gain: f64) -> Complex64 {
-        let gain = Self::compensation_gain(m, f, max_gain);
+        let (ln_gain, phase) = self.compensation_exponent(m)(f);
+        Complex64::from_polar(ln_gain.exp().min(max_gain), phase)
+    }
+
+    /// The exponent of [`Self::compensation`] before its cap, as a function of frequency: (L(f) / NEPER_DB,
+    /// phi(f)), log-amplitude in nepers and phase in radians.
+    fn compensation_exponent<'m>(&self, m: &'m LossModel) -> impl Fn(f64) -> (f64, f64) + 'm {
         let a_np = m.a_sqrt / NEPER_DB;
-        let g = (f / 1e9).max(0.0);
         let g_ref = (self.delay_reference_hz / 1e9).max(1e-9);
         // phi(g) = A sqrt(g); its tangent at g_ref has slope A / (2 sqrt(g_ref)).
-        let phase = a_np * (g.sqrt() - g / (2.0 * g_ref.sqrt()));
-        Complex64::from_polar(gain, phase)
+        let slope = 1.0 / (2.0 * g_ref.sqrt());
+        move |f| {
+            let g = (f / 1e9).max(0.0);
+            (m.db(f) / NEPER_DB, a_np * (g.sqrt() - g * slope))
+        }
     }
 
     /// [`Self::compensation`] at every frequency of `freqs` (ascending), to a few parts in 1e15 of it.
@@ -282,14 +290,8 @@ impl ChainView {
     /// afresh at every [`COMPENSATION_ANCHOR`]-th point and wherever the step is larger. Where the gain
     /// passes `max_gain` it is held there, as in [`Self::compensation`].
     pub fn compensation_over(&self, m: &LossModel, freqs: &[f64], max_gain: f64) -> Vec<Complex64> {
-        let a_np = m.a_sqrt / NEPER_DB;
-        let g_ref = (self.delay_reference_hz / 1e9).max(1e-9);
-        let slope = 1.0 / (2.0 * g_ref.sqrt());
         let ln_cap = max_gain.ln();
-        let exponent = |f: f64| {
-            let g = (f / 1e9).max(0.0);
-            (m.db(f) / NEPER_DB, a_np * (g.sqrt() - g * slope))
-        };
+        let exponent = self.compensation_exponent(m);
         let mut out = Vec::with_capacity(freqs.len());
         let mut last: Option<(Complex64, Complex64)> = None;
         for (k, &f) in freqs.iter().enumerate() {

@@ -325,6 +325,14 @@ pub struct Inputs<'a> {
 }
 
 impl Inputs<'_> {
+    /// How far, round trip, the aligned map may put an echo at as-built `x` from where it is, s: a tenth of
+    /// a resolution cell ([`FLANK_TOLERANCE_CELLS`]) and twice the alignment's residual there.
+    fn tolerance_s(&self, x: f64) -> f64 {
+        let res_s = self.b.resolution_s.max(self.c.resolution_s);
+        let speed = super::place::speed_at(&self.fit.chain, x, Which::Current);
+        FLANK_TOLERANCE_CELLS * res_s + 2.0 * self.fit.report.residual_m / speed.max(1.0)
+    }
+
     fn zone(&self, x: f64, d_c: f64, res_m: f64) -> Zone {
         let alias = self.c.alias_free_s.min(self.b.alias_free_s);
         if d_c >= ALIAS_EDGE * alias {
@@ -751,8 +759,7 @@ fn joint_probes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
             continue;
         }
         let x = fit.chain.position_of(d_c, Which::Current, None);
-        let speed = super::place::speed_at(&fit.chain, x, Which::Current);
-        let tol = FLANK_TOLERANCE_CELLS * res_s + 2.0 * fit.report.residual_m / speed.max(1.0);
+        let tol = inp.tolerance_s(x);
         let moved = 0.5 * g * (b.h(d_b + tol) - b.h(d_b - tol)).norm();
         let ratio = diff / (gb.norm() + moved) / VECTOR_CHANGE;
         if ratio < 1.0 {
@@ -796,10 +803,8 @@ pub const UNSEEN_FLOOR_SIGMAS: f64 = 1.0;
 /// the largest compensated magnitude of the baseline within the alignment's tolerance of the mapped place
 /// (as [`flank_changes`] reads it), at least [`UNSEEN_FLOOR_SIGMAS`] of its noise there.
 fn unseen_level(inp: &Inputs, x: f64, d_b: f64) -> f64 {
-    let (b, fit) = (inp.b, inp.fit);
-    let res_s = b.resolution_s.max(inp.c.resolution_s);
-    let speed = super::place::speed_at(&fit.chain, x, Which::Current);
-    let tol = FLANK_TOLERANCE_CELLS * res_s + 2.0 * fit.report.residual_m / speed.max(1.0);
+    let b = inp.b;
+    let tol = inp.tolerance_s(x);
     let last = b.mag.len().saturating_sub(1);
     let lo = (((d_b - tol) / b.dt).floor().max(0.0) as usize).min(last);
     let hi = (((d_b + tol) / b.dt).ceil().max(0.0) as usize).min(last);
@@ -946,8 +951,7 @@ fn flank_changes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
         let d_c = i as f64 * c.dt;
         let x = fit.chain.position_of(d_c, Which::Current, None);
         let d_b = fit.chain.delay_to(x, Which::Baseline, None);
-        let speed = super::place::speed_at(&fit.chain, x, Which::Current);
-        let tol = FLANK_TOLERANCE_CELLS * res_s + 2.0 * fit.report.residual_m / speed.max(1.0);
+        let tol = inp.tolerance_s(x);
         let cal = fit.expected_change_db(x) + cap_interval_db(inp, x, None).1;
         [d_b, tol, cal]
     };

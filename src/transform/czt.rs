@@ -21,21 +21,25 @@ use std::sync::{Arc, Mutex, OnceLock};
 /// (1e-16), so 64 of them stay far under what a double carries.
 pub const DIRECT_ANCHOR: usize = 64;
 
-/// The sum `sum_k x_k e^{+j 2 pi (f0 + k df) t}` at one time `t`, in O(N): a recurrence of one rotation
-/// e^{+j 2 pi df t} per point, re-anchored exactly every [`DIRECT_ANCHOR`] points, so two sines and cosines
-/// per anchor instead of one per point.
-pub fn direct_sum(x: &[Complex64], f0: f64, df: f64, t: f64) -> Complex64 {
+/// The phasors e^{+j 2 pi (f0 + k df) t} for k = 0, 1, 2, ...: a recurrence of one rotation e^{+j 2 pi df t}
+/// per point, re-anchored exactly every [`DIRECT_ANCHOR`] points, so two sines and cosines per anchor
+/// instead of one per point.
+pub fn phasors(f0: f64, df: f64, t: f64) -> impl Iterator<Item = Complex64> {
     let rot = cis_cycles(df * t);
-    let mut acc = Complex64::new(0.0, 0.0);
     let mut ph = Complex64::new(1.0, 0.0);
-    for (k, z) in x.iter().enumerate() {
+    (0usize..).map(move |k| {
         if k % DIRECT_ANCHOR == 0 {
             ph = cis_cycles((f0 + k as f64 * df) * t);
         }
-        acc += z * ph;
+        let out = ph;
         ph *= rot;
-    }
-    acc
+        out
+    })
+}
+
+/// The sum `sum_k x_k e^{+j 2 pi (f0 + k df) t}` at one time `t`, in O(N), with the [`phasors`].
+pub fn direct_sum(x: &[Complex64], f0: f64, df: f64, t: f64) -> Complex64 {
+    x.iter().zip(phasors(f0, df, t)).map(|(z, p)| z * p).sum()
 }
 
 /// e^{+j 2 pi cycles}, with the phase reduced to [0, 1) cycles first.
