@@ -29,12 +29,15 @@ struct Args {
     threads: usize,
     out: Option<PathBuf>,
     show: Option<(Case, u64)>,
+    /// With `--show`: a new folder to write the nominal line file and both sweeps into.
+    dump: Option<PathBuf>,
     worst: usize,
 }
 
 const USAGE: &str =
     "usage: accuracy [--healthy N] [--faults N] [--seed S] [--threads N] [--out FILE.md] [--worst N] \
-                     | --show CASE:SEED  (CASE healthy, repeat or fault)";
+                     | --show CASE:SEED [--dump NEW_DIR]  (CASE healthy, repeat or fault; --dump writes line.toml, \
+                     baseline.s1p and current.s1p for the command line)";
 
 fn args() -> Result<Args, String> {
     let mut a = Args {
@@ -46,6 +49,7 @@ fn args() -> Result<Args, String> {
             .unwrap_or(1),
         out: None,
         show: None,
+        dump: None,
         worst: 6,
     };
     let mut it = std::env::args().skip(1);
@@ -62,6 +66,7 @@ fn args() -> Result<Args, String> {
             "--threads" => a.threads = num(value()?)?.max(1) as usize,
             "--out" => a.out = Some(PathBuf::from(value()?)),
             "--worst" => a.worst = num(value()?)? as usize,
+            "--dump" => a.dump = Some(PathBuf::from(value()?)),
             "--show" => {
                 let v = value()?;
                 let (c, s) = v
@@ -103,7 +108,7 @@ fn emit(text: &str) {
     let _ = std::io::stdout().write_all(text.as_bytes());
 }
 
-fn show(case: Case, seed: u64) {
+fn show(case: Case, seed: u64, dump: Option<&std::path::Path>) {
     let e = evaluate(seed, case);
     let s = &e.scenario;
     let mut o = String::new();
@@ -132,6 +137,11 @@ fn show(case: Case, seed: u64) {
         let _ = writeln!(o, "\n[{mode}] {}", e.what_happened(given));
     }
     if let Ok((b, c)) = s.sweeps() {
+        if let Some(dir) = dump {
+            if let Err(e) = dump_case(dir, s, &b, &c) {
+                let _ = writeln!(o, "--dump {}: {e}", dir.display());
+            }
+        }
         if let Ok(r) = s.compare(&b, &c, false) {
             let _ = writeln!(o, "\nreport (states inferred):");
             o.push_str(&coldtrace::compare::text::render_compare(&r, true));
@@ -140,6 +150,23 @@ fn show(case: Case, seed: u64) {
     let _ = writeln!(o, "\n--- nominal line file ---\n{}", s.nominal_text);
     let _ = writeln!(o, "--- truth line file ---\n{}", s.truth_text);
     emit(&o);
+}
+
+/// Write the nominal line file and both sweeps into the new folder `dir` (never over an existing one).
+fn dump_case(
+    dir: &std::path::Path,
+    s: &scenario::Scenario,
+    b: &coldtrace::network::Network,
+    c: &coldtrace::network::Network,
+) -> Result<(), String> {
+    std::fs::create_dir(dir).map_err(|e| e.to_string())?;
+    std::fs::write(dir.join("line.toml"), &s.nominal_text).map_err(|e| e.to_string())?;
+    let opts = coldtrace::touchstone::WriteOptions::default();
+    for (name, n) in [("baseline.s1p", b), ("current.s1p", c)] {
+        let text = coldtrace::touchstone::write(n, &opts).map_err(|e| e.to_string())?;
+        std::fs::write(dir.join(name), text).map_err(|e| e.to_string())?;
+    }
+    Ok(())
 }
 
 fn replay(e: &Evaluated) -> String {
@@ -242,7 +269,7 @@ fn main() {
         }
     };
     if let Some((case, seed)) = a.show {
-        show(case, seed);
+        show(case, seed, a.dump.as_deref());
         return;
     }
     let list = plan(a.seed, a.healthy, a.faults);

@@ -333,3 +333,57 @@ fn a_joint_either_side_of_an_attenuator_is_named_right_when_declared_lengths_are
         );
     }
 }
+
+/// Another open hypothesis is run only as far as its findings above info (`Detail::AboveInfo`): those must
+/// be the full comparison's, field for field but their ranks, under every hypothesis, on a pair with a
+/// fault and with joints whose small changes are noted at info.
+#[test]
+fn a_comparison_above_info_only_finds_what_the_full_one_finds_there() {
+    use coldtrace::compare::run::{compare_with, Detail};
+    use coldtrace::compare::states::Hypothesis;
+    let l = line();
+    let base = sim(&l, State::Warm, &[], 1);
+    let cur = sim(&l, State::Cold, &["J3:gap=300fF"], 2);
+    let mut claimed = 0;
+    for h in Hypothesis::ALL {
+        let (b, c) = h.states();
+        let chain = ChainView::from_line(&l, b, c, 0.5e9, 10e9, 5e9);
+        let name = |s: State| if s == State::Warm { "warm" } else { "cold" };
+        let go = |detail: Detail| {
+            compare_with(
+                Sweep {
+                    name: "baseline",
+                    network: &base,
+                    state: name(b),
+                },
+                Sweep {
+                    name: "current",
+                    network: &cur,
+                    state: name(c),
+                },
+                &chain,
+                &AnalysisConfig::default(),
+                h,
+                StateReport::given(b, c),
+                detail,
+            )
+            .unwrap()
+        };
+        let above = |r: &CompareReport| -> Vec<coldtrace::compare::Finding> {
+            r.findings
+                .iter()
+                .filter(|f| f.severity > Severity::Info)
+                .map(|f| {
+                    let mut f = f.clone();
+                    f.rank = 0;
+                    f
+                })
+                .collect()
+        };
+        let (full, part) = (go(Detail::Full), go(Detail::AboveInfo));
+        assert_eq!(above(&full), above(&part), "{h:?}");
+        assert!(part.findings.len() <= full.findings.len(), "{h:?}");
+        claimed += above(&full).len();
+    }
+    assert!(claimed > 0, "no hypothesis found the gap above info");
+}

@@ -286,16 +286,30 @@ pub fn bounded_least_squares(
 pub fn least_squares(n: usize, rows: &[(Vec<f64>, f64)]) -> Option<Vec<f64>> {
     let mut a = vec![vec![0.0; n + 1]; n];
     for (row, rhs) in rows {
-        for i in 0..n {
-            if row[i] == 0.0 {
-                continue;
-            }
-            for j in 0..n {
-                a[i][j] += row[i] * row[j];
-            }
-            a[i][n] += row[i] * rhs;
-        }
+        add_row(&mut a, row, *rhs);
     }
+    solve_normal(a)
+}
+
+/// Add one row of the design (`row`, right-hand side `rhs`) to the augmented normal equations `a` (n rows of
+/// n + 1), as [`least_squares`] does.
+pub fn add_row(a: &mut [Vec<f64>], row: &[f64], rhs: f64) {
+    let n = row.len();
+    for i in 0..n {
+        if row[i] == 0.0 {
+            continue;
+        }
+        for j in 0..n {
+            a[i][j] += row[i] * row[j];
+        }
+        a[i][n] += row[i] * rhs;
+    }
+}
+
+/// Solve the augmented normal equations `a` (n rows of n + 1) by Gauss-Jordan elimination with partial
+/// pivoting; `None` when they are singular.
+pub fn solve_normal(mut a: Vec<Vec<f64>>) -> Option<Vec<f64>> {
+    let n = a.len();
     for col in 0..n {
         let piv = (col..n).max_by(|&x, &y| a[x][col].abs().total_cmp(&a[y][col].abs()))?;
         if a[piv][col].abs() < 1e-300 {

@@ -167,13 +167,18 @@ pub fn fit_loss(freqs: &[f64], gamma: &[num_complex::Complex64]) -> Option<(Loss
     if pts.len() < 8 {
         return None;
     }
-    // Columns: 1, -sqrt(g), -g.
+    // Columns: 1, -sqrt(g), -g. The normal equations accumulated point by point, as `least_squares` does.
     let solve = |cols: &[fn(f64) -> f64]| -> Option<Vec<f64>> {
-        let rows: Vec<(Vec<f64>, f64)> = pts
-            .iter()
-            .map(|&(g, y)| (cols.iter().map(|c| c(g)).collect(), y))
-            .collect();
-        super::align::least_squares(cols.len(), &rows)
+        let n = cols.len();
+        let mut a = vec![vec![0.0; n + 1]; n];
+        let mut row = [0.0; 3];
+        for &(g, y) in &pts {
+            for (r, c) in row.iter_mut().zip(cols) {
+                *r = c(g);
+            }
+            super::align::add_row(&mut a, &row[..n], y);
+        }
+        super::align::solve_normal(a)
     };
     let one: fn(f64) -> f64 = |_| 1.0;
     let sq: fn(f64) -> f64 = |g| -g.sqrt();

@@ -5,7 +5,7 @@
 use super::chain::{ChainView, Which};
 use super::locate::{locate, mark_expected, rank_events};
 use super::report::{CompareReport, LocateReport, StateReport};
-use super::run::compare;
+use super::run::{compare_with, Detail};
 use super::severity::Severity;
 use super::states::{
     decide, model_signatures, pair_signatures, quick_analyses, Hypothesis, OPEN_MARGIN,
@@ -350,7 +350,7 @@ pub fn compare_networks(req: &PairRequest) -> Result<CompareReport> {
         req.analysis,
     )?;
     let (lo, hi) = band(nc);
-    let run = |h: Hypothesis, states: StateReport| -> Result<CompareReport> {
+    let run = |h: Hypothesis, states: StateReport, detail: Detail| -> Result<CompareReport> {
         let (bs, cs) = h.states();
         let chain = match req.line {
             LineModel::Line(l) => ChainView::from_line(l, bs, cs, lo, hi, 0.5 * (lo + hi)),
@@ -358,7 +358,7 @@ pub fn compare_networks(req: &PairRequest) -> Result<CompareReport> {
                 uniform_chain(cname, velocity_factor, nc.reference_ohm[0])?
             }
         };
-        Ok(compare(
+        Ok(compare_with(
             Sweep {
                 name: bname,
                 network: nb,
@@ -373,11 +373,18 @@ pub fn compare_networks(req: &PairRequest) -> Result<CompareReport> {
             req.analysis,
             h,
             states,
+            detail,
         )?)
     };
-    let mut report = run(open[0], states.clone())?;
+    let mut report = run(open[0], states.clone(), Detail::Full)?;
+    // Another hypothesis can only take findings above info down (`intersect`): with none, there is nothing
+    // to run it for, and what it would find at info is not reported.
+    let claims = |r: &CompareReport| r.findings.iter().any(|f| f.severity > Severity::Info);
     for &h in &open[1..] {
-        let other = run(h, states.clone())?;
+        if !claims(&report) {
+            break;
+        }
+        let other = run(h, states.clone(), Detail::AboveInfo)?;
         intersect(&mut report, &other, h);
     }
     let cs = open[0].states().1;

@@ -748,6 +748,17 @@ pub fn rank(findings: &mut [Finding]) {
     }
 }
 
+/// How much of a comparison to work out.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Detail {
+    /// Everything: every change explained, the plot's traces.
+    Full,
+    /// Only the findings above info, in full, and what they depend on: changes that can only be noted
+    /// (info) are not explained and no plot is made. What another open hypothesis is run for
+    /// (`job::compare_networks` keeps above info only what every hypothesis finds).
+    AboveInfo,
+}
+
 /// Compare `baseline` with `current` on `chain` (whose per-segment delays and losses are for the two sweeps'
 /// states, in that order) under hypothesis `h` (the states the chain was built for; one of those the data
 /// leave open). `states` is what the report says of the states: the one decision for every hypothesis run.
@@ -758,6 +769,20 @@ pub fn compare(
     cfg: &AnalysisConfig,
     h: Hypothesis,
     states: StateReport,
+) -> Result<CompareReport, CompareError> {
+    compare_with(baseline, current, chain, cfg, h, states, Detail::Full)
+}
+
+/// [`compare`], working out as much as `detail` asks: with [`Detail::AboveInfo`] its findings above info are
+/// those of [`compare`], field for field but their ranks, and it holds no plot.
+pub fn compare_with(
+    baseline: Sweep,
+    current: Sweep,
+    chain: &ChainView,
+    cfg: &AnalysisConfig,
+    h: Hypothesis,
+    states: StateReport,
+    detail: Detail,
 ) -> Result<CompareReport, CompareError> {
     let mut engine = TraceEngine::new();
     let fc = &current.network.freqs_hz;
@@ -818,6 +843,10 @@ pub fn compare(
         }
         if ch.zone == Zone::BehindDevice {
             behind += 1;
+            continue;
+        }
+        // Read as info whatever its explanation says (below).
+        if detail == Detail::AboveInfo && (noted_only || ch.within_device_drift(same_state)) {
             continue;
         }
         let extra = if at_end {
@@ -932,7 +961,7 @@ pub fn compare(
     let resolution_m = res_s * speed_at(&fit.chain, 0.0, Which::Current);
     let (not_visible, capped) = not_visible(&pa.chain, &pa.c, Which::Current, band_centre(fc));
     warnings.extend(capped_warning(&capped));
-    Ok(CompareReport {
+    let report = CompareReport {
         line: pa.chain.name.clone(),
         baseline: baseline.name.to_string(),
         current: current.name.to_string(),
@@ -955,14 +984,17 @@ pub fn compare(
         connector_lengths: None,
         warnings,
         plot: PlotData::default(),
-    }
-    .with_plot(
-        &fit.chain,
-        &[
-            (&pa.b, Which::Baseline, baseline.name),
-            (&pa.c, Which::Current, current.name),
-        ],
-    ))
+    };
+    Ok(match detail {
+        Detail::Full => report.with_plot(
+            &fit.chain,
+            &[
+                (&pa.b, Which::Baseline, baseline.name),
+                (&pa.c, Which::Current, current.name),
+            ],
+        ),
+        Detail::AboveInfo => report,
+    })
 }
 
 /// Traces in as-built metres and the chain's marks, for a plot.
