@@ -101,20 +101,14 @@ pub fn find(
             })
             .collect()
     };
-    let mut best: Option<(f64, Termination)> = None;
+    // Ranked by what the bottom of the band shows (where the line loses least): an extrapolation along a
+    // loss law can flatter an echo whose level only falls with frequency. Only the one chosen is read
+    // further (its polarity and loss law).
+    let mut best: Option<(f64, usize, Vec<f64>, Vec<Complex64>)> = None;
     for i in candidates {
         let e = a.events[i];
         let x = chain.position_of(e.delay_s, which, None);
         let (f, g) = a.local_reflection(e.delay_s, x, chain, which, engine)?;
-        let n_low = ((f.len() as f64 * POLARITY_BAND).ceil() as usize).clamp(1, f.len());
-        let mean = g[..n_low].iter().sum::<num_complex::Complex64>() / n_low as f64;
-        let low = g[..n_low].iter().map(|v| v.norm()).sum::<f64>() / n_low as f64;
-        let polarity = if mean.norm() > 0.0 {
-            mean.re / mean.norm()
-        } else {
-            0.0
-        };
-        let fit = fit_loss(&f, &g);
         // Where the loss law does not fit (an offset short's air line ripples), the bottom of the band,
         // where the line loses least, says it.
         let n_bottom = ((f.len() as f64 * BOTTOM_BAND).ceil() as usize).clamp(1, f.len());
@@ -122,31 +116,39 @@ pub fn find(
             * (g[..n_bottom].iter().map(|v| v.norm()).sum::<f64>() / n_bottom as f64)
                 .max(1e-12)
                 .log10();
-        let at_dc = fit.map_or(bottom, |(_, c)| c.max(bottom));
-        let total = match known_load(chain) {
-            Some(Load::Open) | Some(Load::Short) => true,
-            Some(_) => false,
-            None => at_dc >= TOTAL_AT_DC && polarity.abs() >= 0.5,
-        };
-        let t = Termination {
-            event: i,
-            delay_s: e.delay_s,
-            magnitude: e.magnitude,
-            polarity,
-            low_band_reflection: low,
-            total,
-            loss: if total { fit.map(|(l, _)| l) } else { None },
-        };
-        // Ranked by what the bottom of the band shows (where the line loses least): an extrapolation
-        // along a loss law can flatter an echo whose level only falls with frequency.
-        if best.as_ref().map_or(true, |(b, _)| bottom > *b) {
-            best = Some((bottom, t));
+        if best.as_ref().map_or(true, |(b, ..)| bottom > *b) {
+            best = Some((bottom, i, f, g));
         }
     }
-    Ok(match best {
-        Some((_, t)) if chain.as_built || t.total => Some(t),
-        _ => None,
-    })
+    let Some((bottom, i, f, g)) = best else {
+        return Ok(None);
+    };
+    let e = a.events[i];
+    let n_low = ((f.len() as f64 * POLARITY_BAND).ceil() as usize).clamp(1, f.len());
+    let mean = g[..n_low].iter().sum::<Complex64>() / n_low as f64;
+    let low = g[..n_low].iter().map(|v| v.norm()).sum::<f64>() / n_low as f64;
+    let polarity = if mean.norm() > 0.0 {
+        mean.re / mean.norm()
+    } else {
+        0.0
+    };
+    let fit = fit_loss(&f, &g);
+    let at_dc = fit.map_or(bottom, |(_, c)| c.max(bottom));
+    let total = match known_load(chain) {
+        Some(Load::Open) | Some(Load::Short) => true,
+        Some(_) => false,
+        None => at_dc >= TOTAL_AT_DC && polarity.abs() >= 0.5,
+    };
+    let t = Termination {
+        event: i,
+        delay_s: e.delay_s,
+        magnitude: e.magnitude,
+        polarity,
+        low_band_reflection: low,
+        total,
+        loss: if total { fit.map(|(l, _)| l) } else { None },
+    };
+    Ok((chain.as_built || t.total).then_some(t))
 }
 
 /// An echo whose reflection, extrapolated to zero frequency along its fitted loss law, is at least this
