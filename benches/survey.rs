@@ -61,6 +61,14 @@ fn bench(c: &mut Criterion) {
     g.bench_function("survey, 2 threads", |b| {
         b.iter(|| black_box(run_survey(&items, &cfg, &|_| {}).unwrap()))
     });
+    // The same on one thread: how the survey scales over the machine's two cores.
+    let one = SurveyConfig {
+        jobs: Some(1),
+        ..cfg.clone()
+    };
+    g.bench_function("survey, 1 thread", |b| {
+        b.iter(|| black_box(run_survey(&items, &one, &|_| {}).unwrap()))
+    });
     g.bench_function("read the sweeps only, 1 thread", |b| {
         b.iter(|| {
             for it in &items {

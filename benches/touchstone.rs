@@ -1,8 +1,12 @@
 //! Reading speed of the Touchstone reader on a 100k-point RI 1-port file generated in memory, beside a
-//! plain baseline (split lines and whitespace, `str::parse::<f64>`), both as bytes per second.
+//! plain baseline (split lines and whitespace, `str::parse::<f64>`), both as bytes per second; and the
+//! streaming reader that `read_file` uses (`read_pieces`, pieces of `READ_PIECE_BYTES`) on the same text,
+//! beside `read_bytes` (the whole text checked to be UTF-8, then parsed: what `read_file` did before).
 //! Target: the reader at >= 200 MB/s on one core. Results: docs/performance.md (section touchstone).
 
-use coldtrace::touchstone::{read_str, write, Format, WriteOptions};
+use coldtrace::touchstone::{
+    read_bytes, read_pieces, read_str, write, Format, WriteOptions, READ_PIECE_BYTES,
+};
 use coldtrace::Network;
 use criterion::{criterion_group, criterion_main, Criterion, Throughput};
 use num_complex::Complex64 as C;
@@ -68,6 +72,20 @@ fn bench(c: &mut Criterion) {
         g.throughput(Throughput::Bytes(text.len() as u64));
         g.bench_function("coldtrace-read_str", |b| {
             b.iter(|| read_str(black_box(&text), Path::new("bench.s1p")).unwrap())
+        });
+        g.bench_function("coldtrace-read_bytes", |b| {
+            b.iter(|| read_bytes(black_box(text.as_bytes()), Path::new("bench.s1p")).unwrap())
+        });
+        g.bench_function("coldtrace-read_pieces", |b| {
+            b.iter(|| {
+                read_pieces(
+                    black_box(text.as_bytes()),
+                    Path::new("bench.s1p"),
+                    u64::MAX,
+                    READ_PIECE_BYTES,
+                )
+                .unwrap()
+            })
         });
         g.bench_function("baseline-split-parse-f64", |b| {
             b.iter(|| baseline(black_box(&text)))

@@ -137,6 +137,24 @@ pub fn bytes_text(n: u64) -> String {
 /// bytes: one byte past it and the read stops with an error. The error is an `std::io::Error` whose message
 /// states the limit and the fix; callers wrap it with the path as they wrap any I/O error.
 pub fn read_capped(path: &Path, limit: u64, what: &str) -> std::io::Result<Vec<u8>> {
+    let (file, size) = open_capped(path, limit, what)?;
+    let mut bytes = Vec::with_capacity(size.unwrap_or(0) as usize);
+    read_at_most(file, limit, &mut bytes).map_err(|e| match e {
+        Overflow::Io(e) => e,
+        Overflow::TooLarge => too_large(what, limit, None),
+    })?;
+    Ok(bytes)
+}
+
+/// Open `path` to be read as a `what` of at most `limit` bytes, with the refusals of [`read_capped`]
+/// (folders, devices, regular files over the limit) made before anything is read. The size of a regular
+/// file comes back with it; a pipe's is not known, and its reader must stop at the limit itself
+/// ([`too_large_error`]).
+pub fn open_capped(
+    path: &Path,
+    limit: u64,
+    what: &str,
+) -> std::io::Result<(std::fs::File, Option<u64>)> {
     let meta = std::fs::metadata(path).map_err(|e| missing_input(e, what))?;
     let ft = meta.file_type();
     if ft.is_dir() {
@@ -157,12 +175,12 @@ pub fn read_capped(path: &Path, limit: u64, what: &str) -> std::io::Result<Vec<u
         return Err(too_large(what, limit, Some(meta.len())));
     }
     let file = std::fs::File::open(path)?;
-    let mut bytes = Vec::with_capacity(if ft.is_file() { meta.len() as usize } else { 0 });
-    read_at_most(file, limit, &mut bytes).map_err(|e| match e {
-        Overflow::Io(e) => e,
-        Overflow::TooLarge => too_large(what, limit, None),
-    })?;
-    Ok(bytes)
+    Ok((file, ft.is_file().then_some(meta.len())))
+}
+
+/// The refusal of a `what` that offered more than `limit` bytes while it was read.
+pub fn too_large_error(what: &str, limit: u64) -> std::io::Error {
+    too_large(what, limit, None)
 }
 
 /// A missing input said as such: the caller puts the path in front ("in.s1p: the sweep does not exist").

@@ -205,13 +205,162 @@ pub enum MatrixFormat {
 /// Read a Touchstone file. The port count comes from `[Number of Ports]` (version 2) or the `.sNp`
 /// extension (version 1). Files above [`crate::limits::MAX_SWEEP_FILE_BYTES`] and devices are refused
 /// before anything is read; a pipe is read up to that limit.
+///
+/// The file is read in pieces of [`READ_PIECE_BYTES`], each parsed as soon as its lines are complete, so the
+/// text is never held whole: reading a sweep costs little more memory than the network it holds (a
+/// 1,000,000-point file of 43 MB, docs/performance.md). What it finds is [`read_bytes`]'s on the whole file,
+/// but that the first fault in the file's order is the one reported.
 pub fn read_file(path: &Path) -> Result<Touchstone, TouchstoneError> {
-    let bytes = crate::limits::read_capped(path, crate::limits::MAX_SWEEP_FILE_BYTES, "sweep")
-        .map_err(|source| TouchstoneError::Io {
-            path: path.to_path_buf(),
-            source,
-        })?;
-    read_bytes(&bytes, path)
+    let io = |source| TouchstoneError::Io {
+        path: path.to_path_buf(),
+        source,
+    };
+    let limit = crate::limits::MAX_SWEEP_FILE_BYTES;
+    let (file, _) = crate::limits::open_capped(path, limit, "sweep").map_err(io)?;
+    read_pieces(file, path, limit, READ_PIECE_BYTES)
+}
+
+/// Size of the pieces [`read_file`] reads a file in, bytes (a few thousand lines of a sweep).
+pub const READ_PIECE_BYTES: usize = 256 << 10;
+
+/// Read Touchstone text from `reader` in pieces of `piece` bytes (at least 1), refusing more than `limit`
+/// bytes; `path` as in [`read_str`]. Each piece's complete lines are checked to be text and parsed before
+/// the next is read (a line end is cut only where it cannot be the first half of a CR LF), so the result is
+/// [`read_bytes`]'s on the whole text, line numbers and columns included, whatever the piece size.
+pub fn read_pieces(
+    mut reader: impl std::io::Read,
+    path: &Path,
+    limit: u64,
+    piece: usize,
+) -> Result<Touchstone, TouchstoneError> {
+    let piece = piece.max(1);
+    let io = |source| TouchstoneError::Io {
+        path: path.to_path_buf(),
+        source,
+    };
+    let mut feed = parser::LineFeed::new(path);
+    // The bytes read and not yet parsed are `store[begin..end]`; the store is zeroed once, and grows only
+    // for a line longer than a piece.
+    let mut store: Vec<u8> = vec![0; 2 * piece];
+    let (mut begin, mut end) = (0usize, 0usize);
+    let mut total: u64 = 0;
+    let mut eof = false;
+    // Lines fed so far; line feeds before `begin` and bytes since the last of them (for a byte that is not
+    // text, placed as `read_bytes` places it).
+    let (mut lines, mut lf_before, mut since_lf) = (0usize, 0usize, 0usize);
+    let mut bom: Option<bool> = None;
+    let mark = BYTE_ORDER_MARK.to_string();
+    loop {
+        if !eof {
+            store.copy_within(begin..end, 0);
+            (begin, end) = (0, end - begin);
+            if store.len() < end + piece {
+                store.resize(end + piece, 0);
+            }
+            let got = loop {
+                match reader.read(&mut store[end..end + piece]) {
+                    Ok(n) => break n,
+                    Err(e) if e.kind() == std::io::ErrorKind::Interrupted => continue,
+                    Err(e) => return Err(io(e)),
+                }
+            };
+            end += got;
+            eof = got == 0;
+            total += got as u64;
+            if total > limit {
+                return Err(io(crate::limits::too_large_error("sweep", limit)));
+            }
+        }
+        if bom.is_none() {
+            if end - begin < mark.len() && !eof {
+                continue;
+            }
+            let has = store[begin..end].starts_with(mark.as_bytes());
+            if has {
+                begin += mark.len();
+                since_lf = mark.len();
+            }
+            bom = Some(has);
+        }
+        let buf = &store[begin..end];
+        let cut = if eof {
+            buf.len()
+        } else {
+            match memchr::memrchr(b'\n', buf) {
+                Some(i) => i + 1,
+                // A lone CR ends a line too, but not the last byte read: a LF may follow it.
+                None => buf[..buf.len().saturating_sub(1)]
+                    .iter()
+                    .rposition(|&b| b == b'\r')
+                    .map_or(0, |i| i + 1),
+            }
+        };
+        if cut > 0 {
+            let seg = &buf[..cut];
+            let text = std::str::from_utf8(seg).map_err(|e| {
+                let good = &seg[..e.valid_up_to()];
+                let col = match memchr::memrchr(b'\n', good) {
+                    Some(i) => good.len() - i - 1,
+                    None => since_lf + good.len(),
+                };
+                not_text(
+                    path,
+                    1 + lf_before + bytecount(good),
+                    1 + col,
+                    seg[good.len()],
+                )
+            })?;
+            let before = lines;
+            for mut line in lexer::Lines::new(text) {
+                line.number += before;
+                lines = line.number;
+                feed.line(line)?;
+            }
+            since_lf = match memchr::memrchr(b'\n', seg) {
+                Some(i) => seg.len() - i - 1,
+                None => since_lf + seg.len(),
+            };
+            lf_before += bytecount(seg);
+            begin += cut;
+        }
+        if eof && begin == end {
+            break;
+        }
+    }
+    let mut ts = feed.finish()?;
+    if bom == Some(true) {
+        ts.warnings.insert(0, byte_order_mark_warning(path));
+    }
+    Ok(ts)
+}
+
+/// Line feeds in `b`.
+fn bytecount(b: &[u8]) -> usize {
+    memchr::memchr_iter(b'\n', b).count()
+}
+
+/// A byte that is not text at `line`, `col` (1-based).
+fn not_text(path: &Path, line: usize, col: usize, byte: u8) -> TouchstoneError {
+    TouchstoneError::Parse {
+        path: path.to_path_buf(),
+        line,
+        col,
+        kind: ErrorKind::NotText,
+        found: format!("byte 0x{byte:02x}"),
+        expected: "printable ASCII text".into(),
+        fix: "save the file as plain ASCII text; Touchstone files hold only ASCII characters"
+            .into(),
+    }
+}
+
+/// The warning of a file that starts with a byte-order mark.
+fn byte_order_mark_warning(path: &Path) -> Warning {
+    Warning::new(
+        "byte-order-mark",
+        "the file starts with a UTF-8 byte-order mark (an invisible character some editors add); it was skipped",
+        "save the file as plain ASCII text without a byte-order mark",
+    )
+    .at(format!("{}:1", path.display()))
 }
 
 /// Read Touchstone text; `path` names it in messages and gives the `.sNp` extension.
@@ -221,15 +370,7 @@ pub fn read_str(text: &str, path: &Path) -> Result<Touchstone, TouchstoneError> 
         None => parser::parse(text, path),
         Some(rest) => {
             let mut ts = parser::parse(rest, path)?;
-            ts.warnings.insert(
-                0,
-                Warning::new(
-                    "byte-order-mark",
-                    "the file starts with a UTF-8 byte-order mark (an invisible character some editors add); it was skipped",
-                    "save the file as plain ASCII text without a byte-order mark",
-                )
-                .at(format!("{}:1", path.display())),
-            );
+            ts.warnings.insert(0, byte_order_mark_warning(path));
             Ok(ts)
         }
     }
@@ -246,17 +387,7 @@ pub fn read_bytes(bytes: &[u8], path: &Path) -> Result<Touchstone, TouchstoneErr
             let good = &bytes[..e.valid_up_to()];
             let line = 1 + good.iter().filter(|&&b| b == b'\n').count();
             let col = 1 + good.iter().rev().take_while(|&&b| b != b'\n').count();
-            Err(TouchstoneError::Parse {
-                path: path.to_path_buf(),
-                line,
-                col,
-                kind: ErrorKind::NotText,
-                found: format!("byte 0x{:02x}", bytes[e.valid_up_to()]),
-                expected: "printable ASCII text".into(),
-                fix:
-                    "save the file as plain ASCII text; Touchstone files hold only ASCII characters"
-                        .into(),
-            })
+            Err(not_text(path, line, col, bytes[e.valid_up_to()]))
         }
     }
 }

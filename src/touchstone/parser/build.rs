@@ -208,7 +208,11 @@ impl<'a> Parser<'a> {
             );
         }
         let scale = unit.hz();
-        let freqs_hz: Vec<f64> = self.freqs.iter().map(|f| f * scale).collect();
+        // In place: a million-point sweep's frequencies are not held twice.
+        let mut freqs_hz = std::mem::take(&mut self.freqs);
+        for f in &mut freqs_hz {
+            *f *= scale;
+        }
         let rn_scale = if self.v2 { 1.0 } else { reference[0] };
         let noise = self
             .noise

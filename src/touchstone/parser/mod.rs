@@ -9,7 +9,7 @@ mod header;
 
 use super::convert::{self, Kind};
 use super::keywords::{parse_keyword_line, Keyword};
-use super::lexer::{lex_data_line, parse_number, strip_comment, Lines, Tokens};
+use super::lexer::{lex_data_line, parse_number, strip_comment, Line, Lines, Tokens};
 use super::options::{parse_option_line, OptionLine, DEFAULT_REFERENCE_OHM};
 use super::{
     ports_from_extension, ErrorKind, FileInfo, Format, FreqUnit, MatrixFormat, Parameter,
@@ -73,53 +73,61 @@ struct Parser<'a> {
 
 type Res<T> = Result<T, TouchstoneError>;
 
+/// Parse a whole text.
 pub(crate) fn parse(text: &str, path: &Path) -> Res<Touchstone> {
-    let mut p = Parser {
-        path,
-        version: Version::V1_0,
-        v2: false,
-        options: None,
-        option_line_no: 0,
-        ports: None,
-        two_port_order: None,
-        matrix_format: MatrixFormat::Full,
-        n_freq: None,
-        n_noise: None,
-        reference: Vec::new(),
-        reference_open: None,
-        mixed_mode_order: None,
-        information: Vec::new(),
-        header_comments: Vec::new(),
-        seen: HashSet::new(),
-        section: Section::Header,
-        warnings: Vec::new(),
-        freqs: Vec::new(),
-        values: Vec::new(),
-        record_lines: Vec::new(),
-        noise: Vec::new(),
-        pending: Vec::new(),
-        pending_start: (0, 0),
-        last_line: 0,
-        seen_data: false,
-    };
-    let mut first_content = true;
-    let mut line_vals: Vec<f64> = Vec::with_capacity(64);
-    let mut line_cols: Vec<u32> = Vec::with_capacity(64);
+    let mut feed = LineFeed::new(path);
     for line in Lines::new(text) {
+        feed.line(line)?;
+    }
+    feed.finish()
+}
+
+/// The reader fed one physical line at a time, in order: [`parse`] over a whole text, and the streaming
+/// reader (`touchstone::read_file`) over a file read in pieces, whose text is never held whole.
+pub(crate) struct LineFeed<'a> {
+    p: Parser<'a>,
+    first_content: bool,
+    line_vals: Vec<f64>,
+    line_cols: Vec<u32>,
+}
+
+impl<'a> LineFeed<'a> {
+    pub(crate) fn new(path: &'a Path) -> Self {
+        LineFeed {
+            p: Parser::new(path),
+            first_content: true,
+            line_vals: Vec::with_capacity(64),
+            line_cols: Vec::with_capacity(64),
+        }
+    }
+
+    /// The network read so far, checked and built, once every line has been fed.
+    pub(crate) fn finish(self) -> Res<Touchstone> {
+        self.p.finish()
+    }
+
+    /// Feed the next line (its number counts every line before it, from 1).
+    pub(crate) fn line(&mut self, line: Line) -> Res<()> {
+        let LineFeed {
+            p,
+            first_content,
+            line_vals,
+            line_cols,
+        } = self;
+        let path = p.path;
         p.last_line = line.number;
         let data_section = p.reference_open.is_none()
             && if p.v2 {
                 matches!(p.section, Section::Network | Section::Noise)
             } else {
-                !first_content
+                !*first_content
             };
-        if data_section && lex_data_line(line.text.as_bytes(), &mut line_vals, &mut line_cols) {
-            if p.v2 {
-                p.v2_values(&line_vals, &line_cols, line.number)?;
+        if data_section && lex_data_line(line.text.as_bytes(), line_vals, line_cols) {
+            return if p.v2 {
+                p.v2_values(line_vals, line_cols, line.number)
             } else {
-                p.v1_line(&line_vals, &line_cols, line.number)?;
-            }
-            continue;
+                p.v1_line(line_vals, line_cols, line.number)
+            };
         }
         if let Some((col, b)) = line
             .text
@@ -144,14 +152,13 @@ pub(crate) fn parse(text: &str, path: &Path) -> Res<Touchstone> {
         }
         let trimmed = body.trim_start_matches(SPACES);
         if trimmed.trim_end_matches(SPACES).is_empty() {
-            continue;
+            return Ok(());
         }
         let lead = body.len() - trimmed.len();
-        if first_content {
-            first_content = false;
+        if *first_content {
+            *first_content = false;
             if trimmed.starts_with('[') {
-                p.start_v2(body, line.number)?;
-                continue;
+                return p.start_v2(body, line.number);
             }
             if let Some(n) = ports_from_extension(path).filter(|&n| n > MAX_PORTS) {
                 return Err(p.err(
@@ -180,18 +187,16 @@ pub(crate) fn parse(text: &str, path: &Path) -> Res<Touchstone> {
                 if let Some(k) = parse_keyword_line(body) {
                     if k.keyword == Some(Keyword::EndInformation) {
                         p.section = Section::Header;
-                        p.mark_seen(Keyword::EndInformation, line.number, lead)?;
-                        continue;
+                        return p.mark_seen(Keyword::EndInformation, line.number, lead);
                     }
                 }
             }
             p.information
                 .push(trimmed.trim_end_matches(SPACES).to_string());
-            continue;
+            return Ok(());
         }
         if trimmed.starts_with('#') {
-            p.option_line(body, line.number, lead)?;
-            continue;
+            return p.option_line(body, line.number, lead);
         }
         if trimmed.starts_with('[') {
             if !p.v2 {
@@ -204,8 +209,7 @@ pub(crate) fn parse(text: &str, path: &Path) -> Res<Touchstone> {
                     "start the file with '[Version] 2.1' to use keywords, or delete the keyword line",
                 ));
             }
-            p.keyword(body, line.number, lead)?;
-            continue;
+            return p.keyword(body, line.number, lead);
         }
         // Numbers.
         line_vals.clear();
@@ -229,16 +233,47 @@ pub(crate) fn parse(text: &str, path: &Path) -> Res<Touchstone> {
             }
         }
         if p.reference_open.is_some() {
-            p.reference_values(&line_vals, &line_cols, line.number)?;
-            continue;
+            return p.reference_values(line_vals, line_cols, line.number);
         }
         if p.v2 {
-            p.v2_values(&line_vals, &line_cols, line.number)?;
+            p.v2_values(line_vals, line_cols, line.number)
         } else {
-            p.v1_line(&line_vals, &line_cols, line.number)?;
+            p.v1_line(line_vals, line_cols, line.number)
         }
     }
-    p.finish()
+}
+
+impl<'a> Parser<'a> {
+    fn new(path: &'a Path) -> Self {
+        Parser {
+            path,
+            version: Version::V1_0,
+            v2: false,
+            options: None,
+            option_line_no: 0,
+            ports: None,
+            two_port_order: None,
+            matrix_format: MatrixFormat::Full,
+            n_freq: None,
+            n_noise: None,
+            reference: Vec::new(),
+            reference_open: None,
+            mixed_mode_order: None,
+            information: Vec::new(),
+            header_comments: Vec::new(),
+            seen: HashSet::new(),
+            section: Section::Header,
+            warnings: Vec::new(),
+            freqs: Vec::new(),
+            values: Vec::new(),
+            record_lines: Vec::new(),
+            noise: Vec::new(),
+            pending: Vec::new(),
+            pending_start: (0, 0),
+            last_line: 0,
+            seen_data: false,
+        }
+    }
 }
 
 fn display_name(path: &Path) -> String {
