@@ -77,14 +77,14 @@ fn faults_are_placed_alike_in_pieces() {
     let mut not_text_crlf = V1.replace('\n', "\r\n").into_bytes();
     let at = not_text_crlf.len() - 4;
     not_text_crlf.insert(at, 0x80);
-    let fractional = V1.replace("3 -0.3", "2.5 -0.3");
+    let backwards = V1.replace("3 -0.3", "1.5 -0.3");
     let v1_faults: [&[u8]; 6] = [
         bad_number.as_bytes(),
         control.as_bytes(),
         &not_text,
         &not_text_first_line,
         &not_text_crlf,
-        fractional.as_bytes(),
+        backwards.as_bytes(),
     ];
     for bytes in v1_faults {
         agree(bytes, "a.s1p");

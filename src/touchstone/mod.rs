@@ -249,7 +249,8 @@ pub fn read_pieces(
     // text, placed as `read_bytes` places it).
     let (mut lines, mut lf_before, mut since_lf) = (0usize, 0usize, 0usize);
     let mut bom: Option<bool> = None;
-    let mark = BYTE_ORDER_MARK.to_string();
+    let mut mark = [0u8; 4];
+    let mark = BYTE_ORDER_MARK.encode_utf8(&mut mark).as_bytes();
     loop {
         if !eof {
             store.copy_within(begin..end, 0);
@@ -275,7 +276,7 @@ pub fn read_pieces(
             if end - begin < mark.len() && !eof {
                 continue;
             }
-            let has = store[begin..end].starts_with(mark.as_bytes());
+            let has = store[begin..end].starts_with(mark);
             if has {
                 begin += mark.len();
                 since_lf = mark.len();
