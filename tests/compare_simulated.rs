@@ -387,3 +387,39 @@ fn a_comparison_above_info_only_finds_what_the_full_one_finds_there() {
     }
     assert!(claimed > 0, "no hypothesis found the gap above info");
 }
+
+#[test]
+fn one_engine_kept_across_pairs_on_several_grids_gives_what_fresh_engines_give() {
+    // A survey's worker keeps one transform engine (plans, window coefficients) for all its lines: the
+    // reports must not depend on what the engine already holds. Pairs on two grids, interleaved, states
+    // given and inferred, one with a fault.
+    use coldtrace::compare::job::{compare_networks, compare_networks_in, LineModel, PairRequest};
+    use coldtrace::transform::TraceEngine;
+    let l = line();
+    let cfg = AnalysisConfig::default();
+    let pairs = [
+        (
+            sim_n(&l, State::Warm, &[], 31, 1601),
+            sim_n(&l, State::Cold, &["J3:gap=300fF"], 32, 1601),
+        ),
+        (
+            sim_n(&l, State::Warm, &[], 33, 2001),
+            sim_n(&l, State::Cold, &[], 34, 2001),
+        ),
+    ];
+    let request = |k: usize, given: bool| PairRequest {
+        baseline: ("baseline", &pairs[k].0),
+        current: ("current", &pairs[k].1),
+        line: LineModel::Line(&l),
+        baseline_state: given.then_some(State::Warm),
+        current_state: given.then_some(State::Cold),
+        analysis: &cfg,
+    };
+    let json = |r: &CompareReport| serde_json::to_string(r).unwrap();
+    let mut engine = TraceEngine::new();
+    for (k, given) in [(0, true), (1, false), (0, false), (1, true), (0, true)] {
+        let kept = compare_networks_in(&request(k, given), &mut engine).unwrap();
+        let fresh = compare_networks(&request(k, given)).unwrap();
+        assert_eq!(json(&kept), json(&fresh), "pair {k}, states given: {given}");
+    }
+}

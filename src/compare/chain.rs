@@ -84,6 +84,22 @@ pub struct Segment {
     pub load: Option<crate::line::Load>,
 }
 
+impl Segment {
+    /// Fraction of the segment lying before `x` (a segment of no length: all of it once `x` reaches it).
+    pub fn covered(&self, x: f64) -> f64 {
+        let len = self.end_m - self.start_m;
+        if len <= 0.0 {
+            if x >= self.end_m {
+                1.0
+            } else {
+                0.0
+            }
+        } else {
+            ((x - self.start_m) / len).clamp(0.0, 1.0)
+        }
+    }
+}
+
 /// The chain, as the comparator sees it.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct ChainView {
@@ -174,27 +190,13 @@ impl ChainView {
 
     /// Fraction of each segment lying before `x`.
     pub fn cover(&self, x: f64) -> Vec<f64> {
-        self.segments
-            .iter()
-            .map(|s| {
-                let len = s.end_m - s.start_m;
-                if len <= 0.0 {
-                    if x >= s.end_m {
-                        1.0
-                    } else {
-                        0.0
-                    }
-                } else {
-                    ((x - s.start_m) / len).clamp(0.0, 1.0)
-                }
-            })
-            .collect()
+        self.segments.iter().map(|s| s.covered(x)).collect()
     }
 
     /// Round-trip delay to `x` in sweep `which`, with per-segment scales (1 = the model's).
     pub fn delay_to(&self, x: f64, which: Which, scale: Option<&[f64]>) -> f64 {
         let mut d = 0.0;
-        for (j, (s, c)) in self.segments.iter().zip(self.cover(x)).enumerate() {
+        for (j, (s, c)) in self.segments.iter().map(|s| (s, s.covered(x))).enumerate() {
             d += c * s.delay_s[which as usize] * scale.map_or(1.0, |v| v[j]);
         }
         // Beyond the far end, continue at the speed of the last segment that has a length.
@@ -242,7 +244,7 @@ impl ChainView {
     /// attenuator counts once `x` is past its middle).
     pub fn loss_model_to(&self, x: f64, which: Which) -> LossModel {
         let mut m = LossModel::default();
-        for (s, c) in self.segments.iter().zip(self.cover(x)) {
+        for (s, c) in self.segments.iter().map(|s| (s, s.covered(x))) {
             let l = s.loss[which as usize];
             m.a_sqrt += c * l.a_sqrt;
             m.a_lin += c * l.a_lin;

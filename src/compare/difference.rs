@@ -368,8 +368,14 @@ pub fn cap_shortfall_db(chain: &ChainView, x: f64, f: f64, which: Which) -> f64 
     if !chain.compensates() {
         return 0.0;
     }
+    shortfall_db(&chain.loss_model_to(x, which), f)
+}
+
+/// [`cap_shortfall_db`] for the round trip `m` (from `ChainView::loss_model_to`) on a compensated chain, at
+/// `f`: the loss beyond the cap, dB.
+fn shortfall_db(m: &super::chain::LossModel, f: f64) -> f64 {
     let cap_db = 20.0 * super::analysis::MAX_COMPENSATION.log10();
-    (chain.loss_to_db(x, f, which) - cap_db).max(0.0)
+    (m.db(f) - cap_db).max(0.0)
 }
 
 /// Most the model's loss error may widen the interval of explained changes where a sweep's compensation is
@@ -418,11 +424,23 @@ const CAP_PROBES: usize = 9;
 /// give the change the caps alone make.
 fn cap_interval_db(inp: &Inputs, x: f64, spectrum: Option<&[(f64, f64)]>) -> (f64, f64) {
     let (f0, f1) = inner_band(inp);
+    // The two round trips to x, walked once (not once per frequency).
+    let (mc, mb) = (
+        inp.chain.loss_model_to(x, Which::Current),
+        inp.chain.loss_model_to(x, Which::Baseline),
+    );
+    let compensates = inp.chain.compensates();
+    let shortfall = |m: &super::chain::LossModel, f: f64| {
+        if compensates {
+            shortfall_db(m, f)
+        } else {
+            0.0
+        }
+    };
     let weighed = spectrum.and_then(|sp| {
         let (mut num, mut den) = (0.0, 0.0);
         for &(f, m) in sp {
-            let d = cap_shortfall_db(inp.chain, x, f, Which::Current)
-                - cap_shortfall_db(inp.chain, x, f, Which::Baseline);
+            let d = shortfall(&mc, f) - shortfall(&mb, f);
             num += m;
             den += m * 10f64.powf(d / 20.0);
         }
@@ -430,25 +448,20 @@ fn cap_interval_db(inp: &Inputs, x: f64, spectrum: Option<&[(f64, f64)]>) -> (f6
     });
     let (mut lo, mut hi) = match weighed {
         Some(e) => (e, e),
-        None => cap_bounds_db(inp, x),
+        None => bounds_over_band(&mb, &mc, (f0, f1), &shortfall),
     };
     let f_c = 0.5 * (f0 + f1);
-    let capped = |which: Which| cap_shortfall_db(inp.chain, x, f1, which) > 0.0;
-    let model_error = |which: Which| {
-        let m = inp.chain.loss_model_to(x, which);
+    let model_error = |m: &super::chain::LossModel| {
         (MODEL_LOSS_ERROR * (m.db(f_c) - m.a_flat) + ATTENUATOR_LOSS_ERROR * m.a_flat)
             .min(CAPPED_MODEL_ERROR_DB)
     };
-    let one_model = (inp.chain.loss_to_db(x, f_c, Which::Baseline)
-        - inp.chain.loss_to_db(x, f_c, Which::Current))
-    .abs()
-        < 1e-9;
+    let one_model = (mb.db(f_c) - mc.db(f_c)).abs() < 1e-9;
     if !one_model {
-        if capped(Which::Baseline) {
-            hi += model_error(Which::Baseline);
+        if shortfall(&mb, f1) > 0.0 {
+            hi += model_error(&mb);
         }
-        if capped(Which::Current) {
-            lo -= model_error(Which::Current);
+        if shortfall(&mc, f1) > 0.0 {
+            lo -= model_error(&mc);
         }
     }
     (lo, hi)
@@ -456,7 +469,7 @@ fn cap_interval_db(inp: &Inputs, x: f64, spectrum: Option<&[(f64, f64)]>) -> (f6
 
 /// Pair every echo of both sweeps on the aligned map and judge each change against the calibration.
 /// Returned in order of position.
-pub fn changes(inp: &Inputs) -> Vec<Change> {
+pub fn changes(inp: &Inputs, engine: &mut TraceEngine) -> Vec<Change> {
     let (b, c, fit) = (inp.b, inp.c, inp.fit);
     let res_s = b.resolution_s.max(c.resolution_s);
     let to_x_b = |d: f64| fit.chain.position_of(d, Which::Baseline, None);
@@ -600,7 +613,6 @@ pub fn changes(inp: &Inputs) -> Vec<Change> {
         .map(|i| inp.chain.segments[i].start_m);
     // Calibration and shadowing, front to back: a joint that got worse dims everything behind it.
     let mut shadow = (0.0f64, 0.0f64);
-    let mut engine = TraceEngine::new();
     for ch in &mut out {
         let res_m = res_s * super::place::speed_at(&fit.chain, ch.x, Which::Current);
         ch.zone = inp.zone(ch.x, ch.d_c, res_m);
@@ -610,7 +622,7 @@ pub fn changes(inp: &Inputs) -> Vec<Change> {
         // Where the caps' difference varies across the band, weigh it by the echo's own spectrum.
         let (lo, hi) = cap_bounds_db(inp, ch.x);
         let spectrum = if hi - lo > CAP_SPREAD_DB {
-            echo_spectrum(inp, ch, &mut engine)
+            echo_spectrum(inp, ch, engine)
         } else {
             None
         };
@@ -879,12 +891,32 @@ fn inner_band(inp: &Inputs) -> (f64, f64) {
 /// The least and the most of the two sweeps' cap shortfalls' difference (baseline less current) over the
 /// inner band at `x`, dB, probed at [`CAP_PROBES`] frequencies.
 fn cap_bounds_db(inp: &Inputs, x: f64) -> (f64, f64) {
-    let (f0, f1) = inner_band(inp);
+    let (mb, mc) = (
+        inp.chain.loss_model_to(x, Which::Baseline),
+        inp.chain.loss_model_to(x, Which::Current),
+    );
+    let compensates = inp.chain.compensates();
+    bounds_over_band(&mb, &mc, inner_band(inp), &|m, f| {
+        if compensates {
+            shortfall_db(m, f)
+        } else {
+            0.0
+        }
+    })
+}
+
+/// [`cap_bounds_db`] for the round trips `mb` and `mc` to one place, over the band `(f0, f1)`, with the
+/// shortfall of a round trip at a frequency given by `shortfall`.
+fn bounds_over_band(
+    mb: &super::chain::LossModel,
+    mc: &super::chain::LossModel,
+    (f0, f1): (f64, f64),
+    shortfall: &dyn Fn(&super::chain::LossModel, f64) -> f64,
+) -> (f64, f64) {
     (0..CAP_PROBES)
         .map(|k| {
             let f = f0 + (f1 - f0) * k as f64 / (CAP_PROBES - 1) as f64;
-            cap_shortfall_db(inp.chain, x, f, Which::Baseline)
-                - cap_shortfall_db(inp.chain, x, f, Which::Current)
+            shortfall(mb, f) - shortfall(mc, f)
         })
         .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), d| {
             (lo.min(d), hi.max(d))

@@ -13,7 +13,10 @@ use super::analysis::{SweepAnalysis, FIT_BAND_EDGE, GATE_HALF_WIDTH_CELLS};
 use super::chain::{ChainView, LossModel, Which};
 use super::CompareError;
 use crate::line::Load;
-use crate::transform::{czt::direct_sum, gate_with, GatePlan, TraceEngine};
+use crate::transform::{
+    czt::{direct_sum, phasors},
+    gate_with, GatePlan, TraceEngine,
+};
 use num_complex::Complex64;
 
 /// The termination is looked for among echoes no more than this far under the strongest echo, dB
@@ -286,13 +289,26 @@ pub fn echo_lag(
     let span = LAG_SEARCH_CELLS * res;
     let step = res / 64.0;
     let steps = (2.0 * span / step).round() as usize;
+    // The scan's values in one chirp-z transform (the sums at guess - span + k step, k = 0..=steps). The
+    // scan's start is moved into the terms, so the plan depends on the grid and the step alone and is
+    // built once per engine.
+    let t0 = guess - span;
+    let moved: Vec<Complex64> = terms
+        .iter()
+        .zip(phasors(0.0, df, t0))
+        .map(|(z, p)| z * p)
+        .collect();
+    let plan = engine
+        .cache()
+        .chirp_z(moved.len(), steps + 1, 0.0, df * step);
+    let scan = engine.cache().apply(&plan, &moved);
     let (mut best_k, mut best_v) = (0usize, f64::NEG_INFINITY);
-    for k in 0..=steps {
-        let v = corr(guess - span + k as f64 * step);
-        if v > best_v {
-            (best_k, best_v) = (k, v);
+    for (k, v) in scan.iter().enumerate() {
+        if v.norm() > best_v {
+            (best_k, best_v) = (k, v.norm());
         }
     }
+    let best_v = corr(t0 + best_k as f64 * step);
     if best_k == 0 || best_k == steps {
         return Ok(None);
     }

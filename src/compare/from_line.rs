@@ -11,18 +11,27 @@ use crate::line::physics::{SectionState, NEPER_DB};
 use crate::line::position::{slices, DelayProfile};
 use crate::line::{Element, ElementKind, Line, State};
 
-/// Round-trip loss of element `e` in `state` at `f` Hz, dB, without an attenuator's flat part.
-fn element_loss_db(line: &Line, e: &Element, state: State, f: f64) -> f64 {
+/// Round-trip loss of element `e` in `state` at each of the frequencies `f` (Hz), dB, without an
+/// attenuator's flat part. Each temperature slice's state is worked out once for all the frequencies.
+fn element_loss_db<const N: usize>(
+    line: &Line,
+    e: &Element,
+    state: State,
+    f: [f64; N],
+) -> [f64; N] {
     let kind = match &e.kind {
         ElementKind::Cable { cable } => cable,
         ElementKind::Connector { section, .. } => section,
-        _ => return 0.0,
+        _ => return [0.0; N],
     };
-    let np: f64 = slices(e, state, 0.0, e.length_m)
-        .iter()
-        .map(|s| SectionState::new(kind, s.t_k, line.ptfe_model).alpha_per_m(f) * s.length_m)
-        .sum();
-    2.0 * np * NEPER_DB
+    let mut np = [0.0; N];
+    for s in slices(e, state, 0.0, e.length_m) {
+        let st = SectionState::new(kind, s.t_k, line.ptfe_model);
+        for (acc, &fk) in np.iter_mut().zip(&f) {
+            *acc += st.alpha_per_m(fk) * s.length_m;
+        }
+    }
+    np.map(|v| 2.0 * v * NEPER_DB)
 }
 
 fn stage_text(e: &Element) -> String {
@@ -72,13 +81,8 @@ impl ChainView {
                     _ => 0.0,
                 };
                 let loss = |k: usize| {
-                    LossModel::through(
-                        f1,
-                        element_loss_db(line, e, states[k], f1) + flat,
-                        f2,
-                        element_loss_db(line, e, states[k], f2) + flat,
-                        flat,
-                    )
+                    let [l1, l2] = element_loss_db(line, e, states[k], [f1, f2]);
+                    LossModel::through(f1, l1 + flat, f2, l2 + flat, flat)
                 };
                 let (kind, pin, eps) = match &e.kind {
                     ElementKind::Cable { cable } => {

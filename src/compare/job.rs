@@ -5,7 +5,7 @@
 use super::chain::{ChainView, Which};
 use super::locate::{locate, mark_expected, rank_events};
 use super::report::{CompareReport, LocateReport, StateReport};
-use super::run::{compare_with, Detail};
+use super::run::{compare_in, Detail};
 use super::severity::Severity;
 use super::states::{
     decide, model_signatures, pair_signatures, quick_analyses, Hypothesis, OPEN_MARGIN,
@@ -127,18 +127,29 @@ pub fn decide_pair_states(
     given: (Option<State>, Option<State>),
     cfg: &AnalysisConfig,
 ) -> Result<(StateReport, Vec<Hypothesis>)> {
-    let mut engine = TraceEngine::new();
+    decide_pair_states_in(nb, nc, line, given, cfg, &mut TraceEngine::new())
+}
+
+/// [`decide_pair_states`] on `engine`'s plans (see [`compare_networks_in`]).
+pub fn decide_pair_states_in(
+    nb: &Network,
+    nc: &Network,
+    line: Option<&Line>,
+    given: (Option<State>, Option<State>),
+    cfg: &AnalysisConfig,
+    engine: &mut TraceEngine,
+) -> Result<(StateReport, Vec<Hypothesis>)> {
     let mut signatures = Vec::new();
     let both_given = given.0.is_some() && given.1.is_some();
-    if let Some((ab, ac)) = quick_analyses(nb, nc, &cfg.window, &mut engine) {
-        signatures.extend(pair_signatures(&ab, &ac, &mut engine)?);
+    if let Some((ab, ac)) = quick_analyses(nb, nc, &cfg.window, engine) {
+        signatures.extend(pair_signatures(&ab, &ac, engine)?);
         if let Some(r) = line.and_then(|l| super::states::model_cold_over_warm(&ab, l)) {
             super::states::check_loss_ratio(&mut signatures, r);
         }
         // With both states given, the pair's own signatures are enough to warn of a contradiction.
         if let Some(l) = line.filter(|_| !both_given) {
-            signatures.extend(model_signatures(&ab, l, "baseline", &mut engine)?);
-            signatures.extend(model_signatures(&ac, l, "current", &mut engine)?);
+            signatures.extend(model_signatures(&ab, l, "baseline", engine)?);
+            signatures.extend(model_signatures(&ac, l, "current", engine)?);
         }
     }
     // Without a line file nothing tells warm->warm from cold->cold, and nothing depends on it.
@@ -312,20 +323,28 @@ fn line_model<'a>(line: &'a Option<Line>, src: &LineSource) -> LineModel<'a> {
 
 /// Run a comparison.
 pub fn run_compare(job: &CompareJob) -> Result<CompareReport> {
+    run_compare_in(job, &mut TraceEngine::new())
+}
+
+/// [`run_compare`] on `engine`'s plans (see [`compare_networks_in`]).
+pub fn run_compare_in(job: &CompareJob, engine: &mut TraceEngine) -> Result<CompareReport> {
     let (nb, wb) = read_sweep(&job.baseline, job.source)?;
     let (nc, wc) = read_sweep(&job.current, job.source)?;
     let line = read_line(&job.line)?;
     let model = line_model(&line, &job.line);
     let bname = shown_name(&job.baseline, job.source).display().to_string();
     let cname = shown_name(&job.current, job.source).display().to_string();
-    let mut report = compare_networks(&PairRequest {
-        baseline: (&bname, &nb),
-        current: (&cname, &nc),
-        line: model,
-        baseline_state: job.baseline_state,
-        current_state: job.current_state,
-        analysis: &job.analysis,
-    })?;
+    let mut report = compare_networks_in(
+        &PairRequest {
+            baseline: (&bname, &nb),
+            current: (&cname, &nc),
+            line: model,
+            baseline_state: job.baseline_state,
+            current_state: job.current_state,
+            analysis: &job.analysis,
+        },
+        engine,
+    )?;
     let mut w = wb;
     w.extend(wc);
     w.append(&mut report.warnings);
@@ -336,21 +355,29 @@ pub fn run_compare(job: &CompareJob) -> Result<CompareReport> {
 /// Compare two sweeps already in memory: settle the states, run the comparison under the hypothesis chosen
 /// and under every other one the data leave open, and keep above info only what is a change under all.
 pub fn compare_networks(req: &PairRequest) -> Result<CompareReport> {
+    compare_networks_in(req, &mut TraceEngine::new())
+}
+
+/// [`compare_networks`] on `engine`'s transform plans and window coefficients. Keep one engine for many
+/// pairs on one grid (a fleet survey's worker does): each plan is then built once, not once per pair. The
+/// report does not depend on what the engine already holds.
+pub fn compare_networks_in(req: &PairRequest, engine: &mut TraceEngine) -> Result<CompareReport> {
     let (bname, nb) = req.baseline;
     let (cname, nc) = req.current;
     let line = match req.line {
         LineModel::Line(l) => Some(l),
         LineModel::Uniform { .. } => None,
     };
-    let (states, open) = decide_pair_states(
+    let (states, open) = decide_pair_states_in(
         nb,
         nc,
         line,
         (req.baseline_state, req.current_state),
         req.analysis,
+        engine,
     )?;
     let (lo, hi) = band(nc);
-    let run = |h: Hypothesis, states: StateReport, detail: Detail| -> Result<CompareReport> {
+    let mut run = |h: Hypothesis, states: StateReport, detail: Detail| -> Result<CompareReport> {
         let (bs, cs) = h.states();
         let chain = match req.line {
             LineModel::Line(l) => ChainView::from_line(l, bs, cs, lo, hi, 0.5 * (lo + hi)),
@@ -358,7 +385,7 @@ pub fn compare_networks(req: &PairRequest) -> Result<CompareReport> {
                 uniform_chain(cname, velocity_factor, nc.reference_ohm[0])?
             }
         };
-        Ok(compare_with(
+        Ok(compare_in(
             Sweep {
                 name: bname,
                 network: nb,
@@ -374,6 +401,7 @@ pub fn compare_networks(req: &PairRequest) -> Result<CompareReport> {
             h,
             states,
             detail,
+            engine,
         )?)
     };
     let mut report = run(open[0], states.clone(), Detail::Full)?;

@@ -785,10 +785,36 @@ pub fn compare_with(
     detail: Detail,
 ) -> Result<CompareReport, CompareError> {
     let mut engine = TraceEngine::new();
+    compare_in(
+        baseline,
+        current,
+        chain,
+        cfg,
+        h,
+        states,
+        detail,
+        &mut engine,
+    )
+}
+
+/// [`compare_with`] on `engine`'s transform plans and window coefficients: one engine kept across the
+/// comparisons of many pairs on one grid (a fleet survey's worker) builds each plan once. The result does
+/// not depend on what the engine already holds.
+#[allow(clippy::too_many_arguments)]
+pub fn compare_in(
+    baseline: Sweep,
+    current: Sweep,
+    chain: &ChainView,
+    cfg: &AnalysisConfig,
+    h: Hypothesis,
+    states: StateReport,
+    detail: Detail,
+    engine: &mut TraceEngine,
+) -> Result<CompareReport, CompareError> {
     let fc = &current.network.freqs_hz;
     let f_ref = cfg.reference_hz.unwrap_or_else(|| band_centre(fc));
 
-    let pa = analyse_pair(&baseline, &current, chain, cfg, &mut engine)?;
+    let pa = analyse_pair(&baseline, &current, chain, cfg, engine)?;
     let mut warnings: Vec<Warning> =
         pa.b.warnings
             .iter()
@@ -807,146 +833,52 @@ pub fn compare_with(
 
     let mut fit = align_pair(&pa, h, f_ref, &mut warnings);
     fit.report.anchors = pa.anchors.clone();
-    let changes = difference::changes(&difference::Inputs {
-        chain: &pa.chain,
-        b: &pa.b,
-        c: &pa.c,
-        fit: &fit,
-        far: &pa.far,
-        anchors_m: &pa.anchors.iter().map(|a| a.position_m).collect::<Vec<_>>(),
-        same_state: h.same_state(),
-    });
+    let changes = difference::changes(
+        &difference::Inputs {
+            chain: &pa.chain,
+            b: &pa.b,
+            c: &pa.c,
+            fit: &fit,
+            far: &pa.far,
+            anchors_m: &pa.anchors.iter().map(|a| a.position_m).collect::<Vec<_>>(),
+            same_state: h.same_state(),
+        },
+        engine,
+    );
     let same_state = h.same_state();
-    let far_end = far_end_report(&pa, &fit, same_state, &mut engine)?;
-    // The far end moved (a termination swapped for a longer one, a pin pulled back at the last joint).
-    let move_ratio = far_end.as_ref().map_or(0.0, |f| {
-        f.delay_change_s
-            .map_or(0.0, |d| d.abs() / f.move_tolerance_s.max(1e-18))
-    });
-    let moved = move_ratio >= 1.0;
-    // The termination swapped for the other kind (an open for a short).
-    let kind_flip = match (&pa.far.baseline, &pa.far.current) {
-        (Some(tb), Some(tc)) => tb.total && tc.total && tb.polarity * tc.polarity < 0.0,
-        _ => false,
-    };
-
-    let mut findings = Vec::new();
-    let mut behind = 0usize;
-    // Where the echo that now blocks the line (the far end vanished behind it) was found.
-    let mut blocker_at = f64::INFINITY;
-    for ch in &changes {
-        let at_end = ch.same_termination || ch.was_total;
-        let end_change = at_end && (moved || kind_flip);
-        let noted_only = !(ch.changed(same_state) || end_change) && ch.noted(same_state);
-        if !(ch.changed(same_state) || end_change || noted_only) {
-            continue;
-        }
-        if ch.zone == Zone::BehindDevice {
-            behind += 1;
-            continue;
-        }
-        // Read as info whatever its explanation says (below).
-        if detail == Detail::AboveInfo && (noted_only || ch.within_device_drift(same_state)) {
-            continue;
-        }
-        let extra = if at_end {
-            move_ratio.max(if kind_flip {
-                KIND_FLIP_SIGNIFICANCE
-            } else {
-                0.0
-            })
-        } else {
-            0.0
-        };
-        let mut f = explain_change(ch, &pa, &fit, same_state, f_ref, extra, &mut engine)?;
-        if noted_only {
-            // Too small to count: reported, never above info.
-            f.severity = Severity::Info;
-            f.explanation.push_str(if same_state {
-                " (a small change, below what counts as one; follow it in the history)"
-            } else {
-                " (within what a component's own cooling makes of its echo; a fault at the joint in front of \
-                 it would look alike: compare two sweeps taken in one state, or follow it in the history)"
-            });
-        } else if ch.within_device_drift(same_state) {
-            f.severity = Severity::Info;
-            f.explanation.push_str(
-                " (the device's own echo, within what its cooling makes of it: a load's resistance and the \
-                 cable's impedance move)",
-            );
-        }
-        if at_end && (moved || kind_flip) {
-            // The move beyond what the line in front explains (its tolerance), as every change is taken
-            // beyond the interval the calibration explains.
-            let dt = far_end.as_ref().map_or(0.0, |e| {
-                let d = e.delay_change_s.unwrap_or(0.0);
-                d.signum() * (d.abs() - e.move_tolerance_s).max(0.0)
-            });
-            f.changed_reflection = f
-                .changed_reflection
-                .max(moved_reflection(ch.mag_c, dt, kind_flip, f_ref));
-        }
-        if ch.blocks_far_end.is_some() && f.severity == Severity::Critical {
-            blocker_at = blocker_at.min(f.place.distance_m);
-        }
-        findings.push(f);
-    }
-    if behind > 0 {
+    let far_end = far_end_report(&pa, &fit, same_state, engine)?;
+    let judged = judge_changes(
+        &changes,
+        &pa,
+        &fit,
+        far_end.as_ref(),
+        same_state,
+        f_ref,
+        detail,
+        engine,
+    )?;
+    let mut findings = judged.findings;
+    if judged.behind > 0 {
         warnings.push(Warning::new(
             "events-behind-device",
-            format!("{behind} event(s) lie behind a part reflection cannot see through; none is claimed"),
+            format!(
+                "{} event(s) lie behind a part reflection cannot see through; none is claimed",
+                judged.behind
+            ),
             "sweep from the other end of the line, or through the device's own port",
         ));
     }
-    // A new open or short is as far as reflection now sees: nothing behind it is claimed. So is a pin gap
-    // that reflects as much as `explain` reads an open from (a pulled-back pin of a few fF is an open across
-    // the band), and a joint that now blocks the line, its far end vanished behind it.
     let res_s = pa.b.resolution_s.max(pa.c.resolution_s);
-    let total_db = db(difference::SHADOW_MAX_REFLECTION);
-    let wall = findings
-        .iter()
-        .filter(|f| {
-            f.severity == Severity::Critical
-                && (matches!(f.kind, FaultKind::Open | FaultKind::Short)
-                    || (f.kind == FaultKind::PinGap && f.reflection_db >= total_db)
-                    || f.place.distance_m == blocker_at)
-        })
-        .map(|f| {
-            f.place.distance_m
-                + f.uncertainty_m
-                    .max(res_s * speed_at(&fit.chain, f.place.distance_m, Which::Current))
-        })
-        .fold(f64::INFINITY, f64::min);
-    let before = findings.len();
-    findings.retain(|f| f.place.distance_m <= wall);
-    if findings.len() < before {
-        warnings.push(Warning::new(
-            "behind-open-or-short",
-            format!(
-                "{} change(s) behind the open or short at {} are not claimed: reflection cannot see past it",
-                before - findings.len(),
-                super::place::metres(wall)
-            ),
-            "mend the open or short first, then sweep again",
-        ));
-    }
+    warnings.extend(claim_up_to_wall(
+        &mut findings,
+        &fit.chain,
+        res_s,
+        judged.blocker_at,
+    ));
     if !(pa.b.scale_known && pa.c.scale_known) {
-        // An amplifier in the path and nothing to set the reflections' size by: what changed is known, what
-        // it costs is not, so nothing is claimed above info.
-        let capped = findings
-            .iter()
-            .filter(|f| f.severity > Severity::Info)
-            .count();
-        for f in findings.iter_mut().filter(|f| f.severity > Severity::Info) {
-            f.severity = Severity::Info;
-            f.power_drop_range_db[0] = 0.0;
-            f.power_drop_db = 0.0;
-            f.explanation
-                .push_str(super::sweep::GAIN_SCALE_UNKNOWN_NOTE);
-        }
-        warnings.push(super::sweep::gain_scale_unknown(capped));
+        warnings.push(nothing_above_info(&mut findings));
     }
-    if !kind_flip {
+    if !judged.kind_flip {
         if let Some(dt) = far_end.as_ref().and_then(|f| f.delay_change_s) {
             explain_far_end_move(&mut findings, 2.0 * std::f64::consts::PI * f_ref * dt.abs());
         }
@@ -995,6 +927,166 @@ pub fn compare_with(
         ),
         Detail::AboveInfo => report,
     })
+}
+
+/// What the judging stage made of the changes: the findings (unranked), how many changes lay behind a
+/// device, where the echo that now blocks the line was found, and whether the termination swapped kind.
+struct Judged {
+    findings: Vec<Finding>,
+    behind: usize,
+    blocker_at: f64,
+    kind_flip: bool,
+}
+
+/// Stage: judge and explain each change. A change counts when it passes its own rule
+/// ([`Change::changed`]) or is the far end's move or swap; one that can only be noted is explained at info.
+/// With [`Detail::AboveInfo`], what can only be info is not explained at all.
+#[allow(clippy::too_many_arguments)]
+fn judge_changes(
+    changes: &[Change],
+    pa: &PairAnalysis,
+    fit: &Fitted,
+    far_end: Option<&FarEndReport>,
+    same_state: bool,
+    f_ref: f64,
+    detail: Detail,
+    engine: &mut TraceEngine,
+) -> Result<Judged, CompareError> {
+    // The far end moved (a termination swapped for a longer one, a pin pulled back at the last joint).
+    let move_ratio = far_end.map_or(0.0, |f| {
+        f.delay_change_s
+            .map_or(0.0, |d| d.abs() / f.move_tolerance_s.max(1e-18))
+    });
+    let moved = move_ratio >= 1.0;
+    // The termination swapped for the other kind (an open for a short).
+    let kind_flip = match (&pa.far.baseline, &pa.far.current) {
+        (Some(tb), Some(tc)) => tb.total && tc.total && tb.polarity * tc.polarity < 0.0,
+        _ => false,
+    };
+    let mut findings = Vec::new();
+    let mut behind = 0usize;
+    // Where the echo that now blocks the line (the far end vanished behind it) was found.
+    let mut blocker_at = f64::INFINITY;
+    for ch in changes {
+        let at_end = ch.same_termination || ch.was_total;
+        let end_change = at_end && (moved || kind_flip);
+        let noted_only = !(ch.changed(same_state) || end_change) && ch.noted(same_state);
+        if !(ch.changed(same_state) || end_change || noted_only) {
+            continue;
+        }
+        if ch.zone == Zone::BehindDevice {
+            behind += 1;
+            continue;
+        }
+        // Read as info whatever its explanation says (below).
+        if detail == Detail::AboveInfo && (noted_only || ch.within_device_drift(same_state)) {
+            continue;
+        }
+        let extra = if at_end {
+            move_ratio.max(if kind_flip {
+                KIND_FLIP_SIGNIFICANCE
+            } else {
+                0.0
+            })
+        } else {
+            0.0
+        };
+        let mut f = explain_change(ch, pa, fit, same_state, f_ref, extra, engine)?;
+        if noted_only {
+            // Too small to count: reported, never above info.
+            f.severity = Severity::Info;
+            f.explanation.push_str(if same_state {
+                " (a small change, below what counts as one; follow it in the history)"
+            } else {
+                " (within what a component's own cooling makes of its echo; a fault at the joint in front of \
+                 it would look alike: compare two sweeps taken in one state, or follow it in the history)"
+            });
+        } else if ch.within_device_drift(same_state) {
+            f.severity = Severity::Info;
+            f.explanation.push_str(
+                " (the device's own echo, within what its cooling makes of it: a load's resistance and the \
+                 cable's impedance move)",
+            );
+        }
+        if at_end && (moved || kind_flip) {
+            // The move beyond what the line in front explains (its tolerance), as every change is taken
+            // beyond the interval the calibration explains.
+            let dt = far_end.map_or(0.0, |e| {
+                let d = e.delay_change_s.unwrap_or(0.0);
+                d.signum() * (d.abs() - e.move_tolerance_s).max(0.0)
+            });
+            f.changed_reflection = f
+                .changed_reflection
+                .max(moved_reflection(ch.mag_c, dt, kind_flip, f_ref));
+        }
+        if ch.blocks_far_end.is_some() && f.severity == Severity::Critical {
+            blocker_at = blocker_at.min(f.place.distance_m);
+        }
+        findings.push(f);
+    }
+    Ok(Judged {
+        findings,
+        behind,
+        blocker_at,
+        kind_flip,
+    })
+}
+
+/// Stage: a new open or short is as far as reflection now sees, and nothing behind it is claimed. So is a
+/// pin gap that reflects as much as `explain` reads an open from (a pulled-back pin of a few fF is an open
+/// across the band), and a joint that now blocks the line, its far end vanished behind it (found at
+/// `blocker_at`). Returns the warning that says what was dropped, if anything was.
+fn claim_up_to_wall(
+    findings: &mut Vec<Finding>,
+    chain: &ChainView,
+    res_s: f64,
+    blocker_at: f64,
+) -> Option<Warning> {
+    let total_db = db(difference::SHADOW_MAX_REFLECTION);
+    let wall = findings
+        .iter()
+        .filter(|f| {
+            f.severity == Severity::Critical
+                && (matches!(f.kind, FaultKind::Open | FaultKind::Short)
+                    || (f.kind == FaultKind::PinGap && f.reflection_db >= total_db)
+                    || f.place.distance_m == blocker_at)
+        })
+        .map(|f| {
+            f.place.distance_m
+                + f.uncertainty_m
+                    .max(res_s * speed_at(chain, f.place.distance_m, Which::Current))
+        })
+        .fold(f64::INFINITY, f64::min);
+    let before = findings.len();
+    findings.retain(|f| f.place.distance_m <= wall);
+    (findings.len() < before).then(|| {
+        Warning::new(
+            "behind-open-or-short",
+            format!(
+                "{} change(s) behind the open or short at {} are not claimed: reflection cannot see past it",
+                before - findings.len(),
+                super::place::metres(wall)
+            ),
+            "mend the open or short first, then sweep again",
+        )
+    })
+}
+
+/// Stage, for an amplifier in the path with nothing to set the reflections' size by: what changed is known,
+/// what it costs is not, so nothing is claimed above info. Returns the warning that says so.
+fn nothing_above_info(findings: &mut [Finding]) -> Warning {
+    let capped = findings
+        .iter()
+        .filter(|f| f.severity > Severity::Info)
+        .count();
+    for f in findings.iter_mut().filter(|f| f.severity > Severity::Info) {
+        f.severity = Severity::Info;
+        f.power_drop_range_db[0] = 0.0;
+        f.power_drop_db = 0.0;
+        f.explanation
+            .push_str(super::sweep::GAIN_SCALE_UNKNOWN_NOTE);
+    }
+    super::sweep::gain_scale_unknown(capped)
 }
 
 /// Traces in as-built metres and the chain's marks, for a plot.

@@ -14,9 +14,10 @@ pub mod manifest;
 
 pub use manifest::{parse_manifest, read_manifest, SurveyItem};
 
-use crate::compare::job::{run_compare, CompareJob, LineSource};
+use crate::compare::job::{run_compare_in, CompareJob, LineSource};
 use crate::compare::{AnalysisConfig, Finding, Severity};
 use crate::history::{record_sweep, RecordJob, SqliteStore};
+use crate::transform::TraceEngine;
 use rayon::prelude::*;
 use serde::Serialize;
 use std::path::PathBuf;
@@ -88,6 +89,15 @@ pub struct SurveyReport {
 
 /// Survey one line.
 pub fn survey_line(item: &SurveyItem, cfg: &SurveyConfig) -> SurveyLine {
+    survey_line_in(item, cfg, &mut TraceEngine::new())
+}
+
+/// [`survey_line`] on `engine`'s transform plans (kept by a worker across its lines).
+pub fn survey_line_in(
+    item: &SurveyItem,
+    cfg: &SurveyConfig,
+    engine: &mut TraceEngine,
+) -> SurveyLine {
     let job = CompareJob {
         baseline: item.baseline.clone(),
         current: item.current.clone(),
@@ -109,7 +119,7 @@ pub fn survey_line(item: &SurveyItem, cfg: &SurveyConfig) -> SurveyLine {
         record_error: None,
         manifest_line: item.manifest_line,
     };
-    match run_compare(&job) {
+    match run_compare_in(&job, engine) {
         Ok(report) => {
             // Keep the findings only: the traces and plot data go with the report.
             row.line = report.line;
@@ -198,8 +208,9 @@ pub fn run_survey(
     let mut lines: Vec<SurveyLine> = pool.install(|| {
         items
             .par_iter()
-            .map(|item| {
-                let row = survey_line(item, cfg);
+            // One transform engine per worker, kept across its lines: lines on one grid share every plan.
+            .map_init(TraceEngine::new, |engine, item| {
+                let row = survey_line_in(item, cfg, engine);
                 progress(&row);
                 row
             })

@@ -51,6 +51,31 @@ impl BandPassSpectrum {
         direct_sum(&self.weighted, self.start_hz, self.step_hz, t)
     }
 
+    /// h(t) and its first two time derivatives with the carrier at the band's centre taken out:
+    /// `[g, g', g'']` for `g(t) = h(t) e^{-j 2 pi f_c t}` (so |g| = |h|), in one O(N) pass over the
+    /// [`super::czt::phasors`]. Sub-bin peak refinement steps on these (Newton on |h|^2).
+    pub fn eval_derivatives(&self, t: f64) -> [Complex64; 3] {
+        let n = self.weighted.len();
+        let fc = self.start_hz + 0.5 * (n.saturating_sub(1)) as f64 * self.step_hz;
+        let mut s = [Complex64::new(0.0, 0.0); 3];
+        for (k, (x, p)) in self
+            .weighted
+            .iter()
+            .zip(super::czt::phasors(self.start_hz, self.step_hz, t))
+            .enumerate()
+        {
+            let w = 2.0 * std::f64::consts::PI * (self.start_hz + k as f64 * self.step_hz - fc);
+            let z = x * p;
+            // d/dt multiplies by j w each time.
+            let z1 = Complex64::new(-z.im * w, z.re * w);
+            s[0] += z;
+            s[1] += z1;
+            s[2] += Complex64::new(-z1.im * w, z1.re * w);
+        }
+        let carrier = cis_cycles(-fc * t);
+        [s[0] * carrier, s[1] * carrier, s[2] * carrier]
+    }
+
     /// h(t) on a time axis: FFT for the whole range, chirp-z for a span.
     pub fn on_axis(&self, axis: &TimeAxis, cache: &mut FftCache) -> Vec<Complex64> {
         self.on_axis_into(axis, cache, Vec::new())
@@ -72,14 +97,15 @@ impl BandPassSpectrum {
                 cache.inverse_in_place(&mut buf);
                 buf
             }
-            None => cache
-                .chirp_z(
+            None => {
+                let plan = cache.chirp_z(
                     n,
                     axis.points,
                     self.step_hz * axis.start_s,
                     self.step_hz * axis.step_s,
-                )
-                .process(&self.weighted),
+                );
+                cache.apply(&plan, &self.weighted)
+            }
         };
         // Carrier e^{+j 2 pi f0 t_m} by recurrence, re-anchored every 64 points (saves a sin/cos per point).
         let rot = cis_cycles(self.start_hz * axis.step_s);

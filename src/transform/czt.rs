@@ -127,6 +127,17 @@ impl ChirpZ {
 
     /// Evaluate for `x` (length `n`); returns `m` values.
     pub fn process(&self, x: &[Complex64]) -> Vec<Complex64> {
+        self.process_with_scratch(x, &mut Vec::new())
+    }
+
+    /// [`ChirpZ::process`] with the FFTs' working space in `scratch` (grown as needed and kept by the
+    /// caller: [`FftCache::apply`] keeps one for every transform it runs), so that a loop of evaluations
+    /// allocates and clears only its outputs.
+    pub fn process_with_scratch(
+        &self,
+        x: &[Complex64],
+        scratch: &mut Vec<Complex64>,
+    ) -> Vec<Complex64> {
         assert_eq!(
             x.len(),
             self.n,
@@ -134,15 +145,23 @@ impl ChirpZ {
             self.n,
             x.len()
         );
-        let mut buf = vec![Complex64::new(0.0, 0.0); self.len];
-        for ((b, &xi), &p) in buf.iter_mut().zip(x).zip(&self.pre) {
-            *b = xi * p;
+        let mut buf: Vec<Complex64> = Vec::with_capacity(self.len);
+        buf.extend(x.iter().zip(&self.pre).map(|(&xi, &p)| xi * p));
+        buf.resize(self.len, Complex64::new(0.0, 0.0));
+        let need = self
+            .fwd
+            .get_inplace_scratch_len()
+            .max(self.inv.get_inplace_scratch_len());
+        if scratch.len() < need {
+            scratch.resize(need, Complex64::new(0.0, 0.0));
         }
-        self.fwd.process(&mut buf);
+        self.fwd
+            .process_with_scratch(&mut buf, &mut scratch[..need]);
         for (b, &f) in buf.iter_mut().zip(&self.filter_fft) {
             *b *= f;
         }
-        self.inv.process(&mut buf);
+        self.inv
+            .process_with_scratch(&mut buf, &mut scratch[..need]);
         buf.truncate(self.m);
         for (b, &p) in buf.iter_mut().zip(&self.post) {
             *b *= p;
@@ -161,6 +180,11 @@ fn shared_planner() -> &'static Mutex<FftPlanner<f64>> {
     static PLANNER: OnceLock<Mutex<FftPlanner<f64>>> = OnceLock::new();
     PLANNER.get_or_init(|| Mutex::new(FftPlanner::new()))
 }
+
+/// Most prepared chirp-z evaluations a cache keeps. One cache may serve a whole fleet of lines (each on its
+/// own grid and span): it starts afresh when full, so its memory stays bounded (a plan holds a few
+/// transform-length buffers, tens of kB at a few thousand points).
+pub const MAX_CACHED_CHIRPS: usize = 64;
 
 /// A cache of FFT plans (from the process's one planner) and of prepared chirp-z evaluations, shared by
 /// every trace on the same grid (warm and cold sweeps of one line reuse every plan).
@@ -208,8 +232,17 @@ impl FftCache {
             let mut planner = shared_planner().lock().unwrap_or_else(|e| e.into_inner());
             Arc::new(ChirpZ::new(&mut planner, n, m, df_t0, df_dt))
         };
+        if self.chirps.len() >= MAX_CACHED_CHIRPS {
+            self.chirps.clear();
+        }
         self.chirps.insert(key, c.clone());
         c
+    }
+
+    /// Run the prepared chirp-z `c` on `x` with this cache's scratch buffer (see
+    /// [`ChirpZ::process_with_scratch`]).
+    pub fn apply(&mut self, c: &ChirpZ, x: &[Complex64]) -> Vec<Complex64> {
+        c.process_with_scratch(x, &mut self.scratch)
     }
 
     /// In-place inverse FFT (e^{+j}, unnormalised) of `buf`, reusing one scratch buffer across calls.

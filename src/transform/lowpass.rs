@@ -231,8 +231,9 @@ fn evaluate(c: &[Complex64], df: f64, axis: &TimeAxis, cache: &mut FftCache) -> 
             buf.truncate(axis.points);
             buf
         }
-        None => cache
-            .chirp_z(c.len(), axis.points, df * axis.start_s, df * axis.step_s)
-            .process(c),
+        None => {
+            let plan = cache.chirp_z(c.len(), axis.points, df * axis.start_s, df * axis.step_s);
+            cache.apply(&plan, c)
+        }
     }
 }

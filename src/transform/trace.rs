@@ -118,6 +118,10 @@ pub struct TraceEngine {
 /// Most spare buffers an engine keeps from recycled traces.
 const MAX_SPARE: usize = 8;
 
+/// Most window coefficient sets an engine keeps (one engine may serve a whole fleet of sweeps on many
+/// grids: the cache starts afresh when full, so its memory stays bounded).
+const MAX_CACHED_WINDOWS: usize = 16;
+
 impl TraceEngine {
     pub fn new() -> Self {
         Self::default()
@@ -148,6 +152,9 @@ impl TraceEngine {
             return w.clone();
         }
         let w = Arc::new(window.coefficients(n));
+        if self.windows.len() >= MAX_CACHED_WINDOWS {
+            self.windows.clear();
+        }
         self.windows.push((*window, n, w.clone()));
         w
     }
