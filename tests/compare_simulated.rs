@@ -423,3 +423,44 @@ fn one_engine_kept_across_pairs_on_several_grids_gives_what_fresh_engines_give()
         assert_eq!(json(&kept), json(&fresh), "pair {k}, states given: {given}");
     }
 }
+
+#[test]
+fn a_room_temperature_joint_is_judged_across_a_cooldown_as_in_one_state() {
+    // J1 of the test chain sits at room temperature behind a room-temperature cable: a cooldown leaves it
+    // and everything in front of it as they were. It carries 60 fF of shunt capacitance in both sweeps
+    // (|G| = w C Z0 / 2 = 0.05 at 5.25 GHz, circuit theory); in the cold sweep a 1.2 ohm contact adds
+    // R / (2 Z0 + R) = 0.012 to it. Its strength barely moves; its complex change counts as one in one
+    // state, not under the wider rule for a change of state. Measured with this build: judged as a steady
+    // echo it is the top finding (significance 1.7); judged as any echo across a change of state it is not,
+    // and a joint at 4 K behind it comes first.
+    let l = line();
+    let base = sim(&l, State::Warm, &["J1:shunt=60fF"], 41);
+    let healthy = sim(&l, State::Cold, &["J1:shunt=60fF"], 42);
+    let faulty = sim(&l, State::Cold, &["J1:shunt=60fF", "J1:contact=1.2ohm"], 42);
+    let quiet = run(&l, State::Warm, State::Cold, &base, &healthy);
+    assert!(serious(&quiet).is_empty(), "{:?}", serious(&quiet));
+    assert!(
+        quiet.findings.iter().all(|f| f.place.element != "J1"),
+        "{:?}",
+        quiet.findings
+    );
+    let found = run(&l, State::Warm, State::Cold, &base, &faulty);
+    let top = &found.findings[0];
+    assert_eq!(top.place.element, "J1", "{:?}", found.findings);
+    assert!(top.significance >= 1.0, "{top:?}");
+    // The chain: J1 and everything in front of it steady; J2 (at 50 K) not.
+    let chain = ChainView::from_line(&l, State::Warm, State::Cold, 0.5e9, 10e9, 5e9);
+    let mid = |name: &str| {
+        let s = chain.segments.iter().find(|s| s.name == name).unwrap();
+        0.5 * (s.start_m + s.end_m)
+    };
+    assert!(chain.steady_to(mid("J1"), 0.06));
+    assert!(!chain.steady_to(mid("J2"), 0.06));
+    // The cable behind J1 cools from room temperature along its length: a joint within reach of its start
+    // is still steady, but not once a cold joint lies within reach.
+    let to_j2 = mid("J2") - mid("J1");
+    assert!(!chain.steady_to(mid("J1"), to_j2 + 0.01));
+    // Both sweeps in one state: all of it.
+    let cold = ChainView::from_line(&l, State::Cold, State::Cold, 0.5e9, 10e9, 5e9);
+    assert!(cold.steady_to(mid("J2"), 0.06));
+}

@@ -82,6 +82,14 @@ pub struct Segment {
     pub place: String,
     /// For a device: the load the line file gives it (what terminates the visible line).
     pub load: Option<crate::line::Load>,
+    /// True when the segment is at one temperature in both sweeps' states (all of it at room temperature,
+    /// or both sweeps in one state): nothing of it changes between the two sweeps.
+    pub steady: bool,
+    /// True when the segment's start is at one temperature in both states (a cable from the room-temperature
+    /// flange down into the cryostat starts at room temperature and cools along its length: its impedance
+    /// moves by a gradual taper that reflects nothing to speak of, so the joint in front of it stays as it
+    /// was).
+    pub steady_start: bool,
 }
 
 impl Segment {
@@ -143,6 +151,8 @@ impl ChainView {
                 eps_r: DEFAULT_EPS_R,
                 place: String::new(),
                 load: None,
+                steady: false,
+                steady_start: false,
             }],
             as_built: false,
             delay_reference_hz: 5e9,
@@ -186,6 +196,30 @@ impl ChainView {
             .position(|s| x < s.end_m)
             .unwrap_or(self.segments.len().checked_sub(1)?);
         Some((i, x - self.segments[i].start_m))
+    }
+
+    /// Whether an echo at as-built `x` sees a steady line: every segment that starts at or before `x` is
+    /// steady ([`Segment::steady`]), and every one that starts within `clear_m` behind it at least starts
+    /// steady ([`Segment::steady_start`]): nothing in front of the echo, at its place, or within its reach
+    /// behind it changes between the two sweeps. No attenuator may lie within `clear_m` either side: the
+    /// compensation steps up by its loss there, and lifts a stronger neighbour's flank on the far side into
+    /// what is read as the echo, where the two sweeps' pieces of compensation need not meet at one place.
+    pub fn steady_to(&self, x: f64, clear_m: f64) -> bool {
+        self.as_built
+            && self.segments.iter().all(|s| {
+                let near_attenuator = s.kind == SegmentKind::Attenuator
+                    && s.end_m >= x - clear_m
+                    && s.start_m <= x + clear_m;
+                if near_attenuator {
+                    false
+                } else if s.start_m <= x {
+                    s.steady
+                } else if s.start_m <= x + clear_m {
+                    s.steady || s.steady_start
+                } else {
+                    true
+                }
+            })
     }
 
     /// Fraction of each segment lying before `x`.
@@ -365,6 +399,63 @@ mod tests {
         s2.delay_s = [2.0 * 0.5 / (C0_M_PER_S * 0.8); 2];
         c.segments.push(s2);
         c
+    }
+
+    /// A built chain of (kind, start, end, steady, steady_start) segments.
+    fn built(parts: &[(SegmentKind, f64, f64, bool, bool)]) -> ChainView {
+        let mut c = ChainView::uniform("t", 0.7, 1.0, 50.0);
+        let proto = c.segments[0].clone();
+        c.segments = parts
+            .iter()
+            .map(|&(kind, start_m, end_m, steady, steady_start)| Segment {
+                kind,
+                start_m,
+                end_m,
+                steady,
+                steady_start,
+                ..proto.clone()
+            })
+            .collect();
+        c.as_built = true;
+        c
+    }
+
+    #[test]
+    fn steady_part_ends_where_something_cools_within_reach() {
+        use SegmentKind::*;
+        // Room cable, room joint J1 (0.500 m), room cable, room joint J2 (0.808 m), a cable from room down
+        // to 50 K, a cold joint J3 (1.416 m), then a room joint, an attenuator and a room joint after it.
+        let c = built(&[
+            (Cable, 0.0, 0.496, true, true),
+            (Connector, 0.496, 0.504, true, true),
+            (Cable, 0.504, 0.804, true, true),
+            (Connector, 0.804, 0.812, true, true),
+            (Cable, 0.812, 1.412, false, true),
+            (Connector, 1.412, 1.420, false, false),
+        ]);
+        let clear = 0.06;
+        assert!(c.steady_to(0.500, clear));
+        // J2: the cable behind it cools, but starts at room temperature (a taper).
+        assert!(c.steady_to(0.808, clear));
+        // Inside the cooling cable, or at the cold joint: not steady.
+        assert!(!c.steady_to(1.0, clear));
+        assert!(!c.steady_to(1.416, clear));
+        // A cold joint within reach behind: not steady.
+        assert!(!c.steady_to(0.808, 0.7));
+        // An attenuator within reach either side: not steady (its compensation step lifts a neighbour).
+        let a = built(&[
+            (Cable, 0.0, 0.5, true, true),
+            (Connector, 0.5, 0.508, true, true),
+            (Attenuator, 0.508, 0.528, true, true),
+            (Connector, 0.528, 0.536, true, true),
+            (Cable, 0.536, 1.5, true, true),
+        ]);
+        assert!(!a.steady_to(0.504, clear));
+        assert!(!a.steady_to(0.532, clear));
+        assert!(a.steady_to(0.3, clear));
+        assert!(a.steady_to(1.0, clear));
+        // A line of unknown construction: nothing is known to be steady.
+        assert!(!ChainView::uniform("u", 0.7, 1.0, 50.0).steady_to(0.1, clear));
     }
 
     #[test]

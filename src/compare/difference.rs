@@ -97,7 +97,19 @@ pub struct Change {
     /// load's resistance and a cold cable's impedance both move, so a matched end's faint echo may rise by
     /// tens of dB on cooling and still cost nothing).
     pub at_device: bool,
+    /// True for an echo in the line's steady part across a change of state: everything in front of it, and
+    /// its own place, at room temperature in both sweeps, and nothing that cools within
+    /// [`STEADY_CLEAR_CELLS`] behind it but a cable's gradual taper down from room temperature (see
+    /// [`ChainView::steady_to`]). Nothing there changed with the cooldown, so it is judged as in one state.
+    pub steady: bool,
 }
+
+/// Least distance, in resolution cells, between an echo and the first joint or part of the line that cools
+/// (other than a cable's taper down from room temperature), for the echo to be judged as in one state
+/// across a change of state ([`Change::steady`]): past the main lobe
+/// (1.3 cells to its first null for the default window, `analysis::lobe_shape`) what changes behind it
+/// reaches the echo only through the window's sidelobes, -66 dB for Kaiser beta 9 (Harris 1978, Table 1).
+pub const STEADY_CLEAR_CELLS: f64 = 2.0;
 
 /// Standard uncertainties by which a far end's echo must lie beyond the prediction of the landmarks in
 /// front of it to count as its own change (the usual three-sigma rule; common practice, no source).
@@ -180,6 +192,7 @@ impl Change {
     /// Whether this counts as a change: its strength moved by [`CHANGE_DB`] or more beyond what the
     /// calibration explains, or, both sweeps in one state, its phase turned by [`PHASE_CHANGE_DEG`] or more.
     pub fn changed(&self, same_state: bool) -> bool {
+        let same_state = self.one_state(same_state);
         self.far_level_db.is_some()
             || self.blocks_far_end.is_some()
             || (same_state && self.joint_change.is_some())
@@ -206,6 +219,7 @@ impl Change {
     /// The strength change that counts as a change here: [`CHANGE_DB`], or across a change of state
     /// [`COMPONENT_CHANGE_DB`] for an echo the baseline already saw at [`COMPONENT_REFLECTION`] or more.
     pub fn threshold_db(&self, same_state: bool) -> f64 {
+        let same_state = self.one_state(same_state);
         if !same_state && self.base.is_some() && self.is_component() {
             COMPONENT_CHANGE_DB
         } else {
@@ -219,6 +233,7 @@ impl Change {
     /// [`VECTOR_CHANGE_ACROSS_STATES`]; 0 for an echo with no partner, a component's across a change of
     /// state, or one too close to the noise for its phase to mean anything.
     pub fn complex_significance(&self, same_state: bool) -> f64 {
+        let same_state = self.one_state(same_state);
         if self.base.is_none() {
             return 0.0;
         }
@@ -244,6 +259,7 @@ impl Change {
     /// Whether the complex responses compare here: a joint's echo (under [`COMPONENT_REFLECTION`]), paired,
     /// over the noise by [`PHASE_SNR`] in one state and by [`ACROSS_STATES_SNR`] across a change of state.
     pub fn phases_compare(&self, same_state: bool) -> bool {
+        let same_state = self.one_state(same_state);
         let snr = if same_state {
             PHASE_SNR
         } else {
@@ -267,6 +283,7 @@ impl Change {
     /// but by less than counts as a change there ([`COMPONENT_CHANGE_DB`]) is noted too: its own cooling
     /// may have made it, and so may a fault at the joint in front of it, which shares its resolution cell.
     pub fn noted(&self, same_state: bool) -> bool {
+        let same_state = self.one_state(same_state);
         if !same_state {
             return self.base.is_some()
                 && self.is_component()
@@ -283,6 +300,7 @@ impl Change {
     /// and under [`DEVICE_DRIFT_REFLECTION`] in both sweeps: what the device's own cooling can make of it.
     /// Such a change is reported at `info`, never above.
     pub fn within_device_drift(&self, same_state: bool) -> bool {
+        let same_state = self.one_state(same_state);
         !same_state && self.at_device && self.mag_c.max(self.base_level) < DEVICE_DRIFT_REFLECTION
     }
 
@@ -290,6 +308,12 @@ impl Change {
     /// line file's device at the end of the visible line ([`Change::at_device`]).
     pub fn is_component(&self) -> bool {
         self.base_level >= COMPONENT_REFLECTION || self.at_device
+    }
+
+    /// Whether this echo is judged as in one state: both sweeps are, or it lies in the line's steady part
+    /// ([`Change::steady`]).
+    pub fn one_state(&self, same_state: bool) -> bool {
+        same_state || self.steady
     }
 
     /// Whether it may be reported above info at all.
@@ -566,6 +590,7 @@ pub fn changes(inp: &Inputs, engine: &mut TraceEngine) -> Vec<Change> {
             blocks_far_end: None,
             joint_change: None,
             at_device: false,
+            steady: false,
         });
     }
     // Baseline echoes with no partner: the reflection there fell.
@@ -597,6 +622,7 @@ pub fn changes(inp: &Inputs, engine: &mut TraceEngine) -> Vec<Change> {
             blocks_far_end: None,
             joint_change: None,
             at_device: false,
+            steady: false,
         });
     }
     let flanks = flank_changes(inp, &out);
@@ -617,6 +643,7 @@ pub fn changes(inp: &Inputs, engine: &mut TraceEngine) -> Vec<Change> {
         let res_m = res_s * super::place::speed_at(&fit.chain, ch.x, Which::Current);
         ch.zone = inp.zone(ch.x, ch.d_c, res_m);
         ch.at_device = device_end.is_some_and(|x_d| ch.x >= x_d - res_m);
+        ch.steady = !inp.same_state && inp.chain.steady_to(ch.x, STEADY_CLEAR_CELLS * res_m);
         // Where compensation stopped at its cap, a sweep reads low by the loss it left undone.
         let cal = fit.expected_change_db(ch.x);
         // Where the caps' difference varies across the band, weigh it by the echo's own spectrum.
@@ -724,7 +751,7 @@ const JOINT_PROBE_STEPS: i32 = 4;
 /// change are left to that echo. Across a change of state the two responses do not compare so closely
 /// (what the compensation leaves of the dispersion turns them), and nothing is probed.
 fn joint_probes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
-    if !inp.same_state || !inp.chain.as_built {
+    if !inp.chain.as_built {
         return Vec::new();
     }
     let (b, c, fit) = (inp.b, inp.c, inp.fit);
@@ -740,6 +767,11 @@ fn joint_probes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
     {
         let x0 = 0.5 * (seg.start_m + seg.end_m);
         if x0 > end {
+            continue;
+        }
+        // Across a change of state, only in the line's steady part (see `Change::steady`).
+        let res_m = res_s * super::place::speed_at(&fit.chain, x0, Which::Current);
+        if !inp.same_state && !inp.chain.steady_to(x0, STEADY_CLEAR_CELLS * res_m) {
             continue;
         }
         let d0 = fit.chain.delay_to(x0, Which::Current, None);
@@ -798,6 +830,7 @@ fn joint_probes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
             blocks_far_end: None,
             joint_change: Some(ratio),
             at_device: false,
+            steady: false,
         });
     }
     out
@@ -1077,6 +1110,7 @@ fn flank_changes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
             blocks_far_end: None,
             joint_change: None,
             at_device: false,
+            steady: false,
         });
     }
     out
@@ -1108,6 +1142,7 @@ mod tests {
             blocks_far_end: None,
             joint_change: None,
             at_device: false,
+            steady: false,
         }
     }
 

@@ -6,6 +6,7 @@
 //! (conductor plus dielectric), with an attenuator's own loss as the flat part.
 
 use super::chain::{ChainView, LossModel, Segment, SegmentKind};
+use crate::line::materials::ROOM_K;
 use crate::line::physics::{SectionState, NEPER_DB};
 
 use crate::line::position::{slices, DelayProfile};
@@ -32,6 +33,18 @@ fn element_loss_db<const N: usize>(
         }
     }
     np.map(|v| 2.0 * v * NEPER_DB)
+}
+
+/// Largest difference from room temperature, K, at which an element's cold end counts as at room
+/// temperature: a top-flange section is at the lab's temperature, a few kelvin either way (common practice,
+/// no source).
+pub const ROOM_TOLERANCE_K: f64 = 2.0;
+
+/// Whether element `e` stays at room temperature when the line is cold (both its ends): a cooldown leaves
+/// it as it was.
+fn at_room(e: &Element) -> bool {
+    (e.cold_from_k - ROOM_K).abs() <= ROOM_TOLERANCE_K
+        && (e.cold_to_k - ROOM_K).abs() <= ROOM_TOLERANCE_K
 }
 
 fn stage_text(e: &Element) -> String {
@@ -117,6 +130,9 @@ impl ChainView {
                         ElementKind::Device { load, .. } => Some(*load),
                         _ => None,
                     },
+                    steady: baseline == current || at_room(e),
+                    steady_start: baseline == current
+                        || (e.cold_from_k - ROOM_K).abs() <= ROOM_TOLERANCE_K,
                 }
             })
             .collect();

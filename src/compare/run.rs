@@ -392,6 +392,8 @@ pub fn explain_change(
     extra_significance: f64,
     engine: &mut TraceEngine,
 ) -> Result<Finding, CompareError> {
+    // An echo in the line's steady part is judged, and costed, as in one state.
+    let same_state = ch.one_state(same_state);
     let (chain, c) = (&pa.chain, &pa.c);
     let res_s = pa.b.resolution_s.max(c.resolution_s);
     let speed = speed_at(&fit.chain, ch.x, Which::Current);
@@ -995,7 +997,7 @@ fn judge_changes(
         if noted_only {
             // Too small to count: reported, never above info.
             f.severity = Severity::Info;
-            f.explanation.push_str(if same_state {
+            f.explanation.push_str(if ch.one_state(same_state) {
                 " (a small change, below what counts as one; follow it in the history)"
             } else {
                 " (within what a component's own cooling makes of its echo; a fault at the joint in front of \
