@@ -738,9 +738,10 @@ pub const JOINT_PROBE_CELLS: f64 = 0.5;
 /// Steps of that window on each side of the joint's place.
 const JOINT_PROBE_STEPS: i32 = 4;
 
-/// Both sweeps in one state, every connector of the line file judged at its own place as well as where
-/// echoes peak: a joint next to a stronger echo forms no peak of its own (a contact that opened beside an
-/// attenuator, or a connector a few millimetres from the next), so the pairing of echoes never judges it.
+/// Both sweeps in one state (or in the line's steady part), every connector of the line file judged at its
+/// own place as well as where echoes peak: a joint next to a stronger echo forms no peak of its own (a
+/// contact that opened beside an attenuator, or a connector a few millimetres from the next), so the
+/// pairing of echoes never judges it.
 ///
 /// Within [`JOINT_PROBE_CELLS`] of the connector's place on the aligned map, the current response is set
 /// against the baseline's at the same place, scaled by the calibration. Where their difference stands
@@ -749,7 +750,8 @@ const JOINT_PROBE_STEPS: i32 = 4;
 /// complex change of [`VECTOR_CHANGE`] or more, at the step where it is largest, is a change, the same rule
 /// as a paired echo's in one state. Places within [`FLANK_CLEARANCE_CELLS`] of an echo already counted as a
 /// change are left to that echo. Across a change of state the two responses do not compare so closely
-/// (what the compensation leaves of the dispersion turns them), and nothing is probed.
+/// (what the compensation leaves of the dispersion turns them), and only the connectors of the line's
+/// steady part are probed (see [`Change::steady`]).
 fn joint_probes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
     if !inp.chain.as_built {
         return Vec::new();
