@@ -448,23 +448,11 @@ const CAP_PROBES: usize = 9;
 /// give the change the caps alone make.
 fn cap_interval_db(inp: &Inputs, x: f64, spectrum: Option<&[(f64, f64)]>) -> (f64, f64) {
     let (f0, f1) = inner_band(inp);
-    // The two round trips to x, walked once (not once per frequency).
-    let (mc, mb) = (
-        inp.chain.loss_model_to(x, Which::Current),
-        inp.chain.loss_model_to(x, Which::Baseline),
-    );
-    let compensates = inp.chain.compensates();
-    let shortfall = |m: &super::chain::LossModel, f: f64| {
-        if compensates {
-            shortfall_db(m, f)
-        } else {
-            0.0
-        }
-    };
+    let trips = RoundTrips::to(inp, x);
     let weighed = spectrum.and_then(|sp| {
         let (mut num, mut den) = (0.0, 0.0);
         for &(f, m) in sp {
-            let d = shortfall(&mc, f) - shortfall(&mb, f);
+            let d = trips.shortfall(&trips.c, f) - trips.shortfall(&trips.b, f);
             num += m;
             den += m * 10f64.powf(d / 20.0);
         }
@@ -472,20 +460,20 @@ fn cap_interval_db(inp: &Inputs, x: f64, spectrum: Option<&[(f64, f64)]>) -> (f6
     });
     let (mut lo, mut hi) = match weighed {
         Some(e) => (e, e),
-        None => bounds_over_band(&mb, &mc, (f0, f1), &shortfall),
+        None => trips.bounds((f0, f1)),
     };
     let f_c = 0.5 * (f0 + f1);
     let model_error = |m: &super::chain::LossModel| {
         (MODEL_LOSS_ERROR * (m.db(f_c) - m.a_flat) + ATTENUATOR_LOSS_ERROR * m.a_flat)
             .min(CAPPED_MODEL_ERROR_DB)
     };
-    let one_model = (mb.db(f_c) - mc.db(f_c)).abs() < 1e-9;
+    let one_model = (trips.b.db(f_c) - trips.c.db(f_c)).abs() < 1e-9;
     if !one_model {
-        if shortfall(&mb, f1) > 0.0 {
-            hi += model_error(&mb);
+        if trips.shortfall(&trips.b, f1) > 0.0 {
+            hi += model_error(&trips.b);
         }
-        if shortfall(&mc, f1) > 0.0 {
-            lo -= model_error(&mc);
+        if trips.shortfall(&trips.c, f1) > 0.0 {
+            lo -= model_error(&trips.c);
         }
     }
     (lo, hi)
@@ -926,36 +914,46 @@ fn inner_band(inp: &Inputs) -> (f64, f64) {
 /// The least and the most of the two sweeps' cap shortfalls' difference (baseline less current) over the
 /// inner band at `x`, dB, probed at [`CAP_PROBES`] frequencies.
 fn cap_bounds_db(inp: &Inputs, x: f64) -> (f64, f64) {
-    let (mb, mc) = (
-        inp.chain.loss_model_to(x, Which::Baseline),
-        inp.chain.loss_model_to(x, Which::Current),
-    );
-    let compensates = inp.chain.compensates();
-    bounds_over_band(&mb, &mc, inner_band(inp), &|m, f| {
-        if compensates {
+    RoundTrips::to(inp, x).bounds(inner_band(inp))
+}
+
+/// The two sweeps' modelled round trips to one place (walked along the chain once, not once per
+/// frequency), for the compensation caps' shortfalls there.
+struct RoundTrips {
+    b: super::chain::LossModel,
+    c: super::chain::LossModel,
+    compensates: bool,
+}
+
+impl RoundTrips {
+    fn to(inp: &Inputs, x: f64) -> Self {
+        RoundTrips {
+            b: inp.chain.loss_model_to(x, Which::Baseline),
+            c: inp.chain.loss_model_to(x, Which::Current),
+            compensates: inp.chain.compensates(),
+        }
+    }
+
+    /// [`cap_shortfall_db`] of round trip `m` (one of the two) at `f`.
+    fn shortfall(&self, m: &super::chain::LossModel, f: f64) -> f64 {
+        if self.compensates {
             shortfall_db(m, f)
         } else {
             0.0
         }
-    })
-}
+    }
 
-/// [`cap_bounds_db`] for the round trips `mb` and `mc` to one place, over the band `(f0, f1)`, with the
-/// shortfall of a round trip at a frequency given by `shortfall`.
-fn bounds_over_band(
-    mb: &super::chain::LossModel,
-    mc: &super::chain::LossModel,
-    (f0, f1): (f64, f64),
-    shortfall: &dyn Fn(&super::chain::LossModel, f64) -> f64,
-) -> (f64, f64) {
-    (0..CAP_PROBES)
-        .map(|k| {
-            let f = f0 + (f1 - f0) * k as f64 / (CAP_PROBES - 1) as f64;
-            shortfall(mb, f) - shortfall(mc, f)
-        })
-        .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), d| {
-            (lo.min(d), hi.max(d))
-        })
+    /// [`cap_bounds_db`] over the band `(f0, f1)`.
+    fn bounds(&self, (f0, f1): (f64, f64)) -> (f64, f64) {
+        (0..CAP_PROBES)
+            .map(|k| {
+                let f = f0 + (f1 - f0) * k as f64 / (CAP_PROBES - 1) as f64;
+                self.shortfall(&self.b, f) - self.shortfall(&self.c, f)
+            })
+            .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), d| {
+                (lo.min(d), hi.max(d))
+            })
+    }
 }
 
 /// The echo of change `ch` across the band as the current sweep shows it: (frequency, window weight times
