@@ -339,7 +339,7 @@ fn a_joint_either_side_of_an_attenuator_is_named_right_when_declared_lengths_are
 /// fault and with joints whose small changes are noted at info.
 #[test]
 fn a_comparison_above_info_only_finds_what_the_full_one_finds_there() {
-    use coldtrace::compare::run::{compare_with, Detail};
+    use coldtrace::compare::run::{compare_in, Detail};
     use coldtrace::compare::states::Hypothesis;
     let l = line();
     let base = sim(&l, State::Warm, &[], 1);
@@ -350,7 +350,7 @@ fn a_comparison_above_info_only_finds_what_the_full_one_finds_there() {
         let chain = ChainView::from_line(&l, b, c, 0.5e9, 10e9, 5e9);
         let name = |s: State| if s == State::Warm { "warm" } else { "cold" };
         let go = |detail: Detail| {
-            compare_with(
+            compare_in(
                 Sweep {
                     name: "baseline",
                     network: &base,
@@ -366,6 +366,7 @@ fn a_comparison_above_info_only_finds_what_the_full_one_finds_there() {
                 h,
                 StateReport::given(b, c),
                 detail,
+                &mut coldtrace::transform::TraceEngine::new(),
             )
             .unwrap()
         };

@@ -119,19 +119,9 @@ fn band(n: &Network) -> (f64, f64) {
 }
 
 /// Settle a pair's states: the given ones, the inferred ones, or a mix (one given, the other inferred), with
-/// the signatures, the margin and the hypotheses left open (see `states`).
+/// the signatures, the margin and the hypotheses left open (see `states`), on `engine`'s transform plans
+/// (see [`compare_networks_in`]).
 pub fn decide_pair_states(
-    nb: &Network,
-    nc: &Network,
-    line: Option<&Line>,
-    given: (Option<State>, Option<State>),
-    cfg: &AnalysisConfig,
-) -> Result<(StateReport, Vec<Hypothesis>)> {
-    decide_pair_states_in(nb, nc, line, given, cfg, &mut TraceEngine::new())
-}
-
-/// [`decide_pair_states`] on `engine`'s plans (see [`compare_networks_in`]).
-pub fn decide_pair_states_in(
     nb: &Network,
     nc: &Network,
     line: Option<&Line>,
@@ -368,7 +358,7 @@ pub fn compare_networks_in(req: &PairRequest, engine: &mut TraceEngine) -> Resul
         LineModel::Line(l) => Some(l),
         LineModel::Uniform { .. } => None,
     };
-    let (states, open) = decide_pair_states_in(
+    let (states, open) = decide_pair_states(
         nb,
         nc,
         line,

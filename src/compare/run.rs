@@ -772,21 +772,6 @@ pub fn compare(
     h: Hypothesis,
     states: StateReport,
 ) -> Result<CompareReport, CompareError> {
-    compare_with(baseline, current, chain, cfg, h, states, Detail::Full)
-}
-
-/// [`compare`], working out as much as `detail` asks: with [`Detail::AboveInfo`] its findings above info are
-/// those of [`compare`], field for field but their ranks, and it holds no plot.
-pub fn compare_with(
-    baseline: Sweep,
-    current: Sweep,
-    chain: &ChainView,
-    cfg: &AnalysisConfig,
-    h: Hypothesis,
-    states: StateReport,
-    detail: Detail,
-) -> Result<CompareReport, CompareError> {
-    let mut engine = TraceEngine::new();
     compare_in(
         baseline,
         current,
@@ -794,14 +779,15 @@ pub fn compare_with(
         cfg,
         h,
         states,
-        detail,
-        &mut engine,
+        Detail::Full,
+        &mut TraceEngine::new(),
     )
 }
 
-/// [`compare_with`] on `engine`'s transform plans and window coefficients: one engine kept across the
-/// comparisons of many pairs on one grid (a fleet survey's worker) builds each plan once. The result does
-/// not depend on what the engine already holds.
+/// [`compare`], working out as much as `detail` asks (with [`Detail::AboveInfo`] its findings above info are
+/// those of [`compare`], field for field but their ranks, and it holds no plot), on `engine`'s transform
+/// plans and window coefficients: one engine kept across the comparisons of many pairs on one grid (a fleet
+/// survey's worker) builds each plan once. The result does not depend on what the engine already holds.
 #[allow(clippy::too_many_arguments)]
 pub fn compare_in(
     baseline: Sweep,
