@@ -11,11 +11,12 @@ use super::detect::{find_events, noise_sigma, LobeShape, Peak};
 use super::lumped::{fit_all, ModelFit};
 use super::CompareError;
 use crate::transform::{
-    bandpass::BandPassSpectrum, czt::phasors, gate_with, uniform_grid, GatePlan, Grid, TraceEngine,
-    Window,
+    bandpass::BandPassSpectrum, czt::phasors, gate::GateSource, uniform_grid, GatePlan, Grid,
+    TraceEngine, Window,
 };
 use crate::Warning;
 use num_complex::Complex64;
+use std::sync::OnceLock;
 
 /// Points per resolution cell on the analysis grid (a fine grid makes the parabolic peak estimate a good
 /// start for the exact refinement).
@@ -24,9 +25,27 @@ pub const POINTS_PER_RESOLUTION: f64 = 8.0;
 /// Half-width of the gate put round an event to fit its lumped model, in resolution cells.
 pub const GATE_HALF_WIDTH_CELLS: f64 = 2.5;
 
+/// Zero-padding of the gates put on a sweep's echoes (local reflections, the far end's lag): twice the
+/// sweep's points, so the gate's shape is sampled at half a bin of the record.
+pub const ECHO_GATE_PADDING: usize = 2;
+
 /// Share of the band dropped at each edge before a lumped fit, where the gate's edge correction leaves the
 /// most error (common practice, no source).
 pub const FIT_BAND_EDGE: f64 = 0.08;
+
+/// The bins of a sweep of `n` points that local reflections keep: the band less [`FIT_BAND_EDGE`] of it at
+/// each edge (at least one bin).
+pub fn fit_band(n: usize) -> std::ops::Range<usize> {
+    let skip = ((n as f64) * FIT_BAND_EDGE) as usize;
+    skip..n.saturating_sub(skip).max(skip + 1).min(n)
+}
+
+/// The echo gates' plan from `start` to `stop` (round-trip s): the default shape, [`ECHO_GATE_PADDING`].
+fn echo_gate_plan(start: f64, stop: f64) -> GatePlan {
+    let mut plan = GatePlan::new(start, stop);
+    plan.padding = ECHO_GATE_PADDING;
+    plan
+}
 
 /// A stretch of the analysis grid with its own compensation: the spectrum moved through the modelled chain
 /// up to the stretch's start.
@@ -69,6 +88,8 @@ pub struct SweepAnalysis {
     /// False when an amplifier in the path leaves the absolute size of the sweep's reflections unknown (no
     /// open or short end and too few of the line file's joints to set it): costs read from them mean nothing.
     pub scale_known: bool,
+    /// The sweep's padded time response for its echo gates ([`ECHO_GATE_PADDING`]), made at the first gate.
+    gates: OnceLock<GateSource>,
 }
 
 /// The window's shape as the detector needs it, and the resolution (round-trip s) over `bandwidth_hz`.
@@ -261,6 +282,7 @@ impl SweepAnalysis {
             window_w: w.to_vec(),
             path_gain_db: None,
             scale_known: true,
+            gates: OnceLock::new(),
         };
         for e in &mut events {
             let piece = out.piece_at(e.delay_s);
@@ -338,8 +360,8 @@ impl SweepAnalysis {
     }
 
     /// The local reflection of an event at delay `d` (as-built position `x`), versus frequency, on the inner
-    /// part of the band: gated, moved to the event's plane and compensated for `chain`'s modelled loss and
-    /// dispersion in sweep `which`. Returns (frequencies, Gamma_loc).
+    /// part of the band ([`fit_band`]): gated, moved to the event's plane and compensated for `chain`'s
+    /// modelled loss and dispersion in sweep `which`. Returns (frequencies, Gamma_loc).
     pub fn local_reflection(
         &self,
         d: f64,
@@ -348,20 +370,55 @@ impl SweepAnalysis {
         which: Which,
         engine: &mut TraceEngine,
     ) -> Result<(Vec<f64>, Vec<Complex64>), CompareError> {
+        self.local_reflection_in(d, x, chain, which, engine, None)
+    }
+
+    /// The first `points` values of [`Self::local_reflection`] (the bottom of its band), gated by direct
+    /// sums: for a few points far less work than the whole, and the same values to rounding.
+    pub fn local_reflection_low(
+        &self,
+        d: f64,
+        x: f64,
+        chain: &ChainView,
+        which: Which,
+        engine: &mut TraceEngine,
+        points: usize,
+    ) -> Result<(Vec<f64>, Vec<Complex64>), CompareError> {
+        self.local_reflection_in(d, x, chain, which, engine, Some(points))
+    }
+
+    fn local_reflection_in(
+        &self,
+        d: f64,
+        x: f64,
+        chain: &ChainView,
+        which: Which,
+        engine: &mut TraceEngine,
+        first: Option<usize>,
+    ) -> Result<(Vec<f64>, Vec<Complex64>), CompareError> {
         let half = GATE_HALF_WIDTH_CELLS * self.resolution_s;
         // A gate inside the record whatever `d` is: an echo at the very end of the alias-free time (the port's
         // own echo wrapping round) gets a gate that ends at the record's end.
         let width = (2.0 * half).min(self.alias_free_s);
         let start = (d - half).clamp(0.0, (self.alias_free_s - width).max(0.0));
         let stop = (start + width).min(self.alias_free_s);
-        let mut plan = GatePlan::new(start, stop);
-        plan.padding = 2;
-        let gated = gate_with(&self.freqs, &self.s11, &plan, engine.cache())
-            .map_err(CompareError::Transform)?;
         let n = self.freqs.len();
-        let skip = ((n as f64) * FIT_BAND_EDGE) as usize;
-        let range = skip..n.saturating_sub(skip).max(skip + 1).min(n);
-        let f: Vec<f64> = self.freqs[range.clone()].to_vec();
+        let band = fit_band(n);
+        let (range, gated) = match first {
+            None => (
+                band.clone(),
+                self.echo_gate(start, stop, engine)?[band].to_vec(),
+            ),
+            Some(p) => {
+                let r = band.start..(band.start + p).min(band.end);
+                let g = self
+                    .gate_source(engine)?
+                    .gate_bins(&echo_gate_plan(start, stop), r.clone())
+                    .map_err(CompareError::Transform)?;
+                (r, g)
+            }
+        };
+        let f: Vec<f64> = self.freqs[range].to_vec();
         let comp = if chain.compensates() {
             chain.compensation_over(&chain.loss_model_to(x, which), &f, MAX_COMPENSATION)
         } else {
@@ -369,13 +426,39 @@ impl SweepAnalysis {
         };
         // The move to the event's plane, e^{+j 2 pi f d}, on the uniform grid.
         let df = (self.freqs[n - 1] - self.freqs[0]) / (n - 1).max(1) as f64;
-        let g: Vec<Complex64> = gated.values[range]
+        let g: Vec<Complex64> = gated
             .iter()
             .zip(&comp)
             .zip(phasors(f[0], df, d))
             .map(|((v, c), p)| v * c * p)
             .collect();
         Ok((f, g))
+    }
+
+    /// The sweep's padded time response for its echo gates, transformed at the first gate.
+    fn gate_source(&self, engine: &mut TraceEngine) -> Result<&GateSource, CompareError> {
+        if let Some(s) = self.gates.get() {
+            return Ok(s);
+        }
+        let s = GateSource::new(&self.freqs, &self.s11, ECHO_GATE_PADDING, engine.cache())
+            .map_err(CompareError::Transform)?;
+        Ok(self.gates.get_or_init(|| s))
+    }
+
+    /// The sweep gated from `start` to `stop` (round-trip s) with the echo gates' shape and padding
+    /// ([`ECHO_GATE_PADDING`]), edge-corrected; the sweep's time response is transformed once for all its
+    /// gates.
+    pub fn echo_gate(
+        &self,
+        start: f64,
+        stop: f64,
+        engine: &mut TraceEngine,
+    ) -> Result<Vec<Complex64>, CompareError> {
+        Ok(self
+            .gate_source(engine)?
+            .gate(&echo_gate_plan(start, stop), engine.cache())
+            .map_err(CompareError::Transform)?
+            .values)
     }
 
     /// Lumped-model fits of a local reflection (from [`Self::local_reflection`]), best first.

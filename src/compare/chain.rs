@@ -313,9 +313,15 @@ impl ChainView {
         let g_ref = (self.delay_reference_hz / 1e9).max(1e-9);
         // phi(g) = A sqrt(g); its tangent at g_ref has slope A / (2 sqrt(g_ref)).
         let slope = 1.0 / (2.0 * g_ref.sqrt());
+        // L(f) as `LossModel::db` gives it, with the square root shared by both parts.
         move |f| {
-            let g = (f / 1e9).max(0.0);
-            (m.db(f) / NEPER_DB, a_np * (g.sqrt() - g * slope))
+            let g = f / 1e9;
+            let gp = g.max(0.0);
+            let s = gp.sqrt();
+            (
+                (m.a_sqrt * s + m.a_lin * g + m.a_flat) / NEPER_DB,
+                a_np * (s - gp * slope),
+            )
         }
     }
 
@@ -379,11 +385,23 @@ pub const COMPENSATION_STEP: f64 = 0.02;
 /// rounding, 1e-16).
 pub const COMPENSATION_ANCHOR: usize = 32;
 
-/// e^u for |u| at most [`COMPENSATION_STEP`]: its Taylor series to sixth order, by Horner's rule.
+/// e^u for |u| at most [`COMPENSATION_STEP`]: its Taylor series to sixth order, sum_{n<=6} u^n / n!, by
+/// Horner's rule on the coefficients 1/n! (no division).
 fn exp_small(u: Complex64) -> Complex64 {
-    let one = Complex64::new(1.0, 0.0);
-    one + u
-        * (one + u / 2.0 * (one + u / 3.0 * (one + u / 4.0 * (one + u / 5.0 * (one + u / 6.0)))))
+    const INV_FACTORIAL: [f64; 7] = [
+        1.0,
+        1.0,
+        1.0 / 2.0,
+        1.0 / 6.0,
+        1.0 / 24.0,
+        1.0 / 120.0,
+        1.0 / 720.0,
+    ];
+    let mut p = Complex64::new(INV_FACTORIAL[6], 0.0);
+    for &c in INV_FACTORIAL[..6].iter().rev() {
+        p = p * u + c;
+    }
+    p
 }
 
 #[cfg(test)]

@@ -963,8 +963,7 @@ fn echo_spectrum(inp: &Inputs, ch: &Change, engine: &mut TraceEngine) -> Option<
     let (f, g) = c
         .local_reflection(ch.d_c, ch.x, inp.chain, Which::Current, engine)
         .ok()?;
-    let n = c.freqs.len();
-    let skip = ((n as f64) * super::analysis::FIT_BAND_EDGE) as usize;
+    let skip = super::analysis::fit_band(c.freqs.len()).start;
     Some(
         f.iter()
             .zip(&g)

@@ -9,13 +9,13 @@
 //! own plane (see `analysis`), so an open reads near +1 and a short near -1 at the bottom of the band, less
 //! the line's loss.
 
-use super::analysis::{SweepAnalysis, FIT_BAND_EDGE, GATE_HALF_WIDTH_CELLS};
+use super::analysis::{fit_band, SweepAnalysis, GATE_HALF_WIDTH_CELLS};
 use super::chain::{ChainView, LossModel, Which};
 use super::CompareError;
 use crate::line::Load;
 use crate::transform::{
     czt::{direct_sum, phasors},
-    gate_with, GatePlan, TraceEngine,
+    TraceEngine,
 };
 use num_complex::Complex64;
 
@@ -107,25 +107,42 @@ pub fn find(
     // Ranked by what the bottom of the band shows (where the line loses least): an extrapolation along a
     // loss law can flatter an echo whose level only falls with frequency. Only the one chosen is read
     // further (its polarity and loss law).
-    let mut best: Option<(f64, usize, Vec<f64>, Vec<Complex64>)> = None;
-    for i in candidates {
-        let e = a.events[i];
-        let x = chain.position_of(e.delay_s, which, None);
-        let (f, g) = a.local_reflection(e.delay_s, x, chain, which, engine)?;
-        // Where the loss law does not fit (an offset short's air line ripples), the bottom of the band,
-        // where the line loses least, says it.
-        let n_bottom = ((f.len() as f64 * BOTTOM_BAND).ceil() as usize).clamp(1, f.len());
-        let bottom = 20.0
-            * (g[..n_bottom].iter().map(|v| v.norm()).sum::<f64>() / n_bottom as f64)
-                .max(1e-12)
-                .log10();
-        if best.as_ref().map_or(true, |(b, ..)| bottom > *b) {
-            best = Some((bottom, i, f, g));
+    // The bottom of the band: the first `n_bottom` points of a local reflection of `len`; its mean level.
+    let n_bottom = |len: usize| ((len as f64 * BOTTOM_BAND).ceil() as usize).clamp(1, len);
+    let bottom_of = |g: &[Complex64], n: usize| {
+        20.0 * (g[..n].iter().map(|v| v.norm()).sum::<f64>() / n as f64)
+            .max(1e-12)
+            .log10()
+    };
+    // Several candidates are ranked on the bottom of the band alone, gated there by direct sums; only the
+    // one chosen is gated whole.
+    let chosen = if candidates.len() > 1 {
+        let points = n_bottom(fit_band(a.freqs.len()).len());
+        let mut best: Option<(f64, usize)> = None;
+        for &i in &candidates {
+            let e = a.events[i];
+            let x = chain.position_of(e.delay_s, which, None);
+            let (_, g) = a.local_reflection_low(e.delay_s, x, chain, which, engine, points)?;
+            let bottom = bottom_of(&g, g.len());
+            if best.map_or(true, |(b, _)| bottom > b) {
+                best = Some((bottom, i));
+            }
         }
-    }
-    let Some((bottom, i, f, g)) = best else {
+        best.map(|(_, i)| i)
+    } else {
+        candidates.first().copied()
+    };
+    let Some(i) = chosen else {
         return Ok(None);
     };
+    let (f, g) = {
+        let e = a.events[i];
+        let x = chain.position_of(e.delay_s, which, None);
+        a.local_reflection(e.delay_s, x, chain, which, engine)?
+    };
+    // Where the loss law does not fit (an offset short's air line ripples), the bottom of the band, where
+    // the line loses least, says it.
+    let bottom = bottom_of(&g, n_bottom(g.len()));
     let e = a.events[i];
     let n_low = ((f.len() as f64 * POLARITY_BAND).ceil() as usize).clamp(1, f.len());
     let mean = g[..n_low].iter().sum::<Complex64>() / n_low as f64;
@@ -166,8 +183,9 @@ pub fn fit_loss(freqs: &[f64], gamma: &[num_complex::Complex64]) -> Option<(Loss
     let pts: Vec<(f64, f64)> = freqs
         .iter()
         .zip(gamma)
-        .filter(|(_, g)| g.norm() > 1e-6)
-        .map(|(&f, g)| ((f / 1e9).max(0.0), 20.0 * g.norm().log10()))
+        .map(|(&f, g)| (f, g.norm()))
+        .filter(|&(_, m)| m > 1e-6)
+        .map(|(f, m)| ((f / 1e9).max(0.0), 20.0 * m.log10()))
         .collect();
     if pts.len() < 8 {
         return None;
@@ -235,7 +253,7 @@ pub const LAG_SEARCH_CELLS: f64 = 1.0;
 ///
 /// Both raw sweeps are gated with one gate, from [`GATE_HALF_WIDTH_CELLS`] before the earlier echo to as far
 /// behind the later one (the gate a single echo is read through, widened by the move), on the inner band
-/// ([`FIT_BAND_EDGE`] dropped at each edge, where the gate's edge correction leaves the most error), and
+/// ([`fit_band`]: [`super::analysis::FIT_BAND_EDGE`] dropped at each edge, where the gate's edge correction leaves the most error), and
 /// the lag is the maximum of the magnitude of their cross-correlation
 /// `|sum_k Gc(f_k) conj(Gb(f_k)) e^{+j 2 pi f_k tau}|` within [`LAG_SEARCH_CELLS`] of `tc - tb`, placed by a
 /// grid of a sixty-fourth of a cell and three rounds of a three-point parabola.
@@ -271,19 +289,15 @@ pub fn echo_lag(
     if stop <= start {
         return Ok(None);
     }
-    let mut plan = GatePlan::new(start, stop);
-    plan.padding = 2;
-    let gb = gate_with(&b.freqs, &b.s11, &plan, engine.cache()).map_err(CompareError::Transform)?;
-    let gc = gate_with(&c.freqs, &c.s11, &plan, engine.cache()).map_err(CompareError::Transform)?;
-    let n = b.freqs.len();
-    let skip = ((n as f64) * FIT_BAND_EDGE) as usize;
-    let range = skip..n.saturating_sub(skip).max(skip + 1).min(n);
+    let gb = b.echo_gate(start, stop, engine)?;
+    let gc = c.echo_gate(start, stop, engine)?;
+    let range = fit_band(b.freqs.len());
     // Frequencies relative to the first kept one: a common phase factor leaves the magnitude alone and the
     // products stay small.
     // The grid is uniform (every sweep analysed is): the sum is evaluated by recurrence.
     let (f0, f1) = (b.freqs[range.start], b.freqs[range.end - 1]);
     let df = (f1 - f0) / (range.len() - 1).max(1) as f64;
-    let terms: Vec<Complex64> = range.map(|k| gc.values[k] * gb.values[k].conj()).collect();
+    let terms: Vec<Complex64> = range.map(|k| gc[k] * gb[k].conj()).collect();
     let corr = |tau: f64| -> f64 { direct_sum(&terms, 0.0, df, tau).norm() };
     let guess = tc - tb;
     let span = LAG_SEARCH_CELLS * res;

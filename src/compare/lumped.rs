@@ -349,7 +349,17 @@ fn turn(f: &[f64], g: &[Complex64], delta: f64) -> Vec<Complex64> {
 /// residual sum |t_k - rho|^2 is a parabola in rho, least at the mean of Re t_k, so the value is that rho,
 /// held to the model's range, mapped back. The reactive models are searched on a log grid of
 /// [`VALUE_GRID_CELLS`] cells over their range, then by Brent's method within the best cell's neighbours.
-fn best_value(m: ModelType, f: &[f64], t: &[Complex64], z0: f64, hint: Option<f64>) -> (f64, f64) {
+///
+/// `shrink` is the Brent search's tolerance relative to its bracket ([`GOLDEN_SHRINK_30`] for a value
+/// that is kept, [`SCOUT_SHRINK`] while the delay grid is only scouted).
+fn best_value(
+    m: ModelType,
+    f: &[f64],
+    t: &[Complex64],
+    z0: f64,
+    hint: Option<f64>,
+    shrink: f64,
+) -> (f64, f64) {
     let Some((lo, hi)) = m.range(z0) else {
         return (0.0, residual(m, 0.0, f, t, z0));
     };
@@ -362,7 +372,7 @@ fn best_value(m: ModelType, f: &[f64], t: &[Complex64], z0: f64, hint: Option<f6
     let (llo, lhi) = (lo.ln(), hi.ln());
     let cell = (lhi - llo) / VALUE_GRID_CELLS as f64;
     let search = |a: f64, b: f64| {
-        brent_min(a, b, 0.5 * GOLDEN_SHRINK_30 * (b - a), |x| {
+        brent_min(a, b, 0.5 * shrink * (b - a), |x| {
             residual(m, x.exp(), f, t, z0)
         })
     };
@@ -399,6 +409,12 @@ fn best_value(m: ModelType, f: &[f64], t: &[Complex64], z0: f64, hint: Option<f6
     }
 }
 
+/// Tolerance of a reactive value's search, relative to its bracket, while the delay grid is only scouted
+/// for the start of the search over the delay: the grid's best need only lie in the right basin, which that
+/// search then settles to [`GOLDEN_SHRINK_30`] (a tenth of a percent of a bracket of two grid cells of the
+/// log value is 0.2 % of the value).
+const SCOUT_SHRINK: f64 = 1e-3;
+
 /// Half-width, in cells of the coarse grid, of the bracket a reactive model's value is searched in near a
 /// neighbouring delay's best value: the residual delays a fit tries are a small fraction of a resolution
 /// cell apart, and the best value moves little between them.
@@ -414,7 +430,15 @@ fn fit_one(m: ModelType, turner: &Turner, z0: f64, max_delta: f64, norm: f64) ->
     // Delay grid: 0.5 rad of phase at fmax per step, refined by Brent's method round the best.
     let step = 0.5 / (2.0 * PI * fmax);
     let n = ((max_delta / step).ceil() as usize).clamp(0, 400);
-    let at_delay = |delta: f64, hint: Option<f64>| best_value(m, f, &turner.turn(delta), z0, hint);
+    let at_delay = |delta: f64, hint: Option<f64>, shrink: f64| {
+        best_value(m, f, &turner.turn(delta), z0, hint, shrink)
+    };
+    // Where a search over the delay follows, the grid only scouts for its start.
+    let scout = if n > 0 {
+        SCOUT_SHRINK
+    } else {
+        GOLDEN_SHRINK_30
+    };
     // (delay, value, residual) of the best so far; each delay's value search starts from the previous
     // delay's best value.
     let mut best = (0.0, 0.0, f64::INFINITY);
@@ -425,7 +449,7 @@ fn fit_one(m: ModelType, turner: &Turner, z0: f64, max_delta: f64, norm: f64) ->
         } else {
             -max_delta + max_delta * i as f64 / n as f64
         };
-        let (v, r) = at_delay(delta, hint);
+        let (v, r) = at_delay(delta, hint, scout);
         hint = Some(v);
         if r < best.2 {
             best = (delta, v, r);
@@ -437,16 +461,16 @@ fn fit_one(m: ModelType, turner: &Turner, z0: f64, max_delta: f64, norm: f64) ->
             best.0 - step,
             best.0 + step,
             0.5 * GOLDEN_SHRINK_30 * 2.0 * step,
-            |d| at_delay(d, near).1,
+            |d| at_delay(d, near, GOLDEN_SHRINK_30).1,
         );
         if r < best.2 {
-            let (v, r) = at_delay(d, near);
+            let (v, r) = at_delay(d, near, GOLDEN_SHRINK_30);
             best = (d, v, r);
         }
     }
     // The value at the delay chosen, searched over the whole range: what the hints found is kept only if
     // nothing better lies elsewhere.
-    let (v, r) = at_delay(best.0, None);
+    let (v, r) = at_delay(best.0, None, GOLDEN_SHRINK_30);
     if r < best.2 {
         best = (best.0, v, r);
     }

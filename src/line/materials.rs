@@ -196,7 +196,34 @@ pub fn copper_expansion_coefficient(t_k: f64) -> f64 {
 
 /// Integrated contraction of OFHC copper, 293 K -> `t_k`, by integrating the NIST fit (Simpson, 64 steps).
 /// Gives 0.3256 % at 4 K and 0.3042 % at 77 K.
+///
+/// A line's model asks for the same few temperatures (its stages, its tapers' slices) again and again, so
+/// each thread keeps the integrals it has worked out, by the exact temperature; at most
+/// [`COPPER_MEMO_SIZE`] of them, after which it starts afresh.
 pub fn copper_contraction(t_k: f64) -> f64 {
+    thread_local! {
+        static MEMO: std::cell::RefCell<std::collections::HashMap<u64, f64>> =
+            std::cell::RefCell::new(std::collections::HashMap::new());
+    }
+    MEMO.with(|memo| {
+        if let Some(&v) = memo.borrow().get(&t_k.to_bits()) {
+            return v;
+        }
+        let v = integrate_copper_contraction(t_k);
+        let mut memo = memo.borrow_mut();
+        if memo.len() >= COPPER_MEMO_SIZE {
+            memo.clear();
+        }
+        memo.insert(t_k.to_bits(), v);
+        v
+    })
+}
+
+/// Most temperatures [`copper_contraction`] keeps per thread.
+pub const COPPER_MEMO_SIZE: usize = 4096;
+
+/// [`copper_contraction`] worked out: Simpson's rule, 64 steps, over the NIST fit's expansion coefficient.
+fn integrate_copper_contraction(t_k: f64) -> f64 {
     let (a, b) = (t_k, 293.0);
     let n = 64;
     let h = (b - a) / n as f64;
@@ -669,6 +696,16 @@ mod tests {
         assert!((copper_contraction(4.0) * 100.0 - 0.326).abs() < 0.002);
         assert!((copper_contraction(77.0) * 100.0 - 0.304).abs() < 0.002);
         assert!(copper_contraction(293.0).abs() < 1e-12);
+    }
+
+    #[test]
+    fn kept_copper_integrals_are_the_integrals() {
+        // Asked twice, and past the memo's size, the answer is the integral itself, bit for bit.
+        for k in 0..(COPPER_MEMO_SIZE + 10) {
+            let t = 1.0 + k as f64 * 0.07;
+            assert_eq!(copper_contraction(t), integrate_copper_contraction(t));
+            assert_eq!(copper_contraction(t), integrate_copper_contraction(t));
+        }
     }
 
     #[test]

@@ -10,12 +10,19 @@
 //! across the whole band. Renormalising gated data by the gated response of a unit spectrum is described in
 //! J. Dunsmore, Handbook of Microwave Component Measurements, Wiley 2012, chapter on time-domain transforms
 //! (from memory; section not verified).
+//!
+//! Work: the sweep's padded time response does not depend on the gate, so a [`GateSource`] keeps it for
+//! every gate put on the same sweep; the gate shape is zero outside its span, so it is evaluated there
+//! only; and the unit reflection's time response is a Dirichlet kernel, written in closed form on the span
+//! (sum_{k<N} e^{j k theta} = e^{j (N-1) theta / 2} sin(N theta / 2) / sin(theta / 2), the geometric
+//! series). A gate then costs two forward transforms (the gated sweep and the gated unit reflection).
 
-use super::czt::{cis_cycles, fast_len, FftCache};
+use super::czt::{cis_cycles, fast_len, phasors, FftCache};
 use super::plan::uniform_grid;
 use super::{TransformError, Window};
 use crate::Warning;
 use num_complex::Complex64;
+use std::f64::consts::PI;
 
 /// A time gate.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -49,23 +56,211 @@ pub struct Gated {
     pub warnings: Vec<Warning>,
 }
 
-fn gate_once(
-    values: &[Complex64],
-    weights: &[f64],
+/// Most padding a gate takes.
+pub const MAX_GATE_PADDING: usize = 64;
+
+/// One sweep ready to be gated any number of times: its uniform grid and its zero-padded periodic time
+/// response (e^{+j}, unnormalised) for one padding factor.
+#[derive(Debug, Clone)]
+pub struct GateSource {
+    step_hz: f64,
+    /// Points of the sweep.
+    points: usize,
+    padding: usize,
+    /// The padded time response, `fast_len(padding * points)` samples over 0..1/df.
+    time: Vec<Complex64>,
+}
+
+impl GateSource {
+    /// Transform `values` on `freqs` (a uniform grid) for gates of padding `padding`.
+    pub fn new(
+        freqs: &[f64],
+        values: &[Complex64],
+        padding: usize,
+        cache: &mut FftCache,
+    ) -> Result<Self, TransformError> {
+        if freqs.len() != values.len() {
+            return Err(TransformError::LengthMismatch {
+                freqs: freqs.len(),
+                values: values.len(),
+            });
+        }
+        let grid = uniform_grid(freqs)?;
+        if padding == 0 || padding > MAX_GATE_PADDING {
+            return Err(TransformError::Invalid(format!(
+                "gate padding {padding} is out of range; give 1 to {MAX_GATE_PADDING}"
+            )));
+        }
+        let n = values.len();
+        let mut time = values.to_vec();
+        time.resize(fast_len(padding * n), Complex64::new(0.0, 0.0));
+        cache.inverse_in_place(&mut time);
+        Ok(GateSource {
+            step_hz: grid.step_hz,
+            points: n,
+            padding,
+            time,
+        })
+    }
+
+    /// The padding factor this source serves.
+    pub fn padding(&self) -> usize {
+        self.padding
+    }
+
+    /// The gate's samples for `plan`: each (m, w) with the shape's weight w != 0 at sample m of the padded
+    /// record, after checking the plan against the record; and the warnings the plan earns.
+    fn samples(&self, plan: &GatePlan) -> Result<(Vec<GateSample>, Vec<Warning>), TransformError> {
+        let period = 1.0 / self.step_hz;
+        if !(plan.start_s >= 0.0 && plan.stop_s > plan.start_s && plan.stop_s <= period) {
+            return Err(TransformError::Invalid(format!(
+                "gate {:.6e} s..{:.6e} s must satisfy 0 <= start < stop <= {:.6e} s (the alias-free time 1/df); \
+                 give a gate inside the alias-free range",
+                plan.start_s, plan.stop_s, period
+            )));
+        }
+        if plan.padding != self.padding {
+            return Err(TransformError::Invalid(format!(
+                "gate padding {} differs from the {} the sweep was prepared for; prepare it again",
+                plan.padding, self.padding
+            )));
+        }
+        let len = self.time.len();
+        let dt = period / len as f64;
+        let width = plan.stop_s - plan.start_s;
+        // Every m whose place falls in [start, stop] (the shape is 0 outside), with a sample of margin
+        // either side so that rounding at the ends cannot drop one.
+        let first = ((plan.start_s / dt).floor() as usize).saturating_sub(1);
+        let last = ((plan.stop_s / dt).ceil() as usize + 1).min(len - 1);
+        let weights: Vec<GateSample> = (first..=last)
+            .map(|m| (m, plan.shape.value((m as f64 * dt - plan.start_s) / width)))
+            .filter(|&(_, w)| w != 0.0)
+            .collect();
+        let mut warnings = Vec::new();
+        let resolution =
+            plan.shape.figures().mainlobe_6db_bins / (self.step_hz * self.points as f64);
+        if width < 2.0 * resolution {
+            warnings.push(Warning::new(
+                "gate-narrow",
+                format!(
+                    "the gate ({width:.4e} s) is narrower than twice the resolution ({resolution:.4e} s); it cuts \
+                     into the response it keeps"
+                ),
+                "widen the gate, or measure over a wider band",
+            ));
+        }
+        Ok((weights, warnings))
+    }
+
+    /// The unit reflection at the gate's centre, as the padded record holds it at sample `m`: the
+    /// Dirichlet kernel of the sweep's points.
+    fn unit_time(&self, plan: &GatePlan, m: usize) -> Complex64 {
+        let centre = 0.5 * (plan.start_s + plan.stop_s);
+        dirichlet(
+            self.points,
+            m as f64 / self.time.len() as f64 - self.step_hz * centre,
+        )
+    }
+
+    /// The sweep gated by `plan` (whose padding must be this source's).
+    pub fn gate(&self, plan: &GatePlan, cache: &mut FftCache) -> Result<Gated, TransformError> {
+        let (weights, warnings) = self.samples(plan)?;
+        let n = self.points;
+        let len = self.time.len();
+        let mut gated = back_to_sweep(&weights, |m| self.time[m], len, n, cache);
+        if plan.correct_edges {
+            let unit_gated = back_to_sweep(&weights, |m| self.unit_time(plan, m), len, n, cache);
+            let centre = 0.5 * (plan.start_s + plan.stop_s);
+            // The unit reflection at the centre, e^{-j 2 pi k df centre}.
+            for ((g, u), ug) in gated
+                .iter_mut()
+                .zip(phasors(0.0, self.step_hz, -centre))
+                .zip(&unit_gated)
+            {
+                *g *= u / ug;
+            }
+        }
+        Ok(Gated {
+            values: gated,
+            warnings,
+        })
+    }
+
+    /// [`Self::gate`]'s values at the bins `bins` only, by direct sums over the gate's samples: for a few
+    /// bins far less work than the transforms, and the same values to rounding.
+    pub fn gate_bins(
+        &self,
+        plan: &GatePlan,
+        bins: std::ops::Range<usize>,
+    ) -> Result<Vec<Complex64>, TransformError> {
+        let (weights, _) = self.samples(plan)?;
+        let len = self.time.len();
+        let bins = bins.start.min(self.points)..bins.end.min(self.points);
+        let at = |time: &dyn Fn(usize) -> Complex64| -> Vec<Complex64> {
+            let mut out = vec![Complex64::new(0.0, 0.0); bins.len()];
+            for &(m, w) in &weights {
+                let x = time(m) * w;
+                // e^{-j 2 pi k m / len} from k = bins.start on, one rotation per bin.
+                let step = cis_cycles(-(m as f64) / len as f64);
+                let mut ph = cis_cycles(-(((bins.start * m) % len) as f64) / len as f64);
+                for o in out.iter_mut() {
+                    *o += x * ph;
+                    ph *= step;
+                }
+            }
+            let s = 1.0 / len as f64;
+            out.iter_mut().for_each(|o| *o *= s);
+            out
+        };
+        let mut gated = at(&|m| self.time[m]);
+        if plan.correct_edges {
+            let unit_gated = at(&|m| self.unit_time(plan, m));
+            let centre = 0.5 * (plan.start_s + plan.stop_s);
+            for ((g, k), ug) in gated.iter_mut().zip(bins.clone()).zip(&unit_gated) {
+                *g *= cis_cycles(-(k as f64) * self.step_hz * centre) / ug;
+            }
+        }
+        Ok(gated)
+    }
+}
+
+/// One sample of a gate: its index in the padded record and the gate shape's weight there.
+type GateSample = (usize, f64);
+
+/// The first `n` bins of the forward transform of a time response that is `time(m) w` at the gate's
+/// samples `(m, w)` and zero elsewhere, over `len` samples, normalised by `len`.
+fn back_to_sweep(
+    weights: &[GateSample],
+    time: impl Fn(usize) -> Complex64,
     len: usize,
+    n: usize,
     cache: &mut FftCache,
 ) -> Vec<Complex64> {
-    let mut buf = values.to_vec();
-    buf.resize(len, Complex64::new(0.0, 0.0));
-    cache.inverse_in_place(&mut buf);
-    for (b, w) in buf.iter_mut().zip(weights) {
-        *b *= *w;
+    let mut buf = vec![Complex64::new(0.0, 0.0); len];
+    for &(m, w) in weights {
+        buf[m] = time(m) * w;
     }
     cache.forward_in_place(&mut buf);
     let s = 1.0 / len as f64;
-    buf.truncate(values.len());
+    buf.truncate(n);
     buf.iter_mut().for_each(|b| *b *= s);
     buf
+}
+
+/// sum_{k=0}^{n-1} e^{+j 2 pi k x}: the periodic time response (unnormalised) of a flat n-point spectrum,
+/// in closed form e^{j (n-1) theta / 2} sin(n theta / 2) / sin(theta / 2) with theta = 2 pi x, x reduced to
+/// the nearest whole number of cycles first (the sum has period 1 in x).
+pub fn dirichlet(n: usize, x: f64) -> Complex64 {
+    let r = x - x.round();
+    let half = PI * r;
+    let s = half.sin();
+    let nf = n as f64;
+    let amplitude = if s.abs() < 1e-300 {
+        nf
+    } else {
+        (nf * half).sin() / s
+    };
+    Complex64::from_polar(amplitude, (nf - 1.0) * half)
 }
 
 /// Gate `values` on `freqs` with `plan`, reusing `cache`'s FFT plans.
@@ -75,61 +270,7 @@ pub fn gate_with(
     plan: &GatePlan,
     cache: &mut FftCache,
 ) -> Result<Gated, TransformError> {
-    if freqs.len() != values.len() {
-        return Err(TransformError::LengthMismatch {
-            freqs: freqs.len(),
-            values: values.len(),
-        });
-    }
-    let grid = uniform_grid(freqs)?;
-    let period = 1.0 / grid.step_hz;
-    if !(plan.start_s >= 0.0 && plan.stop_s > plan.start_s && plan.stop_s <= period) {
-        return Err(TransformError::Invalid(format!(
-            "gate {:.6e} s..{:.6e} s must satisfy 0 <= start < stop <= {:.6e} s (the alias-free time 1/df); \
-             give a gate inside the alias-free range",
-            plan.start_s, plan.stop_s, period
-        )));
-    }
-    if plan.padding == 0 || plan.padding > 64 {
-        return Err(TransformError::Invalid(format!(
-            "gate padding {} is out of range; give 1 to 64",
-            plan.padding
-        )));
-    }
-    let n = values.len();
-    let len = fast_len(plan.padding * n);
-    let dt = period / len as f64;
-    let width = plan.stop_s - plan.start_s;
-    let weights: Vec<f64> = (0..len)
-        .map(|m| plan.shape.value((m as f64 * dt - plan.start_s) / width))
-        .collect();
-    let mut warnings = Vec::new();
-    let resolution = plan.shape.figures().mainlobe_6db_bins / (grid.step_hz * n as f64);
-    if width < 2.0 * resolution {
-        warnings.push(Warning::new(
-            "gate-narrow",
-            format!(
-                "the gate ({width:.4e} s) is narrower than twice the resolution ({resolution:.4e} s); it cuts \
-                 into the response it keeps"
-            ),
-            "widen the gate, or measure over a wider band",
-        ));
-    }
-    let mut gated = gate_once(values, &weights, len, cache);
-    if plan.correct_edges {
-        let centre = 0.5 * (plan.start_s + plan.stop_s);
-        let unit: Vec<Complex64> = (0..n)
-            .map(|k| cis_cycles(-(k as f64) * grid.step_hz * centre))
-            .collect();
-        let unit_gated = gate_once(&unit, &weights, len, cache);
-        for ((g, u), ug) in gated.iter_mut().zip(&unit).zip(&unit_gated) {
-            *g *= u / ug;
-        }
-    }
-    Ok(Gated {
-        values: gated,
-        warnings,
-    })
+    GateSource::new(freqs, values, plan.padding, cache)?.gate(plan, cache)
 }
 
 /// Gate `values` on `freqs` with `plan` (fresh FFT plans).
