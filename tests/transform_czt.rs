@@ -146,3 +146,30 @@ fn band_pass_trace_equals_naive_sum() {
         }
     }
 }
+
+#[test]
+fn convolution_lengths_are_the_smallest_of_their_kind() {
+    // Each length is a 2-3-5 size of at least n with at least three 2s and at most one 5, and no smaller
+    // length is (checked by counting factors from n up). Worked values: 1850 -> 1920 (2^7 3 5; 1875 = 3 5^4
+    // is passed over), 7079 -> 7680 (2^9 3 5), 4096 stays.
+    use coldtrace::transform::czt::convolution_len;
+    let kind = |m: usize| {
+        let mut r = m;
+        let mut count = [0u32; 3];
+        for (c, p) in count.iter_mut().zip([2usize, 3, 5]) {
+            while r % p == 0 {
+                r /= p;
+                *c += 1;
+            }
+        }
+        r == 1 && count[0] >= 3 && count[2] <= 1
+    };
+    for n in (1..5000).chain([7079, 20011]) {
+        let m = convolution_len(n);
+        assert!(m >= n && kind(m), "{n} -> {m}");
+        assert!((n..m).all(|k| !kind(k)), "{n} -> {m}: a smaller one exists");
+    }
+    assert_eq!(convolution_len(1850), 1920);
+    assert_eq!(convolution_len(7079), 7680);
+    assert_eq!(convolution_len(4096), 4096);
+}

@@ -6,10 +6,11 @@
 //! (see `transform::bandpass`); delays are round-trip seconds; the local reflection of an event at delay d is
 //! Gamma_loc(f) = Gamma_gated(f) e^{+j 2 pi f d} 10^{L(x, f)/20}, with L the model's round-trip loss to it.
 
-use super::chain::{ChainView, Which};
+use super::chain::{ghz_basis, ChainView, Which};
 use super::detect::{find_events, noise_sigma, LobeShape, Peak};
 use super::lumped::{fit_all, ModelFit};
 use super::CompareError;
+use crate::line::physics::NEPER_DB;
 use crate::transform::{
     bandpass::BandPassSpectrum, czt::phasors, gate::GateSource, uniform_grid, GatePlan, Grid,
     TraceEngine, Window,
@@ -82,6 +83,9 @@ pub struct SweepAnalysis {
     pub warnings: Vec<Warning>,
     /// The window's coefficients over the sweep (for the compensation's band-weighted gain).
     pub window_w: Vec<f64>,
+    /// Each frequency in GHz and its square root, as [`super::chain::LossModel::db`] takes them (worked out
+    /// once for the compensation's band-weighted gains).
+    ghz: Vec<(f64, f64)>,
     /// With an amplifier in the sweep's path (this sweep or the other of its pair returned more power
     /// than it was sent): the gain the sweep was scaled down by before the analysis, dB. `None` for a passive line.
     pub path_gain_db: Option<f64>,
@@ -158,6 +162,8 @@ impl SweepAnalysis {
         let points = ((t_max / dt).ceil() as usize).max(4);
         let w = engine.window_coefficients(window, freqs.len());
         let w2: f64 = w.iter().map(|x| x * x).sum();
+        // The frequencies as the loss models take them, for every piece's compensation.
+        let ghz: Vec<(f64, f64)> = freqs.iter().map(|&f| ghz_basis(f)).collect();
 
         // Piece boundaries: where the modelled round-trip loss at the top of the band has grown by
         // PIECE_MAX_DB since the piece began, checked at PIECE_MAX_M steps and at every segment end.
@@ -204,7 +210,7 @@ impl SweepAnalysis {
             };
             let model = chain.loss_model_to(x_mid, which);
             let comp: Vec<Complex64> = if chain.compensates() {
-                chain.compensation_over(&model, freqs, MAX_COMPENSATION)
+                chain.compensation_over_basis(&model, &ghz, MAX_COMPENSATION)
             } else {
                 vec![Complex64::new(1.0, 0.0); freqs.len()]
             };
@@ -255,9 +261,10 @@ impl SweepAnalysis {
                     .map(|(x, turn)| x * turn)
                     .collect();
                 let h = engine.cache().apply(&plan, &shifted);
-                // |h| needs no carrier e^{+j 2 pi f0 t}: it has unit modulus.
+                // |h| needs no carrier e^{+j 2 pi f0 t}: it has unit modulus. (As the root of the squared
+                // modulus: a trace's values are far from over- and underflow, where `hypot` earns its cost.)
                 for (i, v) in (p.bins.0..p.bins.1).zip(h) {
-                    mag[i] = v.norm();
+                    mag[i] = v.norm_sqr().sqrt();
                     gain[i] = p.gain;
                 }
             }
@@ -280,6 +287,7 @@ impl SweepAnalysis {
             alias_free_s,
             warnings,
             window_w: w.to_vec(),
+            ghz,
             path_gain_db: None,
             scale_known: true,
             gates: OnceLock::new(),
@@ -316,11 +324,16 @@ impl SweepAnalysis {
     /// lifted, on average over the band as the window weighs it).
     fn weighted_gain(&self, m: &super::chain::LossModel, w: &[f64]) -> f64 {
         let w2: f64 = w.iter().map(|x| x * x).sum();
+        // 10^{L/20} at most MAX_COMPENSATION, as `ChainView::compensation_gain` gives it, with L as
+        // `LossModel::db` works it out from the frequency in GHz and its root.
         let g2: f64 = self
-            .freqs
+            .ghz
             .iter()
             .zip(w)
-            .map(|(&f, wn)| (wn * ChainView::compensation_gain(m, f, MAX_COMPENSATION)).powi(2))
+            .map(|(&(g, root), wn)| {
+                let db = m.a_sqrt * root + m.a_lin * g + m.a_flat;
+                (wn * (db / NEPER_DB).exp().min(MAX_COMPENSATION)).powi(2)
+            })
             .sum();
         (g2 / w2).sqrt()
     }
@@ -418,9 +431,13 @@ impl SweepAnalysis {
                 (r, g)
             }
         };
-        let f: Vec<f64> = self.freqs[range].to_vec();
+        let f: Vec<f64> = self.freqs[range.clone()].to_vec();
         let comp = if chain.compensates() {
-            chain.compensation_over(&chain.loss_model_to(x, which), &f, MAX_COMPENSATION)
+            chain.compensation_over_basis(
+                &chain.loss_model_to(x, which),
+                &self.ghz[range.clone()],
+                MAX_COMPENSATION,
+            )
         } else {
             vec![Complex64::new(1.0, 0.0); f.len()]
         };

@@ -302,22 +302,23 @@ impl ChainView {
     /// the loss, A sqrt(f) nepers, lags the phase by A sqrt(f) rad. The part of that lag linear in f about
     /// the delay reference frequency is already in the segments' group delays, so only the rest is undone.
     pub fn compensation(&self, m: &LossModel, f: f64, max_gain: f64) -> Complex64 {
-        let (ln_gain, phase) = self.compensation_exponent(m)(f);
+        let (ln_gain, phase) = self.compensation_exponent(m)(ghz_basis(f));
         Complex64::from_polar(ln_gain.exp().min(max_gain), phase)
     }
 
-    /// The exponent of [`Self::compensation`] before its cap, as a function of frequency: (L(f) / NEPER_DB,
-    /// phi(f)), log-amplitude in nepers and phase in radians.
-    fn compensation_exponent<'m>(&self, m: &'m LossModel) -> impl Fn(f64) -> (f64, f64) + 'm {
+    /// The exponent of [`Self::compensation`] before its cap, as a function of frequency given by its
+    /// [`ghz_basis`]: (L(f) / NEPER_DB, phi(f)), log-amplitude in nepers and phase in radians.
+    fn compensation_exponent<'m>(
+        &self,
+        m: &'m LossModel,
+    ) -> impl Fn((f64, f64)) -> (f64, f64) + 'm {
         let a_np = m.a_sqrt / NEPER_DB;
         let g_ref = (self.delay_reference_hz / 1e9).max(1e-9);
         // phi(g) = A sqrt(g); its tangent at g_ref has slope A / (2 sqrt(g_ref)).
         let slope = 1.0 / (2.0 * g_ref.sqrt());
         // L(f) as `LossModel::db` gives it, with the square root shared by both parts.
-        move |f| {
-            let g = f / 1e9;
+        move |(g, s)| {
             let gp = g.max(0.0);
-            let s = gp.sqrt();
             (
                 (m.a_sqrt * s + m.a_lin * g + m.a_flat) / NEPER_DB,
                 a_np * (s - gp * slope),
@@ -332,30 +333,54 @@ impl ChainView {
     /// afresh at every [`COMPENSATION_ANCHOR`]-th point and wherever the step is larger. Where the gain
     /// passes `max_gain` it is held there, as in [`Self::compensation`].
     pub fn compensation_over(&self, m: &LossModel, freqs: &[f64], max_gain: f64) -> Vec<Complex64> {
+        let basis: Vec<(f64, f64)> = freqs.iter().map(|&f| ghz_basis(f)).collect();
+        self.compensation_over_basis(m, &basis, max_gain)
+    }
+
+    /// [`Self::compensation_over`] on frequencies given by their [`ghz_basis`] (worked out once for a
+    /// sweep that is compensated many times).
+    pub fn compensation_over_basis(
+        &self,
+        m: &LossModel,
+        basis: &[(f64, f64)],
+        max_gain: f64,
+    ) -> Vec<Complex64> {
         let ln_cap = max_gain.ln();
         let exponent = self.compensation_exponent(m);
-        let mut out = Vec::with_capacity(freqs.len());
-        let mut last: Option<(Complex64, Complex64)> = None;
-        for (k, &f) in freqs.iter().enumerate() {
-            let (re, im) = exponent(f);
-            let e = Complex64::new(re, im);
-            let z = match last {
-                Some((e0, z0)) if k % COMPENSATION_ANCHOR != 0 => {
-                    let u = e - e0;
+        let es: Vec<Complex64> = basis
+            .iter()
+            .map(|&b| {
+                let (re, im) = exponent(b);
+                Complex64::new(re, im)
+            })
+            .collect();
+        // Three passes, so that only the running product waits on the point before: each point's step
+        // factor (or its exact value, where it is taken afresh), then the product, then the cap. The
+        // arithmetic is that of one pass point by point.
+        let mut afresh = vec![false; es.len()];
+        let mut out: Vec<Complex64> = es
+            .iter()
+            .enumerate()
+            .map(|(k, e)| {
+                if k > 0 && k % COMPENSATION_ANCHOR != 0 {
+                    let u = e - es[k - 1];
                     if u.norm_sqr() < COMPENSATION_STEP * COMPENSATION_STEP {
-                        z0 * exp_small(u)
-                    } else {
-                        Complex64::from_polar(re.exp(), im)
+                        return exp_small(u);
                     }
                 }
-                _ => Complex64::from_polar(re.exp(), im),
-            };
-            last = Some((e, z));
-            out.push(if re > ln_cap {
-                z * (ln_cap - re).exp()
-            } else {
-                z
-            });
+                afresh[k] = true;
+                Complex64::from_polar(e.re.exp(), e.im)
+            })
+            .collect();
+        for k in 1..out.len() {
+            if !afresh[k] {
+                out[k] = out[k - 1] * out[k];
+            }
+        }
+        for (z, e) in out.iter_mut().zip(&es) {
+            if e.re > ln_cap {
+                *z *= (ln_cap - e.re).exp();
+            }
         }
         out
     }
@@ -374,6 +399,12 @@ impl ChainView {
             .map(|s| (s, (0.5 * (s.start_m + s.end_m) - x).abs()))
             .min_by(|a, b| a.1.total_cmp(&b.1))
     }
+}
+
+/// A frequency `f` (Hz) as the loss models take it: (f in GHz, the square root of that, or 0 below zero).
+pub fn ghz_basis(f: f64) -> (f64, f64) {
+    let g = f / 1e9;
+    (g, g.max(0.0).sqrt())
 }
 
 /// Largest step of the compensation's exponent between neighbouring frequencies that

@@ -183,7 +183,7 @@ pub fn fit_loss(freqs: &[f64], gamma: &[num_complex::Complex64]) -> Option<(Loss
     let pts: Vec<(f64, f64)> = freqs
         .iter()
         .zip(gamma)
-        .map(|(&f, g)| (f, g.norm()))
+        .map(|(&f, g)| (f, g.norm_sqr().sqrt()))
         .filter(|&(_, m)| m > 1e-6)
         .map(|(f, m)| ((f / 1e9).max(0.0), 20.0 * m.log10()))
         .collect();

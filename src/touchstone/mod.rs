@@ -216,8 +216,14 @@ pub fn read_file(path: &Path) -> Result<Touchstone, TouchstoneError> {
         source,
     };
     let limit = crate::limits::MAX_SWEEP_FILE_BYTES;
-    let (file, _) = crate::limits::open_capped(path, limit, "sweep").map_err(io)?;
-    read_pieces(file, path, limit, READ_PIECE_BYTES)
+    let (file, size) = crate::limits::open_capped(path, limit, "sweep").map_err(io)?;
+    // A file smaller than a piece is read in one piece of its own size (and a byte more, to meet its end):
+    // a small sweep then takes a small buffer, which the allocator keeps for the next one, where a
+    // piece-sized buffer would be mapped, zeroed page by page and returned at every file.
+    let piece = size.map_or(READ_PIECE_BYTES, |n| {
+        (n as usize).saturating_add(1).min(READ_PIECE_BYTES)
+    });
+    read_pieces(file, path, limit, piece)
 }
 
 /// Size of the pieces [`read_file`] reads a file in, bytes (a few thousand lines of a sweep).
@@ -239,9 +245,9 @@ pub fn read_pieces(
         source,
     };
     let mut feed = parser::LineFeed::new(path);
-    // The bytes read and not yet parsed are `store[begin..end]`; the store is zeroed once, and grows only
-    // for a line longer than a piece.
-    let mut store: Vec<u8> = vec![0; 2 * piece];
+    // The bytes read and not yet parsed are `store[begin..end]`; the store starts at one piece and grows
+    // (zeroing only what it adds) to hold what is left of a line and the next piece.
+    let mut store: Vec<u8> = vec![0; piece];
     let (mut begin, mut end) = (0usize, 0usize);
     let mut total: u64 = 0;
     let mut eof = false;
