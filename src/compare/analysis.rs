@@ -23,6 +23,9 @@ use std::sync::OnceLock;
 /// start for the exact refinement).
 pub const POINTS_PER_RESOLUTION: f64 = 8.0;
 
+/// The piece transforms' outputs are planned in multiples of this many (see `SweepAnalysis::new`).
+pub const CHIRP_OUTPUT_QUANTUM: usize = 64;
+
 /// Half-width of the gate put round an event to fit its lumped model, in resolution cells.
 pub const GATE_HALF_WIDTH_CELLS: f64 = 2.5;
 
@@ -64,6 +67,7 @@ pub struct Piece {
 #[derive(Debug, Clone)]
 pub struct SweepAnalysis {
     pub freqs: Vec<f64>,
+    /// The sweep as analysed (read only: its echo gates keep its time response once made).
     pub s11: Vec<Complex64>,
     pub grid: Grid,
     /// Spacing of the analysis grid, which starts at zero delay, s.
@@ -242,11 +246,14 @@ impl SweepAnalysis {
         let mut gain = vec![1.0; points];
         // One chirp-z plan serves every piece: a piece starting at t_s is the same transform of the spectrum
         // turned by e^{+j 2 pi k df t_s}, so only the plan for t0 = 0 and the longest piece is built.
+        // Rounded up to a whole number of CHIRP_OUTPUT_QUANTUM outputs, so that sweeps of one grid whose
+        // lines differ a little in length share the plan (the outputs past a piece's end are not read).
         let longest = pieces
             .iter()
             .map(|p| p.bins.1 - p.bins.0)
             .max()
-            .unwrap_or(0);
+            .unwrap_or(0)
+            .next_multiple_of(CHIRP_OUTPUT_QUANTUM);
         if longest > 0 {
             let plan = engine
                 .cache()

@@ -253,8 +253,8 @@ pub const LAG_SEARCH_CELLS: f64 = 1.0;
 ///
 /// Both raw sweeps are gated with one gate, from [`GATE_HALF_WIDTH_CELLS`] before the earlier echo to as far
 /// behind the later one (the gate a single echo is read through, widened by the move), on the inner band
-/// ([`fit_band`]: [`super::analysis::FIT_BAND_EDGE`] dropped at each edge, where the gate's edge correction leaves the most error), and
-/// the lag is the maximum of the magnitude of their cross-correlation
+/// ([`fit_band`]: [`super::analysis::FIT_BAND_EDGE`] dropped at each edge, where the gate's edge correction
+/// leaves the most error), and the lag is the maximum of the magnitude of their cross-correlation
 /// `|sum_k Gc(f_k) conj(Gb(f_k)) e^{+j 2 pi f_k tau}|` within [`LAG_SEARCH_CELLS`] of `tc - tb`, placed by a
 /// grid of a sixty-fourth of a cell and three rounds of a three-point parabola.
 ///

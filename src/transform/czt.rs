@@ -97,13 +97,37 @@ pub struct ChirpZ {
 impl ChirpZ {
     /// Prepare for `n` inputs, `m` outputs, with `df_t0 = df * t0` and `df_dt = df * dt` (both in cycles).
     pub fn new(planner: &mut FftPlanner<f64>, n: usize, m: usize, df_t0: f64, df_dt: f64) -> Self {
+        let len = Self::length(n, m);
+        let (fwd, inv) = (planner.plan_fft_forward(len), planner.plan_fft_inverse(len));
+        Self::with_plans(fwd, inv, n, m, df_t0, df_dt)
+    }
+
+    /// The FFT length a chirp-z of `n` inputs and `m` outputs runs at.
+    pub fn length(n: usize, m: usize) -> usize {
         assert!(
             n > 0 && m > 0,
-            "ChirpZ::new: n = {n} and m = {m} must be positive"
+            "ChirpZ: n = {n} and m = {m} must be positive"
         );
-        let len = convolution_len(n + m - 1);
-        let fwd = planner.plan_fft_forward(len);
-        let inv = planner.plan_fft_inverse(len);
+        convolution_len(n + m - 1)
+    }
+
+    /// [`Self::new`] with its forward and inverse FFT plans given (of [`Self::length`]`(n, m)` points), so
+    /// that a planner shared between threads is held only while it plans.
+    pub fn with_plans(
+        fwd: Arc<dyn Fft<f64>>,
+        inv: Arc<dyn Fft<f64>>,
+        n: usize,
+        m: usize,
+        df_t0: f64,
+        df_dt: f64,
+    ) -> Self {
+        let len = Self::length(n, m);
+        assert!(
+            fwd.len() == len && inv.len() == len,
+            "ChirpZ::with_plans: plans of {} and {} points for a length of {len}",
+            fwd.len(),
+            inv.len()
+        );
         // W^{k^2/2} = e^{+j 2 pi df_dt k^2 / 2}.
         let chirp = |k: usize| {
             let k = k as f64;
@@ -245,10 +269,11 @@ impl FftCache {
         if let Some(c) = self.chirps.get(&key) {
             return c.clone();
         }
-        let c = {
-            let mut planner = shared_planner().lock().unwrap_or_else(|e| e.into_inner());
-            Arc::new(ChirpZ::new(&mut planner, n, m, df_t0, df_dt))
-        };
+        // The plans come from this cache (the shared planner is locked only to plan a new length); the
+        // chirps and the filter's transform are worked out unlocked.
+        let len = ChirpZ::length(n, m);
+        let (fwd, inv) = (self.plan(len, false), self.plan(len, true));
+        let c = Arc::new(ChirpZ::with_plans(fwd, inv, n, m, df_t0, df_dt));
         if self.chirps.len() >= MAX_CACHED_CHIRPS {
             self.chirps.clear();
         }

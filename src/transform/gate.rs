@@ -103,11 +103,6 @@ impl GateSource {
         })
     }
 
-    /// The padding factor this source serves.
-    pub fn padding(&self) -> usize {
-        self.padding
-    }
-
     /// The gate's samples for `plan`: each (m, w) with the shape's weight w != 0 at sample m of the padded
     /// record, after checking the plan against the record; and the warnings the plan earns.
     fn samples(&self, plan: &GatePlan) -> Result<(Vec<GateSample>, Vec<Warning>), TransformError> {
