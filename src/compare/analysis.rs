@@ -214,7 +214,7 @@ impl SweepAnalysis {
             };
             let model = chain.loss_model_to(x_mid, which);
             let comp: Vec<Complex64> = if chain.compensates() {
-                chain.compensation_over_basis(&model, &ghz, MAX_COMPENSATION)
+                chain.compensation_over(&model, &ghz, MAX_COMPENSATION)
             } else {
                 vec![Complex64::new(1.0, 0.0); freqs.len()]
             };
@@ -440,7 +440,7 @@ impl SweepAnalysis {
         };
         let f: Vec<f64> = self.freqs[range.clone()].to_vec();
         let comp = if chain.compensates() {
-            chain.compensation_over_basis(
+            chain.compensation_over(
                 &chain.loss_model_to(x, which),
                 &self.ghz[range.clone()],
                 MAX_COMPENSATION,

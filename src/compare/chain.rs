@@ -326,20 +326,14 @@ impl ChainView {
         }
     }
 
-    /// [`Self::compensation`] at every frequency of `freqs` (ascending), to a few parts in 1e15 of it.
+    /// [`Self::compensation`] at every frequency of a sweep (ascending), given by their [`ghz_basis`] (worked
+    /// out once for a sweep that is compensated many times), to a few parts in 1e15 of it.
     /// The factor is e^E with E = L(f) / NEPER_DB + j phi(f), whose real and imaginary parts are worked out
     /// exactly at every point; the exponential itself is carried from point to point as the previous one
     /// times e^{dE}, by a short Taylor series while the step dE is small ([`COMPENSATION_STEP`]), and taken
     /// afresh at every [`COMPENSATION_ANCHOR`]-th point and wherever the step is larger. Where the gain
     /// passes `max_gain` it is held there, as in [`Self::compensation`].
-    pub fn compensation_over(&self, m: &LossModel, freqs: &[f64], max_gain: f64) -> Vec<Complex64> {
-        let basis: Vec<(f64, f64)> = freqs.iter().map(|&f| ghz_basis(f)).collect();
-        self.compensation_over_basis(m, &basis, max_gain)
-    }
-
-    /// [`Self::compensation_over`] on frequencies given by their [`ghz_basis`] (worked out once for a
-    /// sweep that is compensated many times).
-    pub fn compensation_over_basis(
+    pub fn compensation_over(
         &self,
         m: &LossModel,
         basis: &[(f64, f64)],
@@ -517,7 +511,8 @@ mod tests {
                 a_lin,
                 a_flat,
             };
-            let fast = c.compensation_over(&m, &f, 100.0);
+            let basis: Vec<(f64, f64)> = f.iter().map(|&fk| ghz_basis(fk)).collect();
+            let fast = c.compensation_over(&m, &basis, 100.0);
             for (k, (&fk, z)) in f.iter().zip(&fast).enumerate() {
                 let exact = c.compensation(&m, fk, 100.0);
                 assert!(
