@@ -390,11 +390,12 @@ impl SweepAnalysis {
         which: Which,
         engine: &mut TraceEngine,
     ) -> Result<(Vec<f64>, Vec<Complex64>), CompareError> {
-        self.local_reflection_in(d, x, chain, which, engine, None)
+        self.local_reflection_low(d, x, chain, which, engine, usize::MAX)
     }
 
-    /// The first `points` values of [`Self::local_reflection`] (the bottom of its band), gated by direct
-    /// sums: for a few points far less work than the whole, and the same values to rounding.
+    /// The first `points` values of [`Self::local_reflection`] (the bottom of its band; all of it for
+    /// `usize::MAX`). Fewer points than the band holds are gated by direct sums: for a few points far less
+    /// work than the transforms, and the same values to rounding.
     pub fn local_reflection_low(
         &self,
         d: f64,
@@ -404,18 +405,6 @@ impl SweepAnalysis {
         engine: &mut TraceEngine,
         points: usize,
     ) -> Result<(Vec<f64>, Vec<Complex64>), CompareError> {
-        self.local_reflection_in(d, x, chain, which, engine, Some(points))
-    }
-
-    fn local_reflection_in(
-        &self,
-        d: f64,
-        x: f64,
-        chain: &ChainView,
-        which: Which,
-        engine: &mut TraceEngine,
-        first: Option<usize>,
-    ) -> Result<(Vec<f64>, Vec<Complex64>), CompareError> {
         let half = GATE_HALF_WIDTH_CELLS * self.resolution_s;
         // A gate inside the record whatever `d` is: an echo at the very end of the alias-free time (the port's
         // own echo wrapping round) gets a gate that ends at the record's end.
@@ -424,19 +413,18 @@ impl SweepAnalysis {
         let stop = (start + width).min(self.alias_free_s);
         let n = self.freqs.len();
         let band = fit_band(n);
-        let (range, gated) = match first {
-            None => (
+        let (range, gated) = if points >= band.len() {
+            (
                 band.clone(),
                 self.echo_gate(start, stop, engine)?[band].to_vec(),
-            ),
-            Some(p) => {
-                let r = band.start..(band.start + p).min(band.end);
-                let g = self
-                    .gate_source(engine)?
-                    .gate_bins(&echo_gate_plan(start, stop), r.clone())
-                    .map_err(CompareError::Transform)?;
-                (r, g)
-            }
+            )
+        } else {
+            let r = band.start..band.start + points;
+            let g = self
+                .gate_source(engine)?
+                .gate_bins(&echo_gate_plan(start, stop), r.clone())
+                .map_err(CompareError::Transform)?;
+            (r, g)
         };
         let f: Vec<f64> = self.freqs[range.clone()].to_vec();
         let comp = if chain.compensates() {
