@@ -61,6 +61,21 @@ pub struct Piece {
     pub spectrum: BandPassSpectrum,
     /// Window-weighted RMS amplitude gain of the compensation (noise grows by this much).
     pub gain: f64,
+    /// What the compensation undid: the modelled round trip and the chain's delay reference frequency, Hz
+    /// (`None` where nothing is compensated). A second analysis of the same sweep takes the piece's
+    /// spectrum from the first where these are the same ([`SweepAnalysis::again`]).
+    pub undone: Option<(super::chain::LossModel, f64)>,
+}
+
+/// Whether two pieces' compensations are the same, bit for bit.
+fn same_undone(
+    a: &Option<(super::chain::LossModel, f64)>,
+    b: &Option<(super::chain::LossModel, f64)>,
+) -> bool {
+    let bits = |u: &Option<(super::chain::LossModel, f64)>| {
+        u.map(|(m, r)| [m.a_sqrt, m.a_lin, m.a_flat, r].map(f64::to_bits))
+    };
+    bits(a) == bits(b)
 }
 
 /// One sweep's analysis.
@@ -135,6 +150,24 @@ impl SweepAnalysis {
         which: Which,
         engine: &mut TraceEngine,
     ) -> Result<Self, CompareError> {
+        Self::again(freqs, s11, window, t_max, chain, which, engine, None)
+    }
+
+    /// [`Self::new`], after an analysis `prior` of the same sweep (on a chain whose delays were since
+    /// moved, say): each piece whose compensation is the same as one of `prior`'s takes that piece's
+    /// compensated spectrum and gain instead of working them out again, and its trace too where it starts
+    /// at the same bin and the transforms' plan is the same. The result is the same, bit for bit.
+    #[allow(clippy::too_many_arguments)]
+    pub fn again(
+        freqs: &[f64],
+        s11: &[Complex64],
+        window: &Window,
+        t_max: f64,
+        chain: &ChainView,
+        which: Which,
+        engine: &mut TraceEngine,
+        prior: Option<&SweepAnalysis>,
+    ) -> Result<Self, CompareError> {
         if freqs.len() != s11.len() {
             return Err(CompareError::Transform(
                 crate::transform::TransformError::LengthMismatch {
@@ -193,6 +226,8 @@ impl SweepAnalysis {
         }
         let mut pieces = Vec::new();
         let w_sum: f64 = w.iter().sum();
+        let same_sweep = prior
+            .filter(|p| p.freqs == freqs && p.s11 == s11 && p.window_w[..] == w[..] && p.dt == dt);
         for (k, &x) in xs.iter().enumerate() {
             let first = if k == 0 {
                 0
@@ -213,24 +248,36 @@ impl SweepAnalysis {
                 None => x,
             };
             let model = chain.loss_model_to(x_mid, which);
-            let comp: Vec<Complex64> = if chain.compensates() {
-                chain.compensation_over(&model, &ghz, MAX_COMPENSATION)
-            } else {
-                vec![Complex64::new(1.0, 0.0); freqs.len()]
+            let undone = chain
+                .compensates()
+                .then_some((model, chain.delay_reference_hz));
+            // The prior analysis' piece of the same compensation, when it analysed the same sweep.
+            let kept =
+                same_sweep.and_then(|p| p.pieces.iter().find(|q| same_undone(&q.undone, &undone)));
+            let (weighted, gain) = match kept {
+                Some(q) => (q.spectrum.weighted.clone(), q.gain),
+                None => {
+                    let comp: Vec<Complex64> = if chain.compensates() {
+                        chain.compensation_over(&model, &ghz, MAX_COMPENSATION)
+                    } else {
+                        vec![Complex64::new(1.0, 0.0); freqs.len()]
+                    };
+                    let gain = (w
+                        .iter()
+                        .zip(&comp)
+                        .map(|(wn, c)| wn * wn * c.norm_sqr())
+                        .sum::<f64>()
+                        / w2)
+                        .sqrt();
+                    let weighted: Vec<Complex64> = s11
+                        .iter()
+                        .zip(&comp)
+                        .zip(w.iter())
+                        .map(|((g, c), wn)| g * c * (wn / w_sum))
+                        .collect();
+                    (weighted, gain)
+                }
             };
-            let gain = (w
-                .iter()
-                .zip(&comp)
-                .map(|(wn, c)| wn * wn * c.norm_sqr())
-                .sum::<f64>()
-                / w2)
-                .sqrt();
-            let weighted: Vec<Complex64> = s11
-                .iter()
-                .zip(&comp)
-                .zip(w.iter())
-                .map(|((g, c), wn)| g * c * (wn / w_sum))
-                .collect();
             let spectrum = BandPassSpectrum {
                 start_hz: grid.start_hz,
                 step_hz: grid.step_hz,
@@ -240,6 +287,7 @@ impl SweepAnalysis {
                 bins: (first, last),
                 spectrum,
                 gain,
+                undone,
             });
         }
         let mut mag = vec![0.0; points];
@@ -258,7 +306,30 @@ impl SweepAnalysis {
             let plan = engine
                 .cache()
                 .chirp_z(freqs.len(), longest, 0.0, grid.step_hz * dt);
+            // A piece that the prior analysis of the same sweep transformed alike (the same compensation
+            // from the same first bin, on a plan of as many outputs) and at least as far: its trace is
+            // the prior's.
+            let longest_of = |ps: &[Piece]| {
+                ps.iter()
+                    .map(|p| p.bins.1 - p.bins.0)
+                    .max()
+                    .unwrap_or(0)
+                    .next_multiple_of(CHIRP_OUTPUT_QUANTUM)
+            };
+            let transformed = same_sweep.filter(|a| longest_of(&a.pieces) == longest);
             for p in &pieces {
+                let done = transformed.filter(|a| {
+                    a.pieces.iter().any(|q| {
+                        same_undone(&q.undone, &p.undone)
+                            && q.bins.0 == p.bins.0
+                            && q.bins.1 >= p.bins.1
+                    })
+                });
+                if let Some(a) = done {
+                    mag[p.bins.0..p.bins.1].copy_from_slice(&a.mag[p.bins.0..p.bins.1]);
+                    gain[p.bins.0..p.bins.1].fill(p.gain);
+                    continue;
+                }
                 let t_s = p.bins.0 as f64 * dt;
                 let shifted: Vec<Complex64> = p
                     .spectrum

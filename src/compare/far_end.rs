@@ -190,23 +190,34 @@ pub fn fit_loss(freqs: &[f64], gamma: &[num_complex::Complex64]) -> Option<(Loss
     if pts.len() < 8 {
         return None;
     }
-    // Columns: 1, -sqrt(g), -g. The normal equations accumulated point by point, as `least_squares` does.
-    let solve = |cols: &[fn(f64) -> f64]| -> Option<Vec<f64>> {
-        let n = cols.len();
-        let mut a = vec![vec![0.0; n + 1]; n];
-        let mut row = [0.0; 3];
-        for &(g, y) in &pts {
-            for (r, c) in row.iter_mut().zip(cols) {
-                *r = c(g);
+    // Columns: 1, -sqrt(g), -g. The augmented normal equations of all three columns accumulated point by
+    // point in one pass, as `least_squares` would (`sums[i][j]`, right-hand sides in `sums[i][3]`); a fit
+    // on two of the columns takes its equations from them (the same sums, in the same order).
+    let mut sums = [[0.0f64; 4]; 3];
+    for &(g, y) in &pts {
+        let row = [1.0, -g.sqrt(), -g];
+        for i in 0..3 {
+            if row[i] == 0.0 {
+                continue;
             }
-            super::align::add_row(&mut a, &row[..n], y);
+            for j in i..3 {
+                sums[i][j] += row[i] * row[j];
+            }
+            sums[i][3] += row[i] * y;
         }
+    }
+    let solve = |cols: &[usize]| -> Option<Vec<f64>> {
+        let a = cols
+            .iter()
+            .map(|&i| {
+                let mut r: Vec<f64> = cols.iter().map(|&j| sums[i.min(j)][i.max(j)]).collect();
+                r.push(sums[i][3]);
+                r
+            })
+            .collect();
         super::align::solve_normal(a)
     };
-    let one: fn(f64) -> f64 = |_| 1.0;
-    let sq: fn(f64) -> f64 = |g| -g.sqrt();
-    let lin: fn(f64) -> f64 = |g| -g;
-    let mut p = solve(&[one, sq, lin])?;
+    let mut p = solve(&[0, 1, 2])?;
     let model = if p[1] >= 0.0 && p[2] >= 0.0 {
         LossModel {
             a_sqrt: p[1],
@@ -214,14 +225,14 @@ pub fn fit_loss(freqs: &[f64], gamma: &[num_complex::Complex64]) -> Option<(Loss
             a_flat: 0.0,
         }
     } else if p[1] < 0.0 {
-        p = solve(&[one, lin])?;
+        p = solve(&[0, 2])?;
         LossModel {
             a_sqrt: 0.0,
             a_lin: p[1].max(0.0),
             a_flat: 0.0,
         }
     } else {
-        p = solve(&[one, sq])?;
+        p = solve(&[0, 1])?;
         LossModel {
             a_sqrt: p[1].max(0.0),
             a_lin: 0.0,

@@ -165,8 +165,9 @@ pub struct ModelFit {
 ///
 /// The residual delay is searched on a grid of 0.5 rad of phase at the top frequency, then refined by Brent's
 /// method; at each delay, a series resistance's or an impedance step's value in closed form, a reactive
-/// model's on a log grid then by Brent's method (near the previous delay's best value once there is one;
-/// over the whole range again at the delay chosen).
+/// model's on a log grid then by Brent's method (on the grid, near the previous delay's best value once
+/// there is one; while the delay is refined, near the best delay's value so far; over the whole range again
+/// at the delay chosen).
 pub fn fit_all(freqs: &[f64], gamma: &[Complex64], z0: f64, max_delta_s: f64) -> Vec<ModelFit> {
     assert_eq!(
         freqs.len(),
@@ -456,16 +457,29 @@ fn fit_one(m: ModelType, turner: &Turner, z0: f64, max_delta: f64, norm: f64) ->
         }
     }
     if n > 0 {
-        let near = Some(best.1);
+        // Each delay's value is searched near the best delay's so far (the delays tried close in on one
+        // another, and so do their values); every delay tried is kept with its value.
+        let least = std::cell::Cell::new(best);
         let (d, r) = brent_min(
             best.0 - step,
             best.0 + step,
             0.5 * GOLDEN_SHRINK_30 * 2.0 * step,
-            |d| at_delay(d, near, GOLDEN_SHRINK_30).1,
+            |d| {
+                let (v, r) = at_delay(d, Some(least.get().1), GOLDEN_SHRINK_30);
+                if r < least.get().2 {
+                    least.set((d, v, r));
+                }
+                r
+            },
         );
+        let kept = least.get();
         if r < best.2 {
-            let (v, r) = at_delay(d, near, GOLDEN_SHRINK_30);
-            best = (d, v, r);
+            best = if kept.0 == d && kept.2 == r {
+                kept
+            } else {
+                let (v, r) = at_delay(d, Some(kept.1), GOLDEN_SHRINK_30);
+                (d, v, r)
+            };
         }
     }
     // The value at the delay chosen, searched over the whole range: what the hints found is kept only if

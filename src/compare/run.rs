@@ -83,12 +83,13 @@ pub fn analyse_pair(
     );
     // An amplifier that shows in one sweep of the line is in the other's path too.
     let mut amplified = shows_gain(baseline)? || shows_gain(current)?;
-    let analyse =
-        |sweep: &Sweep,
-         chain: &ChainView,
-         which: Which,
-         engine: &mut TraceEngine,
-         amplified: bool| { analyse_through(sweep, chain, cfg, which, engine, amplified) };
+    let analyse = |sweep: &Sweep,
+                   chain: &ChainView,
+                   which: Which,
+                   engine: &mut TraceEngine,
+                   amplified: bool| {
+        analyse_through(sweep, chain, cfg, which, engine, amplified, None)
+    };
     let mut b = analyse(baseline, &chain, Which::Baseline, engine, amplified)?;
     // The line file's joints pinned where the baseline shows them, and the baseline analysed again on them.
     let anchors = super::anchor::find(&chain, &b, Which::Baseline);
@@ -104,7 +105,16 @@ pub fn analyse_pair(
     if !anchors.is_empty() {
         chain = super::anchor::anchored(&chain, &anchors, Which::Baseline);
         if super::anchor::worth_reanalysing(&anchors, b.resolution_s) {
-            b = analyse(baseline, &chain, Which::Baseline, engine, amplified)?;
+            // The anchors move delays, not losses: the pieces' compensations are the first analysis'.
+            b = analyse_through(
+                baseline,
+                &chain,
+                cfg,
+                Which::Baseline,
+                engine,
+                amplified,
+                Some(&b),
+            )?;
         }
     }
     let mut c = analyse(current, &chain, Which::Current, engine, amplified)?;

@@ -51,7 +51,7 @@ pub fn analyse(
     engine: &mut TraceEngine,
 ) -> Result<SweepAnalysis, CompareError> {
     let amplified = shows_gain(sweep)?;
-    analyse_through(sweep, chain, cfg, which, engine, amplified)
+    analyse_through(sweep, chain, cfg, which, engine, amplified, None)
 }
 
 /// Power a passive line may return, band-averaged, over what it is sent, dB: at most all of it (0 dB). A
@@ -99,7 +99,8 @@ pub const GAIN_SCALE_UNKNOWN_NOTE: &str =
     " (the amplifier in the path leaves the reflection's size unknown: the cost is not known)";
 
 /// [`analyse`], told whether an amplifier lies in the sweep's path (`amplified`: this sweep or the other of
-/// its pair returned more power than it was sent; the same amplifier is in both).
+/// its pair returned more power than it was sent; the same amplifier is in both), and given an earlier
+/// analysis of the same sweep whose compensated pieces it may take ([`SweepAnalysis::again`]).
 pub fn analyse_through(
     sweep: &Sweep,
     chain: &ChainView,
@@ -107,13 +108,14 @@ pub fn analyse_through(
     which: Which,
     engine: &mut TraceEngine,
     amplified: bool,
+    prior: Option<&SweepAnalysis>,
 ) -> Result<SweepAnalysis, CompareError> {
     let mut s = s11_of(sweep)?;
     let f = &sweep.network.freqs_hz;
     let res0 = super::analysis::lobe_shape(&cfg.window, f[f.len() - 1] - f[0]).1;
     let t_end = t_max(chain, which, res0);
     let run = |s: &[Complex64], engine: &mut TraceEngine| {
-        SweepAnalysis::new(f, s, &cfg.window, t_end, chain, which, engine)
+        SweepAnalysis::again(f, s, &cfg.window, t_end, chain, which, engine, prior)
     };
     if !amplified {
         return run(&s, engine);
