@@ -404,13 +404,21 @@ impl SweepAnalysis {
         let w2: f64 = w.iter().map(|x| x * x).sum();
         // 10^{L/20} at most MAX_COMPENSATION, as `ChainView::compensation_gain` gives it, with L as
         // `LossModel::db` works it out from the frequency in GHz and its root.
+        // Well past the cap's exponent the exponential is not needed: the factor is the cap.
+        let past_cap = MAX_COMPENSATION.ln() * (1.0 + 1e-9) + 1e-9;
         let g2: f64 = self
             .ghz
             .iter()
             .zip(w)
             .map(|(&(g, root), wn)| {
                 let db = m.a_sqrt * root + m.a_lin * g + m.a_flat;
-                (wn * (db / NEPER_DB).exp().min(MAX_COMPENSATION)).powi(2)
+                let x = db / NEPER_DB;
+                let factor = if x > past_cap {
+                    MAX_COMPENSATION
+                } else {
+                    x.exp().min(MAX_COMPENSATION)
+                };
+                (wn * factor).powi(2)
             })
             .sum();
         (g2 / w2).sqrt()

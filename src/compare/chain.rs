@@ -341,39 +341,49 @@ impl ChainView {
     ) -> Vec<Complex64> {
         let ln_cap = max_gain.ln();
         let exponent = self.compensation_exponent(m);
-        let es: Vec<Complex64> = basis
-            .iter()
-            .map(|&b| {
-                let (re, im) = exponent(b);
-                Complex64::new(re, im)
-            })
-            .collect();
-        // Three passes, so that only the running product waits on the point before: each point's step
-        // factor (or its exact value, where it is taken afresh), then the product, then the cap. The
-        // arithmetic is that of one pass point by point.
-        let mut afresh = vec![false; es.len()];
-        let mut out: Vec<Complex64> = es
-            .iter()
-            .enumerate()
-            .map(|(k, e)| {
-                if k > 0 && k % COMPENSATION_ANCHOR != 0 {
-                    let u = e - es[k - 1];
-                    if u.norm_sqr() < COMPENSATION_STEP * COMPENSATION_STEP {
-                        return exp_small(u);
-                    }
-                }
+        let n = basis.len();
+        // The exponent's real and imaginary parts apart, so that the passes over them vectorise.
+        let (mut e_re, mut e_im) = (vec![0.0; n], vec![0.0; n]);
+        for ((&b, re), im) in basis.iter().zip(&mut e_re).zip(&mut e_im) {
+            (*re, *im) = exponent(b);
+        }
+        // Passes, so that only the running product waits on the point before: each point's step factor
+        // e^{dE} by the series (at every point, with no branch), then the exact value where it is taken
+        // afresh (every COMPENSATION_ANCHOR-th point and wherever the step is large), then the product,
+        // then the cap. The arithmetic at each point is that of one pass point by point.
+        let mut out = vec![Complex64::new(0.0, 0.0); n];
+        for ((re, im), z) in e_re.windows(2).zip(e_im.windows(2)).zip(&mut out[1..]) {
+            let (a, b) = exp_small(re[1] - re[0], im[1] - im[0]);
+            *z = Complex64::new(a, b);
+        }
+        let mut afresh = vec![false; n];
+        for k in 0..n {
+            let fresh = k == 0 || k % COMPENSATION_ANCHOR == 0 || {
+                let u = Complex64::new(e_re[k] - e_re[k - 1], e_im[k] - e_im[k - 1]);
+                u.norm_sqr() >= COMPENSATION_STEP * COMPENSATION_STEP
+            };
+            if fresh {
                 afresh[k] = true;
-                Complex64::from_polar(e.re.exp(), e.im)
-            })
-            .collect();
-        for k in 1..out.len() {
-            if !afresh[k] {
-                out[k] = out[k - 1] * out[k];
+                out[k] = Complex64::from_polar(e_re[k].exp(), e_im[k]);
             }
         }
-        for (z, e) in out.iter_mut().zip(&es) {
-            if e.re > ln_cap {
-                *z *= (ln_cap - e.re).exp();
+        // Every COMPENSATION_ANCHOR-th point starts afresh, so the blocks between are independent
+        // products: PRODUCT_LANES blocks are carried at once, each step of each in its own order (a single
+        // product waits on the latency of every multiplication).
+        let blocks = n.div_ceil(COMPENSATION_ANCHOR);
+        for first in (0..blocks).step_by(PRODUCT_LANES) {
+            for t in 1..COMPENSATION_ANCHOR {
+                for j in first..(first + PRODUCT_LANES).min(blocks) {
+                    let k = j * COMPENSATION_ANCHOR + t;
+                    if k < n && !afresh[k] {
+                        out[k] = out[k - 1] * out[k];
+                    }
+                }
+            }
+        }
+        for (z, &re) in out.iter_mut().zip(&e_re) {
+            if re > ln_cap {
+                *z *= (ln_cap - re).exp();
             }
         }
         out
@@ -410,9 +420,15 @@ pub const COMPENSATION_STEP: f64 = 0.02;
 /// rounding, 1e-16).
 pub const COMPENSATION_ANCHOR: usize = 32;
 
-/// e^u for |u| at most [`COMPENSATION_STEP`]: its Taylor series to sixth order, sum_{n<=6} u^n / n!, by
-/// Horner's rule on the coefficients 1/n! (no division).
-fn exp_small(u: Complex64) -> Complex64 {
+/// Blocks of [`COMPENSATION_ANCHOR`] points whose running products [`ChainView::compensation_over`] carries
+/// at once.
+const PRODUCT_LANES: usize = 4;
+
+/// e^u for |u| at most [`COMPENSATION_STEP`], u = `re` + j `im`: its Taylor series to sixth order,
+/// sum_{n<=6} u^n / n!, by Horner's rule on the coefficients 1/n! (no division), in real arithmetic (the
+/// products and sums of complex arithmetic written out, so that a loop over points vectorises). As (re, im).
+#[inline(always)]
+fn exp_small(re: f64, im: f64) -> (f64, f64) {
     const INV_FACTORIAL: [f64; 7] = [
         1.0,
         1.0,
@@ -422,11 +438,11 @@ fn exp_small(u: Complex64) -> Complex64 {
         1.0 / 120.0,
         1.0 / 720.0,
     ];
-    let mut p = Complex64::new(INV_FACTORIAL[6], 0.0);
+    let (mut pr, mut pi) = (INV_FACTORIAL[6], 0.0);
     for &c in INV_FACTORIAL[..6].iter().rev() {
-        p = p * u + c;
+        (pr, pi) = (pr * re - pi * im + c, pr * im + pi * re);
     }
-    p
+    (pr, pi)
 }
 
 #[cfg(test)]
