@@ -128,21 +128,29 @@ impl ChirpZ {
             fwd.len(),
             inv.len()
         );
-        // W^{k^2/2} = e^{+j 2 pi df_dt k^2 / 2}.
-        let chirp = |k: usize| {
-            let k = k as f64;
-            cis_cycles(0.5 * df_dt * k * k)
-        };
-        let pre = (0..n)
-            .map(|i| cis_cycles(df_t0 * i as f64) * chirp(i))
+        // W^{k^2/2} = e^{+j 2 pi df_dt k^2 / 2}, worked out once for every k the plan uses.
+        let chirp: Vec<Complex64> = (0..n.max(m))
+            .map(|k| {
+                let k = k as f64;
+                cis_cycles(0.5 * df_dt * k * k)
+            })
             .collect();
-        let post = (0..m).map(chirp).collect();
+        // A^i = e^{+j 2 pi df_t0 i} (exactly 1 for a transform from t0 = 0, as `cis_cycles(0)` gives it).
+        let start = |i: usize| {
+            if df_t0 == 0.0 {
+                Complex64::new(1.0, 0.0)
+            } else {
+                cis_cycles(df_t0 * i as f64)
+            }
+        };
+        let pre = (0..n).map(|i| start(i) * chirp[i]).collect();
+        let post = chirp[..m].to_vec();
         let mut filter = vec![Complex64::new(0.0, 0.0); len];
-        for (k, v) in filter.iter_mut().enumerate().take(m) {
-            *v = chirp(k).conj();
+        for (v, c) in filter.iter_mut().zip(&chirp[..m]) {
+            *v = c.conj();
         }
         for k in 1..n {
-            filter[len - k] = chirp(k).conj();
+            filter[len - k] = chirp[k].conj();
         }
         fwd.process(&mut filter);
         let scale = 1.0 / len as f64;
