@@ -40,11 +40,10 @@ pub fn golden_min(mut a: f64, mut b: f64, tol: f64, f: impl Fn(f64) -> f64) -> f
 /// A minimum at an end of the bracket, which the method approaches only geometrically (some thirty steps
 /// for a bracket of 1e6 tolerances), is checked for once, after [`EDGE_PROBE_AFTER`] evaluations, if the
 /// least point lies within [`EDGE_SHARE`] of the bracket from an end that has not moved: `f` at one and at
-/// three tolerances inside
-/// the end. On a unimodal `f`, the first no greater than the second puts the minimum within three
-/// tolerances of the end, and the point one tolerance inside it is returned (when it is the least point
-/// found), as close to the minimum as the method's own stopping rule leaves its answer. Otherwise the
-/// search goes on as if the check had not been made.
+/// three tolerances inside the end. On a unimodal `f`, the first no greater than the second puts the
+/// minimum within three tolerances of the end, and the point one tolerance inside it is returned (when it is
+/// the least point found), as close to the minimum as the method's own stopping rule leaves its answer.
+/// Otherwise the search goes on as if the check had not been made.
 pub fn brent_min(a: f64, b: f64, tol: f64, f: impl Fn(f64) -> f64) -> (f64, f64) {
     /// (3 - sqrt 5)/2, the golden section's smaller part.
     const CGOLD: f64 = 0.381_966_011_250_105_1;

@@ -458,7 +458,7 @@ fn fit_one(m: ModelType, turner: &Turner, z0: f64, max_delta: f64, norm: f64) ->
     }
     if n > 0 {
         // Each delay's value is searched near the best delay's so far (the delays tried close in on one
-        // another, and so do their values); every delay tried is kept with its value.
+        // another, and so do their values), and the best delay tried is kept with its value.
         let least = std::cell::Cell::new(best);
         let (d, r) = brent_min(
             best.0 - step,
