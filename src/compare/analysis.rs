@@ -257,10 +257,9 @@ impl SweepAnalysis {
             let (weighted, gain) = match kept {
                 Some(q) => (q.spectrum.weighted.clone(), q.gain),
                 None => {
-                    let comp: Vec<Complex64> = if chain.compensates() {
-                        chain.compensation_over(&model, &ghz, MAX_COMPENSATION)
-                    } else {
-                        vec![Complex64::new(1.0, 0.0); freqs.len()]
+                    let comp: Vec<Complex64> = match undone {
+                        Some(_) => chain.compensation_over(&model, &ghz, MAX_COMPENSATION),
+                        None => vec![Complex64::new(1.0, 0.0); freqs.len()],
                     };
                     let gain = (w
                         .iter()
