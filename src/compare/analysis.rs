@@ -566,12 +566,22 @@ pub const FIT_MAX_DELAY_CELLS: f64 = 0.15;
 /// signal. Elements needing more are reported as not visible.
 pub const MAX_COMPENSATION: f64 = 100.0;
 
-/// Sub-bin refinement on the exact response: two Newton steps on |h|^2 from the grid's estimate, each on
-/// h and its first two derivatives from one pass over the spectrum
-/// ([`BandPassSpectrum::eval_derivatives`]); the peak's height from the second-order expansion at the last
-/// pass. Near its top the main lobe is smooth and nearly quadratic, so from within a bin two steps place
-/// the peak to far under a femtosecond. Where a step would not land on a maximum within a bin (a shoulder,
-/// noise), [`refine_by_parabolas`] takes over.
+/// Newton step, in analysis-grid bins, after which [`refine_exact`] takes no second step. Near a simple
+/// maximum Newton's method converges quadratically: what a step leaves is of the order of its square over
+/// the main lobe's width (eight bins), about 1e-5 of a bin after a step of a hundredth (a fraction of a
+/// femtosecond on the bench's grids), where a second pass over the spectrum would only confirm it. On the
+/// survey bench, dropping the second step there moved positions by at most 2 nm and every figure in dB by
+/// under 1e-8 dB; most first steps from the grid's parabola are between a thousandth and a hundredth of a
+/// bin (of the survey bench's 1190 placements, 12 % skip the second pass at a thousandth, 76 % at a
+/// hundredth).
+pub const SETTLED_STEP_BINS: f64 = 1e-2;
+
+/// Sub-bin refinement on the exact response: Newton steps on |h|^2 from the grid's estimate, each on h and
+/// its first two derivatives from one pass over the spectrum ([`BandPassSpectrum::eval_derivatives`]);
+/// the peak's height from the second-order expansion at the last pass. Near its top the main lobe is
+/// smooth and nearly quadratic, so from within a bin two steps place the peak to far under a femtosecond,
+/// and one does where it moves the estimate by at most [`SETTLED_STEP_BINS`]. Where a step would not land
+/// on a maximum within a bin (a shoulder, noise), [`refine_by_parabolas`] takes over.
 pub fn refine_exact(spectrum: &BandPassSpectrum, t: f64, dt: f64) -> (f64, f64) {
     let mut tm = t;
     let mut height = 0.0;
@@ -588,6 +598,9 @@ pub fn refine_exact(spectrum: &BandPassSpectrum, t: f64, dt: f64) -> (f64, f64) 
         }
         tm += step;
         height = (f0 + f1 * step + 0.5 * f2 * step * step).max(0.0).sqrt();
+        if step.abs() <= SETTLED_STEP_BINS * dt {
+            break;
+        }
     }
     (tm, height)
 }

@@ -574,24 +574,25 @@ pub(super) fn model_signatures(
     let mut out = Vec::new();
     let (lo, hi) = (a.freqs[0], a.freqs[a.freqs.len() - 1]);
     let f_ref = 0.5 * (lo + hi);
-    let chains = [
-        ChainView::from_line(line, State::Warm, State::Warm, lo, hi, f_ref),
-        ChainView::from_line(line, State::Cold, State::Cold, lo, hi, f_ref),
-    ];
+    // Both models in one chain: the baseline's side warm, the current's cold (each side is worked out from
+    // its own state alone).
+    let models = ChainView::from_line(line, State::Warm, State::Cold, lo, hi, f_ref);
+    let (warm, cold) = (Which::Baseline, Which::Current);
     // The echo delays are not read against the models: the band-pass peak of an uncompensated, dispersive
     // echo sits a fraction of a percent off the model's group delay, as much as the warm-to-cold change
     // itself, so it cannot vote.
-    let warm = &chains[0];
-    let cold = &chains[1];
     // Loss: an open or short far end, against each model's round-trip loss law to it.
-    if let Some(t) = far_end::find(a, warm, Which::Baseline, engine)?.filter(|t| t.total) {
-        let x = warm.position_of(t.delay_s, Which::Baseline, None);
+    if let Some(t) = far_end::find(a, &models, warm, engine)?.filter(|t| t.total) {
+        let x = models.position_of(t.delay_s, warm, None);
         let uni = ChainView::uniform("", 0.7, 1.0, 50.0);
         let (f, g) = a.local_reflection(t.delay_s, x, &uni, Which::Baseline, engine)?;
         if let Some((meas, _)) = far_end::fit_loss(&f, &g) {
             let fm = f[f.len() / 2];
             let l_meas = meas.db(fm);
-            let (l_w, l_c) = (conductor_loss_db(warm, fm), conductor_loss_db(cold, fm));
+            let (l_w, l_c) = (
+                conductor_loss_db(&models, fm, warm),
+                conductor_loss_db(&models, fm, cold),
+            );
             if l_w > 0.5 && l_c > 0.0 {
                 // Compare in the log domain: the model's losses are known to about 30 %.
                 let v = (l_meas.max(1e-3) / l_w).ln();
@@ -619,9 +620,9 @@ pub(super) fn model_signatures(
 
 /// Round-trip conductor loss of `chain` (one state's) to its visible end at `f`, dB: the modelled loss less
 /// the attenuators' flat part.
-fn conductor_loss_db(chain: &ChainView, f: f64) -> f64 {
+fn conductor_loss_db(chain: &ChainView, f: f64, which: Which) -> f64 {
     let end = chain.visible_end_m();
-    chain.loss_to_db(end, f, Which::Baseline) - chain.loss_model_to(end, Which::Baseline).a_flat
+    chain.loss_to_db(end, f, which) - chain.loss_model_to(end, which).a_flat
 }
 
 /// Factor by which the line model's ratio of cold to warm conductor loss may be off either way when the
@@ -682,9 +683,13 @@ pub fn check_loss_ratio(signatures: &mut [Signature], cold_over_warm: f64) {
 pub fn model_cold_over_warm(a: &SweepAnalysis, line: &Line) -> Option<f64> {
     let (lo, hi) = (a.freqs[0], a.freqs[a.freqs.len() - 1]);
     let f = 0.5 * (lo + hi);
-    let warm = ChainView::from_line(line, State::Warm, State::Warm, lo, hi, f);
-    let cold = ChainView::from_line(line, State::Cold, State::Cold, lo, hi, f);
-    let (l_w, l_c) = (conductor_loss_db(&warm, f), conductor_loss_db(&cold, f));
+    // One chain holds both states: the baseline's side warm, the current's cold (each side is worked out
+    // from its own state alone).
+    let chain = ChainView::from_line(line, State::Warm, State::Cold, lo, hi, f);
+    let (l_w, l_c) = (
+        conductor_loss_db(&chain, f, Which::Baseline),
+        conductor_loss_db(&chain, f, Which::Current),
+    );
     (l_w > 0.0 && l_c > 0.0).then(|| l_c / l_w)
 }
 
