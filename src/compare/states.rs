@@ -618,8 +618,8 @@ pub(super) fn model_signatures(
     Ok(out)
 }
 
-/// Round-trip conductor loss of `chain` (one state's) to its visible end at `f`, dB: the modelled loss less
-/// the attenuators' flat part.
+/// Round-trip conductor loss of one side (`which`) of `chain` to its visible end at `f`, dB: the modelled
+/// loss less the attenuators' flat part, in the state that side was built for.
 fn conductor_loss_db(chain: &ChainView, f: f64, which: Which) -> f64 {
     let end = chain.visible_end_m();
     chain.loss_to_db(end, f, which) - chain.loss_model_to(end, which).a_flat
