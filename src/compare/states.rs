@@ -172,30 +172,27 @@ pub(super) fn quick_analyses(
     window: &Window,
     engine: &mut TraceEngine,
 ) -> Option<(SweepAnalysis, SweepAnalysis)> {
-    let alias = |n: &Network| (n.len() - 1) as f64 / (n.freqs_hz[n.len() - 1] - n.freqs_hz[0]);
-    let t = alias(b).min(alias(c));
-    let uni = ChainView::uniform("", 0.7, 1.0, 50.0);
-    let ab = SweepAnalysis::new(
-        &b.freqs_hz,
-        &b.s11(),
-        window,
-        t,
-        &uni,
-        Which::Baseline,
-        engine,
-    )
-    .ok()?;
-    let ac = SweepAnalysis::new(
-        &c.freqs_hz,
-        &c.s11(),
-        window,
-        t,
-        &uni,
-        Which::Current,
-        engine,
-    )
-    .ok()?;
+    let t = alias_free_s(b).min(alias_free_s(c));
+    let ab = quick_analysis(b, t, Which::Baseline, window, engine)?;
+    let ac = quick_analysis(c, t, Which::Current, window, engine)?;
     Some((ab, ac))
+}
+
+/// A sweep's alias-free round-trip time, s: (points - 1) over its span.
+fn alias_free_s(n: &Network) -> f64 {
+    (n.len() - 1) as f64 / (n.freqs_hz[n.len() - 1] - n.freqs_hz[0])
+}
+
+/// One sweep analysed as a uniform, uncompensated line up to round-trip delay `t`.
+fn quick_analysis(
+    n: &Network,
+    t: f64,
+    which: Which,
+    window: &Window,
+    engine: &mut TraceEngine,
+) -> Option<SweepAnalysis> {
+    let uni = ChainView::uniform("", 0.7, 1.0, 50.0);
+    SweepAnalysis::new(&n.freqs_hz, &n.s11(), window, t, &uni, which, engine).ok()
 }
 
 /// The pair signatures from two uncompensated analyses.
@@ -822,7 +819,7 @@ pub fn decide_single(
     window: &Window,
 ) -> Result<(State, String, Option<f64>), CompareError> {
     let mut engine = TraceEngine::new();
-    let Some((a, _)) = quick_analyses(n, n, window, &mut engine) else {
+    let Some(a) = quick_analysis(n, alias_free_s(n), Which::Baseline, window, &mut engine) else {
         return Ok((State::Cold, "no echo was found; taken as cold".into(), None));
     };
     let sigs = model_signatures(&a, line, "current", &mut engine)?;
