@@ -131,9 +131,19 @@ pub fn decide_pair_states(
 ) -> Result<(StateReport, Vec<Hypothesis>)> {
     let mut signatures = Vec::new();
     let both_given = given.0.is_some() && given.1.is_some();
-    if let Some((ab, ac)) = quick_analyses(nb, nc, &cfg.window, engine) {
+    // The line file's warm and cold models on the baseline's band: how far the quick analyses read, and
+    // the loss ratio the far end's change is checked against.
+    let (lo, hi) = (nb.freqs_hz[0], nb.freqs_hz[nb.len() - 1]);
+    let models = line.map(|l| super::states::line_models(l, lo, hi));
+    let span = models
+        .as_ref()
+        .and_then(|m| super::states::quick_span(m, lo, hi));
+    if let Some((ab, ac)) = quick_analyses(nb, nc, span, &cfg.window, engine) {
         signatures.extend(pair_signatures(&ab, &ac, engine)?);
-        if let Some(r) = line.and_then(|l| super::states::model_cold_over_warm(&ab, l)) {
+        if let Some(r) = models
+            .as_ref()
+            .and_then(super::states::model_cold_over_warm)
+        {
             super::states::check_loss_ratio(&mut signatures, r);
         }
         // With both states given, the pair's own signatures are enough to warn of a contradiction.

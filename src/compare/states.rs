@@ -165,14 +165,43 @@ pub struct StateDecision {
     pub totals: Vec<(Hypothesis, f64)>,
 }
 
-/// Both sweeps analysed as one uniform, uncompensated line over their common alias-free time.
+/// How many times the line file's round-trip delay to its visible end (warm, the longer state) the
+/// quick analyses read when there is a line file: the far end's first multiple reflection at twice that
+/// delay, the window's skirt behind it, and a line some tens of per cent longer than declared. Past that
+/// the record holds only later multiples and noise, which a dense sweep (many points over a short line)
+/// makes many times longer than the line (common practice, no source; as `job::NOMINAL_ALIAS_MARGIN`).
+pub const QUICK_SPAN_LINES: f64 = 3.0;
+
+/// Least span, in resolution cells of the band (one over its width), below which the quick analyses read
+/// the whole record however short the line file's visible line (a device at its very start).
+pub const QUICK_SPAN_MIN_CELLS: f64 = 10.0;
+
+/// The line file's two models of a sweep's band in one chain: the baseline's side warm, the current's cold
+/// (each side worked out from its own state alone), delays at the band centre.
+pub fn line_models(line: &Line, lo: f64, hi: f64) -> ChainView {
+    ChainView::from_line(line, State::Warm, State::Cold, lo, hi, 0.5 * (lo + hi))
+}
+
+/// The round-trip time the quick analyses read with a line file ([`QUICK_SPAN_LINES`] times its warm
+/// delay to the visible end); `None` (the whole record) when that is under [`QUICK_SPAN_MIN_CELLS`].
+pub fn quick_span(models: &ChainView, lo: f64, hi: f64) -> Option<f64> {
+    let t_end = models.delay_to(models.visible_end_m(), Which::Baseline, None);
+    let span = QUICK_SPAN_LINES * t_end;
+    (span.is_finite() && span * (hi - lo) >= QUICK_SPAN_MIN_CELLS).then_some(span)
+}
+
+/// Both sweeps analysed as one uniform, uncompensated line over their common alias-free time, or up to
+/// `span` (round trip, s; [`quick_span`]) where that is shorter.
 pub(super) fn quick_analyses(
     b: &Network,
     c: &Network,
+    span: Option<f64>,
     window: &Window,
     engine: &mut TraceEngine,
 ) -> Option<(SweepAnalysis, SweepAnalysis)> {
-    let t = alias_free_s(b).min(alias_free_s(c));
+    let t = alias_free_s(b)
+        .min(alias_free_s(c))
+        .min(span.unwrap_or(f64::INFINITY));
     let ab = quick_analysis(b, t, Which::Baseline, window, engine)?;
     let ac = quick_analysis(c, t, Which::Current, window, engine)?;
     Some((ab, ac))
@@ -675,17 +704,13 @@ pub fn check_loss_ratio(signatures: &mut [Signature], cold_over_warm: f64) {
     }
 }
 
-/// The line model's ratio of cold to warm round-trip conductor loss to the far end, at the band centre of
-/// sweep analysis `a`.
-pub fn model_cold_over_warm(a: &SweepAnalysis, line: &Line) -> Option<f64> {
-    let (lo, hi) = (a.freqs[0], a.freqs[a.freqs.len() - 1]);
-    let f = 0.5 * (lo + hi);
-    // One chain holds both states: the baseline's side warm, the current's cold (each side is worked out
-    // from its own state alone).
-    let chain = ChainView::from_line(line, State::Warm, State::Cold, lo, hi, f);
+/// The line model's ratio of cold to warm round-trip conductor loss to the far end, at the band centre, from
+/// the line's two models of a sweep's band ([`line_models`]).
+pub fn model_cold_over_warm(models: &ChainView) -> Option<f64> {
+    let f = models.delay_reference_hz;
     let (l_w, l_c) = (
-        conductor_loss_db(&chain, f, Which::Baseline),
-        conductor_loss_db(&chain, f, Which::Current),
+        conductor_loss_db(models, f, Which::Baseline),
+        conductor_loss_db(models, f, Which::Current),
     );
     (l_w > 0.0 && l_c > 0.0).then(|| l_c / l_w)
 }
@@ -819,7 +844,10 @@ pub fn decide_single(
     window: &Window,
 ) -> Result<(State, String, Option<f64>), CompareError> {
     let mut engine = TraceEngine::new();
-    let Some(a) = quick_analysis(n, alias_free_s(n), Which::Baseline, window, &mut engine) else {
+    let (lo, hi) = (n.freqs_hz[0], n.freqs_hz[n.len() - 1]);
+    let span = quick_span(&line_models(line, lo, hi), lo, hi);
+    let t = alias_free_s(n).min(span.unwrap_or(f64::INFINITY));
+    let Some(a) = quick_analysis(n, t, Which::Baseline, window, &mut engine) else {
         return Ok((State::Cold, "no echo was found; taken as cold".into(), None));
     };
     let sigs = model_signatures(&a, line, "current", &mut engine)?;
