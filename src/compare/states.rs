@@ -165,9 +165,10 @@ pub struct StateDecision {
     pub totals: Vec<(Hypothesis, f64)>,
 }
 
-/// How many times the line file's round-trip delay to its visible end (warm, the longer state) the
-/// quick analyses read when there is a line file: the far end's first multiple reflection at twice that
-/// delay, the window's skirt behind it, and a line some tens of per cent longer than declared. Past that
+/// How many times the line file's round-trip delay to its visible end (its warm model; the cold line's
+/// differs by about a per cent either way, `landmarks::WARM_TO_COLD_CHANGE`) the quick analyses read when
+/// there is a line file: the far end's first multiple reflection at twice that delay, the window's skirt
+/// behind it, and a line some tens of per cent longer than declared. Past that
 /// the record holds only later multiples and noise, which a dense sweep (many points over a short line)
 /// makes many times longer than the line (common practice, no source; as `job::NOMINAL_ALIAS_MARGIN`).
 pub const QUICK_SPAN_LINES: f64 = 3.0;
