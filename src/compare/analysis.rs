@@ -295,12 +295,14 @@ impl SweepAnalysis {
         // turned by e^{+j 2 pi k df t_s}, so only the plan for t0 = 0 and the longest piece is built.
         // Rounded up to a whole number of CHIRP_OUTPUT_QUANTUM outputs, so that sweeps of one grid whose
         // lines differ a little in length share the plan (the outputs past a piece's end are not read).
-        let longest = pieces
-            .iter()
-            .map(|p| p.bins.1 - p.bins.0)
-            .max()
-            .unwrap_or(0)
-            .next_multiple_of(CHIRP_OUTPUT_QUANTUM);
+        let longest_of = |ps: &[Piece]| {
+            ps.iter()
+                .map(|p| p.bins.1 - p.bins.0)
+                .max()
+                .unwrap_or(0)
+                .next_multiple_of(CHIRP_OUTPUT_QUANTUM)
+        };
+        let longest = longest_of(&pieces);
         if longest > 0 {
             let plan = engine
                 .cache()
@@ -308,13 +310,6 @@ impl SweepAnalysis {
             // A piece that the prior analysis of the same sweep transformed alike (the same compensation
             // from the same first bin, on a plan of as many outputs) and at least as far: its trace is
             // the prior's.
-            let longest_of = |ps: &[Piece]| {
-                ps.iter()
-                    .map(|p| p.bins.1 - p.bins.0)
-                    .max()
-                    .unwrap_or(0)
-                    .next_multiple_of(CHIRP_OUTPUT_QUANTUM)
-            };
             let transformed = same_sweep.filter(|a| longest_of(&a.pieces) == longest);
             for p in &pieces {
                 let done = transformed.filter(|a| {

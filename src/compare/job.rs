@@ -147,9 +147,18 @@ pub fn decide_pair_states(
             super::states::check_loss_ratio(&mut signatures, r);
         }
         // With both states given, the pair's own signatures are enough to warn of a contradiction.
-        if let Some(l) = line.filter(|_| !both_given) {
-            signatures.extend(model_signatures(&ab, l, "baseline", engine)?);
-            signatures.extend(model_signatures(&ac, l, "current", engine)?);
+        if let (Some(l), Some(mb), false) = (line, models.as_ref(), both_given) {
+            signatures.extend(model_signatures(&ab, mb, "baseline", engine)?);
+            // The current sweep's band gets models of its own where it is not the baseline's.
+            let (c_lo, c_hi) = (nc.freqs_hz[0], nc.freqs_hz[nc.len() - 1]);
+            let own;
+            let mc = if (c_lo, c_hi) == (lo, hi) {
+                mb
+            } else {
+                own = super::states::line_models(l, c_lo, c_hi);
+                &own
+            };
+            signatures.extend(model_signatures(&ac, mc, "current", engine)?);
         }
     }
     // Without a line file nothing tells warm->warm from cold->cold, and nothing depends on it.

@@ -591,25 +591,21 @@ fn loss_signature(
 }
 
 /// Signatures of one sweep against the line model: its echo delays and, with an open or short far end, its
-/// loss law, each against the warm and the cold model. `which` names the sweep (`baseline`/`current`).
+/// loss law, each against the warm and the cold model, as `models` holds them ([`line_models`] on the
+/// sweep's band). `sweep` names the sweep (`baseline`/`current`).
 pub(super) fn model_signatures(
     a: &SweepAnalysis,
-    line: &Line,
+    models: &ChainView,
     sweep: &'static str,
     engine: &mut TraceEngine,
 ) -> Result<Vec<Signature>, CompareError> {
     let mut out = Vec::new();
-    let (lo, hi) = (a.freqs[0], a.freqs[a.freqs.len() - 1]);
-    let f_ref = 0.5 * (lo + hi);
-    // Both models in one chain: the baseline's side warm, the current's cold (each side is worked out from
-    // its own state alone).
-    let models = ChainView::from_line(line, State::Warm, State::Cold, lo, hi, f_ref);
     let (warm, cold) = (Which::Baseline, Which::Current);
     // The echo delays are not read against the models: the band-pass peak of an uncompensated, dispersive
     // echo sits a fraction of a percent off the model's group delay, as much as the warm-to-cold change
     // itself, so it cannot vote.
     // Loss: an open or short far end, against each model's round-trip loss law to it.
-    if let Some(t) = far_end::find(a, &models, warm, engine)?.filter(|t| t.total) {
+    if let Some(t) = far_end::find(a, models, warm, engine)?.filter(|t| t.total) {
         let x = models.position_of(t.delay_s, warm, None);
         let uni = ChainView::uniform("", 0.7, 1.0, 50.0);
         let (f, g) = a.local_reflection(t.delay_s, x, &uni, Which::Baseline, engine)?;
@@ -617,8 +613,8 @@ pub(super) fn model_signatures(
             let fm = f[f.len() / 2];
             let l_meas = meas.db(fm);
             let (l_w, l_c) = (
-                conductor_loss_db(&models, fm, warm),
-                conductor_loss_db(&models, fm, cold),
+                conductor_loss_db(models, fm, warm),
+                conductor_loss_db(models, fm, cold),
             );
             if l_w > 0.5 && l_c > 0.0 {
                 // Compare in the log domain: the model's losses are known to about 30 %.
@@ -846,12 +842,13 @@ pub fn decide_single(
 ) -> Result<(State, String, Option<f64>), CompareError> {
     let mut engine = TraceEngine::new();
     let (lo, hi) = (n.freqs_hz[0], n.freqs_hz[n.len() - 1]);
-    let span = quick_span(&line_models(line, lo, hi), lo, hi);
+    let models = line_models(line, lo, hi);
+    let span = quick_span(&models, lo, hi);
     let t = alias_free_s(n).min(span.unwrap_or(f64::INFINITY));
     let Some(a) = quick_analysis(n, t, Which::Baseline, window, &mut engine) else {
         return Ok((State::Cold, "no echo was found; taken as cold".into(), None));
     };
-    let sigs = model_signatures(&a, line, "current", &mut engine)?;
+    let sigs = model_signatures(&a, &models, "current", &mut engine)?;
     if sigs.is_empty() {
         return Ok((
             State::Cold,
