@@ -3,20 +3,22 @@
 //! path, and the safety promises of docs/history.md: four processes recording at once lose and duplicate
 //! nothing, a record killed mid-write leaves the database as it was, and a file that is not a history (or
 //! one of a newer schema) is refused and left untouched.
+//!
+//! Each test runs against both back-ends: an SQLite file, and a database on a real PostgreSQL server when
+//! `COLDTRACE_TEST_PG` names one (tests/common/backends.rs; `.ci/run` starts one, and CI never skips it).
 
-use coldtrace::history::{HistoryStore, NewRecord, SqliteStore};
-use coldtrace::line::{simulate, Fault, SimConfig, State};
-use coldtrace::touchstone::{write, WriteOptions};
+use coldtrace::history::sql::SqlBackend;
+use coldtrace::history::{open_store, Database, PostgresStore, SqliteStore};
+use std::ffi::OsStr;
 use std::path::{Path, PathBuf};
 use std::process::{Command, Output};
 
 #[path = "common/history_cli.rs"]
 mod history_cli;
-use history_cli::{bin, expect_code};
+use history_cli::{bin, expect_code, line_file, ok, sweep};
 
-fn line_file() -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/line/north-fridge-in-07.toml")
-}
+#[path = "common/backends.rs"]
+mod backends;
 
 const LINE: &str = "north-fridge/in-07";
 
@@ -31,34 +33,11 @@ fn record_cmd(sweep: &Path) -> Command {
     c
 }
 
-/// A cold sweep of the demo line with `faults`, noise seed `seed`, written to `dir/name`.
-fn sweep(dir: &Path, name: &str, faults: &[&str], seed: u64) -> PathBuf {
-    let line = coldtrace::line::file::read_file(&line_file()).unwrap();
-    let mut cfg = SimConfig::linear(State::Cold, 0.5e9, 10e9, 801);
-    cfg.noise_db = Some(-85.0);
-    cfg.seed = seed;
-    cfg.faults = faults.iter().map(|f| Fault::parse(f).unwrap()).collect();
-    let net = simulate(&line, &cfg).unwrap();
-    let p = dir.join(name);
-    std::fs::write(&p, write(&net, &WriteOptions::default()).unwrap()).unwrap();
-    p
-}
-
-fn run(db: &Path, args: &[&str]) -> Output {
+fn run(db: &OsStr, args: &[&str]) -> Output {
     bin().args(args).arg("--db").arg(db).output().unwrap()
 }
 
-fn ok(o: &Output) -> serde_json::Value {
-    assert!(
-        o.status.code() == Some(0) || o.status.code() == Some(1),
-        "exit {:?}: {}",
-        o.status.code(),
-        String::from_utf8_lossy(&o.stderr)
-    );
-    serde_json::from_slice(&o.stdout).unwrap_or(serde_json::Value::Null)
-}
-
-fn record(db: &Path, sweep: &Path, extra: &[&str]) -> serde_json::Value {
+fn record(db: &OsStr, sweep: &Path, extra: &[&str]) -> serde_json::Value {
     let mut args = vec!["history", "record", sweep.to_str().unwrap(), "--line"];
     let lf = line_file();
     args.push(lf.to_str().unwrap());
@@ -71,17 +50,21 @@ fn record(db: &Path, sweep: &Path, extra: &[&str]) -> serde_json::Value {
 
 #[test]
 fn record_list_show_baseline_trend_export() {
-    let dir = tempfile::tempdir().unwrap();
-    let db = dir.path().join("h.sqlite");
+    for b in backends::all("whole") {
+        whole_history(b.arg(), b.dir());
+    }
+}
+
+fn whole_history(db: &OsStr, dir: &Path) {
     let s: Vec<PathBuf> = (0..6)
         .map(|k| {
             // J2's contact resistance: 1 ohm for two cooldowns, then doubling each cooldown to 16 ohm.
             let r = format!("J2:contact={}ohm", 1u32 << k.max(1) >> 1);
-            sweep(dir.path(), &format!("c{k}.s1p"), &[&r], 10 + k as u64)
+            sweep(dir, &format!("c{k}.s1p"), &[&r], 10 + k as u64)
         })
         .collect();
     let first = record(
-        &db,
+        db,
         &s[0],
         &["--state", "cold", "--at", "2026-01-05T09:00:00Z"],
     );
@@ -89,22 +72,22 @@ fn record_list_show_baseline_trend_export() {
     assert_eq!(first["line"], LINE);
     assert_eq!(first["compared_with"], serde_json::Value::Null);
     // The same content again, even under another name, is the same record.
-    let copy = dir.path().join("copy.s1p");
+    let copy = dir.join("copy.s1p");
     std::fs::copy(&s[0], &copy).unwrap();
-    let again = record(&db, &copy, &["--state", "cold"]);
+    let again = record(db, &copy, &["--state", "cold"]);
     assert_eq!(again["created"], false);
     assert_eq!(again["id"], first["id"]);
 
-    let o = run(&db, &["history", "baseline", LINE, "1", "--json"]);
+    let o = run(db, &["history", "baseline", LINE, "1", "--json"]);
     assert_eq!(ok(&o)["baseline"]["id"], 1);
     for (k, p) in s.iter().enumerate().skip(1) {
         let at = format!("2026-{:02}-05T09:00:00+01:00", k + 1);
-        let r = record(&db, p, &["--state", "cold", "--at", &at]);
+        let r = record(db, p, &["--state", "cold", "--at", &at]);
         assert_eq!(r["created"], true);
         assert_eq!(r["compared_with"], 1);
     }
 
-    let list = ok(&run(&db, &["history", "list", "--json"]));
+    let list = ok(&run(db, &["history", "list", "--json"]));
     let recs = list["records"].as_array().unwrap();
     assert_eq!(recs.len(), 6, "no duplicate of the copy");
     for r in recs {
@@ -116,7 +99,7 @@ fn record_list_show_baseline_trend_export() {
     assert_eq!(recs[1]["at"], "2026-02-05T08:00:00Z", "stored in UTC");
     assert!(list["warnings"].is_array());
 
-    let show = ok(&run(&db, &["history", "show", LINE, "--json"]));
+    let show = ok(&run(db, &["history", "show", LINE, "--json"]));
     let last = &show["records"][5];
     assert_eq!(last["stage_temperatures"].as_array().unwrap().len(), 6);
     let lm = last["landmarks"].as_array().unwrap();
@@ -133,10 +116,7 @@ fn record_list_show_baseline_trend_export() {
         .iter()
         .any(|f| f["element"] == "J2" && f["severity"] != "info"));
 
-    let o = run(
-        &db,
-        &["history", "trend", LINE, "--element", "j2", "--json"],
-    );
+    let o = run(db, &["history", "trend", LINE, "--element", "j2", "--json"]);
     let t = ok(&o);
     let l = &t["landmarks"][0];
     for k in [
@@ -162,17 +142,17 @@ fn record_list_show_baseline_trend_export() {
     assert!(l["slope_db_per_cycle"].as_f64().unwrap() > 2.0);
     assert_eq!(l["warning"], true, "{l}");
     assert_eq!(o.status.code(), Some(1), "a warning exits 1");
-    let plot = dir.path().join("trend.svg");
+    let plot = dir.join("trend.svg");
     let o = run(
-        &db,
+        db,
         &["history", "trend", LINE, "--plot", plot.to_str().unwrap()],
     );
     assert_eq!(o.status.code(), Some(1));
     assert!(std::fs::read_to_string(&plot).unwrap().contains("<svg"));
     // One connector: its own figure, with the trend line and the severity levels.
-    let one = dir.path().join("trend-j2.svg");
+    let one = dir.join("trend-j2.svg");
     let o = run(
-        &db,
+        db,
         &[
             "history",
             "trend",
@@ -191,21 +171,21 @@ fn record_list_show_baseline_trend_export() {
             "{label} missing from the single-connector figure"
         );
     }
-    let o = run(&db, &["history", "trend", LINE, "--element", "J9"]);
+    let o = run(db, &["history", "trend", LINE, "--element", "J9"]);
     assert_eq!(o.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&o.stderr).contains("J2"));
 
-    let csv = run(&db, &["history", "export", LINE, "--format", "csv"]);
+    let csv = run(db, &["history", "export", LINE, "--format", "csv"]);
     let text = String::from_utf8(csv.stdout).unwrap();
     assert!(text.starts_with("record_id,line,at,state,sha256,sweep,element,kind"));
     assert!(text.lines().count() > 6 * 5);
-    let js = ok(&run(&db, &["history", "export", LINE, "--format", "json"]));
+    let js = ok(&run(db, &["history", "export", LINE, "--format", "json"]));
     assert_eq!(js["records"].as_array().unwrap().len(), 6);
     // An existing output file is never replaced without --force.
-    let out = dir.path().join("mine.csv");
+    let out = dir.join("mine.csv");
     std::fs::write(&out, "keep me").unwrap();
     let o = run(
-        &db,
+        db,
         &[
             "history",
             "export",
@@ -218,7 +198,7 @@ fn record_list_show_baseline_trend_export() {
     );
     assert_eq!(o.status.code(), Some(2));
     assert_eq!(std::fs::read_to_string(&out).unwrap(), "keep me");
-    let o = run(&db, &["history", "export", LINE, "--format", "xml"]);
+    let o = run(db, &["history", "export", LINE, "--format", "xml"]);
     assert!(String::from_utf8_lossy(&o.stderr).contains("use csv or json"));
 }
 
@@ -241,25 +221,60 @@ fn database_path_from_the_environment() {
     assert_eq!(o.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&o.stderr).contains("no history database here yet"));
     assert!(!other.exists(), "a read never creates a database");
+    // A postgres:// URL in the environment names a server.
+    for b in backends::all("env").into_iter().filter(|b| b.is_pg()) {
+        let o = record_cmd(&s)
+            .env("COLDTRACE_DB", b.arg())
+            .output()
+            .unwrap();
+        expect_code(&o, 0);
+        let o = bin()
+            .args(["history", "list", "--json"])
+            .env("COLDTRACE_DB", b.arg())
+            .output()
+            .unwrap();
+        assert_eq!(ok(&o)["records"].as_array().unwrap().len(), 1);
+        // A read of a server database that holds no history yet makes nothing.
+        let empty = backends::temp_db(&b.pg().unwrap().admin, "env_empty");
+        let o = bin()
+            .args(["history", "list", "--db", &empty.url])
+            .output()
+            .unwrap();
+        assert_eq!(o.status.code(), Some(2));
+        assert!(String::from_utf8_lossy(&o.stderr).contains("no history database here yet"));
+        let tables: i64 = empty
+            .client()
+            .query_one(
+                "SELECT COUNT(*) FROM pg_tables WHERE schemaname = 'public'",
+                &[],
+            )
+            .unwrap()
+            .get(0);
+        assert_eq!(tables, 0, "a read never creates the schema");
+    }
 }
 
 #[test]
 fn four_processes_recording_at_once_lose_and_duplicate_nothing() {
-    let dir = tempfile::tempdir().unwrap();
-    let db = dir.path().join("h.sqlite");
+    for b in backends::all("four") {
+        four_processes(b.arg(), b.dir());
+    }
+}
+
+fn four_processes(db: &OsStr, dir: &Path) {
     let shared: Vec<PathBuf> = (0..2)
-        .map(|i| sweep(dir.path(), &format!("shared{i}.s1p"), &[], 100 + i))
+        .map(|i| sweep(dir, &format!("shared{i}.s1p"), &[], 100 + i))
         .collect();
     let own: Vec<Vec<PathBuf>> = (0..4)
         .map(|w| {
             (0..2)
-                .map(|i| sweep(dir.path(), &format!("w{w}-{i}.s1p"), &[], 200 + 10 * w + i))
+                .map(|i| sweep(dir, &format!("w{w}-{i}.s1p"), &[], 200 + 10 * w + i))
                 .collect()
         })
         .collect();
     std::thread::scope(|scope| {
         for (w, mine) in own.iter().enumerate() {
-            let (db, shared) = (&db, &shared);
+            let shared = &shared;
             scope.spawn(move || {
                 // Each worker records the shared sweeps too, in its own order.
                 let mut todo: Vec<&PathBuf> = mine.iter().chain(shared.iter()).collect();
@@ -271,7 +286,7 @@ fn four_processes_recording_at_once_lose_and_duplicate_nothing() {
             });
         }
     });
-    let store = SqliteStore::open(&db, false).unwrap();
+    let store = open_store(&Database::from_arg(db), false).unwrap();
     let recs = store.list(None).unwrap();
     let mut shas: Vec<&str> = recs.iter().map(|r| r.sha256.as_str()).collect();
     shas.sort();
@@ -289,8 +304,8 @@ fn four_processes_recording_at_once_lose_and_duplicate_nothing() {
 }
 
 /// Everything the history holds, as one comparable value.
-fn dump(db: &Path) -> String {
-    let store = SqliteStore::open(db, false).unwrap();
+fn dump(db: &OsStr) -> String {
+    let store = open_store(&Database::from_arg(db), false).unwrap();
     let all: Vec<_> = store
         .list(None)
         .unwrap()
@@ -300,41 +315,37 @@ fn dump(db: &Path) -> String {
     format!("{all:?}")
 }
 
-fn a_record(sha: &str) -> NewRecord {
-    NewRecord {
-        line: LINE.into(),
-        at: "2026-03-01T00:00:00Z".into(),
-        at_ms: 1_772_323_200_000,
-        state: State::Cold,
-        note: None,
-        sweep: "x.s1p".into(),
-        sha256: sha.into(),
-        stage_temperatures: vec![("mxc".into(), 0.015)],
-        landmarks: Vec::new(),
-        compared_with: None,
-        findings: Vec::new(),
-        worst_severity: None,
-    }
-}
-
 /// Not a test on its own: the process `a_record_killed_mid_write_leaves_the_database_as_it_was` starts
 /// and kills inside a record's transaction.
 #[test]
 #[ignore = "a child process of a_record_killed_mid_write_leaves_the_database_as_it_was"]
 fn child_record_then_die() {
     let db = std::env::var_os("COLDTRACE_TEST_KILL_DB").expect("started by the kill test");
-    let mut store = SqliteStore::open(Path::new(&db), false).unwrap();
-    let _ = store.insert_with(&a_record("killed"), || std::process::abort());
+    match Database::from_arg(&db) {
+        Database::File(p) => {
+            let mut store = SqliteStore::open(&p, false).unwrap();
+            let _ = store.insert_with(&backends::a_record("killed"), || std::process::abort());
+        }
+        Database::Server(u) => {
+            let mut store = PostgresStore::open(&u, false).unwrap();
+            let _ = store.insert_with(&backends::a_record("killed"), || std::process::abort());
+        }
+    }
     unreachable!("the process dies before the commit");
 }
 
 #[test]
 fn a_record_killed_mid_write_leaves_the_database_as_it_was() {
-    let dir = tempfile::tempdir().unwrap();
-    let db = dir.path().join("h.sqlite");
-    let s = sweep(dir.path(), "a.s1p", &[], 7);
-    record(&db, &s, &["--state", "cold"]);
-    let before = dump(&db);
+    for b in backends::all("kill") {
+        killed_mid_write(&b);
+    }
+}
+
+fn killed_mid_write(b: &backends::Backend) {
+    let db = b.arg();
+    let s = sweep(b.dir(), "a.s1p", &[], 7);
+    record(db, &s, &["--state", "cold"]);
+    let before = dump(db);
     let o = Command::new(std::env::current_exe().unwrap())
         .args([
             "--exact",
@@ -342,7 +353,7 @@ fn a_record_killed_mid_write_leaves_the_database_as_it_was() {
             "--ignored",
             "--nocapture",
         ])
-        .env("COLDTRACE_TEST_KILL_DB", &db)
+        .env("COLDTRACE_TEST_KILL_DB", db)
         .output()
         .unwrap();
     // It died of the abort called inside the transaction (after every row was written, before the
@@ -353,21 +364,29 @@ fn a_record_killed_mid_write_leaves_the_database_as_it_was() {
         assert_eq!(
             o.status.signal(),
             Some(6),
-            "SIGABRT expected: {}",
+            "SIGABRT expected ({}): {}",
+            b.kind,
             String::from_utf8_lossy(&o.stderr)
         );
     }
     assert!(!o.status.success(), "the child must die mid-write");
-    assert_eq!(dump(&db), before, "the killed record left no trace");
-    let c = rusqlite::Connection::open(&db).unwrap();
-    let check: String = c
-        .query_row("PRAGMA integrity_check", [], |r| r.get(0))
-        .unwrap();
-    assert_eq!(check, "ok");
-    drop(c);
-    // The history goes on: the same record can be written now.
-    let mut store = SqliteStore::open(&db, false).unwrap();
-    assert!(store.insert(&a_record("killed")).unwrap().created);
+    assert_eq!(
+        dump(db),
+        before,
+        "the killed record left no trace ({})",
+        b.kind
+    );
+    if !b.is_pg() {
+        let c = rusqlite::Connection::open(db).unwrap();
+        let check: String = c
+            .query_row("PRAGMA integrity_check", [], |r| r.get(0))
+            .unwrap();
+        assert_eq!(check, "ok");
+    }
+    // The history goes on: the same record can be written now (the server has seen the dead
+    // connection's transaction rolled back and its lock released).
+    let mut store = open_store(&Database::from_arg(db), false).unwrap();
+    assert!(store.insert(&backends::a_record("killed")).unwrap().created);
 }
 
 #[test]
@@ -404,7 +423,7 @@ fn refuses_files_that_are_not_its_history_and_leaves_them_untouched() {
 
     // A history written by a newer coldtrace (one more migration than this build knows).
     let newer = dir.path().join("newer.sqlite");
-    record(&newer, &s, &["--state", "cold"]);
+    record(newer.as_os_str(), &s, &["--state", "cold"]);
     let c = rusqlite::Connection::open(&newer).unwrap();
     c.execute(
         "INSERT INTO schema_migrations (version, description, applied_at) VALUES (?1, 'future', 'x')",
@@ -423,7 +442,7 @@ fn refuses_files_that_are_not_its_history_and_leaves_them_untouched() {
     // A bad time is refused before anything is created.
     let fresh = dir.path().join("fresh.sqlite");
     let o = run(
-        &fresh,
+        fresh.as_os_str(),
         &[
             "history",
             "record",

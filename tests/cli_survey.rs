@@ -9,6 +9,9 @@ use std::process::Output;
 mod history_cli;
 use history_cli::{bin, expect_code};
 
+#[path = "common/backends.rs"]
+mod backends;
+
 fn fleet() -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR")).join("sample-sweeps/north-fridge/fleet")
 }
@@ -156,32 +159,39 @@ fn a_bad_manifest_or_flag_exits_2_naming_the_place() {
 
 #[test]
 fn record_stores_each_current_sweep_once() {
-    let dir = tempfile::tempdir().unwrap();
-    let db = dir.path().join("h.sqlite");
-    for _ in 0..2 {
+    // In an SQLite file, and on a PostgreSQL server when one is given (tests/common/backends.rs).
+    for b in backends::all("survey") {
+        let db = b.arg();
+        for _ in 0..2 {
+            let o = bin()
+                .arg("survey")
+                .arg(fleet().join("survey.toml"))
+                .args(["--record", "--json", "--db"])
+                .arg(db)
+                .output()
+                .unwrap();
+            expect_code(&o, 1);
+            let v = json(&o);
+            assert!(
+                v["lines"]
+                    .as_array()
+                    .unwrap()
+                    .iter()
+                    .all(|l| l["record_id"].is_i64()),
+                "{} {v}",
+                b.kind
+            );
+        }
         let o = bin()
-            .arg("survey")
-            .arg(fleet().join("survey.toml"))
-            .args(["--record", "--json", "--db"])
-            .arg(&db)
+            .args(["history", "list", "--json", "--db"])
+            .arg(db)
             .output()
             .unwrap();
-        expect_code(&o, 1);
-        let v = json(&o);
-        assert!(v["lines"]
-            .as_array()
-            .unwrap()
-            .iter()
-            .all(|l| l["record_id"].is_i64()));
+        assert_eq!(
+            json(&o)["records"].as_array().unwrap().len(),
+            3,
+            "no duplicates ({})",
+            b.kind
+        );
     }
-    let o = bin()
-        .args(["history", "list", "--json", "--db"])
-        .arg(&db)
-        .output()
-        .unwrap();
-    assert_eq!(
-        json(&o)["records"].as_array().unwrap().len(),
-        3,
-        "no duplicates"
-    );
 }

@@ -6,7 +6,7 @@ use super::locate::parse_state;
 use coldtrace::history::text::{render_list, render_record, render_show, render_trend};
 use coldtrace::history::trend::line_trend;
 use coldtrace::history::{
-    export, record_sweep, resolve_db_path, HistoryStore, RecordJob, SqliteStore, TrendRule,
+    export, open_store, record_sweep, resolve_db, Database, HistoryStore, RecordJob, TrendRule,
 };
 use coldtrace::line::State;
 use coldtrace::output::write_output;
@@ -26,8 +26,9 @@ pub struct Args {
 /// Flags every history command takes.
 #[derive(Debug, clap::Args)]
 pub struct Common {
-    /// The history database (default: $COLDTRACE_DB, else ~/.local/share/coldtrace/history.sqlite).
-    #[arg(long, value_name = "PATH")]
+    /// The history: an SQLite file, or a PostgreSQL server's postgres:// URL (default: $COLDTRACE_DB,
+    /// else ~/.local/share/coldtrace/history.sqlite).
+    #[arg(long, value_name = "PATH|URL")]
     pub db: Option<PathBuf>,
     /// Print the result as JSON (docs/output.md) instead of a table.
     #[arg(long)]
@@ -48,6 +49,22 @@ pub enum Sub {
     Baseline(BaselineArgs),
     /// Write a line's history as CSV or JSON.
     Export(ExportArgs),
+    /// Copy a history into another (a lab's SQLite file into a shared PostgreSQL server): resumable, and
+    /// a second run adds nothing.
+    Migrate(MigrateArgs),
+}
+
+#[derive(Debug, clap::Args)]
+pub struct MigrateArgs {
+    /// The history to copy from: an SQLite file (or a postgres:// URL). It is only read.
+    #[arg(long, value_name = "PATH|URL")]
+    pub from: PathBuf,
+    /// The history to copy into: a postgres:// URL (or an SQLite file), made when it holds none yet.
+    #[arg(long, value_name = "PATH|URL")]
+    pub to: PathBuf,
+    /// Print the result as JSON (docs/output.md) instead of a sentence.
+    #[arg(long)]
+    pub json: bool,
 }
 
 #[derive(Debug, clap::Args)]
@@ -148,9 +165,14 @@ pub struct ExportArgs {
     pub common: Common,
 }
 
-fn open(c: &Common, create: bool) -> coldtrace::Result<SqliteStore> {
-    let path = resolve_db_path(c.db.as_deref())?;
-    Ok(SqliteStore::open(&path, create)?)
+fn open(c: &Common, create: bool) -> coldtrace::Result<Box<dyn HistoryStore>> {
+    let db = resolve_db(c.db.as_deref().map(|p| p.as_os_str()))?;
+    Ok(open_store(&db, create)?)
+}
+
+/// Files no output may be written over: the database's, for a history kept in a file.
+fn protected(store: &dyn HistoryStore) -> Vec<&std::path::Path> {
+    store.file().into_iter().collect()
 }
 
 fn json<T: Serialize>(value: &T) -> coldtrace::Result<()> {
@@ -174,6 +196,7 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
         Sub::Trend(a) => trend(a),
         Sub::Baseline(a) => baseline(a),
         Sub::Export(a) => export_line(a),
+        Sub::Migrate(a) => migrate(a),
     }
 }
 
@@ -195,7 +218,7 @@ fn record(a: RecordArgs) -> coldtrace::Result<u8> {
         coldtrace::history::parse_time(t)?;
     }
     let mut store = open(&a.common, true)?;
-    let outcome = record_sweep(&mut store, &job)?;
+    let outcome = record_sweep(&mut *store, &job)?;
     if a.common.json {
         json(&outcome)?;
     } else {
@@ -232,7 +255,7 @@ fn show(a: ShowArgs) -> coldtrace::Result<u8> {
     let store = open(&a.common, false)?;
     let records = store.line_details(&a.line)?;
     if let Some(path) = &a.report {
-        write_history_report(&store, &a.line, &records, path, a.force)?;
+        write_history_report(&*store, &a.line, &records, path, a.force)?;
     }
     if a.common.json {
         #[derive(Serialize)]
@@ -258,13 +281,13 @@ fn show(a: ShowArgs) -> coldtrace::Result<u8> {
 /// `history show --report`: the records and the trend of each state that has records, as one HTML page,
 /// written through the safe writer (never over the database; an existing file only with `--force`).
 fn write_history_report(
-    store: &SqliteStore,
+    store: &dyn HistoryStore,
     line: &str,
     records: &[coldtrace::history::RecordDetail],
     path: &std::path::Path,
     force: bool,
 ) -> coldtrace::Result<()> {
-    coldtrace::output::check_outputs(&[path], force, &[store.location()])?;
+    coldtrace::output::check_outputs(&[path], force, &protected(store))?;
     let rule = TrendRule::default();
     let mut trends = Vec::new();
     for state in [State::Cold, State::Warm] {
@@ -296,19 +319,19 @@ fn write_history_report(
         ),
     ];
     let ctx = RunContext {
-        inputs: vec![database_input(store.location())?],
+        inputs: vec![database_input(store, records)?],
         settings,
         span: None,
     };
     let html = history_html(line, records, store.baseline(line)?, &trends, &ctx)?;
-    write_output(path, html.as_bytes(), force, &[store.location()])
+    write_output(path, html.as_bytes(), force, &protected(store))
 }
 
 fn trend(a: TrendArgs) -> coldtrace::Result<u8> {
     let state: State = parse_state("--state", &a.state)?;
     let store = open(&a.common, false)?;
     let report = line_trend(
-        &store,
+        &*store,
         &a.line,
         state,
         a.element.as_deref(),
@@ -342,7 +365,7 @@ fn trend(a: TrendArgs) -> coldtrace::Result<u8> {
                 fig
             }
         };
-        write_plot(p, &fig, a.force, &[store.location()])?;
+        write_plot(p, &fig, a.force, &protected(&*store))?;
     }
     if a.common.json {
         json(&report)?;
@@ -411,9 +434,60 @@ fn export_line(a: ExportArgs) -> coldtrace::Result<u8> {
     };
     match &a.output {
         Some(p) => {
-            coldtrace::output::write_output(p, text.as_bytes(), a.force, &[store.location()])?
+            coldtrace::output::write_output(p, text.as_bytes(), a.force, &protected(&*store))?
         }
         None => super::print(&text)?,
+    }
+    Ok(exit::OK)
+}
+
+fn migrate(a: MigrateArgs) -> coldtrace::Result<u8> {
+    let from = Database::from_arg(a.from.as_os_str());
+    let to = Database::from_arg(a.to.as_os_str());
+    let same = match (&from, &to) {
+        (Database::File(x), Database::File(y)) => {
+            x == y
+                || std::fs::canonicalize(x)
+                    .ok()
+                    .is_some_and(|c| std::fs::canonicalize(y).ok() == Some(c))
+        }
+        (Database::Server(x), Database::Server(y)) => x == y,
+        _ => false,
+    };
+    if same {
+        return Err(Error::Usage(format!(
+            "--from and --to are the same history ({}): give the database to copy into as --to",
+            from.shown()
+        )));
+    }
+    let source = open_store(&from, false)?;
+    let mut target = open_store(&to, true)?;
+    let outcome = coldtrace::history::migrate::copy_history(&*source, &mut *target, |done, of| {
+        if !a.json && done % 100 == 0 {
+            super::say::notice(&format!("{done} of {of} records copied or found"));
+        }
+    })?;
+    if a.json {
+        json(&WithWarnings {
+            inner: &outcome,
+            warnings: Vec::new(),
+        })?;
+    } else {
+        let mut text = format!(
+            "{} -> {}: {} records, {} copied, {} there already; {} line baseline(s) chosen\n",
+            outcome.from,
+            outcome.to,
+            outcome.records,
+            outcome.copied,
+            outcome.already,
+            outcome.baselines_set
+        );
+        for l in &outcome.baselines_kept {
+            text.push_str(&format!(
+                "line {l}: the target's own baseline was kept (it differs from the source's)\n"
+            ));
+        }
+        super::print(&text)?;
     }
     Ok(exit::OK)
 }

@@ -5,7 +5,7 @@
 
 use super::locate::parse_fail_on;
 use coldtrace::compare::Severity;
-use coldtrace::history::resolve_db_path;
+use coldtrace::history::resolve_db;
 use coldtrace::output::{check_extension, check_outputs, write_output};
 use coldtrace::report::fleet::{survey_html, survey_inputs};
 use coldtrace::report::html::RunContext;
@@ -26,8 +26,9 @@ pub struct Args {
     /// Store every line's current sweep in the history (idempotent, as `history record`).
     #[arg(long)]
     pub record: bool,
-    /// The history database for --record (default: $COLDTRACE_DB, else the default path).
-    #[arg(long, value_name = "PATH")]
+    /// The history for --record: an SQLite file, or a PostgreSQL server's postgres:// URL (default:
+    /// $COLDTRACE_DB, else the default file).
+    #[arg(long, value_name = "PATH|URL")]
     pub db: Option<PathBuf>,
     /// Print the result as JSON (docs/output.md) instead of the table.
     #[arg(long)]
@@ -58,7 +59,7 @@ pub fn run(args: Args) -> coldtrace::Result<u8> {
     }
     let items = read_manifest(&args.manifest)?;
     let record_db = if args.record {
-        Some(resolve_db_path(args.db.as_deref())?)
+        Some(resolve_db(args.db.as_deref().map(|p| p.as_os_str()))?)
     } else {
         None
     };

@@ -16,23 +16,29 @@
 //! with their Unix time in milliseconds for ordering. A "cycle" in a trend is one record of the line in the
 //! chosen state (for cold records: one cooldown).
 
+pub mod db;
 pub mod export;
+pub mod migrate;
+pub mod postgres;
 pub mod record;
 pub mod schema;
+pub mod sql;
 pub mod sqlite;
 pub mod store;
 pub mod text;
 pub mod trend;
 
+pub use db::{open_store, resolve_db, Database, ServerUrl};
+pub use postgres::PostgresStore;
 pub use record::{record_sweep, RecordJob, RecordOutcome};
 pub use sqlite::SqliteStore;
 pub use store::{
-    HistoryStore, Inserted, Landmark, LandmarkKind, NewRecord, RecordDetail, RecordSummary,
-    StoredFinding,
+    check_line, HistoryStore, Inserted, Landmark, LandmarkKind, NewRecord, RecordDetail,
+    RecordSummary, StoredFinding,
 };
 pub use trend::{LandmarkTrend, TrendReport, TrendRule};
 
-use std::path::{Path, PathBuf};
+use std::path::PathBuf;
 
 /// The environment variable naming the history database when `--db` is not given.
 pub const DB_ENV: &str = "COLDTRACE_DB";
@@ -50,31 +56,30 @@ pub enum HistoryError {
         path.display()
     )]
     NotADatabase { path: PathBuf },
-    /// An SQLite database that is not a coldtrace history; nothing was written to it.
+    /// A database that is not a coldtrace history (it has tables, none of them `schema_migrations`);
+    /// nothing was written to it.
     #[error(
-        "{}: an SQLite database but not a coldtrace history (no schema_migrations table); it was left \
-         untouched. Give another path with --db or {DB_ENV}",
-        path.display()
+        "{db}: a database, but not a coldtrace history (it holds other tables and no schema_migrations); \
+         it was left untouched. Give another database with --db or {DB_ENV} (on a PostgreSQL server: a \
+         database of its own, or a schema of its own with ?options=-csearch_path%3Dcoldtrace in the URL)"
     )]
-    Foreign { path: PathBuf },
+    Foreign { db: String },
     /// The database was made by a newer coldtrace; nothing was written to it.
     #[error(
-        "{}: history schema version {found} is newer than this coldtrace reads (up to {supported}); it was \
-         left untouched. Use a newer coldtrace, or give another database with --db",
-        path.display()
+        "{db}: history schema version {found} is newer than this coldtrace reads (up to {supported}); it was \
+         left untouched. Use a newer coldtrace, or give another database with --db"
     )]
     NewerSchema {
-        path: PathBuf,
+        db: String,
         found: i64,
         supported: i64,
     },
-    /// No database at the path (for a command that only reads).
+    /// No history at the place given (for a command that only reads).
     #[error(
-        "{}: no history database here yet; record a sweep first (coldtrace history record SWEEP --line \
-         LINE), or point --db or {DB_ENV} at an existing one",
-        path.display()
+        "{db}: no history database here yet; record a sweep first (coldtrace history record SWEEP --line \
+         LINE), or point --db or {DB_ENV} at an existing one"
     )]
-    Missing { path: PathBuf },
+    Missing { db: String },
     /// No default location could be worked out.
     #[error(
         "no history database given and no home folder to put one in: pass --db PATH or set {DB_ENV}"
@@ -87,6 +92,12 @@ pub enum HistoryError {
         #[source]
         source: rusqlite::Error,
     },
+    /// A PostgreSQL server refused or failed an operation (the URL is shown without its password).
+    #[error("{db}: {message}")]
+    Server { db: String, message: String },
+    /// A `postgres://` URL that cannot be used.
+    #[error("--db or {DB_ENV}: {message}")]
+    Url { message: String },
     /// The database file or its folder could not be read or made.
     #[error("{}: {source} (check that the path is right and its folder writable)", path.display())]
     Io {
@@ -95,38 +106,31 @@ pub enum HistoryError {
         source: std::io::Error,
     },
     /// A line the history does not know.
-    #[error("{}: no records of line '{line}'{suggestion}; `coldtrace history list` shows the lines recorded", path.display())]
+    #[error("{db}: no records of line '{line}'{suggestion}; `coldtrace history list` shows the lines recorded")]
     UnknownLine {
-        path: PathBuf,
+        db: String,
         line: String,
         suggestion: String,
     },
     /// A record id the history does not hold, or one of another line.
-    #[error("{}: {message}; `coldtrace history list` shows the records and their ids", path.display())]
-    UnknownRecord { path: PathBuf, message: String },
+    #[error("{db}: {message}; `coldtrace history list` shows the records and their ids")]
+    UnknownRecord { db: String, message: String },
+    /// A stored value of an unexpected type (a database edited by hand, or damaged).
+    #[error(
+        "{db}: {message}; the history holds a value coldtrace did not write (edited by hand?)"
+    )]
+    Data { db: String, message: String },
     /// A time that is not RFC 3339.
     #[error("--at '{text}': {message}; give an RFC 3339 time such as 2026-11-30T14:05:00Z")]
     Time { text: String, message: String },
 }
 
-/// The database path: `--db` when given, else [`DB_ENV`], else the default
-/// (`$XDG_DATA_HOME/coldtrace/history.sqlite`, or `$HOME/.local/share/coldtrace/history.sqlite`, or on
-/// Windows `%APPDATA%\coldtrace\history.sqlite`).
-pub fn resolve_db_path(flag: Option<&Path>) -> Result<PathBuf, HistoryError> {
-    resolve_with(flag, |k| std::env::var_os(k).filter(|v| !v.is_empty()))
-}
-
-/// [`resolve_db_path`] with the environment given as a lookup (for tests).
-pub fn resolve_with(
-    flag: Option<&Path>,
+/// The default history file, the environment given as a lookup: `$XDG_DATA_HOME/coldtrace/history.sqlite`,
+/// or `$HOME/.local/share/coldtrace/history.sqlite`, or on Windows `%APPDATA%\coldtrace\history.sqlite`
+/// (what [`resolve_db`] falls back to without `--db` and [`DB_ENV`]).
+pub fn default_db_path(
     env: impl Fn(&str) -> Option<std::ffi::OsString>,
 ) -> Result<PathBuf, HistoryError> {
-    if let Some(p) = flag {
-        return Ok(p.to_path_buf());
-    }
-    if let Some(p) = env(DB_ENV) {
-        return Ok(PathBuf::from(p));
-    }
     let base = if let Some(x) = env("XDG_DATA_HOME") {
         PathBuf::from(x)
     } else if let Some(h) = env("HOME") {
@@ -174,26 +178,30 @@ mod tests {
 
     #[test]
     fn db_path_prefers_flag_then_env_then_default() {
+        use std::ffi::OsStr;
         let env = |k: &str| match k {
             "COLDTRACE_DB" => Some(OsString::from("/x/env.sqlite")),
             "HOME" => Some(OsString::from("/home/u")),
             _ => None,
         };
+        let file = |d: Database| d.file().map(std::path::Path::to_path_buf);
         assert_eq!(
-            resolve_with(Some(Path::new("/f.sqlite")), env).unwrap(),
-            PathBuf::from("/f.sqlite")
+            file(db::resolve_db_with(Some(OsStr::new("/f.sqlite")), env).unwrap()),
+            Some(PathBuf::from("/f.sqlite"))
         );
         assert_eq!(
-            resolve_with(None, env).unwrap(),
-            PathBuf::from("/x/env.sqlite")
+            file(db::resolve_db_with(None, env).unwrap()),
+            Some(PathBuf::from("/x/env.sqlite"))
         );
         let home = |k: &str| (k == "HOME").then(|| OsString::from("/home/u"));
         assert_eq!(
-            resolve_with(None, home).unwrap(),
-            PathBuf::from("/home/u/.local/share/coldtrace/history.sqlite")
+            file(db::resolve_db_with(None, home).unwrap()),
+            Some(PathBuf::from(
+                "/home/u/.local/share/coldtrace/history.sqlite"
+            ))
         );
         assert!(matches!(
-            resolve_with(None, |_| None),
+            db::resolve_db_with(None, |_| None),
             Err(HistoryError::NoDefault)
         ));
     }

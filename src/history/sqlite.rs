@@ -12,12 +12,10 @@
 //!   database as it was before;
 //! - parameterised SQL only: no value is ever spliced into a statement.
 
-use super::schema::{statements, MIGRATIONS, SCHEMA_VERSION};
-use super::store::*;
+use super::schema::SCHEMA_VERSION;
+use super::sql::{self, Cell, Session, SqlBackend, Value};
 use super::HistoryError;
-use crate::compare::Severity;
-use crate::line::State;
-use rusqlite::{params, Connection, OpenFlags, OptionalExtension, TransactionBehavior};
+use rusqlite::{Connection, OpenFlags, TransactionBehavior};
 use std::io::Read;
 use std::path::{Path, PathBuf};
 use std::time::Duration;
@@ -69,12 +67,83 @@ fn is_busy(e: &rusqlite::Error) -> bool {
     )
 }
 
-fn finite(x: f64) -> Option<f64> {
-    x.is_finite().then_some(x)
+/// A connection (or a transaction, which derefs to one) as a [`Session`]: `$n` placeholders are bound by
+/// name.
+struct Lite<'a> {
+    conn: &'a Connection,
+    path: &'a Path,
 }
 
-fn state_of(s: &str) -> State {
-    s.parse().unwrap_or(State::Cold)
+impl Lite<'_> {
+    fn err(&self, source: rusqlite::Error) -> HistoryError {
+        HistoryError::Sqlite {
+            path: self.path.to_path_buf(),
+            source,
+        }
+    }
+
+    fn prepare(
+        &self,
+        sql: &str,
+        params: &[Value],
+    ) -> rusqlite::Result<rusqlite::CachedStatement<'_>> {
+        let mut st = self.conn.prepare_cached(sql)?;
+        for (i, v) in params.iter().enumerate() {
+            if let Some(k) = st.parameter_index(&format!("${}", i + 1))? {
+                st.raw_bind_parameter(k, v)?;
+            }
+        }
+        Ok(st)
+    }
+}
+
+impl rusqlite::ToSql for Value {
+    fn to_sql(&self) -> rusqlite::Result<rusqlite::types::ToSqlOutput<'_>> {
+        use rusqlite::types::{ToSqlOutput, Value as V};
+        Ok(ToSqlOutput::Owned(match self {
+            Value::Int(v) => v.map_or(V::Null, V::Integer),
+            Value::Real(v) => v.map_or(V::Null, V::Real),
+            Value::Text(v) => v.clone().map_or(V::Null, V::Text),
+        }))
+    }
+}
+
+impl Session for Lite<'_> {
+    fn execute(&mut self, sql: &str, params: &[Value]) -> Result<u64, HistoryError> {
+        let run =
+            || -> rusqlite::Result<u64> { Ok(self.prepare(sql, params)?.raw_execute()? as u64) };
+        run().map_err(|e| self.err(e))
+    }
+
+    fn query(&mut self, sql: &str, params: &[Value]) -> Result<Vec<Vec<Cell>>, HistoryError> {
+        let run = || -> rusqlite::Result<Vec<Vec<Cell>>> {
+            use rusqlite::types::ValueRef;
+            let mut st = self.prepare(sql, params)?;
+            let n = st.column_count();
+            let mut rows = st.raw_query();
+            let mut out = Vec::new();
+            while let Some(r) = rows.next()? {
+                let mut cells = Vec::with_capacity(n);
+                for i in 0..n {
+                    cells.push(match r.get_ref(i)? {
+                        ValueRef::Null => Cell::Null,
+                        ValueRef::Integer(v) => Cell::Int(v),
+                        ValueRef::Real(v) => Cell::Real(v),
+                        ValueRef::Text(t) | ValueRef::Blob(t) => {
+                            Cell::Text(String::from_utf8_lossy(t).into_owned())
+                        }
+                    });
+                }
+                out.push(cells);
+            }
+            Ok(out)
+        };
+        run().map_err(|e| self.err(e))
+    }
+
+    fn db(&self) -> String {
+        self.path.display().to_string()
+    }
 }
 
 impl SqliteStore {
@@ -90,7 +159,7 @@ impl SqliteStore {
         let exists = check_file(path)?;
         if !exists && !create {
             return Err(HistoryError::Missing {
-                path: path.to_path_buf(),
+                db: path.display().to_string(),
             });
         }
         if !exists {
@@ -139,7 +208,7 @@ impl SqliteStore {
         let found = store.version()?;
         if found > SCHEMA_VERSION {
             return Err(HistoryError::NewerSchema {
-                path: path.to_path_buf(),
+                db: path.display().to_string(),
                 found,
                 supported: SCHEMA_VERSION,
             });
@@ -185,358 +254,83 @@ impl SqliteStore {
         }
         if !tables.iter().any(|t| t == "schema_migrations") {
             return Err(HistoryError::Foreign {
-                path: self.path.clone(),
+                db: self.path.display().to_string(),
             });
         }
-        self.conn
-            .query_row(
-                "SELECT COALESCE(MAX(version), 0) FROM schema_migrations",
-                [],
-                |r| r.get(0),
-            )
-            .map_err(|e| self.err(e))
+        sql::recorded_version(&mut self.session())
+    }
+
+    fn session(&self) -> Lite<'_> {
+        Lite {
+            conn: &self.conn,
+            path: &self.path,
+        }
     }
 
     /// Apply every migration above the database's version up to `target`, in one transaction (another
     /// process migrating at the same time waits, then finds nothing left to do).
     fn migrate(&mut self, target: i64) -> Result<(), HistoryError> {
-        let path = self.path.clone();
-        let err = |source| HistoryError::Sqlite {
-            path: path.clone(),
-            source,
-        };
-        let tx = self
-            .conn
-            .transaction_with_behavior(TransactionBehavior::Immediate)
-            .map_err(err)?;
-        let has_table: bool = tx
-            .query_row(
-                "SELECT COUNT(*) FROM sqlite_master WHERE type = 'table' AND name = 'schema_migrations'",
-                [],
-                |r| r.get::<_, i64>(0),
-            )
-            .map_err(err)?
-            > 0;
-        let current: i64 = if has_table {
-            tx.query_row(
-                "SELECT COALESCE(MAX(version), 0) FROM schema_migrations",
-                [],
-                |r| r.get(0),
-            )
-            .map_err(err)?
-        } else {
-            0
-        };
-        let (now, _) = super::now();
-        for m in MIGRATIONS
-            .iter()
-            .filter(|m| m.version > current && m.version <= target)
-        {
-            for s in statements(m) {
-                tx.execute(s, []).map_err(err)?;
-            }
-            tx.execute(
-                "INSERT INTO schema_migrations (version, description, applied_at) VALUES (?1, ?2, ?3)",
-                params![m.version, m.description, now],
-            )
-            .map_err(err)?;
-        }
-        tx.commit().map_err(err)
-    }
-
-    /// [`HistoryStore::insert`], calling `before_commit` inside the transaction once every row is written
-    /// and before it commits (tests use it to kill the process mid-write).
-    pub fn insert_with(
-        &mut self,
-        rec: &NewRecord,
-        before_commit: impl FnOnce(),
-    ) -> Result<Inserted, HistoryError> {
-        let path = self.path.clone();
-        let err = |source| HistoryError::Sqlite {
-            path: path.clone(),
-            source,
-        };
-        let tx = self
-            .conn
-            .transaction_with_behavior(TransactionBehavior::Immediate)
-            .map_err(err)?;
-        let existing: Option<i64> = tx
-            .query_row(
-                "SELECT id FROM records WHERE sha256 = ?1",
-                [&rec.sha256],
-                |r| r.get(0),
-            )
-            .optional()
-            .map_err(err)?;
-        if let Some(id) = existing {
-            return Ok(Inserted { id, created: false });
-        }
-        let line_id: i64 = match tx
-            .query_row("SELECT id FROM lines WHERE name = ?1", [&rec.line], |r| {
-                r.get(0)
-            })
-            .optional()
-            .map_err(err)?
-        {
-            Some(id) => id,
-            None => {
-                let id: i64 = tx
-                    .query_row("SELECT COALESCE(MAX(id), 0) + 1 FROM lines", [], |r| {
-                        r.get(0)
-                    })
-                    .map_err(err)?;
-                tx.execute(
-                    "INSERT INTO lines (id, name, baseline_record) VALUES (?1, ?2, NULL)",
-                    params![id, rec.line],
-                )
-                .map_err(err)?;
-                id
-            }
-        };
-        let id: i64 = tx
-            .query_row("SELECT COALESCE(MAX(id), 0) + 1 FROM records", [], |r| {
-                r.get(0)
-            })
-            .map_err(err)?;
-        let (recorded_at, _) = super::now();
-        tx.execute(
-            "INSERT INTO records (id, line_id, taken_at, taken_at_ms, state, note, sweep_path, sha256, \
-             compared_with, worst_severity, recorded_at) VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11)",
-            params![
-                id,
-                line_id,
-                rec.at,
-                rec.at_ms,
-                rec.state.name(),
-                rec.note,
-                rec.sweep,
-                rec.sha256,
-                rec.compared_with,
-                rec.worst_severity.map(Severity::name),
-                recorded_at
-            ],
-        )
-        .map_err(err)?;
-        for (stage, kelvin) in &rec.stage_temperatures {
-            tx.execute(
-                "INSERT INTO stage_temperatures (record_id, stage, kelvin) VALUES (?1, ?2, ?3)",
-                params![id, stage, kelvin],
-            )
-            .map_err(err)?;
-        }
-        for (seq, l) in rec.landmarks.iter().enumerate() {
-            tx.execute(
-                "INSERT INTO landmarks (record_id, seq, element, kind, start_m, end_m, reflection_db, \
-                 floor_db, delay_s, loss_change_db) VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10)",
-                params![
-                    id,
-                    seq as i64,
-                    l.element,
-                    l.kind.name(),
-                    l.start_m,
-                    l.end_m,
-                    l.reflection_db.and_then(finite),
-                    l.floor_db.and_then(finite),
-                    l.delay_s.and_then(finite),
-                    l.loss_change_db.and_then(finite)
-                ],
-            )
-            .map_err(err)?;
-        }
-        for f in &rec.findings {
-            tx.execute(
-                "INSERT INTO findings (record_id, finding_rank, element, distance_m, kind, severity, \
-                 reflection_db, change_db, power_drop_db, explanation) \
-                 VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10)",
-                params![
-                    id,
-                    f.rank as i64,
-                    f.element,
-                    f.distance_m.and_then(finite),
-                    f.kind,
-                    f.severity.name(),
-                    f.reflection_db.and_then(finite),
-                    f.change_db.and_then(finite),
-                    f.power_drop_db.and_then(finite),
-                    f.explanation
-                ],
-            )
-            .map_err(err)?;
-        }
-        before_commit();
-        tx.commit().map_err(err)?;
-        Ok(Inserted { id, created: true })
-    }
-
-    fn summaries(
-        &self,
-        filter_sql: &str,
-        param: &dyn rusqlite::ToSql,
-    ) -> Result<Vec<RecordSummary>, HistoryError> {
-        let sql = format!(
-            "SELECT r.id, l.name, r.taken_at, r.state, r.sha256, r.sweep_path, r.note, r.worst_severity, \
-             r.compared_with, l.baseline_record FROM records r JOIN lines l ON l.id = r.line_id \
-             WHERE {filter_sql} ORDER BY l.name, r.taken_at_ms, r.id"
-        );
-        let run = || -> rusqlite::Result<Vec<RecordSummary>> {
-            let mut st = self.conn.prepare(&sql)?;
-            let rows = st.query_map([param], |r| {
-                let id: i64 = r.get(0)?;
-                let state: String = r.get(3)?;
-                let sev: Option<String> = r.get(7)?;
-                let base: Option<i64> = r.get(9)?;
-                Ok(RecordSummary {
-                    id,
-                    line: r.get(1)?,
-                    at: r.get(2)?,
-                    state: state_of(&state),
-                    sha256: r.get(4)?,
-                    sweep: r.get(5)?,
-                    note: r.get(6)?,
-                    worst_severity: sev.as_deref().and_then(Severity::parse),
-                    compared_with: r.get(8)?,
-                    is_baseline: base == Some(id),
-                })
-            })?;
-            rows.collect()
-        };
-        run().map_err(|e| self.err(e))
+        self.write(|s| {
+            let has_table = !s
+                .query(
+                    "SELECT name FROM sqlite_master WHERE type = 'table' AND name = 'schema_migrations'",
+                    &[],
+                )?
+                .is_empty();
+            let current = if has_table {
+                sql::recorded_version(s)?
+            } else {
+                0
+            };
+            sql::apply_migrations(s, current, target)
+        })
     }
 }
 
-impl HistoryStore for SqliteStore {
-    fn location(&self) -> &Path {
-        &self.path
+impl SqlBackend for SqliteStore {
+    fn shown(&self) -> String {
+        self.path.display().to_string()
     }
 
-    fn insert(&mut self, rec: &NewRecord) -> Result<Inserted, HistoryError> {
-        self.insert_with(rec, || {})
+    fn db_file(&self) -> Option<&Path> {
+        Some(&self.path)
     }
 
-    fn find_sha256(&self, sha256: &str) -> Result<Option<RecordSummary>, HistoryError> {
-        Ok(self.summaries("r.sha256 = ?1", &sha256)?.into_iter().next())
+    fn read<T>(
+        &self,
+        work: impl FnOnce(&mut dyn Session) -> Result<T, HistoryError>,
+    ) -> Result<T, HistoryError> {
+        work(&mut self.session())
     }
 
-    fn list(&self, line: Option<&str>) -> Result<Vec<RecordSummary>, HistoryError> {
-        self.summaries("(?1 IS NULL OR l.name = ?1)", &line)
-    }
-
-    fn lines(&self) -> Result<Vec<String>, HistoryError> {
-        let run = || -> rusqlite::Result<Vec<String>> {
-            let mut st = self.conn.prepare("SELECT name FROM lines ORDER BY name")?;
-            let rows = st.query_map([], |r| r.get(0))?;
-            rows.collect()
+    /// One `BEGIN IMMEDIATE` transaction: the write lock is taken before anything is read.
+    fn write<T>(
+        &mut self,
+        work: impl FnOnce(&mut dyn Session) -> Result<T, HistoryError>,
+    ) -> Result<T, HistoryError> {
+        let fail = |source| HistoryError::Sqlite {
+            path: self.path.clone(),
+            source,
         };
-        run().map_err(|e| self.err(e))
-    }
-
-    fn detail(&self, id: i64) -> Result<Option<RecordDetail>, HistoryError> {
-        let Some(summary) = self.summaries("r.id = ?1", &id)?.into_iter().next() else {
-            return Ok(None);
-        };
-        let run = || -> rusqlite::Result<RecordDetail> {
-            let mut st = self.conn.prepare(
-                "SELECT stage, kelvin FROM stage_temperatures WHERE record_id = ?1 ORDER BY kelvin DESC, stage",
-            )?;
-            let stage_temperatures = st
-                .query_map([id], |r| {
-                    Ok(StageTemperature {
-                        stage: r.get(0)?,
-                        kelvin: r.get(1)?,
-                    })
-                })?
-                .collect::<rusqlite::Result<Vec<_>>>()?;
-            let mut st = self.conn.prepare(
-                "SELECT element, kind, start_m, end_m, reflection_db, floor_db, delay_s, loss_change_db \
-                 FROM landmarks WHERE record_id = ?1 ORDER BY seq",
-            )?;
-            let landmarks = st
-                .query_map([id], |r| {
-                    let kind: String = r.get(1)?;
-                    Ok(Landmark {
-                        element: r.get(0)?,
-                        kind: LandmarkKind::parse(&kind).unwrap_or(LandmarkKind::Connector),
-                        start_m: r.get(2)?,
-                        end_m: r.get(3)?,
-                        reflection_db: r.get(4)?,
-                        floor_db: r.get(5)?,
-                        delay_s: r.get(6)?,
-                        loss_change_db: r.get(7)?,
-                    })
-                })?
-                .collect::<rusqlite::Result<Vec<_>>>()?;
-            let mut st = self.conn.prepare(
-                "SELECT finding_rank, element, distance_m, kind, severity, reflection_db, change_db, \
-                 power_drop_db, explanation FROM findings WHERE record_id = ?1 ORDER BY finding_rank",
-            )?;
-            let findings = st
-                .query_map([id], |r| {
-                    let sev: String = r.get(4)?;
-                    Ok(StoredFinding {
-                        rank: r.get::<_, i64>(0)? as usize,
-                        element: r.get(1)?,
-                        distance_m: r.get(2)?,
-                        kind: r.get(3)?,
-                        severity: Severity::parse(&sev).unwrap_or(Severity::Info),
-                        reflection_db: r.get(5)?,
-                        change_db: r.get(6)?,
-                        power_drop_db: r.get(7)?,
-                        explanation: r.get(8)?,
-                    })
-                })?
-                .collect::<rusqlite::Result<Vec<_>>>()?;
-            Ok(RecordDetail {
-                summary: summary.clone(),
-                stage_temperatures,
-                landmarks,
-                findings,
-            })
-        };
-        run().map(Some).map_err(|e| self.err(e))
-    }
-
-    fn baseline(&self, line: &str) -> Result<Option<i64>, HistoryError> {
-        self.conn
-            .query_row(
-                "SELECT baseline_record FROM lines WHERE name = ?1",
-                [line],
-                |r| r.get::<_, Option<i64>>(0),
-            )
-            .optional()
-            .map(Option::flatten)
-            .map_err(|e| self.err(e))
-    }
-
-    fn set_baseline(&mut self, line: &str, record: i64) -> Result<(), HistoryError> {
-        let Some(rec) = self.detail(record)? else {
-            return Err(HistoryError::UnknownRecord {
-                path: self.path.clone(),
-                message: format!("no record {record}"),
-            });
-        };
-        if rec.summary.line != line {
-            self.line_details(line)?;
-            return Err(HistoryError::UnknownRecord {
-                path: self.path.clone(),
-                message: format!(
-                    "record {record} is of line '{}', not '{line}'",
-                    rec.summary.line
-                ),
-            });
-        }
-        self.conn
-            .execute(
-                "UPDATE lines SET baseline_record = ?1 WHERE name = ?2",
-                params![record, line],
-            )
-            .map(|_| ())
-            .map_err(|e| self.err(e))
+        let tx = self
+            .conn
+            .transaction_with_behavior(TransactionBehavior::Immediate)
+            .map_err(fail)?;
+        let out = work(&mut Lite {
+            conn: &tx,
+            path: &self.path,
+        })?;
+        tx.commit().map_err(fail)?;
+        Ok(out)
     }
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::compare::Severity;
+    use crate::history::store::*;
+    use crate::line::State;
 
     fn rec(line: &str, sha: &str, at_ms: i64) -> NewRecord {
         NewRecord {

@@ -142,8 +142,13 @@ pub struct Inserted {
 
 /// A history back-end. Every write is one transaction: it happens whole or not at all.
 pub trait HistoryStore {
-    /// Where the history lives (for messages).
-    fn location(&self) -> &Path;
+    /// Where the history lives, as messages name it: a file's path, or a server's URL without its
+    /// password.
+    fn location(&self) -> String;
+    /// The database file, for a back-end that keeps one (so that no output is ever written over it).
+    fn file(&self) -> Option<&Path> {
+        None
+    }
     /// Store a record, unless one with the same `sha256` exists (then return that one's id).
     fn insert(&mut self, rec: &NewRecord) -> Result<Inserted, HistoryError>;
     /// The record of this sweep content, if any.
@@ -156,22 +161,13 @@ pub trait HistoryStore {
     fn detail(&self, id: i64) -> Result<Option<RecordDetail>, HistoryError>;
     /// The line's chosen baseline record.
     fn baseline(&self, line: &str) -> Result<Option<i64>, HistoryError>;
-    /// Choose the record later sweeps of the line are compared against.
+    /// Choose the record later sweeps of the line are compared against (a record of that line).
     fn set_baseline(&mut self, line: &str, record: i64) -> Result<(), HistoryError>;
 
     /// Every record of `line` in detail, oldest first; an unknown line is an error naming the closest
     /// known one.
     fn line_details(&self, line: &str) -> Result<Vec<RecordDetail>, HistoryError> {
-        let known = self.lines()?;
-        if !known.iter().any(|l| l == line) {
-            let best =
-                crate::line::names::closest(line, known.iter().map(|k| (k.as_str(), k.as_str())));
-            return Err(HistoryError::UnknownLine {
-                path: self.location().to_path_buf(),
-                line: line.to_string(),
-                suggestion: crate::line::names::did_you_mean(best),
-            });
-        }
+        check_line(&self.lines()?, line, &self.location())?;
         let mut out = Vec::new();
         for r in self.list(Some(line))? {
             if let Some(d) = self.detail(r.id)? {
@@ -180,4 +176,17 @@ pub trait HistoryStore {
         }
         Ok(out)
     }
+}
+
+/// `line` must be one of the `known` lines of the history at `db`; else an error naming the closest.
+pub fn check_line(known: &[String], line: &str, db: &str) -> Result<(), HistoryError> {
+    if known.iter().any(|l| l == line) {
+        return Ok(());
+    }
+    let best = crate::line::names::closest(line, known.iter().map(|k| (k.as_str(), k.as_str())));
+    Err(HistoryError::UnknownLine {
+        db: db.to_string(),
+        line: line.to_string(),
+        suggestion: crate::line::names::did_you_mean(best),
+    })
 }

@@ -344,7 +344,7 @@ pub fn line_trend(
     if in_state.is_empty() {
         return Err(crate::Error::Usage(format!(
             "{}: line '{line}' has no {} records ({} in all); pass --state {} for the others",
-            store.location().display(),
+            store.location(),
             state.name(),
             records.len(),
             match state {

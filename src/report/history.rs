@@ -24,16 +24,29 @@ pub const HISTORY_FIGURE_SIZE: (u32, u32) = (640, 400);
 pub const TREND_NAME: &str = "trend (Theil-Sen)";
 pub const FLOOR_NAME: &str = "detection floor";
 
-/// The history database as an input of the report: its path and the SHA-256 of its file as it stands,
-/// read in pieces (a history grows past any size limit a sweep has).
-pub fn database_input(path: &std::path::Path) -> crate::Result<InputFile> {
+/// The history as an input of a report. A file: its path and the SHA-256 of its bytes. A server: its URL
+/// (without its password) and the SHA-256 of the records shown, each record's sweep SHA-256 in order, one
+/// per line (a server's database has no file to hash, and the records are what the report draws from).
+pub fn database_input(
+    store: &dyn crate::history::HistoryStore,
+    records: &[crate::history::RecordDetail],
+) -> crate::Result<InputFile> {
     use sha2::{Digest, Sha256};
-    let mut file = std::fs::File::open(path).map_err(|e| crate::Error::io(path, e))?;
     let mut hasher = Sha256::new();
-    std::io::copy(&mut file, &mut hasher).map_err(|e| crate::Error::io(path, e))?;
+    let role = if let Some(path) = store.file() {
+        let mut file = std::fs::File::open(path).map_err(|e| crate::Error::io(path, e))?;
+        std::io::copy(&mut file, &mut hasher).map_err(|e| crate::Error::io(path, e))?;
+        "history database"
+    } else {
+        for r in records {
+            hasher.update(r.summary.sha256.as_bytes());
+            hasher.update(b"\n");
+        }
+        "history database (server; SHA-256 of the records shown)"
+    };
     Ok(InputFile {
-        role: "history database".to_string(),
-        path: path.display().to_string(),
+        role: role.to_string(),
+        path: store.location(),
         sha256: hasher
             .finalize()
             .iter()

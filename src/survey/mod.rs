@@ -16,7 +16,7 @@ pub use manifest::{parse_manifest, read_manifest, SurveyItem};
 
 use crate::compare::job::{run_compare_in, CompareJob, LineSource};
 use crate::compare::{AnalysisConfig, Finding, Severity};
-use crate::history::{record_sweep, RecordJob, SqliteStore};
+use crate::history::{open_store, record_sweep, Database, RecordJob};
 use crate::transform::TraceEngine;
 use rayon::prelude::*;
 use serde::Serialize;
@@ -44,7 +44,7 @@ pub struct SurveyConfig {
     /// Worker threads; `None`: one per core.
     pub jobs: Option<usize>,
     /// Record each line's current sweep in the history at this database.
-    pub record_db: Option<PathBuf>,
+    pub record_db: Option<Database>,
     pub analysis: AnalysisConfig,
 }
 
@@ -136,11 +136,11 @@ pub fn survey_line_in(
         Err(e) => row.error = Some(e.to_string()),
     }
     if let Some(db) = &cfg.record_db {
-        let rec = SqliteStore::open(db, true)
+        let rec = open_store(db, true)
             .map_err(crate::Error::from)
             .and_then(|mut store| {
                 record_sweep(
-                    &mut store,
+                    &mut *store,
                     &RecordJob {
                         sweep: item.current.clone(),
                         line: item.line.clone(),
