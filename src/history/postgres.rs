@@ -46,8 +46,9 @@ const INSUFFICIENT_PRIVILEGE: &str = "42501";
 const ADMIN_SHUTDOWN: &str = "57P01";
 
 /// What a failed write adds to the driver's message.
-const NOT_COMMITTED: &str = "the record was not committed, and the server keeps nothing of an \
-     unfinished transaction: nothing of it was stored. Run the command again: it records the sweep once";
+const NOT_COMMITTED: &str = "the write was not committed, and the server keeps nothing of an \
+     unfinished transaction: nothing of it was stored. Run the command again (a sweep is recorded once, \
+     however often it is run)";
 
 /// A history on a PostgreSQL server.
 pub struct PostgresStore {
