@@ -11,11 +11,11 @@ use coldtrace::history::sql::SqlBackend;
 use coldtrace::history::{open_store, Database, PostgresStore, SqliteStore};
 use std::ffi::OsStr;
 use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
+use std::process::Command;
 
 #[path = "common/history_cli.rs"]
 mod history_cli;
-use history_cli::{bin, expect_code, line_file, ok, sweep};
+use history_cli::{bin, expect_code, line_file, ok, record, run, sweep};
 
 #[path = "common/backends.rs"]
 mod backends;
@@ -31,21 +31,6 @@ fn record_cmd(sweep: &Path) -> Command {
         .arg(line_file())
         .args(["--state", "cold"]);
     c
-}
-
-fn run(db: &OsStr, args: &[&str]) -> Output {
-    bin().args(args).arg("--db").arg(db).output().unwrap()
-}
-
-fn record(db: &OsStr, sweep: &Path, extra: &[&str]) -> serde_json::Value {
-    let mut args = vec!["history", "record", sweep.to_str().unwrap(), "--line"];
-    let lf = line_file();
-    args.push(lf.to_str().unwrap());
-    args.extend_from_slice(extra);
-    args.push("--json");
-    let o = run(db, &args);
-    expect_code(&o, 0);
-    ok(&o)
 }
 
 #[test]

@@ -13,41 +13,20 @@ use coldtrace::history::sql::SqlBackend;
 use coldtrace::history::{open_store, Database, HistoryStore, PostgresStore, ServerUrl};
 use std::ffi::OsStr;
 use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
+use std::process::Command;
 
 #[path = "common/history_cli.rs"]
 mod history_cli;
-use history_cli::{bin, expect_code, line_file, ok, sweep};
+use history_cli::{bin, expect_code, line_file, ok, record, run, sweep};
 
 #[path = "common/backends.rs"]
 mod backends;
 
 const LINE: &str = "north-fridge/in-07";
 
-fn run(db: &OsStr, args: &[&str]) -> Output {
-    bin().args(args).arg("--db").arg(db).output().unwrap()
-}
-
 /// `history record` of `sweep` (cold) at time `at`, as JSON.
 fn record_at(db: &OsStr, sweep: &Path, at: &str) -> serde_json::Value {
-    let lf = line_file();
-    let o = run(
-        db,
-        &[
-            "history",
-            "record",
-            sweep.to_str().unwrap(),
-            "--line",
-            lf.to_str().unwrap(),
-            "--state",
-            "cold",
-            "--at",
-            at,
-            "--json",
-        ],
-    );
-    expect_code(&o, 0);
-    ok(&o)
+    record(db, sweep, &["--state", "cold", "--at", at])
 }
 
 /// Five cooldowns of the demo line, J2's contact climbing, in `dir`.

@@ -11,11 +11,10 @@ mod html_page;
 use html_page::sel;
 use sha2::{Digest, Sha256};
 use std::path::{Path, PathBuf};
-use std::process::Output;
 
 #[path = "common/history_cli.rs"]
 mod history_cli;
-use history_cli::{bin, expect_code};
+use history_cli::{expect_code, run};
 
 const LINE: &str = "north-fridge/out-03";
 
@@ -23,10 +22,6 @@ fn fleet(name: &str) -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR"))
         .join("sample-sweeps/north-fridge/fleet")
         .join(name)
-}
-
-fn run(db: &Path, args: &[&str]) -> Output {
-    bin().args(args).arg("--db").arg(db).output().unwrap()
 }
 
 fn sha256(path: &Path) -> String {

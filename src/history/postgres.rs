@@ -18,7 +18,7 @@
 
 use super::db::ServerUrl;
 use super::schema::SCHEMA_VERSION;
-use super::sql::{self, Cell, Session, SqlBackend, Value};
+use super::sql::{Cell, Session, SqlBackend, Value};
 use super::HistoryError;
 use postgres::config::SslMode;
 use postgres::types::{ToSql, Type};
@@ -108,12 +108,17 @@ struct Pg<'a, G> {
     writing: bool,
 }
 
+/// The driver's error as the history's, naming the server without its password.
+fn server_error(url: &ServerUrl, e: &postgres::Error, writing: bool) -> HistoryError {
+    HistoryError::Server {
+        db: url.shown().to_string(),
+        message: message(url, e, writing),
+    }
+}
+
 impl<G> Pg<'_, G> {
     fn err(&self, e: postgres::Error) -> HistoryError {
-        HistoryError::Server {
-            db: self.url.shown().to_string(),
-            message: message(self.url, &e, self.writing),
-        }
+        server_error(self.url, &e, self.writing)
     }
 }
 
@@ -249,10 +254,7 @@ impl PostgresStore {
         }
         let target = version.min(SCHEMA_VERSION);
         if found < target {
-            store.write(|s| {
-                let current = Self::version_in(s)?;
-                sql::apply_migrations(s, current, target)
-            })?;
+            store.migrate_to(target)?;
         }
         Ok(store)
     }
@@ -265,32 +267,13 @@ impl PostgresStore {
             writing: false,
         }
     }
-
-    /// The schema version of the history in the current schema of the database: 0 when it holds no
-    /// tables; a database with other tables and no `schema_migrations` is refused.
-    pub fn version(&self) -> Result<i64, HistoryError> {
-        Self::version_in(&mut self.session())
-    }
-
-    fn version_in(s: &mut dyn Session) -> Result<i64, HistoryError> {
-        let tables = s.query(
-            "SELECT CAST(tablename AS TEXT) FROM pg_tables WHERE schemaname = current_schema()",
-            &[],
-        )?;
-        if tables.is_empty() {
-            return Ok(0);
-        }
-        if !tables
-            .iter()
-            .any(|r| r.first() == Some(&Cell::Text("schema_migrations".into())))
-        {
-            return Err(HistoryError::Foreign { db: s.db() });
-        }
-        sql::recorded_version(s)
-    }
 }
 
 impl SqlBackend for PostgresStore {
+    /// The tables of the connection's current schema (`search_path`), whoever may read them.
+    const TABLES_SQL: &'static str =
+        "SELECT CAST(tablename AS TEXT) FROM pg_tables WHERE schemaname = current_schema()";
+
     fn shown(&self) -> String {
         self.url.shown().to_string()
     }
@@ -308,10 +291,7 @@ impl SqlBackend for PostgresStore {
         work: impl FnOnce(&mut dyn Session) -> Result<T, HistoryError>,
     ) -> Result<T, HistoryError> {
         let url = &self.url;
-        let fail = |e: postgres::Error| HistoryError::Server {
-            db: url.shown().to_string(),
-            message: message(url, &e, true),
-        };
+        let fail = |e: postgres::Error| server_error(url, &e, true);
         let client = self.client.get_mut();
         let mut tx = client.transaction().map_err(fail)?;
         tx.execute("SELECT pg_advisory_xact_lock($1)", &[&WRITE_LOCK_KEY])

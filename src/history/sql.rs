@@ -141,8 +141,17 @@ fn scalar(s: &mut dyn Session, sql: &str, params: &[Value]) -> Result<Option<i64
         .flatten())
 }
 
-/// The schema version recorded in `schema_migrations` (0 when it holds none).
-pub fn recorded_version(s: &mut dyn Session) -> Result<i64, HistoryError> {
+/// The schema version of a database whose tables `tables_sql` lists (one text column, the back-end's own
+/// catalogue query): 0 when it has no tables; a database with tables and no `schema_migrations` is
+/// another application's and is refused; else the largest version `schema_migrations` records.
+pub fn schema_version(s: &mut dyn Session, tables_sql: &str) -> Result<i64, HistoryError> {
+    let tables = rows(s, tables_sql, &[], |r| r.text(0))?;
+    if tables.is_empty() {
+        return Ok(0);
+    }
+    if !tables.iter().any(|t| t == "schema_migrations") {
+        return Err(HistoryError::Foreign { db: s.db() });
+    }
     Ok(scalar(
         s,
         "SELECT COALESCE(MAX(version), 0) FROM schema_migrations",
@@ -153,11 +162,7 @@ pub fn recorded_version(s: &mut dyn Session) -> Result<i64, HistoryError> {
 
 /// Apply every migration above `current` up to `target`, recording each; the caller holds the write lock
 /// inside one transaction.
-pub fn apply_migrations(
-    s: &mut dyn Session,
-    current: i64,
-    target: i64,
-) -> Result<(), HistoryError> {
+fn apply_migrations(s: &mut dyn Session, current: i64, target: i64) -> Result<(), HistoryError> {
     let (now, _) = super::now();
     for m in MIGRATIONS
         .iter()
@@ -415,6 +420,8 @@ pub fn set_baseline(s: &mut dyn Session, line: &str, record: i64) -> Result<(), 
 /// holds the database's write lock from its first statement to its commit. Every such back-end is a
 /// [`HistoryStore`], with the same answers.
 pub trait SqlBackend {
+    /// The back-end's catalogue query listing the tables of the history's schema, one text column.
+    const TABLES_SQL: &'static str;
     /// The database as messages name it (a file's path, or a server's URL without its password).
     fn shown(&self) -> String;
     /// The database file, for a back-end that keeps one.
@@ -431,6 +438,20 @@ pub trait SqlBackend {
         &mut self,
         work: impl FnOnce(&mut dyn Session) -> Result<T, HistoryError>,
     ) -> Result<T, HistoryError>;
+
+    /// The schema version of the open database ([`schema_version`]).
+    fn version(&self) -> Result<i64, HistoryError> {
+        self.read(|s| schema_version(s, Self::TABLES_SQL))
+    }
+
+    /// Apply every migration above the database's version up to `target`, in one transaction holding
+    /// the write lock (another process migrating at the same time waits, then finds nothing left to do).
+    fn migrate_to(&mut self, target: i64) -> Result<(), HistoryError> {
+        self.write(|s| {
+            let current = schema_version(s, Self::TABLES_SQL)?;
+            apply_migrations(s, current, target)
+        })
+    }
 
     /// [`HistoryStore::insert`], calling `before_commit` inside the transaction once every row is written
     /// and before it commits (tests use it to kill the process, or cut the connection, mid-record).

@@ -13,7 +13,7 @@
 //! - parameterised SQL only: no value is ever spliced into a statement.
 
 use super::schema::SCHEMA_VERSION;
-use super::sql::{self, Cell, Session, SqlBackend, Value};
+use super::sql::{Cell, Session, SqlBackend, Value};
 use super::HistoryError;
 use rusqlite::{Connection, OpenFlags, TransactionBehavior};
 use std::io::Read;
@@ -222,42 +222,22 @@ impl SqliteStore {
             .execute_batch("PRAGMA synchronous=FULL; PRAGMA foreign_keys=ON;")
             .map_err(err)?;
         if found < version.min(SCHEMA_VERSION) {
-            store.migrate(version.min(SCHEMA_VERSION))?;
+            store.migrate_to(version.min(SCHEMA_VERSION))?;
         }
         Ok(store)
     }
 
-    fn err(&self, source: rusqlite::Error) -> HistoryError {
-        HistoryError::Sqlite {
-            path: self.path.clone(),
-            source,
-        }
-    }
-
-    /// The schema version of the open database: 0 for an empty file; refuses a foreign database.
+    /// The schema version of the open database: 0 for an empty file; refuses a file that is not an
+    /// SQLite database, and another application's database.
     pub fn version(&self) -> Result<i64, HistoryError> {
-        let tables: Vec<String> = (|| {
-            let mut st = self
-                .conn
-                .prepare("SELECT name FROM sqlite_master WHERE type = 'table'")?;
-            let rows = st.query_map([], |r| r.get::<_, String>(0))?;
-            rows.collect::<rusqlite::Result<Vec<_>>>()
-        })()
-        .map_err(|e| match e.sqlite_error_code() {
-            Some(rusqlite::ErrorCode::NotADatabase) => HistoryError::NotADatabase {
-                path: self.path.clone(),
-            },
-            _ => self.err(e),
-        })?;
-        if tables.is_empty() {
-            return Ok(0);
-        }
-        if !tables.iter().any(|t| t == "schema_migrations") {
-            return Err(HistoryError::Foreign {
-                db: self.path.display().to_string(),
-            });
-        }
-        sql::recorded_version(&mut self.session())
+        SqlBackend::version(self).map_err(|e| match e {
+            HistoryError::Sqlite { path, source }
+                if source.sqlite_error_code() == Some(rusqlite::ErrorCode::NotADatabase) =>
+            {
+                HistoryError::NotADatabase { path }
+            }
+            other => other,
+        })
     }
 
     fn session(&self) -> Lite<'_> {
@@ -266,28 +246,11 @@ impl SqliteStore {
             path: &self.path,
         }
     }
-
-    /// Apply every migration above the database's version up to `target`, in one transaction (another
-    /// process migrating at the same time waits, then finds nothing left to do).
-    fn migrate(&mut self, target: i64) -> Result<(), HistoryError> {
-        self.write(|s| {
-            let has_table = !s
-                .query(
-                    "SELECT name FROM sqlite_master WHERE type = 'table' AND name = 'schema_migrations'",
-                    &[],
-                )?
-                .is_empty();
-            let current = if has_table {
-                sql::recorded_version(s)?
-            } else {
-                0
-            };
-            sql::apply_migrations(s, current, target)
-        })
-    }
 }
 
 impl SqlBackend for SqliteStore {
+    const TABLES_SQL: &'static str = "SELECT name FROM sqlite_master WHERE type = 'table'";
+
     fn shown(&self) -> String {
         self.path.display().to_string()
     }

@@ -5,6 +5,7 @@
 
 use coldtrace::line::{simulate, Fault, SimConfig, State};
 use coldtrace::touchstone::{write, WriteOptions};
+use std::ffi::OsStr;
 use std::path::{Path, PathBuf};
 use std::process::{Command, Output};
 
@@ -52,4 +53,26 @@ pub fn ok(o: &Output) -> serde_json::Value {
         String::from_utf8_lossy(&o.stderr)
     );
     serde_json::from_slice(&o.stdout).unwrap_or(serde_json::Value::Null)
+}
+
+/// The binary with `args` and `--db DB`.
+pub fn run(db: impl AsRef<OsStr>, args: &[&str]) -> Output {
+    bin()
+        .args(args)
+        .arg("--db")
+        .arg(db.as_ref())
+        .output()
+        .unwrap()
+}
+
+/// `history record SWEEP --line <demo line> EXTRA --json --db DB`, which must exit 0; its JSON.
+pub fn record(db: &OsStr, sweep: &Path, extra: &[&str]) -> serde_json::Value {
+    let mut args = vec!["history", "record", sweep.to_str().unwrap(), "--line"];
+    let lf = line_file();
+    args.push(lf.to_str().unwrap());
+    args.extend_from_slice(extra);
+    args.push("--json");
+    let o = run(db, &args);
+    expect_code(&o, 0);
+    ok(&o)
 }
