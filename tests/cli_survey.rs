@@ -72,6 +72,31 @@ fn the_demo_fleet_ranks_worst_first_with_compares_answers() {
     assert_eq!(lines[1]["findings"][0]["element"], "J3");
 }
 
+#[test]
+fn a_survey_keeps_each_lines_findings_and_no_curves() {
+    // Memory bounded however large the fleet: what a survey holds of a finished line is its findings,
+    // with no per-frequency data (a finding's evidence curves are a few thousand numbers).
+    use coldtrace::survey::{read_manifest, run_survey, SurveyConfig};
+    let items = read_manifest(&fleet().join("survey.toml")).unwrap();
+    let cfg = SurveyConfig {
+        jobs: Some(2),
+        record_db: None,
+        analysis: Default::default(),
+    };
+    let r = run_survey(&items, &cfg, &|_| {}).unwrap();
+    let findings: Vec<_> = r.lines.iter().flat_map(|l| &l.findings).collect();
+    assert!(!findings.is_empty(), "the demo fleet has findings");
+    for f in findings {
+        assert!(
+            f.evidence.freqs_hz.is_empty()
+                && f.evidence.measured.is_empty()
+                && f.evidence.model.is_empty(),
+            "{}: evidence curves kept",
+            f.explanation
+        );
+    }
+}
+
 fn manifest(dir: &Path, body: &str) -> PathBuf {
     let p = dir.join("survey.toml");
     std::fs::write(&p, body).unwrap();

@@ -338,7 +338,7 @@ fn a_joint_either_side_of_an_attenuator_is_named_right_when_declared_lengths_are
 /// be the full comparison's, field for field but their ranks, under every hypothesis, on a pair with a
 /// fault and with joints whose small changes are noted at info.
 #[test]
-fn a_comparison_above_info_only_finds_what_the_full_one_finds_there() {
+fn a_comparison_above_info_only_or_findings_only_finds_what_the_full_one_finds() {
     use coldtrace::compare::run::{compare_in, Detail};
     use coldtrace::compare::states::Hypothesis;
     let l = line();
@@ -384,6 +384,25 @@ fn a_comparison_above_info_only_finds_what_the_full_one_finds_there() {
         let (full, part) = (go(Detail::Full), go(Detail::AboveInfo));
         assert_eq!(above(&full), above(&part), "{h:?}");
         assert!(part.findings.len() <= full.findings.len(), "{h:?}");
+        // What a survey keeps: every finding the full comparison gives, in its order, without the
+        // evidence curves; and no plot data.
+        let kept = go(Detail::Findings);
+        let bare = |r: &CompareReport| -> Vec<coldtrace::compare::Finding> {
+            r.findings
+                .iter()
+                .map(|f| {
+                    let mut f = f.clone();
+                    f.evidence = Default::default();
+                    f
+                })
+                .collect()
+        };
+        assert_eq!(bare(&full), kept.findings, "{h:?}");
+        assert!(
+            kept.findings.iter().all(|f| f.evidence.freqs_hz.is_empty()),
+            "{h:?}"
+        );
+        assert!(kept.plot.traces.is_empty(), "{h:?}");
         claimed += above(&full).len();
     }
     assert!(claimed > 0, "no hypothesis found the gap above info");

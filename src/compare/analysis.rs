@@ -10,7 +10,6 @@ use super::chain::{ghz_basis, ChainView, Which};
 use super::detect::{find_events, noise_sigma, LobeShape, Peak};
 use super::lumped::{fit_all, ModelFit};
 use super::CompareError;
-use crate::line::physics::NEPER_DB;
 use crate::transform::{
     bandpass::BandPassSpectrum, czt::phasors, gate::GateSource, uniform_grid, GatePlan, Grid,
     TraceEngine, Window,
@@ -396,26 +395,7 @@ impl SweepAnalysis {
     /// lifted, on average over the band as the window weighs it).
     fn weighted_gain(&self, m: &super::chain::LossModel, w: &[f64]) -> f64 {
         let w2: f64 = w.iter().map(|x| x * x).sum();
-        // 10^{L/20} at most MAX_COMPENSATION, as `ChainView::compensation_gain` gives it, with L as
-        // `LossModel::db` works it out from the frequency in GHz and its root.
-        // Well past the cap's exponent the exponential is not needed: the factor is the cap.
-        let past_cap = MAX_COMPENSATION.ln() * (1.0 + 1e-9) + 1e-9;
-        let g2: f64 = self
-            .ghz
-            .iter()
-            .zip(w)
-            .map(|(&(g, root), wn)| {
-                let db = m.a_sqrt * root + m.a_lin * g + m.a_flat;
-                let x = db / NEPER_DB;
-                let factor = if x > past_cap {
-                    MAX_COMPENSATION
-                } else {
-                    x.exp().min(MAX_COMPENSATION)
-                };
-                (wn * factor).powi(2)
-            })
-            .sum();
-        (g2 / w2).sqrt()
+        (super::chain::weighted_power(m, &self.ghz, w, MAX_COMPENSATION) / w2).sqrt()
     }
 
     /// Index of the piece whose stretch holds delay `t`.

@@ -183,9 +183,9 @@ pub fn fit_loss(freqs: &[f64], gamma: &[num_complex::Complex64]) -> Option<(Loss
     let pts: Vec<(f64, f64)> = freqs
         .iter()
         .zip(gamma)
-        .map(|(&f, g)| (f, g.norm_sqr().sqrt()))
-        .filter(|&(_, m)| m > 1e-6)
-        .map(|(f, m)| ((f / 1e9).max(0.0), 20.0 * m.log10()))
+        .map(|(&f, g)| (f, g.norm_sqr()))
+        .filter(|&(_, p)| p > 1e-12)
+        .map(|(f, p)| ((f / 1e9).max(0.0), crate::numeric::power_db(p)))
         .collect();
     if pts.len() < 8 {
         return None;

@@ -337,13 +337,31 @@ pub fn run_compare(job: &CompareJob) -> Result<CompareReport> {
 
 /// [`run_compare`] on `engine`'s plans (see [`compare_networks_in`]).
 pub fn run_compare_in(job: &CompareJob, engine: &mut TraceEngine) -> Result<CompareReport> {
+    run_compare_with(job, engine, Detail::Full)
+}
+
+/// [`run_compare_in`] for a caller that keeps the findings only (a fleet survey's worker): the same
+/// findings, ranked alike, with no plot data, no evidence curves and no visibility table worked out (see
+/// [`compare_findings_in`]).
+pub fn run_compare_findings_in(
+    job: &CompareJob,
+    engine: &mut TraceEngine,
+) -> Result<CompareReport> {
+    run_compare_with(job, engine, Detail::Findings)
+}
+
+fn run_compare_with(
+    job: &CompareJob,
+    engine: &mut TraceEngine,
+    detail: Detail,
+) -> Result<CompareReport> {
     let (nb, wb) = read_sweep(&job.baseline, job.source)?;
     let (nc, wc) = read_sweep(&job.current, job.source)?;
     let line = read_line(&job.line)?;
     let model = line_model(&line, &job.line);
     let bname = shown_name(&job.baseline, job.source).display().to_string();
     let cname = shown_name(&job.current, job.source).display().to_string();
-    let mut report = compare_networks_in(
+    let mut report = compare_networks_with(
         &PairRequest {
             baseline: (&bname, &nb),
             current: (&cname, &nc),
@@ -353,6 +371,7 @@ pub fn run_compare_in(job: &CompareJob, engine: &mut TraceEngine) -> Result<Comp
             analysis: &job.analysis,
         },
         engine,
+        detail,
     )?;
     let mut w = wb;
     w.extend(wc);
@@ -371,6 +390,22 @@ pub fn compare_networks(req: &PairRequest) -> Result<CompareReport> {
 /// pairs on one grid (a fleet survey's worker does): each plan is then built once, not once per pair. The
 /// report does not depend on what the engine already holds.
 pub fn compare_networks_in(req: &PairRequest, engine: &mut TraceEngine) -> Result<CompareReport> {
+    compare_networks_with(req, engine, Detail::Full)
+}
+
+/// [`compare_networks_in`] for a caller that keeps the findings only: every finding as it gives them
+/// (`Detail::Findings`), while the report's plot data, each finding's evidence curves and the line's
+/// visibility table are left empty. A fleet survey keeps thousands of lines' findings at once; the curves
+/// (a few thousand numbers a finding) would make its memory grow with the fleet.
+pub fn compare_findings_in(req: &PairRequest, engine: &mut TraceEngine) -> Result<CompareReport> {
+    compare_networks_with(req, engine, Detail::Findings)
+}
+
+fn compare_networks_with(
+    req: &PairRequest,
+    engine: &mut TraceEngine,
+    detail: Detail,
+) -> Result<CompareReport> {
     let (bname, nb) = req.baseline;
     let (cname, nc) = req.current;
     let line = match req.line {
@@ -413,7 +448,7 @@ pub fn compare_networks_in(req: &PairRequest, engine: &mut TraceEngine) -> Resul
             engine,
         )?)
     };
-    let mut report = run(open[0], states.clone(), Detail::Full)?;
+    let mut report = run(open[0], states.clone(), detail)?;
     // Another hypothesis can only take findings above info down (`intersect`): with none, there is nothing
     // to run it for, and what it would find at info is not reported.
     let claims = |r: &CompareReport| r.findings.iter().any(|f| f.severity > Severity::Info);
@@ -428,7 +463,9 @@ pub fn compare_networks_in(req: &PairRequest, engine: &mut TraceEngine) -> Resul
     let mut w = Vec::new();
     if let Some(l) = line {
         w.extend(l.warnings.iter().cloned());
-        report.visibility = crate::line::visibility(l, cs, &nc.freqs_hz, report.noise_rms)?;
+        if detail == Detail::Full {
+            report.visibility = crate::line::visibility(l, cs, &nc.freqs_hz, report.noise_rms)?;
+        }
         report.connector_lengths = Some(l.connector_lengths.name().to_string());
     }
     if states.inferred && open.len() > 1 {

@@ -391,7 +391,7 @@ fn far_end_prediction(
     })
 }
 
-/// Stage 4: explain one change as a finding.
+/// Stage 4: explain one change as a finding (with the curves of its evidence plot where `evidence`).
 #[allow(clippy::too_many_arguments)]
 pub fn explain_change(
     ch: &Change,
@@ -400,6 +400,7 @@ pub fn explain_change(
     same_state: bool,
     f_ref: f64,
     extra_significance: f64,
+    evidence: bool,
     engine: &mut TraceEngine,
 ) -> Result<Finding, CompareError> {
     // An echo in the line's steady part is judged, and costed, as in one state.
@@ -438,7 +439,11 @@ pub fn explain_change(
         (fl[0], fl[fl.len() - 1]),
     );
     let (drop_c, ml) = costs(best, &fl, &gl, chain.impedance_ohm, f_ref);
-    let evidence = Evidence::new(&fl, &gl, &model, chain.impedance_ohm);
+    let evidence = if evidence {
+        Evidence::new(&fl, &gl, &model, chain.impedance_ohm)
+    } else {
+        Evidence::default()
+    };
     // With no model, the echo's strength as the trace shows it: the same measure the baseline's level is.
     let drop_c = if best.is_none() {
         mismatch_loss_db(ch.mag_c.min(0.999))
@@ -765,6 +770,9 @@ pub fn rank(findings: &mut [Finding]) {
 pub enum Detail {
     /// Everything: every change explained, the plot's traces.
     Full,
+    /// Every finding as [`Detail::Full`] gives it, without what only plots draw: no traces and no
+    /// evidence curves (each finding's `evidence` left empty). What a fleet survey keeps of a line.
+    Findings,
     /// Only the findings above info, in full, and what they depend on: changes that can only be noted
     /// (info) are not explained and no plot is made. What another open hypothesis is run for
     /// (`job::compare_networks` keeps above info only what every hypothesis finds).
@@ -923,7 +931,7 @@ pub fn compare_in(
                 (&pa.c, Which::Current, current.name),
             ],
         ),
-        Detail::AboveInfo => report,
+        Detail::Findings | Detail::AboveInfo => report,
     })
 }
 
@@ -989,7 +997,16 @@ fn judge_changes(
         } else {
             0.0
         };
-        let mut f = explain_change(ch, pa, fit, same_state, f_ref, extra, engine)?;
+        let mut f = explain_change(
+            ch,
+            pa,
+            fit,
+            same_state,
+            f_ref,
+            extra,
+            detail != Detail::Findings,
+            engine,
+        )?;
         if noted_only {
             // Too small to count: reported, never above info.
             f.severity = Severity::Info;

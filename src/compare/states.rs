@@ -495,7 +495,7 @@ fn ratio_db(
     let y: Vec<f64> = gb
         .iter()
         .zip(&gc)
-        .map(|(b, c)| 20.0 * (c.norm().max(1e-12) / b.norm().max(1e-12)).log10())
+        .map(|(b, c)| crate::numeric::power_db(c.norm_sqr().max(1e-24) / b.norm_sqr().max(1e-24)))
         .collect();
     Ok(Some((fb, y)))
 }

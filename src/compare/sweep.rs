@@ -76,7 +76,8 @@ pub const PASSIVE_PEAK_LIMIT_DB: f64 = 3.0;
 /// [`PASSIVE_PEAK_LIMIT_DB`]). An amplifier lies in its path.
 pub fn shows_gain(sweep: &Sweep) -> Result<bool, CompareError> {
     let s = s11_of(sweep)?;
-    let peak = s.iter().map(|g| g.norm()).fold(0.0, f64::max);
+    // The largest |S11| as the root of the largest |S11|^2 (one root, not one per point).
+    let peak = s.iter().map(|g| g.norm_sqr()).fold(0.0, f64::max).sqrt();
     Ok(returned_power_db(&s) > PASSIVE_POWER_LIMIT_DB || db(peak) > PASSIVE_PEAK_LIMIT_DB)
 }
 

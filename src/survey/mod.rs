@@ -14,7 +14,7 @@ pub mod manifest;
 
 pub use manifest::{parse_manifest, read_manifest, SurveyItem};
 
-use crate::compare::job::{run_compare_in, CompareJob, LineSource};
+use crate::compare::job::{run_compare_findings_in, CompareJob, LineSource};
 use crate::compare::{AnalysisConfig, Finding, Severity};
 use crate::history::{open_store, record_sweep, Database, RecordJob};
 use crate::transform::TraceEngine;
@@ -119,9 +119,10 @@ pub fn survey_line_in(
         record_error: None,
         manifest_line: item.manifest_line,
     };
-    match run_compare_in(&job, engine) {
+    match run_compare_findings_in(&job, engine) {
         Ok(report) => {
-            // Keep the findings only: the traces and plot data go with the report.
+            // Keep the findings only (worked out without plot data or evidence curves, which a fleet's
+            // thousands of lines would pile up).
             row.line = report.line;
             row.worst_severity = Some(
                 report
