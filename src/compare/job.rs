@@ -340,9 +340,11 @@ pub fn run_compare_in(job: &CompareJob, engine: &mut TraceEngine) -> Result<Comp
     run_compare_with(job, engine, Detail::Full)
 }
 
-/// [`run_compare_in`] for a caller that keeps the findings only (a fleet survey's worker): the same
-/// findings, ranked alike, with no plot data, no evidence curves and no visibility table worked out (see
-/// [`compare_findings_in`]).
+/// [`run_compare_in`] for a caller that keeps the findings only (a fleet survey's worker): every finding
+/// as it gives them (`Detail::Findings`), ranked alike, while the report's plot data, each finding's
+/// evidence curves and the line's visibility table are left empty. A fleet survey keeps thousands of
+/// lines' findings at once; the curves (a few thousand numbers a finding) would make its memory grow with
+/// the fleet.
 pub fn run_compare_findings_in(
     job: &CompareJob,
     engine: &mut TraceEngine,
@@ -391,14 +393,6 @@ pub fn compare_networks(req: &PairRequest) -> Result<CompareReport> {
 /// report does not depend on what the engine already holds.
 pub fn compare_networks_in(req: &PairRequest, engine: &mut TraceEngine) -> Result<CompareReport> {
     compare_networks_with(req, engine, Detail::Full)
-}
-
-/// [`compare_networks_in`] for a caller that keeps the findings only: every finding as it gives them
-/// (`Detail::Findings`), while the report's plot data, each finding's evidence curves and the line's
-/// visibility table are left empty. A fleet survey keeps thousands of lines' findings at once; the curves
-/// (a few thousand numbers a finding) would make its memory grow with the fleet.
-pub fn compare_findings_in(req: &PairRequest, engine: &mut TraceEngine) -> Result<CompareReport> {
-    compare_networks_with(req, engine, Detail::Findings)
 }
 
 fn compare_networks_with(
