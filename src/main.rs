@@ -7,6 +7,7 @@ use clap::Parser;
 use std::process::ExitCode;
 
 fn main() -> ExitCode {
+    cli::heap::prepare();
     let args = cli::Cli::parse();
     match cli::run(args) {
         Ok(code) => ExitCode::from(code),

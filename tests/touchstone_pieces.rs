@@ -142,3 +142,67 @@ fn read_file_streams_what_read_bytes_reads() {
     assert_eq!(streamed, whole);
     assert_eq!(streamed.network.len(), 40_000);
 }
+
+/// `read_file` gives its records' arrays room from the first piece's density (`RECORDS_MARGIN` more): a
+/// file whose density changes after that piece reads as the whole-text reader reads it, whether the rest
+/// holds far more records than the first piece foretells (comments first) or far fewer (comments after).
+#[test]
+fn read_file_reads_alike_when_the_density_changes_after_the_first_piece() {
+    let dir = std::env::temp_dir().join(format!("coldtrace-density-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let comments = |n: usize| -> String {
+        (0..n)
+            .map(|k| format!("! a note of the campaign, number {k}, kept with the sweep\n"))
+            .collect()
+    };
+    let records = |from: usize, n: usize| -> String {
+        (from..from + n)
+            .map(|k| {
+                format!(
+                    "{} {:.6} {:.6} {:.6} {:.6} {:.6} {:.6} {:.6} {:.6}\n",
+                    1 + k,
+                    0.5 - k as f64 * 1e-6,
+                    -0.25,
+                    0.9,
+                    0.01 * (k % 7) as f64,
+                    0.9,
+                    -0.01,
+                    0.4,
+                    0.125
+                )
+            })
+            .collect()
+    };
+    let head = "# MHz S RI R 50\n";
+    for (name, text) in [
+        (
+            "sparse-first.s2p",
+            format!("{head}{}{}", comments(8000), records(0, 9000)),
+        ),
+        (
+            "dense-first.s2p",
+            format!("{head}{}{}", records(0, 9000), comments(8000)),
+        ),
+        (
+            "mixed.s2p",
+            format!(
+                "{head}{}{}{}",
+                records(0, 3000),
+                comments(8000),
+                records(3000, 6000)
+            ),
+        ),
+    ] {
+        assert!(
+            text.len() > 2 * coldtrace::touchstone::READ_PIECE_BYTES,
+            "{name}"
+        );
+        let path = dir.join(name);
+        std::fs::write(&path, &text).unwrap();
+        let streamed = read_file(&path).unwrap();
+        let whole = read_bytes(text.as_bytes(), &path).unwrap();
+        assert_eq!(streamed, whole, "{name}");
+        assert_eq!(streamed.network.len(), 9000, "{name}");
+    }
+    std::fs::remove_dir_all(&dir).unwrap();
+}

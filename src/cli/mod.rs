@@ -7,6 +7,7 @@ use coldtrace::compare::job::SweepSource;
 pub mod compare;
 pub mod completions;
 pub mod convert;
+pub mod heap;
 pub mod history;
 pub mod inspect;
 pub mod locate;

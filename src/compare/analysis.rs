@@ -16,7 +16,7 @@ use crate::transform::{
 };
 use crate::Warning;
 use num_complex::Complex64;
-use std::sync::OnceLock;
+use std::sync::{Arc, OnceLock};
 
 /// Points per resolution cell on the analysis grid (a fine grid makes the parabolic peak estimate a good
 /// start for the exact refinement).
@@ -111,7 +111,7 @@ pub struct SweepAnalysis {
     /// open or short end and too few of the line file's joints to set it): costs read from them mean nothing.
     pub scale_known: bool,
     /// The sweep's padded time response for its echo gates ([`ECHO_GATE_PADDING`]), made at the first gate.
-    gates: OnceLock<GateSource>,
+    gates: OnceLock<Arc<GateSource>>,
 }
 
 /// The window's shape as the detector needs it, and the resolution (round-trip s) over `bandwidth_hz`.
@@ -505,7 +505,8 @@ impl SweepAnalysis {
         if let Some(s) = self.gates.get() {
             return Ok(s);
         }
-        let s = GateSource::new(&self.freqs, &self.s11, ECHO_GATE_PADDING, engine.cache())
+        let s = engine
+            .gate_source(&self.freqs, &self.s11, ECHO_GATE_PADDING)
             .map_err(CompareError::Transform)?;
         Ok(self.gates.get_or_init(|| s))
     }

@@ -180,9 +180,26 @@ pub fn fit_all(freqs: &[f64], gamma: &[Complex64], z0: f64, max_delta_s: f64) ->
     let norm = (g.iter().map(|x| x.norm_sqr()).sum::<f64>() / g.len().max(1) as f64).sqrt();
     // One turner for every model: the steps of the decimated grid are found once.
     let turner = Turner::new(&f, &g);
+    let grid = DelayGrid::new(&f, max_delta_s);
+    // The delay grid is scanned once for all the models: the data turned back by a grid delay serve all
+    // seven (each model's own sequence of searches is as if it scanned alone).
+    let mut scans = [Scan::default(); ModelType::ALL.len()];
+    let mut t = Vec::with_capacity(f.len());
+    for i in 0..=2 * grid.n {
+        let delta = grid.delay(i);
+        turner.turn_into(delta, &mut t);
+        for (s, &m) in scans.iter_mut().zip(&ModelType::ALL) {
+            let (v, r) = best_value(m, &f, &t, z0, s.hint, grid.scout());
+            s.hint = Some(v);
+            if r < s.best.2 {
+                s.best = (delta, v, r);
+            }
+        }
+    }
     let mut fits: Vec<ModelFit> = ModelType::ALL
         .iter()
-        .map(|&m| fit_one(m, &turner, z0, max_delta_s, norm))
+        .zip(scans)
+        .map(|(&m, s)| fit_one(m, &turner, &grid, s.best, z0, norm, &mut t))
         .collect();
     fits.sort_by(|a, b| a.fit_error.total_cmp(&b.fit_error));
     fits
@@ -315,24 +332,34 @@ impl<'a> Turner<'a> {
         }
     }
 
-    /// The data turned back by a residual delay `delta`.
-    fn turn(&self, delta: f64) -> Vec<Complex64> {
+    /// The data turned back by a residual delay `delta`, into `out` (cleared first). Block by block of
+    /// [`TURN_ANCHOR`] points: each block's first point exactly, the others by the recurrence.
+    fn turn_into(&self, delta: f64, out: &mut Vec<Complex64>) {
         let exact = |fk: f64| Complex64::from_polar(1.0, 2.0 * PI * fk * delta);
+        out.clear();
         let Some((sizes, which)) = &self.steps else {
-            return turn(self.f, self.g, delta);
+            out.extend(turn(self.f, self.g, delta));
+            return;
         };
-        let rot: Vec<Complex64> = sizes.iter().map(|&s| exact(s)).collect();
-        let mut out = Vec::with_capacity(self.g.len());
-        let mut ph = Complex64::new(1.0, 0.0);
-        for (k, (&fk, &gk)) in self.f.iter().zip(self.g).enumerate() {
-            if k % TURN_ANCHOR == 0 {
-                ph = exact(fk);
-            } else {
-                ph *= rot[which[k - 1] as usize];
-            }
-            out.push(gk * ph);
+        let mut rot = [Complex64::new(1.0, 0.0); TURN_STEP_SIZES];
+        for (r, &s) in rot.iter_mut().zip(sizes) {
+            *r = exact(s);
         }
-        out
+        for (c, (fb, gb)) in self
+            .f
+            .chunks(TURN_ANCHOR)
+            .zip(self.g.chunks(TURN_ANCHOR))
+            .enumerate()
+        {
+            // The steps leading to this block's points after its first.
+            let steps = &which[c * TURN_ANCHOR..c * TURN_ANCHOR + gb.len() - 1];
+            let mut ph = exact(fb[0]);
+            out.push(gb[0] * ph);
+            for (&gk, &w) in gb[1..].iter().zip(steps) {
+                ph *= rot[w as usize];
+                out.push(gk * ph);
+            }
+        }
     }
 }
 
@@ -425,37 +452,80 @@ const HINT_CELLS: f64 = 1.0;
 /// so that the residual is unimodal within the best cell and its neighbours.
 pub const VALUE_GRID_CELLS: usize = 16;
 
-fn fit_one(m: ModelType, turner: &Turner, z0: f64, max_delta: f64, norm: f64) -> ModelFit {
-    let f = turner.f;
-    let fmax = f.iter().cloned().fold(0.0, f64::max).max(1.0);
-    // Delay grid: 0.5 rad of phase at fmax per step, refined by Brent's method round the best.
-    let step = 0.5 / (2.0 * PI * fmax);
-    let n = ((max_delta / step).ceil() as usize).clamp(0, 400);
-    let at_delay = |delta: f64, hint: Option<f64>, shrink: f64| {
-        best_value(m, f, &turner.turn(delta), z0, hint, shrink)
-    };
-    // Where a search over the delay follows, the grid only scouts for its start.
-    let scout = if n > 0 {
-        SCOUT_SHRINK
-    } else {
-        GOLDEN_SHRINK_30
-    };
-    // (delay, value, residual) of the best so far; each delay's value search starts from the previous
-    // delay's best value.
-    let mut best = (0.0, 0.0, f64::INFINITY);
-    let mut hint = None;
-    for i in 0..=2 * n {
-        let delta = if n == 0 {
+/// The grid of residual delays every model's fit first scans: 0.5 rad of phase at the top frequency per
+/// step, over -`max_delta`..`max_delta` (at most 400 steps either way; the delay 0 alone when `max_delta`
+/// is under a step).
+struct DelayGrid {
+    step: f64,
+    n: usize,
+    max_delta: f64,
+}
+
+impl DelayGrid {
+    fn new(f: &[f64], max_delta: f64) -> Self {
+        let fmax = f.iter().cloned().fold(0.0, f64::max).max(1.0);
+        let step = 0.5 / (2.0 * PI * fmax);
+        let n = ((max_delta / step).ceil() as usize).clamp(0, 400);
+        DelayGrid { step, n, max_delta }
+    }
+
+    /// The `i`-th delay of the grid (`i` in 0..=2n).
+    fn delay(&self, i: usize) -> f64 {
+        if self.n == 0 {
             0.0
         } else {
-            -max_delta + max_delta * i as f64 / n as f64
-        };
-        let (v, r) = at_delay(delta, hint, scout);
-        hint = Some(v);
-        if r < best.2 {
-            best = (delta, v, r);
+            -self.max_delta + self.max_delta * i as f64 / self.n as f64
         }
     }
+
+    /// The value searches' tolerance on the grid: where a search over the delay follows, the grid only
+    /// scouts for its start.
+    fn scout(&self) -> f64 {
+        if self.n > 0 {
+            SCOUT_SHRINK
+        } else {
+            GOLDEN_SHRINK_30
+        }
+    }
+}
+
+/// One model's scan of the delay grid: (delay, value, residual) of the best so far, and the value the next
+/// delay's search starts from (the previous delay's best).
+#[derive(Clone, Copy)]
+struct Scan {
+    best: (f64, f64, f64),
+    hint: Option<f64>,
+}
+
+impl Default for Scan {
+    fn default() -> Self {
+        Scan {
+            best: (0.0, 0.0, f64::INFINITY),
+            hint: None,
+        }
+    }
+}
+
+/// Model `m`'s fit from the best of its scan of `grid` (`best`: delay, value, residual): the delay refined
+/// by Brent's method round it, then the value at the delay chosen searched over the whole range. `buf` is
+/// working space for the turned data.
+fn fit_one(
+    m: ModelType,
+    turner: &Turner,
+    grid: &DelayGrid,
+    mut best: (f64, f64, f64),
+    z0: f64,
+    norm: f64,
+    buf: &mut Vec<Complex64>,
+) -> ModelFit {
+    let f = turner.f;
+    let (n, step) = (grid.n, grid.step);
+    let buf = std::cell::RefCell::new(buf);
+    let at_delay = |delta: f64, hint: Option<f64>, shrink: f64| {
+        let mut t = buf.borrow_mut();
+        turner.turn_into(delta, &mut t);
+        best_value(m, f, &t, z0, hint, shrink)
+    };
     if n > 0 {
         // Each delay's value is searched near the best delay's so far (the delays tried close in on one
         // another, and so do their values), and the best delay tried is kept with its value.
@@ -673,6 +743,33 @@ mod tests {
                 Complex64::new(a, b) * (sigma / 2f64.sqrt())
             })
             .collect()
+    }
+
+    /// The turner's recurrence (one rotation per step size, re-anchored every `TURN_ANCHOR` points) is the
+    /// rotation taken afresh at every point, to rounding: on a uniform sweep, on its even decimation (two
+    /// step sizes), and on a grid of irregular steps (the per-point fallback, exactly).
+    #[test]
+    fn turned_data_are_the_rotation_at_every_point() {
+        let uniform = sweep();
+        let (decimated, _) = decimate(&uniform, &noise(uniform.len(), 1.0, 3), MAX_FIT_POINTS);
+        let irregular: Vec<f64> = (0..200).map(|k| 1e9 + (k * k) as f64 * 1.5e5).collect();
+        for f in [uniform, decimated, irregular] {
+            let g = noise(f.len(), 0.3, 11);
+            let turner = Turner::new(&f, &g);
+            let mut got = Vec::new();
+            for delta in [-3.1e-11, -1e-12, 0.0, 2.5e-12, 4.4e-11] {
+                turner.turn_into(delta, &mut got);
+                let want = turn(&f, &g, delta);
+                assert_eq!(got.len(), want.len());
+                for (k, (a, b)) in got.iter().zip(&want).enumerate() {
+                    assert!(
+                        (a - b).norm() <= 1e-14 * b.norm().max(1e-300),
+                        "{} points, delay {delta:e}, point {k}: {a} against {b}",
+                        f.len()
+                    );
+                }
+            }
+        }
     }
 
     #[test]

@@ -223,8 +223,11 @@ pub fn read_file(path: &Path) -> Result<Touchstone, TouchstoneError> {
     let piece = size.map_or(READ_PIECE_BYTES, |n| {
         (n as usize).saturating_add(1).min(READ_PIECE_BYTES)
     });
-    read_pieces(file, path, limit, piece)
+    read_pieces_sized(file, path, limit, piece, size)
 }
+
+/// Share added to the records a file is estimated to hold from its first piece (lines differ in length).
+pub const RECORDS_MARGIN: f64 = 0.125;
 
 /// Size of the pieces [`read_file`] reads a file in, bytes (a few thousand lines of a sweep).
 pub const READ_PIECE_BYTES: usize = 256 << 10;
@@ -234,12 +237,28 @@ pub const READ_PIECE_BYTES: usize = 256 << 10;
 /// the next is read (a line end is cut only where it cannot be the first half of a CR LF), so the result is
 /// [`read_bytes`]'s on the whole text, line numbers and columns included, whatever the piece size.
 pub fn read_pieces(
-    mut reader: impl std::io::Read,
+    reader: impl std::io::Read,
     path: &Path,
     limit: u64,
     piece: usize,
 ) -> Result<Touchstone, TouchstoneError> {
+    read_pieces_sized(reader, path, limit, piece, None)
+}
+
+/// [`read_pieces`] of a text of `size` bytes (when known): once the first piece is parsed, the records'
+/// arrays are given room for as many records as the rest of the text holds at the first piece's density
+/// and an eighth more ([`RECORDS_MARGIN`]), so that they are allocated once where they would grow by
+/// doubling, each growth a copy (and, for a large file, the heap grown through every size below the
+/// allocator's mapping threshold). The result is [`read_pieces`]'s, value for value.
+fn read_pieces_sized(
+    mut reader: impl std::io::Read,
+    path: &Path,
+    limit: u64,
+    piece: usize,
+    size: Option<u64>,
+) -> Result<Touchstone, TouchstoneError> {
     let piece = piece.max(1);
+    let mut reserved = false;
     let io = |source| TouchstoneError::Io {
         path: path.to_path_buf(),
         source,
@@ -329,6 +348,11 @@ pub fn read_pieces(
             };
             lf_before += bytecount(seg);
             begin += cut;
+            if !reserved && !eof {
+                if let Some(size) = size {
+                    reserved = feed.reserve_for(total - (end - begin) as u64, size);
+                }
+            }
         }
         if eof && begin == end {
             break;

@@ -12,7 +12,7 @@
 //! product `df dt n^2` itself carries (about 1e-16 of it).
 
 use num_complex::Complex64;
-use rustfft::{Fft, FftPlanner};
+use rustfft::{Fft, FftDirection, FftPlanner};
 use std::collections::HashMap;
 use std::f64::consts::PI;
 use std::sync::{Arc, Mutex, OnceLock};
@@ -87,8 +87,8 @@ pub struct ChirpZ {
     n: usize,
     m: usize,
     len: usize,
+    /// The forward FFT of the convolution's length; the inverse is run through it (see [`inverse_by_forward`]).
     fwd: Arc<dyn Fft<f64>>,
-    inv: Arc<dyn Fft<f64>>,
     pre: Vec<Complex64>,
     filter_fft: Vec<Complex64>,
     post: Vec<Complex64>,
@@ -98,8 +98,7 @@ impl ChirpZ {
     /// Prepare for `n` inputs, `m` outputs, with `df_t0 = df * t0` and `df_dt = df * dt` (both in cycles).
     pub fn new(planner: &mut FftPlanner<f64>, n: usize, m: usize, df_t0: f64, df_dt: f64) -> Self {
         let len = Self::length(n, m);
-        let (fwd, inv) = (planner.plan_fft_forward(len), planner.plan_fft_inverse(len));
-        Self::with_plans(fwd, inv, n, m, df_t0, df_dt)
+        Self::with_plan(planner.plan_fft_forward(len), n, m, df_t0, df_dt)
     }
 
     /// The FFT length a chirp-z of `n` inputs and `m` outputs runs at.
@@ -111,22 +110,16 @@ impl ChirpZ {
         convolution_len(n + m - 1)
     }
 
-    /// [`Self::new`] with its forward and inverse FFT plans given (of [`Self::length`]`(n, m)` points), so
-    /// that a planner shared between threads is held only while it plans.
-    pub fn with_plans(
-        fwd: Arc<dyn Fft<f64>>,
-        inv: Arc<dyn Fft<f64>>,
-        n: usize,
-        m: usize,
-        df_t0: f64,
-        df_dt: f64,
-    ) -> Self {
+    /// [`Self::new`] with its forward FFT plan given (of [`Self::length`]`(n, m)` points), so that a planner
+    /// shared between threads is held only while it plans. The convolution's inverse transform runs through
+    /// the same plan ([`inverse_by_forward`]).
+    pub fn with_plan(fwd: Arc<dyn Fft<f64>>, n: usize, m: usize, df_t0: f64, df_dt: f64) -> Self {
         let len = Self::length(n, m);
         assert!(
-            fwd.len() == len && inv.len() == len,
-            "ChirpZ::with_plans: plans of {} and {} points for a length of {len}",
+            fwd.len() == len && fwd.fft_direction() == FftDirection::Forward,
+            "ChirpZ::with_plan: a plan of {} points ({:?}) for a forward length of {len}",
             fwd.len(),
-            inv.len()
+            fwd.fft_direction()
         );
         // W^{k^2/2} = e^{+j 2 pi df_dt k^2 / 2}, worked out once for every k the plan uses.
         let chirp: Vec<Complex64> = (0..n.max(m))
@@ -162,7 +155,6 @@ impl ChirpZ {
             m,
             len,
             fwd,
-            inv,
             pre,
             filter_fft: filter,
             post,
@@ -197,25 +189,41 @@ impl ChirpZ {
         let mut buf: Vec<Complex64> = Vec::with_capacity(self.len);
         buf.extend(x.iter().zip(&self.pre).map(|(&xi, &p)| xi * p));
         buf.resize(self.len, Complex64::new(0.0, 0.0));
-        let need = self
-            .fwd
-            .get_inplace_scratch_len()
-            .max(self.inv.get_inplace_scratch_len());
+        let need = self.fwd.get_inplace_scratch_len();
         if scratch.len() < need {
             scratch.resize(need, Complex64::new(0.0, 0.0));
         }
         self.fwd
             .process_with_scratch(&mut buf, &mut scratch[..need]);
+        // The inverse transform of the product as conj(F(conj(product))) (see `inverse_by_forward`), its two
+        // conjugations folded into the product and the post-chirp.
         for (b, &f) in buf.iter_mut().zip(&self.filter_fft) {
-            *b *= f;
+            *b = (*b * f).conj();
         }
-        self.inv
+        self.fwd
             .process_with_scratch(&mut buf, &mut scratch[..need]);
         buf.truncate(self.m);
         for (b, &p) in buf.iter_mut().zip(&self.post) {
-            *b *= p;
+            *b = b.conj() * p;
         }
         buf
+    }
+}
+
+/// The inverse FFT (e^{+j}, unnormalised) of `buf` in place, through a forward plan `fwd` of its length:
+/// conj(F(conj(x))). Conjugation is exact and commutes with every operation of a transform (a product's
+/// and a sum's conjugate are the products and sums of the conjugates, rounded alike), and rustfft's
+/// inverse plans use the conjugates of the forward twiddles, so the result is bit for bit that of
+/// rustfft's inverse plan from a planner in the same state (held so in
+/// `inverse_through_the_forward_plan_is_rustffts_inverse_bit_for_bit`); each length is planned, and its
+/// twiddles worked out, once instead of once a direction.
+pub fn inverse_by_forward(fwd: &dyn Fft<f64>, buf: &mut [Complex64], scratch: &mut [Complex64]) {
+    for v in buf.iter_mut() {
+        *v = v.conj();
+    }
+    fwd.process_with_scratch(buf, scratch);
+    for v in buf.iter_mut() {
+        *v = v.conj();
     }
 }
 
@@ -280,8 +288,7 @@ impl FftCache {
         // The plans come from this cache (the shared planner is locked only to plan a new length); the
         // chirps and the filter's transform are worked out unlocked.
         let len = ChirpZ::length(n, m);
-        let (fwd, inv) = (self.plan(len, false), self.plan(len, true));
-        let c = Arc::new(ChirpZ::with_plans(fwd, inv, n, m, df_t0, df_dt));
+        let c = Arc::new(ChirpZ::with_plan(self.plan(len, false), n, m, df_t0, df_dt));
         if self.chirps.len() >= MAX_CACHED_CHIRPS {
             self.chirps.clear();
         }
@@ -295,10 +302,16 @@ impl FftCache {
         c.process_with_scratch(x, &mut self.scratch)
     }
 
-    /// In-place inverse FFT (e^{+j}, unnormalised) of `buf`, reusing one scratch buffer across calls.
+    /// In-place inverse FFT (e^{+j}, unnormalised) of `buf`, reusing one scratch buffer across calls: run
+    /// through the forward plan of the length ([`inverse_by_forward`]), so that a length used both ways is
+    /// planned once.
     pub fn inverse_in_place(&mut self, buf: &mut [Complex64]) {
-        let fft = self.plan(buf.len(), true);
-        self.run(&fft, buf);
+        let fft = self.plan(buf.len(), false);
+        let need = fft.get_inplace_scratch_len();
+        if self.scratch.len() < need {
+            self.scratch.resize(need, Complex64::new(0.0, 0.0));
+        }
+        inverse_by_forward(fft.as_ref(), buf, &mut self.scratch[..need]);
     }
 
     /// In-place forward FFT (e^{-j}, unnormalised) of `buf`, reusing one scratch buffer across calls.

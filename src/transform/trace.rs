@@ -2,6 +2,7 @@
 
 use super::bandpass::BandPassSpectrum;
 use super::czt::FftCache;
+use super::gate::GateSource;
 use super::lowpass::LowPassSpectrum;
 use super::peak::Peak;
 use super::plan::{Mode, PlanCheck, TracePlan};
@@ -113,7 +114,19 @@ pub struct TraceEngine {
     windows: Vec<(Window, usize, Arc<Vec<f64>>)>,
     spare_real: Vec<Vec<f64>>,
     spare_complex: Vec<Vec<Complex64>>,
+    /// Sweeps prepared for gating (their frequencies, values and padding, and the prepared source), most
+    /// recent last: a sweep analysed several times (a comparison's state check and its analyses) is
+    /// transformed once.
+    gate_sources: Vec<GateSourceEntry>,
 }
+
+/// A sweep prepared for gating, with what it was prepared from (compared in full on every look-up: a few
+/// microseconds where the transform costs a hundred times that).
+type GateSourceEntry = (Vec<f64>, Vec<Complex64>, usize, Arc<GateSource>);
+
+/// Most prepared gate sources an engine keeps (a pair's two sweeps, with room for a survey worker's next
+/// pair); past it the oldest is dropped, so the memory stays bounded.
+const MAX_CACHED_GATE_SOURCES: usize = 4;
 
 /// Most spare buffers an engine keeps from recycled traces.
 const MAX_SPARE: usize = 8;
@@ -157,6 +170,35 @@ impl TraceEngine {
         }
         self.windows.push((*window, n, w.clone()));
         w
+    }
+
+    /// `values` on `freqs` prepared for gates of padding `padding` ([`GateSource::new`]), from this engine
+    /// when the same sweep (the same frequencies and values, bit for bit) was prepared before.
+    pub fn gate_source(
+        &mut self,
+        freqs: &[f64],
+        values: &[Complex64],
+        padding: usize,
+    ) -> Result<Arc<GateSource>, TransformError> {
+        let same = |(f, v, p, _): &GateSourceEntry| {
+            *p == padding
+                && f.len() == freqs.len()
+                && v.len() == values.len()
+                && f.iter().zip(freqs).all(|(a, b)| a.to_bits() == b.to_bits())
+                && v.iter().zip(values).all(|(a, b)| {
+                    a.re.to_bits() == b.re.to_bits() && a.im.to_bits() == b.im.to_bits()
+                })
+        };
+        if let Some(e) = self.gate_sources.iter().find(|e| same(e)) {
+            return Ok(e.3.clone());
+        }
+        let source = Arc::new(GateSource::new(freqs, values, padding, &mut self.cache)?);
+        if self.gate_sources.len() >= MAX_CACHED_GATE_SOURCES {
+            self.gate_sources.remove(0);
+        }
+        self.gate_sources
+            .push((freqs.to_vec(), values.to_vec(), padding, source.clone()));
+        Ok(source)
     }
 
     /// The FFT cache (shared with gating).

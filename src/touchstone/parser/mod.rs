@@ -101,6 +101,31 @@ impl<'a> LineFeed<'a> {
         }
     }
 
+    /// Room in the records' arrays for the records a text of `size` bytes holds, at the density of its
+    /// first `parsed` bytes (and [`super::RECORDS_MARGIN`] more; at most the sweep limit's records).
+    /// Returns whether the density was known (a record had been read); the arrays' contents are not
+    /// touched.
+    pub(crate) fn reserve_for(&mut self, parsed: u64, size: u64) -> bool {
+        let p = &mut self.p;
+        let records = p.freqs.len();
+        if records == 0 || parsed == 0 {
+            return false;
+        }
+        let per_record = (p.values.len() / records).max(1);
+        // Never room for more than the sweep limits let a file hold (records, and complex values as two
+        // numbers each beside a record's frequency).
+        let most = crate::limits::MAX_SWEEP_POINTS
+            .min(2 * crate::limits::MAX_SWEEP_VALUES / per_record + 1);
+        let total = (records as f64 * size as f64 / parsed as f64 * (1.0 + super::RECORDS_MARGIN))
+            .ceil()
+            .min(most as f64) as usize;
+        let more = total.saturating_sub(records);
+        p.freqs.reserve(more);
+        p.values.reserve(more * per_record);
+        p.record_lines.reserve(more);
+        true
+    }
+
     /// The network read so far, checked and built, once every line has been fed.
     pub(crate) fn finish(self) -> Res<Touchstone> {
         self.p.finish()
