@@ -2,7 +2,7 @@
 //!
 //! A command runs for milliseconds, and on a virtual machine each first touch of a 4 KiB page of fresh heap
 //! costs a trap to the kernel and often one to the hypervisor: 2700 page faults were a fifth of a compare at
-//! 10001 points (about 11 MB of heap), 400 a tenth of one at 1601 (docs/performance.md, "compare",
+//! 10001 points (about 11 MB of heap), 400 a seventh of one at 1601 (docs/performance.md, "compare",
 //! 2026-12-04 eighth round). On Linux with glibc the heap is therefore asked for in one stretch from a
 //! 2 MiB boundary, with the kernel's advice to back it with transparent huge pages (`MADV_HUGEPAGE`; the
 //! kernel's "madvise" setting, the common default, honours it), so that a 2 MiB page is one fault; and
