@@ -2,7 +2,7 @@
 //!
 //! The modules follow the data:
 //! [`touchstone`] (read and write sweeps) -> [`transform`] (frequency to time/distance) ->
-//! [`line`] (the chain as built, its cryogenic physics, a forward simulator) -> [`compare`]
+//! [`line`](mod@line) (the chain as built, its cryogenic physics, a forward simulator) -> [`compare`]
 //! (align, detect, rank, explain) -> [`history`] (each line's records, trends) -> [`report`] (text, JSON,
 //! plots).
 //!

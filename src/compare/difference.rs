@@ -86,10 +86,10 @@ pub struct Change {
     /// For the echo that now blocks the line, the far end's fall beyond its interval, dB (positive; a lower
     /// bound where it fell into the noise): the baseline's far end vanished from the current sweep (it fell
     /// by [`SHADOW_MAX_DB`] or more beyond what the calibration explains), and this echo in front of it rose
-    /// the most beyond its own calibration ([`blocker`]). It counts as a change under its own threshold: the
+    /// the most beyond its own calibration (`blocker`). It counts as a change under its own threshold: the
     /// two together are one change, a joint that now reflects what used to reach the far end.
     pub blocks_far_end: Option<f64>,
-    /// For a joint of the line file judged at its own place, both sweeps in one state ([`joint_probes`]):
+    /// For a joint of the line file judged at its own place, both sweeps in one state (`joint_probes`):
     /// its complex change over what counts as one (>= 1).
     pub joint_change: Option<f64>,
     /// True for an echo within a resolution cell of the line file's device that ends the visible line (a
@@ -719,7 +719,7 @@ fn blocker(inp: &Inputs, changes: &[Change]) -> Option<(usize, f64)> {
 }
 
 /// Half-width of the window around a joint's mapped place in which, both sweeps in one state, its complex
-/// change is read ([`joint_probes`]), in resolution cells: the anchors and the alignment place a joint to a
+/// change is read (`joint_probes`), in resolution cells: the anchors and the alignment place a joint to a
 /// small fraction of a cell (common practice, no source).
 pub const JOINT_PROBE_CELLS: f64 = 0.5;
 

@@ -1,6 +1,6 @@
 //! The comparator's front door for the command line and for scripts: read the files, resolve the line (a
 //! line file, or a uniform line of a given velocity factor), settle each sweep's state (given, or inferred
-//! and reported), and run [`compare`](super::compare) or [`locate`](super::locate).
+//! and reported), and run [`compare`](super::compare) or [`locate`](mod@super::locate).
 
 use super::chain::{ChainView, Which};
 use super::locate::{locate, mark_expected, rank_events};

@@ -1,12 +1,12 @@
 //! The comparison as a pipeline of small stages with typed results:
 //!
 //! 1. **analyse** ([`analyse_pair`]): each sweep's compensated band-pass trace, noise floor and events, and
-//!    each sweep's far end ([`far_end`](super::far_end)); on a line of unknown construction the loss law
+//!    each sweep's far end ([`far_end`]); on a line of unknown construction the loss law
 //!    an open or short far end shows is what compensates the trace;
 //! 2. **align** ([`align_pair`]): landmarks seen in both sweeps paired by a bounded search of the delay
 //!    scale, then the per-segment delay scale (inside the physical bounds of the state change, the model as
 //!    a prior) and the level and loss change fitted to them;
-//! 3. **difference** ([`difference`](super::difference)): every echo paired across the aligned sweeps, its
+//! 3. **difference** ([`difference`]): every echo paired across the aligned sweeps, its
 //!    change judged against the calibration and the shadow of changed joints in front of it;
 //! 4. **explain** ([`explain_change`]): a lumped model, a fault kind, a range of costs and a sentence for
 //!    each change;
@@ -177,7 +177,7 @@ pub fn analyse_pair(
     })
 }
 
-/// Reflection that the best joint of a passive line does not reach ([`joints_lifted`]): 0.1, from which an
+/// Reflection that the best joint of a passive line does not reach (`joints_lifted`): 0.1, from which an
 /// echo is a component's (`difference::COMPONENT_REFLECTION`). A connector pair of 48-53 ohm reflects under
 /// 0.03, and 15 fF of shunt capacitance 0.05 at 20 GHz (omega C Z0 / 2; circuit theory).
 pub const LIFTED_JOINT_REFLECTION: f64 = super::difference::COMPONENT_REFLECTION;

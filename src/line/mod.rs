@@ -2,7 +2,7 @@
 //! of a cryostat, its cryogenic physics (materials, propagation, warm -> cold change) and an exact forward
 //! simulator.
 //!
-//! How the parts fit: [`file`] reads a TOML line file and resolves it once into a [`Line`] ([`chain`]),
+//! How the parts fit: [`file`](mod@file) reads a TOML line file and resolves it once into a [`Line`] ([`chain`]),
 //! whose cables come from the [`catalogue`] or the file. [`materials`] gives material data against
 //! temperature, [`physics`] turns a section of line at a temperature into its propagation constant and
 //! characteristic impedance, [`abcd`] holds the 2x2 chain-matrix algebra, [`position`] maps delay to
