@@ -175,3 +175,47 @@ fn a_sweep_through_an_amplifier_is_located_as_the_passive_lines() {
         }
     }
 }
+
+/// `locate_in` on an engine that already located sweeps on other grids (its plans, window coefficients and
+/// gate sources kept), with and without evidence, gives what `locate` on a fresh engine gives: the same
+/// events, field for field, but for the evidence curves left out.
+#[test]
+fn a_used_engine_locates_as_a_fresh_one() {
+    use coldtrace::compare::locate::locate_in;
+    use coldtrace::transform::TraceEngine;
+    let line = read("south-fridge-in-02.toml");
+    let sweep_of = |points: usize, state: State, seed: u64| {
+        let mut cfg = SimConfig::linear(state, 0.5e9, 12e9, points);
+        cfg.noise_db = Some(-95.0);
+        cfg.seed = seed;
+        cfg.faults = vec![Fault::parse("J2:gap=30fF").unwrap()];
+        simulate(&line, &cfg).unwrap()
+    };
+    let chain = ChainView::from_line(&line, State::Cold, State::Cold, 0.5e9, 12e9, 6.25e9);
+    fn sweep(n: &coldtrace::Network) -> Sweep<'_> {
+        Sweep {
+            name: "sim",
+            network: n,
+            state: "",
+        }
+    }
+    let cfg = AnalysisConfig::default();
+    let mut engine = TraceEngine::new();
+    for (points, seed) in [(1201, 3), (2001, 4)] {
+        let other = sweep_of(points, State::Cold, seed);
+        locate_in(sweep(&other), &chain, &cfg, true, &mut engine).unwrap();
+    }
+    let n = sweep_of(1601, State::Cold, 5);
+    let fresh = locate(sweep(&n), &chain, &cfg).unwrap();
+    let used = locate_in(sweep(&n), &chain, &cfg, true, &mut engine).unwrap();
+    assert_eq!(format!("{used:?}"), format!("{fresh:?}"));
+    let bare = locate_in(sweep(&n), &chain, &cfg, false, &mut engine).unwrap();
+    assert_eq!(bare.events.len(), fresh.events.len());
+    for (b, f) in bare.events.iter().zip(&fresh.events) {
+        assert!(b.evidence.is_empty() && !f.evidence.is_empty());
+        let (mut b, mut f) = (b.clone(), f.clone());
+        b.evidence = Default::default();
+        f.evidence = Default::default();
+        assert_eq!(format!("{b:?}"), format!("{f:?}"));
+    }
+}

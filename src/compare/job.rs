@@ -3,7 +3,7 @@
 //! and reported), and run [`compare`](super::compare) or [`locate`](mod@super::locate).
 
 use super::chain::{ChainView, Which};
-use super::locate::{locate, mark_expected, rank_events};
+use super::locate::{locate_in, mark_expected, rank_events};
 use super::report::{CompareReport, LocateReport, StateReport};
 use super::run::{compare_in, Detail};
 use super::severity::Severity;
@@ -512,9 +512,14 @@ pub fn locate_network(
     analysis: &AnalysisConfig,
 ) -> Result<LocateReport> {
     let (lo, hi) = band(n);
+    // One engine for the state check, the location and the nominal line's: each plan and each sweep's
+    // gates are prepared once.
+    let mut engine = TraceEngine::new();
     let (st, basis, margin) = match (state, line) {
         (Some(s), _) => (s, "given".to_string(), None),
-        (None, LineModel::Line(l)) => super::states::decide_single(n, l, &analysis.window)?,
+        (None, LineModel::Line(l)) => {
+            super::states::decide_single_in(n, l, &analysis.window, &mut engine)?
+        }
         (None, LineModel::Uniform { .. }) => (
             State::Cold,
             "no line file: nothing tells warm from cold; taken as cold".to_string(),
@@ -531,7 +536,7 @@ pub fn locate_network(
             uniform_chain(name, velocity_factor, n.reference_ohm[0])?
         }
     };
-    let mut report = locate(
+    let mut report = locate_in(
         Sweep {
             name,
             network: n,
@@ -539,6 +544,8 @@ pub fn locate_network(
         },
         &chain,
         analysis,
+        true,
+        &mut engine,
     )?;
     if let LineModel::Line(l) = line {
         // The echoes the line is built to give: its nominal self, without faults, on the same grid. A line
@@ -553,7 +560,7 @@ pub fn locate_network(
         }
         match crate::line::simulate(l, &sim) {
             Ok(nominal_net) => {
-                let nominal = locate(
+                let nominal = locate_in(
                     Sweep {
                         name: "nominal",
                         network: &nominal_net,
@@ -561,6 +568,8 @@ pub fn locate_network(
                     },
                     &chain,
                     analysis,
+                    false,
+                    &mut engine,
                 )?;
                 mark_expected(&mut report.events, &nominal.events, report.resolution_m);
             }

@@ -22,10 +22,23 @@ pub fn locate(
     chain: &ChainView,
     cfg: &AnalysisConfig,
 ) -> Result<LocateReport, CompareError> {
+    locate_in(sweep, chain, cfg, true, &mut TraceEngine::new())
+}
+
+/// [`locate`] on `engine`'s transform plans and window coefficients (one engine for a sweep's state check,
+/// its location and its nominal line's: the result does not depend on what the engine already holds).
+/// Without `evidence`, the events carry no evidence curves (the nominal line's, which only
+/// [`mark_expected`] reads).
+pub fn locate_in(
+    sweep: Sweep,
+    chain: &ChainView,
+    cfg: &AnalysisConfig,
+    evidence: bool,
+    engine: &mut TraceEngine,
+) -> Result<LocateReport, CompareError> {
     let f = &sweep.network.freqs_hz;
     let chain = sized(chain, &[f]);
-    let mut engine = TraceEngine::new();
-    let mut a = analyse(&sweep, &chain, cfg, Which::Current, &mut engine)?;
+    let mut a = analyse(&sweep, &chain, cfg, Which::Current, engine)?;
     // Positions in the line file's terms: its joints pinned where the sweep shows them.
     let anchors = super::anchor::find(&chain, &a, Which::Current);
     let chain = if anchors.is_empty() {
@@ -33,7 +46,7 @@ pub fn locate(
     } else {
         let anchored = super::anchor::anchored(&chain, &anchors, Which::Current);
         if super::anchor::worth_reanalysing(&anchors, a.resolution_s) {
-            a = analyse(&sweep, &anchored, cfg, Which::Current, &mut engine)?;
+            a = analyse(&sweep, &anchored, cfg, Which::Current, engine)?;
         }
         anchored
     };
@@ -50,7 +63,7 @@ pub fn locate(
         // Detected means seen, unless it lies behind a part reflection cannot see through (then it is a
         // multiple reflection or leakage, never the part's far side).
         let visible = !(chain.as_built && x > visible_end + res_m);
-        let (fl, gl) = a.local_reflection(e.delay_s, x, &chain, Which::Current, &mut engine)?;
+        let (fl, gl) = a.local_reflection(e.delay_s, x, &chain, Which::Current, engine)?;
         let fits = a.fit_local(&fl, &gl, chain.impedance_ohm);
         let delta = if fits[0].fit_error <= MAX_FIT_ERROR {
             fits[0].delta_s
@@ -91,7 +104,11 @@ pub fn locate(
                 " (not visible: not claimed)"
             }
         );
-        let evidence = Evidence::new(&fl, &gl, &model, chain.impedance_ohm);
+        let evidence = if evidence {
+            Evidence::new(&fl, &gl, &model, chain.impedance_ohm)
+        } else {
+            Evidence::default()
+        };
         events.push(Event {
             place: p,
             kind,

@@ -840,15 +840,25 @@ pub fn decide_single(
     line: &Line,
     window: &Window,
 ) -> Result<(State, String, Option<f64>), CompareError> {
-    let mut engine = TraceEngine::new();
+    decide_single_in(n, line, window, &mut TraceEngine::new())
+}
+
+/// [`decide_single`] on `engine`'s plans (the engine that then locates the sweep: its gates are prepared
+/// once for both).
+pub fn decide_single_in(
+    n: &Network,
+    line: &Line,
+    window: &Window,
+    engine: &mut TraceEngine,
+) -> Result<(State, String, Option<f64>), CompareError> {
     let (lo, hi) = (n.freqs_hz[0], n.freqs_hz[n.len() - 1]);
     let models = line_models(line, lo, hi);
     let span = quick_span(&models, lo, hi);
     let t = alias_free_s(n).min(span.unwrap_or(f64::INFINITY));
-    let Some(a) = quick_analysis(n, t, Which::Baseline, window, &mut engine) else {
+    let Some(a) = quick_analysis(n, t, Which::Baseline, window, engine) else {
         return Ok((State::Cold, "no echo was found; taken as cold".into(), None));
     };
-    let sigs = model_signatures(&a, &models, "current", &mut engine)?;
+    let sigs = model_signatures(&a, &models, "current", engine)?;
     if sigs.is_empty() {
         return Ok((
             State::Cold,
