@@ -307,11 +307,7 @@ impl FftCache {
     /// planned once.
     pub fn inverse_in_place(&mut self, buf: &mut [Complex64]) {
         let fft = self.plan(buf.len(), false);
-        let need = fft.get_inplace_scratch_len();
-        if self.scratch.len() < need {
-            self.scratch.resize(need, Complex64::new(0.0, 0.0));
-        }
-        inverse_by_forward(fft.as_ref(), buf, &mut self.scratch[..need]);
+        inverse_by_forward(fft.as_ref(), buf, self.scratch_for(fft.as_ref()));
     }
 
     /// In-place forward FFT (e^{-j}, unnormalised) of `buf`, reusing one scratch buffer across calls.
@@ -321,11 +317,16 @@ impl FftCache {
     }
 
     fn run(&mut self, fft: &Arc<dyn Fft<f64>>, buf: &mut [Complex64]) {
+        fft.process_with_scratch(buf, self.scratch_for(fft.as_ref()));
+    }
+
+    /// This cache's scratch buffer, grown to what `fft` needs in place.
+    fn scratch_for(&mut self, fft: &dyn Fft<f64>) -> &mut [Complex64] {
         let need = fft.get_inplace_scratch_len();
         if self.scratch.len() < need {
             self.scratch.resize(need, Complex64::new(0.0, 0.0));
         }
-        fft.process_with_scratch(buf, &mut self.scratch[..need]);
+        &mut self.scratch[..need]
     }
 
     /// An inverse FFT (e^{+j}, unnormalised) of length `len`.
