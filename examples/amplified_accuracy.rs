@@ -81,10 +81,16 @@ fn reads_above_total(n: &coldtrace::Network) -> bool {
     returned_power_db(&n.s11()) > PASSIVE_POWER_LIMIT_DB
 }
 
-/// The comparison of healthy scenario `seed` through `shape`, states given or inferred, and whether the
-/// amplifier shows in either sweep.
-fn run(seed: u64, shape: Shape, given: bool) -> (Scenario, bool, Result<CompareReport, String>) {
-    let s = Scenario::generate(seed, Case::Healthy);
+/// The comparison of healthy scenario `seed` through `shape`, states given or inferred, with the line file
+/// declaring the gain (`gain_in_path = true`) or not, and whether the amplifier shows in either sweep.
+fn run(
+    seed: u64,
+    shape: Shape,
+    given: bool,
+    declared: bool,
+) -> (Scenario, bool, Result<CompareReport, String>) {
+    let mut s = Scenario::generate(seed, Case::Healthy);
+    s.nominal.gain_in_path = declared;
     let mut shows = false;
     let r = s.sweeps().and_then(|(b, c)| {
         let (b, c) = (through(b, shape, true), through(c, shape, false));
@@ -134,7 +140,7 @@ fn main() {
         }
     }
     if let Some((s, shape)) = show {
-        let (sc, shows, r) = run(s, shape, true);
+        let (sc, shows, r) = run(s, shape, true, false);
         println!("{}", sc.describe());
         println!("  the amplifier shows in the data (more power returned than sent): {shows}");
         match r {
@@ -153,23 +159,45 @@ fn main() {
          and the gain's change is fitted as a level change (docs/method.md, \"Gain in the path\"). On a line \
          matched well enough that even 40 dB of gain returns less, the power does not tell that an amplifier is \
          there; those lines are counted apart (the gain hidden), and the amplifier shows there only where both \
-         sweeps show every joint of the line file they see, two at least, at 0.1 or more.\n\n"
+         sweeps show every joint of the line file they see, two at least, at 0.1 or more, or where the line \
+         file declares it (`gain_in_path = true`, docs/line-file.md): the last column runs the hidden-gain \
+         lines again with that declaration.\n\n"
     ));
     out.push_str(
         "| gain | lines whose sweeps return more power than a passive line (3 dB) | false alarms among them, states given | \
          the same, states inferred | false alarms on the other lines (the gain hidden), given / inferred | \
-         runs that returned an error |\n|---|---|---|---|---|---|\n",
+         runs that returned an error | the gain hidden, declared in the line file: false alarms, given / \
+         inferred |\n|---|---|---|---|---|---|---|\n",
     );
     let mut listed = Vec::new();
     for shape in Shape::ALL {
-        let (mut bad, mut hidden_bad, mut shown, mut errors) =
-            ([0usize; 2], [0usize; 2], 0usize, 0usize);
+        let (mut bad, mut hidden_bad, mut declared_bad, mut shown, mut errors) =
+            ([0usize; 2], [0usize; 2], [0usize; 2], 0usize, 0usize);
         for i in 0..healthy {
             let s = seed * 1_000_000 + i;
             for (k, given) in [true, false].into_iter().enumerate() {
-                let (_, shows, r) = run(s, shape, given);
+                let (_, shows, r) = run(s, shape, given, false);
                 if given && shows {
                     shown += 1;
+                }
+                if !shows {
+                    // The same line, its file declaring the amplifier.
+                    match run(s, shape, given, true).2 {
+                        Ok(r) => {
+                            if let Some(a) = alarm(&r) {
+                                declared_bad[k] += 1;
+                                listed.push(format!(
+                                    "- `{s}:{}` [states {}; the gain hidden, declared]: {a}",
+                                    shape.name(),
+                                    if given { "given" } else { "inferred" },
+                                ));
+                            }
+                        }
+                        Err(e) => {
+                            errors += 1;
+                            eprintln!("{s}:{} (declared): {e}", shape.name());
+                        }
+                    }
                 }
                 match r {
                     Ok(r) => {
@@ -195,7 +223,7 @@ fn main() {
             }
         }
         out.push_str(&format!(
-            "| {} (`{}`) | {shown} of {healthy} | {} ({}/{shown}) | {} ({}/{shown}) | {} / {} of {} | {errors} of {} |\n",
+            "| {} (`{}`) | {shown} of {healthy} | {} ({}/{shown}) | {} ({}/{shown}) | {} / {} of {} | {errors} of {} | {} / {} of {} |\n",
             shape.what(),
             shape.name(),
             percent(bad[0], shown as u64),
@@ -205,7 +233,10 @@ fn main() {
             hidden_bad[0],
             hidden_bad[1],
             healthy - shown as u64,
-            2 * healthy
+            2 * healthy + 2 * (healthy - shown as u64),
+            declared_bad[0],
+            declared_bad[1],
+            healthy - shown as u64,
         ));
     }
     if !listed.is_empty() {

@@ -271,6 +271,7 @@ fn healthy_cooldowns_through_an_amplifier_raise_nothing_above_info() {
             9_000_022, 9_000_023, 9_000_031, 9_000_002, 9_000_003, 9_000_005,
         ],
         true,
+        false,
     );
     report("healthy cooldowns through an amplifier", &bad);
 }
@@ -282,22 +283,39 @@ fn healthy_cooldowns_through_an_amplifier_raise_nothing_above_info() {
 /// a component's level in both sweeps: that is the gain, and it is taken out as where it shows.
 #[test]
 fn healthy_cooldowns_through_an_amplifier_that_returns_little_power_raise_nothing_above_info() {
-    let bad = through_an_amplifier(&[9_000_050, 9_000_101, 9_000_167], false);
+    let bad = through_an_amplifier(&[9_000_050, 9_000_101, 9_000_167], false, false);
     report(
         "healthy cooldowns through an amplifier, the gain hidden in power",
         &bad,
     );
 }
 
+/// A line on which nothing in the data tells the gain (seed 9000109 of `amplified_accuracy --seed 9`: one
+/// joint of the line file, too few to read the gain from, and a matched end), read as a passive line,
+/// raised a critical open at its far end: the matched end's echo rose 15 dB on cooling as the cable's
+/// impedance moved away from the load's, to a level only a total reflection reaches without gain. Its line
+/// file may say what the data cannot (`gain_in_path = true`), and then the sweeps are read as sweeps
+/// through gain.
+#[test]
+fn a_line_file_that_declares_the_gain_has_its_sweeps_read_through_it() {
+    let bad = through_an_amplifier(&[9_000_109], false, true);
+    report(
+        "healthy cooldowns through an amplifier, the gain hidden in power and declared",
+        &bad,
+    );
+}
+
 /// Each healthy cooldown of `seeds` swept through a round-trip gain of 36 dB warm and 40 dB cold, tilted by
 /// 1 and 1.5 dB across the band; the sweeps return more power than a passive line when `shows`, and no more
-/// otherwise. Whatever is wrong with the comparisons, one line each.
-fn through_an_amplifier(seeds: &[u64], shows: bool) -> Vec<String> {
+/// otherwise; the line file declares the gain when `declared`. Whatever is wrong with the comparisons, one
+/// line each.
+fn through_an_amplifier(seeds: &[u64], shows: bool, declared: bool) -> Vec<String> {
     let through =
         |n, gain_db: f64, tilt_db: f64| scenario::through_gain(n, |_, u| gain_db + tilt_db * u);
     let mut bad = Vec::new();
     for &seed in seeds {
-        let s = Scenario::generate(seed, Case::Healthy);
+        let mut s = Scenario::generate(seed, Case::Healthy);
+        s.nominal.gain_in_path = declared;
         let (b, c) = s.sweeps().unwrap();
         let (b, c) = (through(b, 36.0, -1.0), through(c, 40.0, -1.5));
         let power_db =
@@ -317,9 +335,17 @@ fn through_an_amplifier(seeds: &[u64], shows: bool) -> Vec<String> {
                     alarms.join("; ")
                 ));
             }
-            if !r.warnings.iter().any(|w| w.kind == "gain-in-path") {
+            let declared_said = |w: &coldtrace::Warning| w.message.contains("gain_in_path = true");
+            if !r.warnings.iter().any(|w| w.kind == "gain-in-path")
+                || r.warnings.iter().any(declared_said) != declared
+            {
                 bad.push(format!(
-                    "  seed {seed}, states given {given}: no gain-in-path warning"
+                    "  seed {seed}, states given {given}: no gain-in-path warning{}",
+                    if declared {
+                        " saying the line file declares it"
+                    } else {
+                        ""
+                    }
                 ));
             }
             if given && (r.alignment.level_change_db - 4.0).abs() > 1.5 {

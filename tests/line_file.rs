@@ -404,6 +404,23 @@ fn a_bad_connector_lengths_value_names_the_line_and_the_accepted_values() {
 }
 
 #[test]
+fn gain_in_path_is_read_from_the_top_of_the_file_and_is_off_by_default() {
+    let off = parse(&two_cables("", ""), Path::new("a.toml")).unwrap();
+    assert!(!off.gain_in_path);
+    let on = parse(
+        &two_cables("gain_in_path = true\n", ""),
+        Path::new("a.toml"),
+    )
+    .unwrap();
+    assert!(on.gain_in_path);
+    assert_eq!(serde_json::to_value(&on).unwrap()["gain_in_path"], true);
+    // Not a boolean: the file, its line and what the key takes.
+    let (line, _, _, msg) = err(&two_cables("gain_in_path = \"yes\"\n", ""));
+    assert_eq!(line, 2);
+    assert!(msg.contains("boolean"), "{msg}");
+}
+
+#[test]
 fn a_connector_beside_one_cable_takes_its_whole_section_from_it() {
     // J5 between the last cable and the device, J6 first in the chain.
     let text = format!(

@@ -108,6 +108,20 @@ load = 100.0
     );
 }
 
+/// The demo line swept through a gain of 16 dB warm and 20 dB cold, too small to show in the healthy warm
+/// sweep (no frequency reads 3 dB over all it was sent, nor the band's power), its line file saying so
+/// (`gain_in_path = true`): located as through gain, with the warning naming the line file, the warm sweep
+/// showing nothing above info and the cold one the pin gap at J2 first.
+#[test]
+fn a_line_file_that_declares_the_gain_is_located_through_it() {
+    locate_demo_through_gain((16.0, 20.0), true, |faulty, peak_db, power_db| {
+        // On the healthy sweep (a pin gap reflects too strongly to hide any gain).
+        faulty
+            || (peak_db <= coldtrace::compare::sweep::PASSIVE_PEAK_LIMIT_DB
+                && power_db <= coldtrace::compare::sweep::PASSIVE_POWER_LIMIT_DB)
+    });
+}
+
 /// The shipped demo line (north-fridge/in-07: attenuators, a lossy run and an open far end behind them)
 /// simulated warm, and cold with a pin gap at J2, each swept through a round-trip gain of 36 and 40 dB:
 /// |S11| reads over 1.41 at some frequencies, while the healthy sweep's band-averaged power stays under
@@ -117,13 +131,32 @@ load = 100.0
 /// warm sweep shows nothing above info, and the cold one the pin gap at J2, first.
 #[test]
 fn a_sweep_through_an_amplifier_is_located_as_the_passive_lines() {
+    locate_demo_through_gain((36.0, 40.0), false, |faulty, peak_db, power_db| {
+        // The gain shows at some frequency; on the healthy line, not in the power over the band.
+        peak_db > coldtrace::compare::sweep::PASSIVE_PEAK_LIMIT_DB
+            && (faulty || power_db <= coldtrace::compare::sweep::PASSIVE_POWER_LIMIT_DB)
+    });
+}
+
+/// The demo line simulated warm (healthy) and cold (a pin gap at J2), each swept through a round-trip gain
+/// of `gains_db` (warm, cold) and located with the states given, its line file declaring the gain when
+/// `declared`. `premise(faulty, peak_db, power_db)` checks each sweep is the case the test means (its
+/// largest |S11| and its band's returned power, dB). Each result carries the `gain-in-path` warning (naming
+/// the line file when `declared`); the warm one shows nothing above info, the cold one J2 first.
+fn locate_demo_through_gain(
+    gains_db: (f64, f64),
+    declared: bool,
+    premise: impl Fn(bool, f64, f64) -> bool,
+) {
     use coldtrace::compare::job::{locate_network, LineModel};
     use coldtrace::compare::Severity;
-    let line = coldtrace::line::file::read_file(Path::new("sample-sweeps/north-fridge/in-07.toml"))
-        .unwrap();
+    let mut line =
+        coldtrace::line::file::read_file(Path::new("sample-sweeps/north-fridge/in-07.toml"))
+            .unwrap();
+    line.gain_in_path = declared;
     for (state, faults, gain_db) in [
-        (State::Warm, &[][..], 36.0),
-        (State::Cold, &["J2:gap=15um"][..], 40.0),
+        (State::Warm, &[][..], gains_db.0),
+        (State::Cold, &["J2:gap=15um"][..], gains_db.1),
     ] {
         let mut cfg = SimConfig::linear(state, 0.5e9, 10e9, 2001);
         cfg.noise_db = Some(-85.0);
@@ -134,16 +167,12 @@ fn a_sweep_through_an_amplifier_is_located_as_the_passive_lines() {
         for s in n.s.iter_mut() {
             *s *= g;
         }
-        // The premise: the gain shows at some frequency; on the healthy line, not in the power over the
-        // band.
         let s11 = n.s11();
         let peak = s11.iter().map(|v| v.norm()).fold(0.0, f64::max);
         let power = coldtrace::compare::sweep::returned_power_db(&s11);
         assert!(
-            20.0 * peak.log10() > coldtrace::compare::sweep::PASSIVE_PEAK_LIMIT_DB
-                && (!faults.is_empty()
-                    || power <= coldtrace::compare::sweep::PASSIVE_POWER_LIMIT_DB),
-            "{state:?}: peak {peak:.2}, power {power:.1} dB"
+            premise(!faults.is_empty(), 20.0 * peak.log10(), power),
+            "{state:?}: the premise: peak {peak:.2}, power {power:.1} dB"
         );
         let r = locate_network(
             "amplified",
@@ -154,7 +183,8 @@ fn a_sweep_through_an_amplifier_is_located_as_the_passive_lines() {
         )
         .unwrap();
         assert!(
-            r.warnings.iter().any(|w| w.kind == "gain-in-path"),
+            r.warnings.iter().any(|w| w.kind == "gain-in-path"
+                && w.message.contains("gain_in_path = true") == declared),
             "{state:?}: {:?}",
             r.warnings
         );

@@ -118,6 +118,9 @@ pub struct ChainView {
     pub as_built: bool,
     /// Frequency at which the segments' delays are group delays, Hz.
     pub delay_reference_hz: f64,
+    /// The line file says its sweeps pass through gain (`Line::gain_in_path`): they are read as sweeps
+    /// through an amplifier whether or not their power shows it.
+    pub gain_in_path: bool,
 }
 
 /// Which sweep a quantity belongs to.
@@ -156,6 +159,7 @@ impl ChainView {
             }],
             as_built: false,
             delay_reference_hz: 5e9,
+            gain_in_path: false,
         }
     }
 

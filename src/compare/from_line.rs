@@ -142,6 +142,7 @@ impl ChainView {
             segments,
             as_built: true,
             delay_reference_hz: f_ref,
+            gain_in_path: line.gain_in_path,
         }
     }
 }

@@ -81,8 +81,9 @@ pub fn analyse_pair(
         chain,
         &[&baseline.network.freqs_hz, &current.network.freqs_hz],
     );
-    // An amplifier that shows in one sweep of the line is in the other's path too.
-    let mut amplified = shows_gain(baseline)? || shows_gain(current)?;
+    // An amplifier that the line file declares, or that shows in one sweep of the line, is in both sweeps'
+    // paths.
+    let mut amplified = chain.gain_in_path || shows_gain(baseline)? || shows_gain(current)?;
     let analyse = |sweep: &Sweep,
                    chain: &ChainView,
                    which: Which,

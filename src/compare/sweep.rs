@@ -50,7 +50,7 @@ pub fn analyse(
     which: Which,
     engine: &mut TraceEngine,
 ) -> Result<SweepAnalysis, CompareError> {
-    let amplified = shows_gain(sweep)?;
+    let amplified = chain.gain_in_path || shows_gain(sweep)?;
     analyse_through(sweep, chain, cfg, which, engine, amplified, None)
 }
 
@@ -152,12 +152,16 @@ pub fn analyse_through(
     a.warnings.push(Warning::new(
         "gain-in-path",
         format!(
-            "{}: an amplifier lies in the line's path (a sweep of it returns more power than it was sent, at \
-             some frequency or over the band, or every joint of the line file both sweeps show reflects as \
-             no passive joint does); this sweep is read as a passive line's with {:.1} dB of gain taken out \
+            "{}: an amplifier lies in the line's path ({}); this sweep is read as a passive line's with {:.1} dB of gain taken out \
              (its largest reflection at most total, its joints at a few per cent), so reflections and costs \
              are estimates, and a change of the gain is a level change of the whole trace",
             sweep.name,
+            if chain.gain_in_path {
+                "the line file says so: gain_in_path = true"
+            } else {
+                "a sweep of it returns more power than it was sent, at some frequency or over the band, or \
+                 every joint of the line file both sweeps show reflects as no passive joint does"
+            },
             db(path_gain)
         ),
         "give the amplifier's gain and match in its own sweep, or sweep the passive line without it",

@@ -207,6 +207,11 @@ pub struct Line {
     /// bookkeeping: the elements' `start_m` and `length_m` already include its effect. [`Line::new`]
     /// takes the elements' lengths as given and says `Added`; the file reader says what the file chose.
     pub connector_lengths: ConnectorLengths,
+    /// The line's sweeps pass through gain (an amplifier between the analyser's port and the line, as in
+    /// a reflection measurement through a cold amplifier chain): their level says nothing of the line's
+    /// reflections. The line file's top-level `gain_in_path` (default false); the comparator also finds
+    /// gain in the data when a sweep returns more power than a passive line can.
+    pub gain_in_path: bool,
     /// The file it came from, if any.
     pub source: Option<PathBuf>,
     /// Things in the file worth knowing that are not errors (filled in by the file reader).
@@ -233,6 +238,7 @@ impl Line {
             elements,
             ptfe_model: PtfeModel::Gapped,
             connector_lengths: ConnectorLengths::Added,
+            gain_in_path: false,
             source: None,
             warnings: Vec::new(),
         }

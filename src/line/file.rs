@@ -88,6 +88,7 @@ struct RawFile {
     impedance_ohm: Option<Spanned<Num>>,
     ptfe_model: Option<Spanned<String>>,
     connector_lengths: Option<Spanned<String>>,
+    gain_in_path: Option<bool>,
     #[serde(default)]
     stages: Option<Spanned<BTreeMap<String, Spanned<Num>>>>,
     #[serde(default, rename = "element")]
@@ -1003,6 +1004,7 @@ fn resolve(ctx: &Ctx, raw: RawFile) -> Result<Line, LineError> {
     line.warnings = warnings;
     line.ptfe_model = ptfe_model;
     line.connector_lengths = connector_lengths;
+    line.gain_in_path = raw.gain_in_path.unwrap_or(false);
     line.source = Some(PathBuf::from(ctx.path));
     Ok(line)
 }
