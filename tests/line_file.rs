@@ -415,9 +415,13 @@ fn gain_in_path_is_read_from_the_top_of_the_file_and_is_off_by_default() {
     assert!(on.gain_in_path);
     assert_eq!(serde_json::to_value(&on).unwrap()["gain_in_path"], true);
     // Not a boolean: the file, its line and what the key takes.
-    let (line, _, _, msg) = err(&two_cables("gain_in_path = \"yes\"\n", ""));
+    let (line, _, key, msg) = err(&two_cables("gain_in_path = \"yes\"\n", ""));
     assert_eq!(line, 2);
-    assert!(msg.contains("boolean"), "{msg}");
+    assert_eq!(key.as_deref(), Some("gain_in_path"));
+    assert!(
+        msg.contains("true or false") && msg.contains("\"yes\""),
+        "{msg}"
+    );
 }
 
 #[test]

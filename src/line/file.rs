@@ -88,7 +88,7 @@ struct RawFile {
     impedance_ohm: Option<Spanned<Num>>,
     ptfe_model: Option<Spanned<String>>,
     connector_lengths: Option<Spanned<String>>,
-    gain_in_path: Option<bool>,
+    gain_in_path: Option<Spanned<toml::Value>>,
     #[serde(default)]
     stages: Option<Spanned<BTreeMap<String, Spanned<Num>>>>,
     #[serde(default, rename = "element")]
@@ -1004,7 +1004,20 @@ fn resolve(ctx: &Ctx, raw: RawFile) -> Result<Line, LineError> {
     line.warnings = warnings;
     line.ptfe_model = ptfe_model;
     line.connector_lengths = connector_lengths;
-    line.gain_in_path = raw.gain_in_path.unwrap_or(false);
+    line.gain_in_path = match &raw.gain_in_path {
+        None => false,
+        Some(v) => v.get_ref().as_bool().ok_or_else(|| {
+            ctx.err(
+                v.span(),
+                Some("gain_in_path"),
+                format!(
+                    "takes true or false, without quotes, got {}; true when the line's sweeps pass \
+                     through an amplifier (docs/line-file.md, \"Sweeps through gain\")",
+                    clip(&v.get_ref().to_string())
+                ),
+            )
+        })?,
+    };
     line.source = Some(PathBuf::from(ctx.path));
     Ok(line)
 }
