@@ -152,9 +152,10 @@ pub fn analyse_through(
     a.warnings.push(Warning::new(
         "gain-in-path",
         format!(
-            "{}: an amplifier lies in the line's path ({}); this sweep is read as a passive line's with {:.1} dB of gain taken out \
-             (its largest reflection at most total, its joints at a few per cent), so reflections and costs \
-             are estimates, and a change of the gain is a level change of the whole trace",
+            "{}: an amplifier lies in the line's path ({}); this sweep is read as a passive line's with \
+             {:.1} dB of gain taken out (its largest reflection at most total, its joints at a few per cent), \
+             so reflections and costs are estimates, and a change of the gain is a level change of the whole \
+             trace",
             sweep.name,
             if chain.gain_in_path {
                 "the line file says so: gain_in_path = true"
