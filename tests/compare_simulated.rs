@@ -484,3 +484,76 @@ fn a_room_temperature_joint_is_judged_across_a_cooldown_as_in_one_state() {
     let cold = ChainView::from_line(&l, State::Cold, State::Cold, 0.5e9, 10e9, 5e9);
     assert!(cold.steady_to(mid("J2"), 0.06));
 }
+
+/// The demo line (north-fridge/in-07, 24.9 ns round trip when cold) swept over 0.5-40 GHz with 801 points:
+/// an alias-free record of 20.25 ns, shorter than the line, so its far part (J4 onwards and the open end)
+/// folds back onto the first 0.55 m of the room-temperature cable. Read there, the folded open end moved
+/// with the whole line's cooldown, and it was taken for a landmark in that cable: the cable was stretched by
+/// 1.6 %, the feedthrough behind it misplaced by 23 mm, and a healthy cooldown raised a minor impedance step
+/// while a 15 um pin gap at J2 raised nothing. Nothing in the folded part is now a landmark or a finding
+/// above info: the healthy pair is quiet, the gap is found at J2, states given or inferred.
+#[test]
+fn a_line_longer_than_the_record_takes_nothing_folded_for_a_landmark_or_a_finding() {
+    use coldtrace::compare::job::{compare_networks, LineModel, PairRequest};
+    let line = coldtrace::line::file::read_file(Path::new("sample-sweeps/north-fridge/in-07.toml"))
+        .unwrap();
+    let sweep = |state: State, faults: &[&str], seed: u64| {
+        let mut cfg = SimConfig::linear(state, 0.5e9, 40e9, 801);
+        cfg.noise_db = Some(-90.0);
+        cfg.seed = seed;
+        cfg.faults = faults.iter().map(|f| Fault::parse(f).unwrap()).collect();
+        simulate(&line, &cfg).unwrap()
+    };
+    let warm = sweep(State::Warm, &[], 1);
+    // The premise: the record is shorter than the line.
+    let alias_free_s = 1.0 / (warm.freqs_hz[1] - warm.freqs_hz[0]);
+    let end_s = line.round_trip_s(line.length_m(), State::Cold);
+    assert!(
+        alias_free_s < end_s,
+        "{alias_free_s:e} s against {end_s:e} s"
+    );
+    for (faults, want) in [(&[][..], None), (&["J2:gap=15um"][..], Some("J2"))] {
+        let cold = sweep(State::Cold, faults, 2);
+        for given in [true, false] {
+            let r = compare_networks(&PairRequest {
+                baseline: ("warm", &warm),
+                current: ("cold", &cold),
+                line: LineModel::Line(&line),
+                baseline_state: given.then_some(State::Warm),
+                current_state: given.then_some(State::Cold),
+                analysis: &AnalysisConfig::default(),
+            })
+            .unwrap();
+            let above: Vec<_> = r
+                .findings
+                .iter()
+                .filter(|f| f.severity > Severity::Info)
+                .map(|f| {
+                    (
+                        f.place.element.clone(),
+                        f.place.nearest_connector.clone(),
+                        f.place.distance_m,
+                        f.severity,
+                    )
+                })
+                .collect();
+            match want {
+                None => assert!(above.is_empty(), "given {given}: {above:?}"),
+                // At the joint: named as it, or as the nearest connector within a few millimetres (J2's
+                // centre at 1.800 m; the resolution is 6.8 mm).
+                Some(j) => assert!(
+                    above.first().is_some_and(|(e, near, x, _)| {
+                        e == j || (near.as_deref() == Some(j) && (x - 1.8).abs() < 0.01)
+                    }),
+                    "given {given}: {above:?}"
+                ),
+            }
+            // No landmark in the folded part (the first 0.6 m).
+            assert!(
+                r.alignment.landmarks_m.iter().all(|&x| x > 0.6),
+                "given {given}: {:?}",
+                r.alignment.landmarks_m
+            );
+        }
+    }
+}

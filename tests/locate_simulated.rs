@@ -249,3 +249,43 @@ fn a_used_engine_locates_as_a_fresh_one() {
         assert_eq!(format!("{b:?}"), format!("{f:?}"));
     }
 }
+
+/// A line longer than the sweep's record (tests/data/compare/south-fridge-in-02.toml, cold, over 0.5-40 GHz
+/// with 401 points: a record of 10.1 ns): the events in the record's first stretch, where the line's far
+/// part folds back, are never claimed above info and say why.
+#[test]
+fn events_where_a_long_line_folds_back_are_not_claimed() {
+    use coldtrace::compare::job::{locate_network, LineModel};
+    use coldtrace::compare::Severity;
+    let line = read("south-fridge-in-02.toml");
+    let mut cfg = SimConfig::linear(State::Cold, 0.5e9, 40e9, 401);
+    cfg.noise_db = Some(-90.0);
+    cfg.faults = vec![Fault::parse("J4:gap=15um").unwrap()];
+    let n = simulate(&line, &cfg).unwrap();
+    let alias_free_s = 1.0 / (n.freqs_hz[1] - n.freqs_hz[0]);
+    let end_s = line.round_trip_s(line.length_m(), State::Cold);
+    assert!(
+        end_s > 1.2 * alias_free_s,
+        "{end_s:e} s, {alias_free_s:e} s"
+    );
+    let r = locate_network(
+        "long",
+        &n,
+        LineModel::Line(&line),
+        Some(State::Cold),
+        &AnalysisConfig::default(),
+    )
+    .unwrap();
+    // The folded stretch, as far as the line reaches past the record (less a margin for the model).
+    let folded_m = line.length_m() * (end_s - alias_free_s) / end_s * 0.9;
+    let inside: Vec<_> = r
+        .events
+        .iter()
+        .filter(|e| e.place.distance_m < folded_m)
+        .collect();
+    assert!(!inside.is_empty());
+    for e in inside {
+        assert_eq!(e.severity, Severity::Info, "{}", e.explanation);
+        assert!(e.explanation.contains("folded back"), "{}", e.explanation);
+    }
+}

@@ -165,11 +165,14 @@ pub fn find(chain: &ChainView, b: &SweepAnalysis, which: Which) -> Vec<Anchor> {
     }
     let groups: Vec<Group> = members.iter().map(|g| Group::of(g)).collect();
     let edge = ALIAS_EDGE * b.alias_free_s;
+    // Nor where the line's far part may be folded back from beyond the record.
+    let folded = super::far_end::folded_until(chain, b, which);
     let events: Vec<(f64, f64)> = b
         .events
         .iter()
         .filter(|e| {
             e.delay_s < edge
+                && e.delay_s >= folded
                 && e.ghost_of.is_none()
                 && b.snr(e.magnitude, e.delay_s) >= LANDMARK_SNR
         })

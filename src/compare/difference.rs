@@ -27,6 +27,9 @@ pub enum Zone {
     BeyondFarEnd,
     /// Near the end of the alias-free record, where echoes from beyond it fold back.
     AliasEdge,
+    /// At the start of the record, where the line's own far part folds back from beyond the alias-free
+    /// time (a line longer than the record: `far_end::folded_until`).
+    Folded,
 }
 
 /// The far end as both sweeps saw it.
@@ -361,6 +364,9 @@ impl Inputs<'_> {
         let alias = self.c.alias_free_s.min(self.b.alias_free_s);
         if d_c >= ALIAS_EDGE * alias {
             return Zone::AliasEdge;
+        }
+        if d_c < super::far_end::pair_folded_until(self.chain, self.b, self.c) {
+            return Zone::Folded;
         }
         if self.chain.as_built && x > self.chain.visible_end_m() + res_m {
             return Zone::BehindDevice;

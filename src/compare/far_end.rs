@@ -36,6 +36,39 @@ pub const BOTTOM_BAND: f64 = 0.05;
 /// wrapping round the record, for one): nothing there is a landmark, a termination or a finding above info.
 pub const ALIAS_EDGE: f64 = 0.9;
 
+/// Error of the line model's round-trip delay to the visible end, relative: the thermal model and the
+/// declared lengths (common practice, no source). With [`END_LOBE_CELLS`], how far from its predicted
+/// delay the visible end's echo is looked for, and how far past it the line's own echoes may reach.
+pub const END_DELAY_TOLERANCE: f64 = 0.015;
+
+/// Resolution cells added to that: the echo's own main lobe (common practice, no source).
+pub const END_LOBE_CELLS: f64 = 3.0;
+
+/// Round-trip delay below which sweep `a`'s record may hold the line's own far part folded back from beyond
+/// the alias-free time T: a line file whose visible end lies past T (give or take
+/// [`END_DELAY_TOLERANCE`] and [`END_LOBE_CELLS`]) puts the echoes of its stretch from T on at delays from 0
+/// to that reach less T (the band-pass record is periodic in T). Nothing there is a landmark, and nothing
+/// there is a finding above info: a change may be the far part's, seen at the wrong place. Minus infinity
+/// when the line fits in the record, and for a line of unknown construction (its length is not known), so
+/// that no delay, not even the reference plane's echo read a hair before zero, lies below it.
+pub fn folded_until(chain: &ChainView, a: &SweepAnalysis, which: Which) -> f64 {
+    if !chain.as_built {
+        return f64::NEG_INFINITY;
+    }
+    let t_end = chain.delay_to(chain.visible_end_m(), which, None);
+    let reach = t_end * (1.0 + END_DELAY_TOLERANCE) + END_LOBE_CELLS * a.resolution_s;
+    if reach > a.alias_free_s {
+        reach - a.alias_free_s
+    } else {
+        f64::NEG_INFINITY
+    }
+}
+
+/// [`folded_until`] for a pair: the larger of its baseline's and its current sweep's.
+pub fn pair_folded_until(chain: &ChainView, b: &SweepAnalysis, c: &SweepAnalysis) -> f64 {
+    folded_until(chain, b, Which::Baseline).max(folded_until(chain, c, Which::Current))
+}
+
 /// A termination found in one sweep.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Termination {
@@ -91,7 +124,7 @@ pub fn find(
     let candidates: Vec<usize> = if chain.as_built {
         let x_end = chain.visible_end_m();
         let t_end = chain.delay_to(x_end, which, None);
-        let tol = 0.015 * t_end + 3.0 * a.resolution_s;
+        let tol = END_DELAY_TOLERANCE * t_end + END_LOBE_CELLS * a.resolution_s;
         (0..a.events.len())
             .filter(|&i| (a.events[i].delay_s - t_end).abs() <= tol && a.events[i].delay_s < edge)
             .max_by(|&x, &y| raw(x).total_cmp(&raw(y)))

@@ -54,6 +54,8 @@ pub fn locate_in(
     let f_c = band_centre(f);
     let mut warnings = a.warnings.clone();
     let visible_end = chain.visible_end_m();
+    // Where the line's far part may be folded back from beyond the record (a line longer than it).
+    let folded = super::far_end::folded_until(&chain, &a, Which::Current);
     let mut events = Vec::new();
     for e in &a.events {
         let x = chain.position_of(e.delay_s, Which::Current, None);
@@ -80,7 +82,10 @@ pub fn locate_in(
             (fl[0], fl[fl.len() - 1]),
         );
         let (drop, ml) = costs(best, &fl, &gl, chain.impedance_ohm, f_ref);
-        let severity = if matches!(kind, FaultKind::Open | FaultKind::Short) {
+        let folded_here = e.delay_s < folded;
+        let severity = if folded_here {
+            Severity::Info
+        } else if matches!(kind, FaultKind::Open | FaultKind::Short) {
             Severity::Critical
         } else {
             Severity::from_drop_db(drop)
@@ -98,10 +103,13 @@ pub fn locate_in(
             } else {
                 ""
             },
-            if visible {
-                ""
-            } else {
+            if !visible {
                 " (not visible: not claimed)"
+            } else if folded_here {
+                " (may be the line's far part, folded back from beyond the sweep's alias-free range: not \
+                 claimed)"
+            } else {
+                ""
             }
         );
         let evidence = if evidence {

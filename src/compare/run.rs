@@ -208,8 +208,8 @@ pub fn scale_bounds(h: Hypothesis) -> (f64, f64) {
 
 /// The landmarks among `candidates` (pairs of strong echoes): none at a termination that changed kind, none
 /// behind an open or short far end or a part reflection cannot see through, none at or behind an echo that
-/// changed more than a level or loss change explains; of the rest, the longest chain whose stretches change
-/// their delays within `bounds`.
+/// changed more than a level or loss change explains, none where the line's far part may fold back from
+/// beyond the record; of the rest, the longest chain whose stretches change their delays within `bounds`.
 fn keep_landmarks(pa: &PairAnalysis, candidates: &Pairs, bounds: (f64, f64)) -> Pairs {
     let (b, c) = (&pa.b, &pa.c);
     let res = b.resolution_s.max(c.resolution_s);
@@ -238,10 +238,14 @@ fn keep_landmarks(pa: &PairAnalysis, candidates: &Pairs, bounds: (f64, f64)) -> 
     } else {
         f64::INFINITY
     };
+    // Nor an echo where the line's far part may be folded back from beyond the record: it is not where it
+    // seems, and its change says nothing of what lies behind it.
+    let folded = super::far_end::pair_folded_until(&pa.chain, &pa.b, &pa.c);
     // Nor an echo that changed more than a level or loss change can explain (its own joint changed),
     // nor anything behind it: a changed joint's transmission phase delays every echo behind it.
     let changed_at = candidates
         .iter()
+        .filter(|&&(i, _)| b.events[i].delay_s >= folded)
         .filter(|&&(i, j)| {
             (db(c.events[j].magnitude) - db(b.events[i].magnitude)).abs()
                 > crate::compare::align::MAX_LANDMARK_AMPLITUDE_DB
@@ -253,7 +257,7 @@ fn keep_landmarks(pa: &PairAnalysis, candidates: &Pairs, bounds: (f64, f64)) -> 
         .copied()
         .filter(|p| {
             let t = b.events[p.0].delay_s;
-            Some(p.0) != swapped && t <= wall && t <= device && t < changed_at
+            Some(p.0) != swapped && t <= wall && t <= device && t < changed_at && t >= folded
         })
         .collect();
     // Per-landmark delay uncertainty: a tenth of a cell covers a peak at 30 dB SNR and more.
@@ -271,7 +275,11 @@ pub fn align_pair(
     let (b, c) = (&pa.b, &pa.c);
     let res = b.resolution_s.max(c.resolution_s);
     let bounds = scale_bounds(h);
-    let strong = strong_events(b, LANDMARK_SEPARATION_CELLS * res, MAX_LANDMARKS);
+    // Echoes where the line's far part may fold back do not vote for the scale: they move with the whole
+    // line's change, not with the stretch they seem to lie in.
+    let folded = super::far_end::pair_folded_until(&pa.chain, &pa.b, &pa.c);
+    let mut strong = strong_events(b, LANDMARK_SEPARATION_CELLS * res, MAX_LANDMARKS);
+    strong.retain(|&i| b.events[i].delay_s >= folded);
     // The search runs relative to the model's own prediction of the change where the chain has one.
     let model_scale = {
         let t0 = pa
@@ -552,6 +560,9 @@ pub fn explain_change(
         _ if ch.ghost => " (may be a multiple reflection of stronger events)",
         Zone::BeyondFarEnd => " (behind the far end's open or short: a multiple reflection)",
         Zone::AliasEdge => " (at the end of the record, where echoes from beyond it fold back)",
+        Zone::Folded => {
+            " (where the line's far part, beyond the sweep's alias-free range, folds back onto its start)"
+        }
         Zone::BehindDevice => " (behind a part reflection cannot see through)",
         Zone::Line => "",
     };
@@ -597,6 +608,7 @@ pub fn explain_change(
                 Zone::Line => "line",
                 Zone::BeyondFarEnd => "beyond-far-end",
                 Zone::AliasEdge => "alias-edge",
+                Zone::Folded => "folded",
                 Zone::BehindDevice => "behind-device",
             }
         },

@@ -160,14 +160,21 @@ pub fn render_compare(r: &CompareReport, show_info: bool) -> String {
     if r.states.inferred {
         let _ = writeln!(out, "  states {}", r.states.basis);
     }
+    let alignment = if r.alignment.landmarks_m.is_empty() {
+        "no landmark seen in both sweeps (the model's change used)".to_string()
+    } else {
+        format!(
+            "alignment residual {:.3} mm over {} landmark(s); electrical length to the farthest landmark \
+             {:+.3} %",
+            r.alignment.residual_m * 1e3,
+            r.alignment.landmarks_m.len(),
+            r.alignment.electrical_length_change * 100.0,
+        )
+    };
     let _ = writeln!(
         out,
-        "  resolution {:.1} mm; alignment residual {:.3} mm over {} landmark(s); electrical length to the farthest \
-         landmark {:+.3} %; power drops quoted at {:.2} GHz",
+        "  resolution {:.1} mm; {alignment}; power drops quoted at {:.2} GHz",
         r.resolution_m * 1e3,
-        r.alignment.residual_m * 1e3,
-        r.alignment.landmarks_m.len(),
-        r.alignment.electrical_length_change * 100.0,
         r.reference_hz / 1e9
     );
     if let Some(worst) = r

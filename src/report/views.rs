@@ -402,10 +402,13 @@ pub fn compare_figure(
     fig.notes.insert(
         0,
         format!(
-            "resolution {} (two events apart, the coarser sweep); alignment residual {}; lower panel: current \
-             less baseline",
+            "resolution {} (two events apart, the coarser sweep); {}; lower panel: current less baseline",
             mm_text(report.resolution_m),
-            mm_text(report.alignment.residual_m)
+            if report.alignment.landmarks_m.is_empty() {
+                "no landmark seen in both sweeps".to_string()
+            } else {
+                format!("alignment residual {}", mm_text(report.alignment.residual_m))
+            }
         ),
     );
     fig
