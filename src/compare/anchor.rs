@@ -135,6 +135,37 @@ fn tolerance_s(chain: &ChainView, x0: f64, x1: f64, which: Which) -> f64 {
         .sum()
 }
 
+/// How far from its declared place a part at as-built `x1` may really be, m, counted from a place known at
+/// `x0` (the last anchor in front of it, or the reference plane): each cable between them by
+/// [`LENGTH_TOLERANCE_ABS_M`] plus [`LENGTH_TOLERANCE_REL`] of its length, as [`tolerance_s`] counts them,
+/// and each attenuator by [`LENGTH_TOLERANCE_ABS_M`] too (a body whose length the line file may only
+/// default).
+pub fn position_tolerance_m(chain: &ChainView, x0: f64, x1: f64) -> f64 {
+    chain
+        .segments
+        .iter()
+        .filter(|s| {
+            matches!(s.kind, SegmentKind::Cable | SegmentKind::Attenuator)
+                && s.end_m > x0
+                && s.start_m < x1
+        })
+        .map(|s| {
+            let inside = (s.end_m.min(x1) - s.start_m.max(x0)).max(0.0);
+            let abs = if s.start_m >= x0 {
+                LENGTH_TOLERANCE_ABS_M
+            } else {
+                0.0
+            };
+            let rel = if s.kind == SegmentKind::Cable {
+                LENGTH_TOLERANCE_REL * inside
+            } else {
+                0.0
+            };
+            abs + rel
+        })
+        .sum()
+}
+
 /// Log-likelihood that an echo `miss` seconds from where a joint should be is that joint's: a Gaussian miss
 /// with the tolerance as two standard deviations, times the joint's expected echo strength `weight` (a
 /// joint behind an attenuator echoes weaker by its round trip).

@@ -100,6 +100,19 @@ pub struct Change {
     /// load's resistance and a cold cable's impedance both move, so a matched end's faint echo may rise by
     /// tens of dB on cooling and still cost nothing).
     pub at_device: bool,
+    /// The reflection under which the device's echo is what its own cooling makes of it
+    /// ([`DEVICE_DRIFT_REFLECTION`], or [`MATCHED_DEVICE_DRIFT_REFLECTION`] for a declared match).
+    pub device_drift: f64,
+    /// For an echo within half a resolution cell and 5 mm of an attenuator's loss step (the middle of its
+    /// body, where the line file's model puts its loss and where its resistive element and that element's
+    /// own mismatch sit): the factor that reads its compensated strength as seen in front of that step (1 in front of
+    /// it, 10^(-A/20) for a round-trip loss A behind it). Which side of the step such an echo lies on is
+    /// not known to within the length errors and the cell; in front, it is the pad's own echo.
+    pub pad_front: Option<f64>,
+    /// For an echo at an attenuator's loss step that reads [`PAD_OPEN_REFLECTION`] or more behind it: an
+    /// echo further on is still seen at its level (it fell by less than half of what so strong a
+    /// reflection behind the pad would take from it), so this one lies in front of the step.
+    pub seen_behind: bool,
     /// True for an echo in the line's steady part across a change of state: everything in front of it, and
     /// its own place, at room temperature in both sweeps, and nothing that cools within
     /// [`STEADY_CLEAR_CELLS`] behind it but a cable's gradual taper down from room temperature (see
@@ -117,6 +130,25 @@ pub const STEADY_CLEAR_CELLS: f64 = 2.0;
 /// Standard uncertainties by which a far end's echo must lie beyond the prediction of the landmarks in
 /// front of it to count as its own change (the usual three-sigma rule; common practice, no source).
 pub const FAR_END_SIGMAS: f64 = 3.0;
+
+/// Standard uncertainty of an open or short far end's echo between two sweeps in one state, dB, beyond the
+/// noise: a network analyser's drift and a flexed test cable (common practice, no source). The real
+/// campaign's switch-board short, swept in six cooldowns without being re-mated, moves by at most 0.03 dB
+/// from one cooldown to the next at room temperature and cold alike (docs/accuracy-real.md, check (d),
+/// the `loss-ratio` signature).
+pub const ONE_STATE_LEVEL_SIGMA_DB: f64 = 0.1;
+
+/// Share of the round-trip loss to an open or short far end by which its echo may move between two sweeps
+/// in one state: two warm sweeps a few kelvin of room temperature apart move copper's resistivity by 0.39 %
+/// per kelvin (the International Annealed Copper Standard's temperature coefficient at 20 C, 0.00393/K)
+/// and its surface resistance by half of that, 1 % of the conductor loss for 5 K; twice that is allowed.
+pub const ONE_STATE_LOSS_SHARE: f64 = 0.02;
+
+/// Least change of an open or short far end's echo, beyond what the landmarks in front of it predict, that
+/// counts as its own joint's change when both sweeps are in one state, dB: a series resistance of 1.5 ohm
+/// in front of a short on 50 ohm, 20 log10((50 - R)/(50 + R)) (circuit theory). Across a change of state
+/// it is [`CHANGE_DB`].
+pub const ONE_STATE_FAR_LEVEL_DB: f64 = 0.5;
 
 /// How far behind an open or short far end, in resolution cells, an echo is taken for a multiple reflection:
 /// one cell, the far end's own main lobe (common practice, no source).
@@ -156,6 +188,32 @@ pub const COMPONENT_REFLECTION: f64 = 0.1;
 /// few per cent under the load's (common practice, no source). Below it in both sweeps, the device's echo
 /// is reported at `info` at most across a change of state.
 pub const DEVICE_DRIFT_REFLECTION: f64 = 0.03;
+
+/// How near an attenuator's loss step an echo is taken for the pad's own ([`Change::pad_front`]): half a
+/// resolution cell (where the main lobe's peak of an echo at the step lies whatever its phase) and 5 mm
+/// (half the centimetre by which a body the line file only defaults may be off its 2 cm; common practice,
+/// no source). A joint beside the pad lies half the body and half its connector away, 14 mm for 2 cm and
+/// 8 mm.
+pub const PAD_STEP_CELLS: f64 = 0.5;
+pub const PAD_STEP_M: f64 = 5e-3;
+
+/// Reflection an attenuator's own resistive element may show, read in front of its loss, on its own across a
+/// change of state: 0.01. Its resistors move by up to 2 % over a cooldown (thin-film temperature
+/// coefficients of tens of ppm/K over 290 K; common practice, no source), which moves its input impedance by
+/// as much and its reflection by half of that, |dZ| / (2 Z0) (circuit theory). A contact of 2 ohm or more at
+/// the joint beside it reflects more.
+pub const PAD_DRIFT_REFLECTION: f64 = 0.01;
+
+/// Reflection, read behind an attenuator's loss step, from which an echo there is an open or nearly (a pin
+/// pulled back, a break) and never taken for the pad's own drift: 0.5 (common practice, no source). Under
+/// it, across a change of state, the pad's drift and a small fault right behind it cannot be told apart.
+pub const PAD_OPEN_REFLECTION: f64 = 0.5;
+
+/// The same for a device the line file calls a match (`load = "match"`): 0.05, a coaxial termination's
+/// specified match over the first ten gigahertz or so (VSWR 1.1; common practice, no source), which its
+/// cooling may use up as its resistive film and launch move. A contact of 5 ohm or more in front of it
+/// reflects more.
+pub const MATCHED_DEVICE_DRIFT_REFLECTION: f64 = 0.05;
 
 /// Strength change of a component's echo that counts as a change across a change of state, dB: a
 /// component's match moves by several dB on cooling (its semiconductors, ferrites and resonances move with
@@ -300,11 +358,28 @@ impl Change {
     }
 
     /// Whether, across a change of state, this is the device's own echo at the end of the visible line
-    /// and under [`DEVICE_DRIFT_REFLECTION`] in both sweeps: what the device's own cooling can make of it.
-    /// Such a change is reported at `info`, never above.
+    /// and under its drift bound ([`Change::device_drift`]) in both sweeps: what the device's own cooling can
+    /// make of it. Such a change is reported at `info`, never above.
     pub fn within_device_drift(&self, same_state: bool) -> bool {
         let same_state = self.one_state(same_state);
-        !same_state && self.at_device && self.mag_c.max(self.base_level) < DEVICE_DRIFT_REFLECTION
+        !same_state && self.at_device && self.mag_c.max(self.base_level) < self.device_drift
+    }
+
+    /// Whether, across a change of state, this is an echo at an attenuator's loss step ([`Change::pad_front`])
+    /// that, read in front of the step, stays under [`PAD_DRIFT_REFLECTION`] in both sweeps: what the pad's
+    /// own cooling makes of its match. Such a change is reported at `info`, never above. Not when the far
+    /// end vanished behind it ([`Change::blocks_far_end`]: it is the fault that blocks the line), nor when it
+    /// reads [`PAD_OPEN_REFLECTION`] or more behind the step unless what lies behind is still seen
+    /// ([`Change::seen_behind`]).
+    pub fn within_pad_drift(&self, same_state: bool) -> bool {
+        let same_state = self.one_state(same_state);
+        // An echo that now blocks the line (the far end vanished behind it) is no pad's drift.
+        !same_state
+            && self.blocks_far_end.is_none()
+            && (self.mag_c.max(self.base_level) < PAD_OPEN_REFLECTION || self.seen_behind)
+            && self
+                .pad_front
+                .is_some_and(|g| g * self.mag_c.max(self.base_level) < PAD_DRIFT_REFLECTION)
     }
 
     /// Whether the baseline saw a component's echo here: one of [`COMPONENT_REFLECTION`] or more, or the
@@ -349,6 +424,9 @@ pub struct Inputs<'a> {
     pub anchors_m: &'a [f64],
     /// Both sweeps in one state (the hypothesis under which the changes are judged).
     pub same_state: bool,
+    /// Both states were given, not inferred: a hypothesis of one state is then known, not a reading of the
+    /// data that a line whose loss barely moves on cooling can mislead.
+    pub states_given: bool,
 }
 
 impl Inputs<'_> {
@@ -360,6 +438,32 @@ impl Inputs<'_> {
         FLANK_TOLERANCE_CELLS * res_s + 2.0 * self.fit.report.residual_m / speed.max(1.0)
     }
 
+    /// Where, m, what lies behind the line's visible end begins: a resolution cell `res_m` past the end's
+    /// declared place; for a device the line file calls a match, as far again as the parts between the
+    /// last anchor in front of it and the device may be off their declared lengths
+    /// ([`super::anchor::position_tolerance_m`]): the device's own faint echo read there is still the
+    /// device's.
+    fn device_end_bound_m(&self, res_m: f64) -> f64 {
+        let end = self.chain.visible_end_m();
+        // An open or short end is found where it is (`far_end`), and a device that reflects is an anchor
+        // itself or its echo is the far end's: only a matched device's faint echo is where the lengths in
+        // front of it put it, no nearer. A device the baseline anchored is where it was seen.
+        let matched = self
+            .chain
+            .first_blocking()
+            .is_some_and(|i| self.chain.segments[i].load == Some(Load::Match));
+        if !matched {
+            return end + res_m;
+        }
+        let from = self
+            .anchors_m
+            .iter()
+            .copied()
+            .filter(|&a| a <= end + 1e-9)
+            .fold(0.0, f64::max);
+        end + res_m + super::anchor::position_tolerance_m(self.chain, from, end)
+    }
+
     fn zone(&self, x: f64, d_c: f64, res_m: f64) -> Zone {
         let alias = self.c.alias_free_s.min(self.b.alias_free_s);
         if d_c >= ALIAS_EDGE * alias {
@@ -368,7 +472,7 @@ impl Inputs<'_> {
         if d_c < super::far_end::pair_folded_until(self.chain, self.b, self.c) {
             return Zone::Folded;
         }
-        if self.chain.as_built && x > self.chain.visible_end_m() + res_m {
+        if self.chain.as_built && x > self.device_end_bound_m(res_m) {
             return Zone::BehindDevice;
         }
         // Behind an open or short far end of either sweep (a little past it: its own main lobe).
@@ -584,6 +688,9 @@ pub fn changes(inp: &Inputs, engine: &mut TraceEngine) -> Vec<Change> {
             blocks_far_end: None,
             joint_change: None,
             at_device: false,
+            device_drift: DEVICE_DRIFT_REFLECTION,
+            pad_front: None,
+            seen_behind: false,
             steady: false,
         });
     }
@@ -616,6 +723,9 @@ pub fn changes(inp: &Inputs, engine: &mut TraceEngine) -> Vec<Change> {
             blocks_far_end: None,
             joint_change: None,
             at_device: false,
+            device_drift: DEVICE_DRIFT_REFLECTION,
+            pad_front: None,
+            seen_behind: false,
             steady: false,
         });
     }
@@ -631,12 +741,22 @@ pub fn changes(inp: &Inputs, engine: &mut TraceEngine) -> Vec<Change> {
         .filter(|_| inp.chain.as_built)
         .filter(|&i| !matches!(inp.chain.segments[i].load, Some(Load::Open | Load::Short)))
         .map(|i| inp.chain.segments[i].start_m);
+    let device_drift = match inp
+        .chain
+        .first_blocking()
+        .map(|i| inp.chain.segments[i].load)
+    {
+        Some(Some(Load::Match)) => MATCHED_DEVICE_DRIFT_REFLECTION,
+        _ => DEVICE_DRIFT_REFLECTION,
+    };
     // Calibration and shadowing, front to back: a joint that got worse dims everything behind it.
     let mut shadow = (0.0f64, 0.0f64);
     for ch in &mut out {
         let res_m = res_s * super::place::speed_at(&fit.chain, ch.x, Which::Current);
         ch.zone = inp.zone(ch.x, ch.d_c, res_m);
         ch.at_device = device_end.is_some_and(|x_d| ch.x >= x_d - res_m);
+        ch.device_drift = device_drift;
+        ch.pad_front = pad_front(inp.chain, ch.x, res_m);
         ch.steady = !inp.same_state && inp.chain.steady_to(ch.x, STEADY_CLEAR_CELLS * res_m);
         // Where compensation stopped at its cap, a sweep reads low by the loss it left undone.
         let cal = fit.expected_change_db(ch.x);
@@ -660,13 +780,31 @@ pub fn changes(inp: &Inputs, engine: &mut TraceEngine) -> Vec<Change> {
             .filter(|_| ch.same_termination && clear)
         {
             let centre = p.expected_db + 0.5 * (caps.0 + caps.1 + shadow.0 + shadow.1);
-            let wide = FAR_END_SIGMAS * p.sigma_db.hypot(AMPLITUDE_SIGMA_DB);
+            // Known to be in one state (told so, or all at room temperature), the line's loss did not
+            // change: only the analyser's drift, a few kelvin of room temperature and the noise move the echo
+            // of an open or short. One state read from the data is not enough: a line whose loss barely moves
+            // on cooling (cupronickel) looks the same warm and cold.
+            let known_one_state = ch.steady || (inp.same_state && inp.states_given);
+            let (sigma, least) = if known_one_state {
+                // An echo's relative amplitude noise 1/SNR is NEPER_DB/SNR dB in each sweep.
+                let noise = crate::line::physics::NEPER_DB * std::f64::consts::SQRT_2
+                    / ch.snr.max(f64::MIN_POSITIVE);
+                (
+                    ONE_STATE_LEVEL_SIGMA_DB
+                        .hypot(ONE_STATE_LOSS_SHARE * p.loss_db)
+                        .hypot(noise),
+                    ONE_STATE_FAR_LEVEL_DB,
+                )
+            } else {
+                (p.sigma_db.hypot(AMPLITUDE_SIGMA_DB), CHANGE_DB)
+            };
+            let wide = FAR_END_SIGMAS * sigma;
             let interval = (
                 p.expected_db + caps.0 + shadow.0 - wide,
                 p.expected_db + caps.1 + shadow.1 + wide,
             );
             let excess = outside_db(ch.raw_change_db, interval);
-            if excess != 0.0 && (ch.raw_change_db - centre).abs() >= CHANGE_DB {
+            if excess != 0.0 && (ch.raw_change_db - centre).abs() >= least {
                 ch.expected_db = interval;
                 ch.excess_db = excess;
                 ch.far_level_db = Some(ch.raw_change_db - centre);
@@ -688,7 +826,52 @@ pub fn changes(inp: &Inputs, engine: &mut TraceEngine) -> Vec<Change> {
     if let Some((k, fall)) = blocker(inp, &out) {
         out[k].blocks_far_end = Some(fall);
     }
+    seen_behind_pads(inp, &mut out, res_s);
     out
+}
+
+/// [`Change::pad_front`] for an echo at as-built `x` (m), with a resolution cell of `res_m`: within
+/// [`PAD_STEP_CELLS`] and [`PAD_STEP_M`] of an attenuator's middle, where the chain's loss model puts its
+/// flat loss ([`super::chain::ChainView::loss_model_to`]), 1 in front of it and 10^(-A/20) behind it, A the pad's
+/// round-trip loss in the current state, dB.
+fn pad_front(chain: &ChainView, x: f64, res_m: f64) -> Option<f64> {
+    chain
+        .segments
+        .iter()
+        .filter(|s| s.kind == SegmentKind::Attenuator && s.loss[1].a_flat > 0.0)
+        .map(|s| (s, 0.5 * (s.start_m + s.end_m)))
+        .find(|(_, mid)| (x - mid).abs() <= PAD_STEP_CELLS * res_m + PAD_STEP_M)
+        .map(|(s, mid)| {
+            if x >= mid {
+                10f64.powf(-s.loss[1].a_flat / 20.0)
+            } else {
+                1.0
+            }
+        })
+}
+
+/// Sets [`Change::seen_behind`]: for each echo at an attenuator's loss step that reads
+/// [`PAD_OPEN_REFLECTION`] or more behind it in the current sweep, whether a paired echo further on (by a
+/// resolution cell, on the visible line or the far end's own, [`PHASE_SNR`] over the noise) fell by less
+/// than half of the lossless shadow so strong a reflection would cast, -20 log10(1 - r^2) dB round trip
+/// (circuit theory), beyond the calibration there.
+fn seen_behind_pads(inp: &Inputs, out: &mut [Change], res_s: f64) {
+    for k in 0..out.len() {
+        let r = out[k].mag_c.min(0.99);
+        if out[k].pad_front.is_none() || r < PAD_OPEN_REFLECTION {
+            continue;
+        }
+        let shadow = -20.0 * (1.0 - r * r).log10();
+        let x = out[k].x;
+        let res_m = res_s * super::place::speed_at(&inp.fit.chain, x, Which::Current);
+        out[k].seen_behind = out.iter().any(|b| {
+            b.x > x + res_m
+                && b.base.is_some()
+                && b.snr > PHASE_SNR
+                && (b.zone == Zone::Line || b.same_termination)
+                && b.raw_change_db - inp.fit.expected_change_db(b.x) > -0.5 * shadow
+        });
+    }
 }
 
 /// The echo that blocks the line now, by index in `changes` (in order of position), and the far end's fall
@@ -826,6 +1009,9 @@ fn joint_probes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
             blocks_far_end: None,
             joint_change: Some(ratio),
             at_device: false,
+            device_drift: DEVICE_DRIFT_REFLECTION,
+            pad_front: None,
+            seen_behind: false,
             steady: false,
         });
     }
@@ -1115,6 +1301,9 @@ fn flank_changes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
             blocks_far_end: None,
             joint_change: None,
             at_device: false,
+            device_drift: DEVICE_DRIFT_REFLECTION,
+            pad_front: None,
+            seen_behind: false,
             steady: false,
         });
     }
@@ -1147,6 +1336,9 @@ mod tests {
             blocks_far_end: None,
             joint_change: None,
             at_device: false,
+            device_drift: DEVICE_DRIFT_REFLECTION,
+            pad_front: None,
+            seen_behind: false,
             steady: false,
         }
     }
@@ -1180,6 +1372,49 @@ mod tests {
         assert!(!faint.noted(false), "{faint:?}");
         // A joint's echo (not a component's) is not noted across states.
         assert!(!paired(0.03, 0.022, 0.0, 97_000.0).noted(false));
+    }
+
+    #[test]
+    fn an_echo_at_a_pads_loss_step_is_read_in_front_of_it_across_states() {
+        // A 20 dB pad's own mismatch, 0.0045 in front of its resistive element, compensated as if behind it
+        // (x 100 for 40 dB round trip): 0.45, moved by 28 dB on cooling (its resistors' values drift).
+        let mut ch = paired(0.018, 0.45, 0.0, 1e4);
+        assert!(ch.changed(false));
+        ch.pad_front = Some(0.01);
+        assert!(ch.within_pad_drift(false), "{ch:?}");
+        // In one state the pad does not drift: judged as any echo.
+        assert!(!ch.within_pad_drift(true));
+        // What would reflect PAD_DRIFT_REFLECTION or more in front of the step is not the pad's drift.
+        ch.pad_front = Some(0.1);
+        assert!(!ch.within_pad_drift(false));
+        ch.pad_front = None;
+        assert!(!ch.within_pad_drift(false));
+        // Read behind the step as an open (0.93): the pad's own only where what lies behind is still seen.
+        let mut open = paired(0.0002, 0.93, 0.0, 1e4);
+        open.pad_front = Some(0.01);
+        assert!(!open.within_pad_drift(false));
+        open.seen_behind = true;
+        assert!(open.within_pad_drift(false));
+        // Nor when the far end vanished behind it.
+        open.blocks_far_end = Some(40.0);
+        assert!(!open.within_pad_drift(false));
+    }
+
+    #[test]
+    fn a_declared_matchs_echo_may_drift_up_to_its_rated_match() {
+        // A matched load's echo 0.02 -> 0.032 (+4 dB) on cooling: over DEVICE_DRIFT_REFLECTION, under a
+        // termination's rated 0.05.
+        let mut ch = paired(0.02, 0.032, 0.0, 1e4);
+        ch.at_device = true;
+        assert!(!ch.within_device_drift(false));
+        ch.device_drift = MATCHED_DEVICE_DRIFT_REFLECTION;
+        assert!(ch.within_device_drift(false));
+        assert!(!ch.within_device_drift(true));
+        // A device that now reflects 0.08 (a contact of 8 ohm in front of it) is past its rated match.
+        let mut big = paired(0.02, 0.08, 0.0, 1e4);
+        big.at_device = true;
+        big.device_drift = MATCHED_DEVICE_DRIFT_REFLECTION;
+        assert!(!big.within_device_drift(false));
     }
 
     #[test]

@@ -337,6 +337,9 @@ pub struct FarEndPrediction {
     /// last amplitude landmark in front of the far end, at their own prior widths ([`loss_sigma_db`]), added
     /// linearly (one conductor's surface resistance errs alike along a cable), dB.
     pub sigma_db: f64,
+    /// The line file's round-trip loss to the far end in the current sweep's state at the reference
+    /// frequency, dB: what bounds its echo's change when both sweeps are in one state.
+    pub loss_db: f64,
 }
 
 /// Standard uncertainty of the loss change between as-built `from` and `to` on `chain` at `reference_hz`,

@@ -397,6 +397,7 @@ fn far_end_prediction(
         x,
         expected_db: free.expected_change_db(x),
         sigma_db: loss_sigma_between(&free.chain, last, x, f_ref),
+        loss_db: free.chain.loss_to_db(x, f_ref, Which::Current),
     })
 }
 
@@ -861,6 +862,7 @@ pub fn compare_in(
             far: &pa.far,
             anchors_m: &pa.anchors.iter().map(|a| a.position_m).collect::<Vec<_>>(),
             same_state: h.same_state(),
+            states_given: !states.inferred,
         },
         engine,
     );
@@ -998,7 +1000,9 @@ fn judge_changes(
             continue;
         }
         // Read as info whatever its explanation says (below).
-        if detail == Detail::AboveInfo && (noted_only || ch.within_device_drift(same_state)) {
+        if detail == Detail::AboveInfo
+            && (noted_only || ch.within_device_drift(same_state) || ch.within_pad_drift(same_state))
+        {
             continue;
         }
         let extra = if at_end {
@@ -1034,6 +1038,12 @@ fn judge_changes(
             f.explanation.push_str(
                 " (the device's own echo, within what its cooling makes of it: a load's resistance and the \
                  cable's impedance move)",
+            );
+        } else if ch.within_pad_drift(same_state) {
+            f.severity = Severity::Info;
+            f.explanation.push_str(
+                " (at the attenuator's resistive element: read in front of its loss, within what its cooling \
+                 makes of its match, as its resistors' values move)",
             );
         }
         if at_end && (moved || kind_flip) {

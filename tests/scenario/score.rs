@@ -332,6 +332,8 @@ pub struct Figures {
     pub repeat_false_alarms: usize,
     pub visible_faults: usize,
     pub visible_right: usize,
+    /// Of those ranked first at their element, the ones whose rank-1 finding stands above info.
+    pub visible_right_above_info: usize,
     /// The same by the lumped estimate of the level (`FaultTruth::lumped_level_db`), the measure used before
     /// the level as the port sees it.
     pub lumped_visible_faults: usize,
@@ -371,6 +373,7 @@ impl Figures {
             repeat_false_alarms: 0,
             visible_faults: 0,
             visible_right: 0,
+            visible_right_above_info: 0,
             lumped_visible_faults: 0,
             lumped_visible_right: 0,
             clear_visible_faults: 0,
@@ -422,6 +425,9 @@ impl Figures {
                     if t.visible() {
                         f.visible_faults += 1;
                         f.visible_right += right as usize;
+                        f.visible_right_above_info += (right
+                            && r.top.as_ref().is_some_and(|t| t.severity > Severity::Info))
+                            as usize;
                         if !e.scenario.fault_masked_by_end() {
                             f.clear_visible_faults += 1;
                             f.clear_visible_right += right as usize;
@@ -482,6 +488,9 @@ pub fn table(inferred: &Figures, given: &Figures) -> String {
         ">= 98 %",
         |f| (f.visible_right, f.visible_faults),
     );
+    share(&mut s, "the same, and that finding above info", "-", |f| {
+        (f.visible_right_above_info, f.visible_faults)
+    });
     share(
         &mut s,
         &format!(
