@@ -438,12 +438,12 @@ impl Inputs<'_> {
         FLANK_TOLERANCE_CELLS * res_s + 2.0 * self.fit.report.residual_m / speed.max(1.0)
     }
 
-    /// Where, m, what lies behind the line's visible end begins: a resolution cell `res_m` past the end's
+    /// Where, m, what lies behind the line's visible end begins, a resolution cell before it: the end's
     /// declared place; for a device the line file calls a match, as far again as the parts between the
     /// last anchor in front of it and the device may be off their declared lengths
     /// ([`super::anchor::position_tolerance_m`]): the device's own faint echo read there is still the
     /// device's.
-    fn device_end_bound_m(&self, res_m: f64) -> f64 {
+    fn device_end_m(&self) -> f64 {
         let end = self.chain.visible_end_m();
         // An open or short end is found where it is (`far_end`), and a device that reflects is an anchor
         // itself or its echo is the far end's: only a matched device's faint echo is where the lengths in
@@ -453,7 +453,7 @@ impl Inputs<'_> {
             .first_blocking()
             .is_some_and(|i| self.chain.segments[i].load == Some(Load::Match));
         if !matched {
-            return end + res_m;
+            return end;
         }
         let from = self
             .anchors_m
@@ -461,10 +461,12 @@ impl Inputs<'_> {
             .copied()
             .filter(|&a| a <= end + 1e-9)
             .fold(0.0, f64::max);
-        end + res_m + super::anchor::position_tolerance_m(self.chain, from, end)
+        end + super::anchor::position_tolerance_m(self.chain, from, end)
     }
 
-    fn zone(&self, x: f64, d_c: f64, res_m: f64) -> Zone {
+    /// The zone of an echo at as-built `x` (m) and current delay `d_c` (s), with a resolution cell of
+    /// `res_m` there and the device's end at `device_end_m` ([`Self::device_end_m`]).
+    fn zone(&self, x: f64, d_c: f64, res_m: f64, device_end_m: f64) -> Zone {
         let alias = self.c.alias_free_s.min(self.b.alias_free_s);
         if d_c >= ALIAS_EDGE * alias {
             return Zone::AliasEdge;
@@ -472,7 +474,7 @@ impl Inputs<'_> {
         if d_c < super::far_end::pair_folded_until(self.chain, self.b, self.c) {
             return Zone::Folded;
         }
-        if self.chain.as_built && x > self.device_end_bound_m(res_m) {
+        if self.chain.as_built && x > device_end_m + res_m {
             return Zone::BehindDevice;
         }
         // Behind an open or short far end of either sweep (a little past it: its own main lobe).
@@ -749,11 +751,12 @@ pub fn changes(inp: &Inputs, engine: &mut TraceEngine) -> Vec<Change> {
         Some(Some(Load::Match)) => MATCHED_DEVICE_DRIFT_REFLECTION,
         _ => DEVICE_DRIFT_REFLECTION,
     };
+    let device_end_m = inp.device_end_m();
     // Calibration and shadowing, front to back: a joint that got worse dims everything behind it.
     let mut shadow = (0.0f64, 0.0f64);
     for ch in &mut out {
         let res_m = res_s * super::place::speed_at(&fit.chain, ch.x, Which::Current);
-        ch.zone = inp.zone(ch.x, ch.d_c, res_m);
+        ch.zone = inp.zone(ch.x, ch.d_c, res_m, device_end_m);
         ch.at_device = device_end.is_some_and(|x_d| ch.x >= x_d - res_m);
         ch.device_drift = device_drift;
         ch.pad_front = pad_front(inp.chain, ch.x, res_m);

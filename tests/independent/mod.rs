@@ -1132,7 +1132,7 @@ impl World {
                 } => {
                     let err = if cold { err_cold } else { err_warm };
                     let body = Coax {
-                        kind: "cu-086",
+                        kind: "pad body",
                         a: A_086,
                         z_ohm: 50.0,
                         er_room: 2.03,
@@ -1307,10 +1307,6 @@ pub struct Judged {
     pub level_db: Option<f64>,
 }
 
-fn state_of(t: &Take) -> State {
-    t.state
-}
-
 /// Run `scene` through `coldtrace::compare` (its public API) with the nominal line file.
 pub fn judge(scene: Scene) -> Judged {
     let line = coldtrace::line::file::parse(&scene.line_text, Path::new("independent.toml"))
@@ -1322,8 +1318,8 @@ pub fn judge(scene: Scene) -> Judged {
             baseline: ("baseline", &b),
             current: ("current", &c),
             line: LineModel::Line(&line),
-            baseline_state: given.then(|| state_of(&scene.baseline)),
-            current_state: given.then(|| state_of(&scene.current)),
+            baseline_state: given.then_some(scene.baseline.state),
+            current_state: given.then_some(scene.current.state),
             analysis: &cfg,
         }))
     };
