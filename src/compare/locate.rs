@@ -12,7 +12,9 @@ use super::place::{place, position_sigma, speed_at, where_text};
 use super::report::*;
 use super::run::plot_data;
 use super::severity::Severity;
-use super::sweep::{analyse, band_centre, db, no_line_file, sized, AnalysisConfig, Sweep};
+use super::sweep::{
+    analyse_through, band_centre, db, no_line_file, shows_gain, sized, AnalysisConfig, Sweep,
+};
 use super::CompareError;
 use crate::transform::TraceEngine;
 
@@ -38,7 +40,8 @@ pub fn locate_in(
 ) -> Result<LocateReport, CompareError> {
     let f = &sweep.network.freqs_hz;
     let chain = sized(chain, &[f]);
-    let mut a = analyse(&sweep, &chain, cfg, Which::Current, engine)?;
+    let amplified = chain.gain_in_path || shows_gain(&sweep)?;
+    let mut a = analyse_through(&sweep, &chain, cfg, Which::Current, engine, amplified, None)?;
     // Positions in the line file's terms: its joints pinned where the sweep shows them.
     let anchors = super::anchor::find(&chain, &a, Which::Current);
     let chain = if anchors.is_empty() {
@@ -46,7 +49,17 @@ pub fn locate_in(
     } else {
         let anchored = super::anchor::anchored(&chain, &anchors, Which::Current);
         if super::anchor::worth_reanalysing(&anchors, a.resolution_s) {
-            a = analyse(&sweep, &anchored, cfg, Which::Current, engine)?;
+            // The anchors move delays, not losses: the pieces' compensations are the first analysis' (the
+            // same result as a fresh analysis, bit for bit; `SweepAnalysis::again`).
+            a = analyse_through(
+                &sweep,
+                &anchored,
+                cfg,
+                Which::Current,
+                engine,
+                amplified,
+                Some(&a),
+            )?;
         }
         anchored
     };

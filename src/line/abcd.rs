@@ -74,7 +74,32 @@ impl Abcd {
         }
     }
 
+    /// As [`Abcd::line`], for a line of characteristic impedance `z0` and admittance `y0` = 1 / `z0`:
+    /// cosh(a + j b) = cosh a cos b + j sinh a sin b and sinh(a + j b) = sinh a cos b + j cosh a sin b with
+    /// gamma len = a + j b, from one real exponential (as e^a - 1, so that sinh a keeps its digits for a
+    /// short or nearly lossless piece) and one sine and cosine; agrees with [`Abcd::line`] to ~1e-15
+    /// absolute (tested).
+    #[inline]
+    pub fn line_parts(z0: Complex64, y0: Complex64, gamma: Complex64, len: f64) -> Abcd {
+        let (a, b) = (gamma.re * len, gamma.im * len);
+        let em1 = a.exp_m1();
+        let e = 1.0 + em1;
+        // sinh a = (e - 1/e) / 2 = (em1 + em1 / e) / 2; cosh a = e - sinh a.
+        let sh_a = 0.5 * (em1 + em1 / e);
+        let ch_a = e - sh_a;
+        let (sin_b, cos_b) = b.sin_cos();
+        let ch = Complex64::new(ch_a * cos_b, sh_a * sin_b);
+        let sh = Complex64::new(sh_a * cos_b, ch_a * sin_b);
+        Abcd {
+            a: ch,
+            b: z0 * sh,
+            c: sh * y0,
+            d: ch,
+        }
+    }
+
     /// Cascade: `self` followed by `next` (matrix product self * next).
+    #[inline]
     pub fn then(&self, next: &Abcd) -> Abcd {
         Abcd {
             a: self.a * next.a + self.b * next.c,

@@ -187,11 +187,26 @@ impl SectionState {
 
 impl SectionCoeffs {
     /// Propagation constant per physical metre and characteristic impedance at `f_hz`
-    /// (`sqrt_f` = sqrt(f_hz), shared by every section at one frequency).
+    /// (`sqrt_f` = sqrt(f_hz), shared by every section at one frequency): [`Self::propagation`] without the
+    /// characteristic admittance.
     #[inline]
     pub fn gamma_z0(&self, f_hz: f64, sqrt_f: f64) -> (Complex64, Complex64) {
+        let p = self.propagation(f_hz, sqrt_f);
+        (p.gamma, p.z0)
+    }
+
+    /// gamma = sqrt(z y) (Re >= 0), Z0 = sqrt(z / y) (Re >= 0) and Y0 = 1 / Z0 at `f_hz` (`sqrt_f` =
+    /// sqrt(f_hz)), from the series impedance z and shunt admittance y per metre (telegrapher's
+    /// equations). The root is taken algebraically ([`principal_sqrt`]), and Z0 = z / gamma, Y0 = y / gamma
+    /// share one reciprocal (z / gamma = gamma / y because gamma^2 = z y): no angle, no polar form.
+    #[inline]
+    pub fn propagation(&self, f_hz: f64, sqrt_f: f64) -> Propagation {
         if f_hz <= 0.0 {
-            return (Complex64::new(0.0, 0.0), Complex64::new(self.z0_dc, 0.0));
+            return Propagation {
+                gamma: Complex64::new(0.0, 0.0),
+                z0: Complex64::new(self.z0_dc, 0.0),
+                y0: Complex64::new(1.0 / self.z0_dc, 0.0),
+            };
         }
         let w = 2.0 * PI * f_hz;
         let (ri, xi) = self.inner.eval(f_hz, sqrt_f);
@@ -201,16 +216,42 @@ impl SectionCoeffs {
         let z = Complex64::new(r, w * self.l_per_m + x);
         let wc = w * self.c_per_m;
         let y = Complex64::new(wc * self.loss_tangent, wc);
-        let mut g = (z * y).sqrt();
-        if g.re < 0.0 {
-            g = -g;
-        }
-        // Z0 = sqrt(z / y) = gamma / y up to sign; the sign is fixed by Re Z0 >= 0.
-        let mut z0 = g / y;
+        let gamma = principal_sqrt(z * y);
+        let inv = gamma.inv();
+        let (mut z0, mut y0) = (z * inv, y * inv);
+        // The sign is fixed by Re Z0 >= 0 (and Y0 = 1 / Z0 goes with it).
         if z0.re < 0.0 {
             z0 = -z0;
+            y0 = -y0;
         }
-        (g, z0)
+        Propagation { gamma, z0, y0 }
+    }
+}
+
+/// A section's propagation constant per physical metre, characteristic impedance and characteristic
+/// admittance at one frequency ([`SectionCoeffs::propagation`]).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Propagation {
+    pub gamma: Complex64,
+    pub z0: Complex64,
+    pub y0: Complex64,
+}
+
+/// The principal square root of `w` (Re >= 0), algebraically: t = sqrt((|w| + |Re w|) / 2) is one part and
+/// Im w / (2 t) the other, with no cancellation whatever the sign of Re w (Kahan's scheme; the same value
+/// as num-complex's polar root to a few ulps). |w|^2 must be a finite number (the telegrapher's z y of a
+/// cable at any frequency the simulator allows is far inside).
+#[inline]
+pub fn principal_sqrt(w: Complex64) -> Complex64 {
+    let r = w.norm_sqr().sqrt();
+    if r == 0.0 {
+        return Complex64::new(0.0, 0.0);
+    }
+    let t = (0.5 * (r + w.re.abs())).sqrt();
+    if w.re >= 0.0 {
+        Complex64::new(t, w.im / (2.0 * t))
+    } else {
+        Complex64::new(w.im.abs() / (2.0 * t), t.copysign(w.im))
     }
 }
 

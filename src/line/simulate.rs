@@ -96,8 +96,8 @@ impl Block {
         let j = Complex64::new(0.0, 1.0);
         match *self {
             Block::Line { ref co, length_m } => {
-                let (g, z0) = co.gamma_z0(f, sqrt_f);
-                Abcd::line_from_exp(z0, g, length_m * co.length_scale)
+                let p = co.propagation(f, sqrt_f);
+                Abcd::line_parts(p.z0, p.y0, p.gamma, length_m * co.length_scale)
             }
             Block::SeriesC(c) => {
                 if w == 0.0 {
