@@ -105,7 +105,9 @@ fn the_world_is_reproducible_from_its_seed() {
 /// (`cooldown:20000010`), a 20 dB pad whose own mismatch, compensated by the pad's loss it never passed,
 /// read as a -7 dB echo that moved 29 dB (`cooldown:20000014`, `cooldown:20000266`; as an open, critical,
 /// while the far end behind it stayed: `cooldown:40000286`, `cooldown:40000270`), and a cupronickel line
-/// whose loss barely moves on cooling, inferred as one state (`cooldown:30000290`).
+/// whose loss barely moves on cooling, inferred as one state (`cooldown:30000290`), and a joint beside a 10 dB
+/// pad whose echo, overlapping the pad's own, peaked in front of the pad's loss step warm and behind it
+/// cold, read as a minor crush 20 dB up (`cooldown:10000193`).
 #[test]
 fn healthy_lines_of_the_other_world_raise_nothing_above_info() {
     let mut cases: Vec<(u64, Case)> = vec![
@@ -115,6 +117,7 @@ fn healthy_lines_of_the_other_world_raise_nothing_above_info() {
         (30_000_290, Case::Cooldown),
         (40_000_270, Case::Cooldown),
         (40_000_286, Case::Cooldown),
+        (10_000_193, Case::Cooldown),
     ];
     cases.extend((0..6).map(|i| (10_000_000 + i, Case::Cooldown)));
     cases.extend((0..3).map(|i| (11_000_000 + i, Case::Repeat)));

@@ -109,6 +109,12 @@ pub struct Change {
     /// it, 10^(-A/20) for a round-trip loss A behind it). Which side of the step such an echo lies on is
     /// not known to within the length errors and the cell; in front, it is the pad's own echo.
     pub pad_front: Option<f64>,
+    /// For a new echo at an attenuator's element, behind its loss step, where the baseline's echo in front of
+    /// the step within a cell and a half is gone: this echo read in front of the step over that one, beyond
+    /// the calibration, dB ([`pad_step_change_db`]). An echo whose peak slid across the step (the joint's and
+    /// the pad's echoes overlap within a cell, and a cooldown shifts their balance) reads 20 dB up behind a
+    /// 10 dB pad for what is, in front of it, the same echo.
+    pub pad_step_change_db: Option<f64>,
     /// For an echo at an attenuator's loss step that reads [`PAD_OPEN_REFLECTION`] or more behind it: an
     /// echo further on is still seen at its level (it fell by less than half of what so strong a
     /// reflection behind the pad would take from it), so this one lies in front of the step.
@@ -366,8 +372,10 @@ impl Change {
     }
 
     /// Whether, across a change of state, this is an echo at an attenuator's loss step ([`Change::pad_front`])
-    /// that, read in front of the step, stays under [`PAD_DRIFT_REFLECTION`] in both sweeps: what the pad's
-    /// own cooling makes of its match. Such a change is reported at `info`, never above. Not when the far
+    /// that, read in front of the step, stays under [`PAD_DRIFT_REFLECTION`] in both sweeps (what the pad's
+    /// own cooling makes of its match), or that only slid across the step: read in front of it, within
+    /// [`CHANGE_DB`] of the baseline's echo it replaced ([`Change::pad_step_change_db`]). Such a change is
+    /// reported at `info`, never above. Not when the far
     /// end vanished behind it ([`Change::blocks_far_end`]: it is the fault that blocks the line), nor when it
     /// reads [`PAD_OPEN_REFLECTION`] or more behind the step unless what lies behind is still seen
     /// ([`Change::seen_behind`]).
@@ -377,9 +385,10 @@ impl Change {
         !same_state
             && self.blocks_far_end.is_none()
             && (self.mag_c.max(self.base_level) < PAD_OPEN_REFLECTION || self.seen_behind)
-            && self
-                .pad_front
-                .is_some_and(|g| g * self.mag_c.max(self.base_level) < PAD_DRIFT_REFLECTION)
+            && self.pad_front.is_some_and(|g| {
+                g * self.mag_c.max(self.base_level) < PAD_DRIFT_REFLECTION
+                    || self.pad_step_change_db.is_some_and(|d| d.abs() < CHANGE_DB)
+            })
     }
 
     /// Whether the baseline saw a component's echo here: one of [`COMPONENT_REFLECTION`] or more, or the
@@ -692,6 +701,7 @@ pub fn changes(inp: &Inputs, engine: &mut TraceEngine) -> Vec<Change> {
             at_device: false,
             device_drift: DEVICE_DRIFT_REFLECTION,
             pad_front: None,
+            pad_step_change_db: None,
             seen_behind: false,
             steady: false,
         });
@@ -727,6 +737,7 @@ pub fn changes(inp: &Inputs, engine: &mut TraceEngine) -> Vec<Change> {
             at_device: false,
             device_drift: DEVICE_DRIFT_REFLECTION,
             pad_front: None,
+            pad_step_change_db: None,
             seen_behind: false,
             steady: false,
         });
@@ -752,6 +763,17 @@ pub fn changes(inp: &Inputs, engine: &mut TraceEngine) -> Vec<Change> {
         _ => DEVICE_DRIFT_REFLECTION,
     };
     let device_end_m = inp.device_end_m();
+    // Every echo of each sweep by place and strength, for the readings at an attenuator's step.
+    let echoes = (
+        b.events
+            .iter()
+            .map(|e| (to_x_b(e.delay_s), e.magnitude))
+            .collect::<Vec<_>>(),
+        c.events
+            .iter()
+            .map(|e| (to_x_c(e.delay_s), e.magnitude))
+            .collect::<Vec<_>>(),
+    );
     // Calibration and shadowing, front to back: a joint that got worse dims everything behind it.
     let mut shadow = (0.0f64, 0.0f64);
     for ch in &mut out {
@@ -760,6 +782,7 @@ pub fn changes(inp: &Inputs, engine: &mut TraceEngine) -> Vec<Change> {
         ch.at_device = device_end.is_some_and(|x_d| ch.x >= x_d - res_m);
         ch.device_drift = device_drift;
         ch.pad_front = pad_front(inp.chain, ch.x, res_m);
+        ch.pad_step_change_db = pad_step_change_db(inp, (&echoes.0, &echoes.1), ch, res_m);
         ch.steady = !inp.same_state && inp.chain.steady_to(ch.x, STEADY_CLEAR_CELLS * res_m);
         // Where compensation stopped at its cap, a sweep reads low by the loss it left undone.
         let cal = fit.expected_change_db(ch.x);
@@ -833,25 +856,74 @@ pub fn changes(inp: &Inputs, engine: &mut TraceEngine) -> Vec<Change> {
     out
 }
 
-/// [`Change::pad_front`] for an echo at as-built `x` (m), with a resolution cell of `res_m`: within
-/// [`PAD_STEP_CELLS`] and [`PAD_STEP_M`] of an attenuator's middle, where the chain's loss model puts its
-/// flat loss ([`super::chain::ChainView::loss_model_to`]), 1 in front of it and 10^(-A/20) behind it, A the pad's
+/// The attenuator whose loss step lies within [`PAD_STEP_CELLS`] and [`PAD_STEP_M`] of as-built `x` (m), with
+/// a resolution cell of `res_m`: the step's place (the middle of its body, where the chain's loss model puts
+/// its flat loss, [`super::chain::ChainView::loss_model_to`]), how far from it an echo counts as at the step,
+/// and the factor 10^(-A/20) that reads a compensated strength behind it as seen in front of it, A its
 /// round-trip loss in the current state, dB.
-fn pad_front(chain: &ChainView, x: f64, res_m: f64) -> Option<f64> {
+fn pad_step(chain: &ChainView, x: f64, res_m: f64) -> Option<(f64, f64, f64)> {
+    let reach = PAD_STEP_CELLS * res_m + PAD_STEP_M;
     chain
         .segments
         .iter()
         .filter(|s| s.kind == SegmentKind::Attenuator && s.loss[1].a_flat > 0.0)
         .map(|s| (s, 0.5 * (s.start_m + s.end_m)))
-        .find(|(_, mid)| (x - mid).abs() <= PAD_STEP_CELLS * res_m + PAD_STEP_M)
-        .map(|(s, mid)| {
-            if x >= mid {
-                10f64.powf(-s.loss[1].a_flat / 20.0)
-            } else {
-                1.0
-            }
-        })
+        .find(|(_, mid)| (x - mid).abs() <= reach)
+        .map(|(s, mid)| (mid, reach, 10f64.powf(-s.loss[1].a_flat / 20.0)))
 }
+
+/// [`Change::pad_front`] for an echo at as-built `x` (m), with a resolution cell of `res_m`: at an
+/// attenuator's loss step ([`pad_step`]), 1 in front of it and 10^(-A/20) behind it.
+fn pad_front(chain: &ChainView, x: f64, res_m: f64) -> Option<f64> {
+    pad_step(chain, x, res_m).map(|(mid, _, behind)| if x >= mid { behind } else { 1.0 })
+}
+
+/// [`Change::pad_step_change_db`] for a new echo at as-built `x` (m), with a resolution cell of `res_m`, from
+/// each sweep's echoes by as-built place and compensated strength (`echoes`: baseline, current): at an
+/// attenuator's loss step and behind it, at the attenuator's element ([`SLIDE_ELEMENT_M`]), where the
+/// baseline shows an echo in front of the step within a cell and a half of `x` that the current sweep no
+/// longer shows (none within a third of a cell of it), and under [`PAD_OPEN_REFLECTION`] behind the step:
+/// this echo read in front of the step over the strongest such baseline echo, less the calibration's
+/// expected change there, dB. `None` otherwise.
+fn pad_step_change_db(
+    inp: &Inputs,
+    (b, c): (&[Placed], &[Placed]),
+    ch: &Change,
+    res_m: f64,
+) -> Option<f64> {
+    let (mid, reach, behind) = pad_step(inp.chain, ch.x, res_m)?;
+    if ch.base.is_some()
+        || ch.x < mid
+        || ch.x > mid + SLIDE_ELEMENT_M
+        || ch.mag_c >= PAD_OPEN_REFLECTION
+    {
+        return None;
+    }
+    let &(xb, front) = b
+        .iter()
+        .filter(|&&(xb, _)| {
+            xb < mid
+                && xb >= mid - reach - res_m
+                && (ch.x - xb).abs() <= SLIDE_CELLS * res_m
+                && !c.iter().any(|&(xc, _)| (xc - xb).abs() <= res_m / 3.0)
+        })
+        .max_by(|p, q| p.1.total_cmp(&q.1))?;
+    Some(db(ch.mag_c * behind) - db(front) - inp.fit.expected_change_db(xb))
+}
+
+/// An echo by its as-built place, m, and its compensated strength.
+type Placed = (f64, f64);
+
+/// How far behind an attenuator's middle an echo may lie and be its element's ([`pad_step_change_db`]): 1 cm,
+/// the 5 mm by which a body the line file only defaults may be off ([`PAD_STEP_M`]) and 5 mm for the peak's
+/// own place; a joint beside a 2 cm pad lies 14 mm from its middle (common practice, no source).
+pub const SLIDE_ELEMENT_M: f64 = 0.01;
+
+/// How far, in resolution cells, an echo at an attenuator's loss step may have slid between the sweeps
+/// ([`pad_step_change_db`]): the joint in front of a pad and the pad's element lie within a cell of each
+/// other (a joint beside a 2 cm body, 14 mm), and the peak their overlapping echoes make moves between them
+/// as their balance shifts, plus half a cell for the peak's own place (common practice, no source).
+pub const SLIDE_CELLS: f64 = 1.5;
 
 /// Sets [`Change::seen_behind`]: for each echo at an attenuator's loss step that reads
 /// [`PAD_OPEN_REFLECTION`] or more behind it in the current sweep, whether a paired echo further on (by a
@@ -1014,6 +1086,7 @@ fn joint_probes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
             at_device: false,
             device_drift: DEVICE_DRIFT_REFLECTION,
             pad_front: None,
+            pad_step_change_db: None,
             seen_behind: false,
             steady: false,
         });
@@ -1306,6 +1379,7 @@ fn flank_changes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
             at_device: false,
             device_drift: DEVICE_DRIFT_REFLECTION,
             pad_front: None,
+            pad_step_change_db: None,
             seen_behind: false,
             steady: false,
         });
@@ -1341,6 +1415,7 @@ mod tests {
             at_device: false,
             device_drift: DEVICE_DRIFT_REFLECTION,
             pad_front: None,
+            pad_step_change_db: None,
             seen_behind: false,
             steady: false,
         }
@@ -1401,6 +1476,34 @@ mod tests {
         // Nor when the far end vanished behind it.
         open.blocks_far_end = Some(40.0);
         assert!(!open.within_pad_drift(false));
+    }
+
+    #[test]
+    fn an_echo_that_slid_across_a_pads_step_is_the_same_echo_read_in_front_of_it() {
+        // A joint and a 10 dB pad's element one cell apart: warm, their echo peaks in front of the step
+        // (0.028); cold, behind it, compensated x 10 (0.28): +20 dB, where in front of the step the two
+        // sweeps read the same.
+        let mut ch = paired(0.0028, 0.28, 0.0, 1e4);
+        assert!(ch.changed(false));
+        ch.pad_front = Some(0.1);
+        // In front of the step it reads 0.028, over the pad's own drift bound: not the pad's drift...
+        assert!(!ch.within_pad_drift(false));
+        // ... unless it only slid across the step: the baseline's echo in front of it, gone now, read alike.
+        ch.pad_step_change_db = Some(-0.4);
+        assert!(ch.within_pad_drift(false), "{ch:?}");
+        assert!(!ch.within_pad_drift(true));
+        // Read in front of the step 3 dB or more over the echo it replaced, it changed.
+        ch.pad_step_change_db = Some(CHANGE_DB);
+        assert!(!ch.within_pad_drift(false));
+        // The guards of the pad's drift hold: an open behind the step (0.93) whose shadow took what lies
+        // behind it, or an echo that blocks the far end, is never the step's reading.
+        let mut open = paired(0.0028, 0.93, 0.0, 1e4);
+        open.pad_front = Some(0.1);
+        open.pad_step_change_db = Some(0.0);
+        assert!(!open.within_pad_drift(false));
+        ch.pad_step_change_db = Some(0.0);
+        ch.blocks_far_end = Some(30.0);
+        assert!(!ch.within_pad_drift(false));
     }
 
     #[test]
