@@ -375,10 +375,9 @@ impl Change {
     /// that, read in front of the step, stays under [`PAD_DRIFT_REFLECTION`] in both sweeps (what the pad's
     /// own cooling makes of its match), or that only slid across the step: read in front of it, within
     /// [`CHANGE_DB`] of the baseline's echo it replaced ([`Change::pad_step_change_db`]). Such a change is
-    /// reported at `info`, never above. Not when the far
-    /// end vanished behind it ([`Change::blocks_far_end`]: it is the fault that blocks the line), nor when it
-    /// reads [`PAD_OPEN_REFLECTION`] or more behind the step unless what lies behind is still seen
-    /// ([`Change::seen_behind`]).
+    /// reported at `info`, never above. Not when the far end vanished behind it ([`Change::blocks_far_end`]:
+    /// it is the fault that blocks the line), nor when it reads [`PAD_OPEN_REFLECTION`] or more behind the
+    /// step unless what lies behind is still seen ([`Change::seen_behind`]).
     pub fn within_pad_drift(&self, same_state: bool) -> bool {
         let same_state = self.one_state(same_state);
         // An echo that now blocks the line (the far end vanished behind it) is no pad's drift.
@@ -878,13 +877,13 @@ fn pad_front(chain: &ChainView, x: f64, res_m: f64) -> Option<f64> {
     pad_step(chain, x, res_m).map(|(mid, _, behind)| if x >= mid { behind } else { 1.0 })
 }
 
-/// [`Change::pad_step_change_db`] for a new echo at as-built `x` (m), with a resolution cell of `res_m`, from
-/// each sweep's echoes by as-built place and compensated strength (`echoes`: baseline, current): at an
-/// attenuator's loss step and behind it, at the attenuator's element ([`SLIDE_ELEMENT_M`]), where the
-/// baseline shows an echo in front of the step within a cell and a half of `x` that the current sweep no
-/// longer shows (none within a third of a cell of it), and under [`PAD_OPEN_REFLECTION`] behind the step:
-/// this echo read in front of the step over the strongest such baseline echo, less the calibration's
-/// expected change there, dB. `None` otherwise.
+/// [`Change::pad_step_change_db`] for the echo of `ch`, with a resolution cell of `res_m`, from each sweep's
+/// echoes by as-built place and compensated strength (baseline, current): for a new echo (no baseline
+/// twin) at an attenuator's loss step and behind it, at the attenuator's element ([`SLIDE_ELEMENT_M`]),
+/// where the baseline shows an echo in front of the step within a cell and a half of it that the current
+/// sweep no longer shows (none within a third of a cell of it), and under [`PAD_OPEN_REFLECTION`] behind
+/// the step: this echo read in front of the step over the strongest such baseline echo, less the
+/// calibration's expected change there, dB. `None` otherwise.
 fn pad_step_change_db(
     inp: &Inputs,
     (b, c): (&[Placed], &[Placed]),
