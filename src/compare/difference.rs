@@ -763,16 +763,16 @@ pub fn changes(inp: &Inputs, engine: &mut TraceEngine) -> Vec<Change> {
     };
     let device_end_m = inp.device_end_m();
     // Every echo of each sweep by place and strength, for the readings at an attenuator's step.
-    let echoes = (
-        b.events
-            .iter()
-            .map(|e| (to_x_b(e.delay_s), e.magnitude))
-            .collect::<Vec<_>>(),
-        c.events
-            .iter()
-            .map(|e| (to_x_c(e.delay_s), e.magnitude))
-            .collect::<Vec<_>>(),
-    );
+    let echoes_b: Vec<Placed> = b
+        .events
+        .iter()
+        .map(|e| (to_x_b(e.delay_s), e.magnitude))
+        .collect();
+    let echoes_c: Vec<Placed> = c
+        .events
+        .iter()
+        .map(|e| (to_x_c(e.delay_s), e.magnitude))
+        .collect();
     // Calibration and shadowing, front to back: a joint that got worse dims everything behind it.
     let mut shadow = (0.0f64, 0.0f64);
     for ch in &mut out {
@@ -781,7 +781,7 @@ pub fn changes(inp: &Inputs, engine: &mut TraceEngine) -> Vec<Change> {
         ch.at_device = device_end.is_some_and(|x_d| ch.x >= x_d - res_m);
         ch.device_drift = device_drift;
         ch.pad_front = pad_front(inp.chain, ch.x, res_m);
-        ch.pad_step_change_db = pad_step_change_db(inp, (&echoes.0, &echoes.1), ch, res_m);
+        ch.pad_step_change_db = pad_step_change_db(inp, (&echoes_b, &echoes_c), ch, res_m);
         ch.steady = !inp.same_state && inp.chain.steady_to(ch.x, STEADY_CLEAR_CELLS * res_m);
         // Where compensation stopped at its cap, a sweep reads low by the loss it left undone.
         let cal = fit.expected_change_db(ch.x);
