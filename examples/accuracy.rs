@@ -9,7 +9,8 @@
 //!
 //! `--healthy N` no-fault cases (every fourth a cold -> cold repeat, the rest warm -> cold), `--faults N`
 //! fault cases, `--seed S` the base of their seeds, `--threads N` (default: every core), `--worst N` how many
-//! worst cases of each kind to list (default 6).
+//! worst cases of each kind to list (default 6), `--cases F` a new file with one line per case (what happened,
+//! states inferred and given), to set two builds side by side.
 
 #[path = "../tests/scenario/mod.rs"]
 mod scenario;
@@ -32,10 +33,13 @@ struct Args {
     /// With `--show`: a new folder to write the nominal line file and both sweeps into.
     dump: Option<PathBuf>,
     worst: usize,
+    /// A new file to write one line per case into (its name and what happened, states inferred and given),
+    /// for comparing two builds case by case.
+    cases: Option<PathBuf>,
 }
 
 const USAGE: &str =
-    "usage: accuracy [--healthy N] [--faults N] [--seed S] [--threads N] [--out FILE.md] [--worst N] \
+    "usage: accuracy [--healthy N] [--faults N] [--seed S] [--threads N] [--out FILE.md] [--worst N] [--cases NEW_FILE] \
                      | --show CASE:SEED [--dump NEW_DIR]  (CASE healthy, repeat or fault; --dump writes line.toml, \
                      baseline.s1p and current.s1p for the command line)";
 
@@ -51,6 +55,7 @@ fn args() -> Result<Args, String> {
         show: None,
         dump: None,
         worst: 6,
+        cases: None,
     };
     let mut it = std::env::args().skip(1);
     while let Some(flag) = it.next() {
@@ -67,6 +72,7 @@ fn args() -> Result<Args, String> {
             "--out" => a.out = Some(PathBuf::from(value()?)),
             "--worst" => a.worst = num(value()?)? as usize,
             "--dump" => a.dump = Some(PathBuf::from(value()?)),
+            "--cases" => a.cases = Some(PathBuf::from(value()?)),
             "--show" => {
                 let v = value()?;
                 let (c, s) = v
@@ -276,6 +282,23 @@ fn main() {
     let t0 = Instant::now();
     let all = evaluate_all(&list, a.threads);
     let took = t0.elapsed().as_secs_f64();
+    if let Some(path) = &a.cases {
+        let mut text = String::new();
+        for e in &all {
+            let _ = writeln!(
+                text,
+                "{}:{} | inferred: {} | given: {}",
+                e.scenario.case.name(),
+                e.scenario.seed,
+                e.what_happened(false),
+                e.what_happened(true)
+            );
+        }
+        if let Err(err) = coldtrace::output::write_output(path, text.as_bytes(), false, &[]) {
+            eprintln!("--cases {}: {err}", path.display());
+            std::process::exit(2);
+        }
+    }
     let inferred = Figures::of(&all, false);
     let given = Figures::of(&all, true);
 

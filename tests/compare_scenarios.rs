@@ -245,7 +245,8 @@ fn in_one_state_a_contact_beside_a_stronger_echo_is_found_at_its_own_joint() {
 }
 
 /// Healthy cooldowns found out of sample (seeds 11000154, 11000382, 11000076 of `--seed 11`; 7000102 of
-/// `--seed 7`; 11000497 and 1000170 of `--seed 11` and `--seed 1`). Each once raised a finding above info:
+/// `--seed 7`; 11000497 and 1000170 of `--seed 11` and `--seed 1`; 13000020 of `--seed 13`). Each once
+/// raised a finding above info:
 /// - 11000154, 11000382, 11000076: the delay scale rested on one echo down the line (a connector either
 ///   side of an attenuator), which read -0.3 % to -1 % and settled the states as a warm-up at 6 to 39 sigma;
 ///   one echo that nothing checks is now known to a quarter of a cell, and the states stay open;
@@ -256,12 +257,17 @@ fn in_one_state_a_contact_beside_a_stronger_echo_is_found_at_its_own_joint() {
 ///   impedance a few per cent under the load's), read as an impedance step costing the worse plausible
 ///   cost of a contact;
 /// - 1000170: with the states left open, every hypothesis was judged by the states of the one chosen
-///   (cold -> cold), so a cooldown's changes were held to one state's thresholds.
+///   (cold -> cold), so a cooldown's changes were held to one state's thresholds;
+/// - 13000020: an 11 dB attenuator between two cables whose cold dielectric changed 1.8-2.0 times as far
+///   as the model's (every cable the landmarks pinned shows it): the pad's fixed 50 ohm against their fallen
+///   impedance reflected 0.014 cold (0.0027 warm), read as a major contact over the pad's drift bound of
+///   0.01; the bound now adds the steps that the cables' excess change makes at the pad
+///   (`difference::impedance_excess`).
 #[test]
 fn healthy_cooldowns_found_out_of_sample_raise_nothing_above_info() {
     let mut bad = Vec::new();
     for seed in [
-        11_000_154, 11_000_382, 11_000_076, 7_000_102, 11_000_497, 1_000_170,
+        11_000_154, 11_000_382, 11_000_076, 7_000_102, 11_000_497, 1_000_170, 13_000_020,
     ] {
         let e = scenario::score::evaluate(seed, Case::Healthy);
         for given in [false, true] {

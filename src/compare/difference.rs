@@ -109,6 +109,9 @@ pub struct Change {
     /// it, 10^(-A/20) for a round-trip loss A behind it). Which side of the step such an echo lies on is
     /// not known to within the length errors and the cell; in front, it is the pad's own echo.
     pub pad_front: Option<f64>,
+    /// For an echo at an attenuator's loss step ([`Change::pad_front`]): the reflection, read in front of the
+    /// step, under which its echo is what the pad's own cooling makes of it ([`pad_drift_reflection`]).
+    pub pad_drift: f64,
     /// For a new echo at an attenuator's element, behind its loss step, where the baseline's echo in front of
     /// the step within a cell and a half is gone: this echo read in front of the step over that one, beyond
     /// the calibration, dB ([`pad_step_change_db`]). An echo whose peak slid across the step (the joint's and
@@ -207,7 +210,9 @@ pub const PAD_STEP_M: f64 = 5e-3;
 /// change of state: 0.01. Its resistors move by up to 2 % over a cooldown (thin-film temperature
 /// coefficients of tens of ppm/K over 290 K; common practice, no source), which moves its input impedance by
 /// as much and its reflection by half of that, |dZ| / (2 Z0) (circuit theory). A contact of 2 ohm or more at
-/// the joint beside it reflects more.
+/// the joint beside it reflects more. It holds the model's own cooling of the cables beside it too (a cold
+/// cable's impedance about 1 % under its warm one, a step of 0.006 each side); where they moved further, see
+/// [`pad_drift_reflection`].
 pub const PAD_DRIFT_REFLECTION: f64 = 0.01;
 
 /// Reflection, read behind an attenuator's loss step, from which an echo there is an open or nearly (a pin
@@ -385,7 +390,7 @@ impl Change {
             && self.blocks_far_end.is_none()
             && (self.mag_c.max(self.base_level) < PAD_OPEN_REFLECTION || self.seen_behind)
             && self.pad_front.is_some_and(|g| {
-                g * self.mag_c.max(self.base_level) < PAD_DRIFT_REFLECTION
+                g * self.mag_c.max(self.base_level) < self.pad_drift
                     || self.pad_step_change_db.is_some_and(|d| d.abs() < CHANGE_DB)
             })
     }
@@ -700,6 +705,7 @@ pub fn changes(inp: &Inputs, engine: &mut TraceEngine) -> Vec<Change> {
             at_device: false,
             device_drift: DEVICE_DRIFT_REFLECTION,
             pad_front: None,
+            pad_drift: PAD_DRIFT_REFLECTION,
             pad_step_change_db: None,
             seen_behind: false,
             steady: false,
@@ -736,6 +742,7 @@ pub fn changes(inp: &Inputs, engine: &mut TraceEngine) -> Vec<Change> {
             at_device: false,
             device_drift: DEVICE_DRIFT_REFLECTION,
             pad_front: None,
+            pad_drift: PAD_DRIFT_REFLECTION,
             pad_step_change_db: None,
             seen_behind: false,
             steady: false,
@@ -773,6 +780,12 @@ pub fn changes(inp: &Inputs, engine: &mut TraceEngine) -> Vec<Change> {
         .iter()
         .map(|e| (to_x_c(e.delay_s), e.magnitude))
         .collect();
+    // How far each cable's impedance moved beyond the model, for the pads' own drift.
+    let excess = if inp.same_state {
+        Vec::new()
+    } else {
+        impedance_excess(inp)
+    };
     // Calibration and shadowing, front to back: a joint that got worse dims everything behind it.
     let mut shadow = (0.0f64, 0.0f64);
     for ch in &mut out {
@@ -781,6 +794,7 @@ pub fn changes(inp: &Inputs, engine: &mut TraceEngine) -> Vec<Change> {
         ch.at_device = device_end.is_some_and(|x_d| ch.x >= x_d - res_m);
         ch.device_drift = device_drift;
         ch.pad_front = pad_front(inp.chain, ch.x, res_m);
+        ch.pad_drift = pad_drift_reflection(inp, &excess, ch.x, res_m);
         ch.pad_step_change_db = pad_step_change_db(inp, (&echoes_b, &echoes_c), ch, res_m);
         ch.steady = !inp.same_state && inp.chain.steady_to(ch.x, STEADY_CLEAR_CELLS * res_m);
         // Where compensation stopped at its cap, a sweep reads low by the loss it left undone.
@@ -861,14 +875,20 @@ pub fn changes(inp: &Inputs, engine: &mut TraceEngine) -> Vec<Change> {
 /// and the factor 10^(-A/20) that reads a compensated strength behind it as seen in front of it, A its
 /// round-trip loss in the current state, dB.
 fn pad_step(chain: &ChainView, x: f64, res_m: f64) -> Option<(f64, f64, f64)> {
+    pad_at(chain, x, res_m).map(|(_, step)| step)
+}
+
+/// [`pad_step`] with the attenuator's index in the chain.
+fn pad_at(chain: &ChainView, x: f64, res_m: f64) -> Option<(usize, (f64, f64, f64))> {
     let reach = PAD_STEP_CELLS * res_m + PAD_STEP_M;
     chain
         .segments
         .iter()
-        .filter(|s| s.kind == SegmentKind::Attenuator && s.loss[1].a_flat > 0.0)
-        .map(|s| (s, 0.5 * (s.start_m + s.end_m)))
-        .find(|(_, mid)| (x - mid).abs() <= reach)
-        .map(|(s, mid)| (mid, reach, 10f64.powf(-s.loss[1].a_flat / 20.0)))
+        .enumerate()
+        .filter(|(_, s)| s.kind == SegmentKind::Attenuator && s.loss[1].a_flat > 0.0)
+        .map(|(k, s)| (k, s, 0.5 * (s.start_m + s.end_m)))
+        .find(|(_, _, mid)| (x - mid).abs() <= reach)
+        .map(|(k, s, mid)| (k, (mid, reach, 10f64.powf(-s.loss[1].a_flat / 20.0))))
 }
 
 /// [`Change::pad_front`] for an echo at as-built `x` (m), with a resolution cell of `res_m`: at an
@@ -908,6 +928,79 @@ fn pad_step_change_db(
         })
         .max_by(|p, q| p.1.total_cmp(&q.1))?;
     Some(db(ch.mag_c * behind) - db(front) - inp.fit.expected_change_db(xb))
+}
+
+/// Integrated linear contraction of a coax's conductors from 293 K to 4 K: 0.3 % (copper 0.326 %,
+/// stainless 304 0.300 %; NIST cryogenic material property fits, as compiled in DOMAIN.md section 4).
+pub const CONDUCTOR_CONTRACTION: f64 = 0.003;
+
+/// For each segment of the chain, how far its cable's impedance moved between the sweeps beyond what the
+/// line file's model says, as a fraction (0 for every other segment, and where the state did not change).
+///
+/// A coax's impedance goes as 1 / sqrt(er) and its delay per metre as sqrt(er) (Pozar, Microwave
+/// Engineering, 4th ed., section 2.2): of a change of electrical length by a factor `s`, all but the
+/// conductors' contraction ([`CONDUCTOR_CONTRACTION`]) is the dielectric's, and the impedance moves by as
+/// much with its sign turned. A cable whose delay the landmarks pinned (`constrained` in the alignment)
+/// shows its own; one they did not is given the line's: the ratio of the dielectric's change the pinned
+/// cables show to the model's for them, delay-weighted (the generator's `healthy:13000020` shows 1.8
+/// to 2.0 times the model's change on every pinned cable, docs/accuracy.md).
+fn impedance_excess(inp: &Inputs) -> Vec<f64> {
+    let model = &inp.chain.segments;
+    let fitted = &inp.fit.chain.segments;
+    let pinned = &inp.fit.report.segments;
+    let dielectric = |s: &super::chain::Segment| dielectric_change(s.delay_s[1] / s.delay_s[0]);
+    let cable = |k: usize| {
+        let m = &model[k];
+        m.kind == SegmentKind::Cable && !m.steady && m.delay_s[0] > 0.0 && k < fitted.len()
+    };
+    let is_pinned = |k: usize| {
+        pinned
+            .get(k)
+            .is_some_and(|p| p.constrained && p.element == model[k].name)
+    };
+    let (mut seen, mut modelled) = (0.0, 0.0);
+    for k in (0..model.len()).filter(|&k| cable(k) && is_pinned(k)) {
+        seen += model[k].delay_s[0] * dielectric(&fitted[k]);
+        modelled += model[k].delay_s[0] * dielectric(&model[k]);
+    }
+    let line_ratio = if modelled > 0.0 { seen / modelled } else { 1.0 };
+    (0..model.len())
+        .map(|k| {
+            if !cable(k) {
+                return 0.0;
+            }
+            let own = if is_pinned(k) {
+                dielectric(&fitted[k])
+            } else {
+                line_ratio * dielectric(&model[k])
+            };
+            (own - dielectric(&model[k])).abs()
+        })
+        .collect()
+}
+
+/// The fractional change of a cable's impedance (and of its dielectric's sqrt(er)) that a change of its
+/// electrical length by a factor `s` across a cooldown implies, by magnitude: all of it but the conductors'
+/// contraction ([`impedance_excess`]).
+fn dielectric_change(s: f64) -> f64 {
+    (s - 1.0).abs() + CONDUCTOR_CONTRACTION
+}
+
+/// [`Change::pad_drift`] at as-built `x` (m), with a resolution cell of `res_m`, given each segment's
+/// [`impedance_excess`]: at an attenuator's loss step, the bound of [`PAD_DRIFT_REFLECTION`] for the pad's
+/// resistors and the model's own cooling of the cables either side, plus the steps the pad's fixed 50 ohm
+/// makes with them where their impedance moved further than the model says. Each step reflects half that
+/// fraction; the one behind the pad is seen through the pad's round trip. Elsewhere
+/// [`PAD_DRIFT_REFLECTION`].
+fn pad_drift_reflection(inp: &Inputs, excess: &[f64], x: f64, res_m: f64) -> f64 {
+    let segs = &inp.chain.segments;
+    let Some((k, (_, _, behind))) = pad_at(inp.chain, x, res_m) else {
+        return PAD_DRIFT_REFLECTION;
+    };
+    let side = |i: Option<usize>| i.and_then(|i| excess.get(i)).map_or(0.0, |e| 0.5 * e);
+    let front = side((0..k).rev().find(|&i| segs[i].kind == SegmentKind::Cable));
+    let back = side((k + 1..segs.len()).find(|&i| segs[i].kind == SegmentKind::Cable));
+    PAD_DRIFT_REFLECTION + front + back * behind
 }
 
 /// An echo by its as-built place, m, and its compensated strength.
@@ -1085,6 +1178,7 @@ fn joint_probes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
             at_device: false,
             device_drift: DEVICE_DRIFT_REFLECTION,
             pad_front: None,
+            pad_drift: PAD_DRIFT_REFLECTION,
             pad_step_change_db: None,
             seen_behind: false,
             steady: false,
@@ -1378,6 +1472,7 @@ fn flank_changes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
             at_device: false,
             device_drift: DEVICE_DRIFT_REFLECTION,
             pad_front: None,
+            pad_drift: PAD_DRIFT_REFLECTION,
             pad_step_change_db: None,
             seen_behind: false,
             steady: false,
@@ -1414,6 +1509,7 @@ mod tests {
             at_device: false,
             device_drift: DEVICE_DRIFT_REFLECTION,
             pad_front: None,
+            pad_drift: PAD_DRIFT_REFLECTION,
             pad_step_change_db: None,
             seen_behind: false,
             steady: false,
@@ -1464,6 +1560,10 @@ mod tests {
         // What would reflect PAD_DRIFT_REFLECTION or more in front of the step is not the pad's drift.
         ch.pad_front = Some(0.1);
         assert!(!ch.within_pad_drift(false));
+        // Unless the cables beside the pad moved further than the model says and widened its bound.
+        ch.pad_drift = 0.05;
+        assert!(ch.within_pad_drift(false));
+        ch.pad_drift = PAD_DRIFT_REFLECTION;
         ch.pad_front = None;
         assert!(!ch.within_pad_drift(false));
         // Read behind the step as an open (0.93): the pad's own only where what lies behind is still seen.
@@ -1475,6 +1575,21 @@ mod tests {
         // Nor when the far end vanished behind it.
         open.blocks_far_end = Some(40.0);
         assert!(!open.within_pad_drift(false));
+    }
+
+    #[test]
+    fn a_cables_impedance_change_is_its_dielectrics_share_of_its_delay_change() {
+        // Pozar 4th ed. section 2.2: Z0 = (eta0 / (2 pi sqrt(er))) ln(b/a), delay per metre sqrt(er) / c.
+        // A cable 0.3 % shorter (its conductors' contraction) whose delay grew by 1 %: sqrt(er) grew by
+        // 1.3 %, and its impedance fell by as much (to first order).
+        let z = |er: f64| 60.0 / er.sqrt() * (0.838f64 / 0.2555).ln();
+        let (er_w, er_c) = (2.05, 2.05 * 1.013f64.powi(2));
+        let s = (1.0 - CONDUCTOR_CONTRACTION) * (er_c / er_w).sqrt();
+        let dz = 1.0 - z(er_c) / z(er_w);
+        let dielectric = dielectric_change(s);
+        assert!((dielectric - dz).abs() < 5e-4, "{dielectric} against {dz}");
+        // A warm-up reads the same change.
+        assert!((dielectric_change(1.0 / s) - dz).abs() < 5e-4);
     }
 
     #[test]
