@@ -210,9 +210,9 @@ pub const PAD_STEP_M: f64 = 5e-3;
 /// change of state: 0.01. Its resistors move by up to 2 % over a cooldown (thin-film temperature
 /// coefficients of tens of ppm/K over 290 K; common practice, no source), which moves its input impedance by
 /// as much and its reflection by half of that, |dZ| / (2 Z0) (circuit theory). A contact of 2 ohm or more at
-/// the joint beside it reflects more. It holds the model's own cooling of the cables beside it too (a cold
-/// cable's impedance about 1 % under its warm one, a step of 0.006 each side); where they moved further, see
-/// [`pad_drift_reflection`].
+/// the joint beside it reflects more. The steps its fixed 50 ohm makes with the cables beside it, whose
+/// impedance moves on cooling (about 1 % for a PTFE cable by the model, up to twice that for real ones),
+/// come on top ([`pad_drift_reflection`]).
 pub const PAD_DRIFT_REFLECTION: f64 = 0.01;
 
 /// Reflection, read behind an attenuator's loss step, from which an echo there is an open or nearly (a pin
@@ -377,8 +377,10 @@ impl Change {
     }
 
     /// Whether, across a change of state, this is an echo at an attenuator's loss step ([`Change::pad_front`])
-    /// that, read in front of the step, stays under [`PAD_DRIFT_REFLECTION`] in both sweeps (what the pad's
-    /// own cooling makes of its match), or that only slid across the step: read in front of it, within
+    /// whose strength, read in front of the step, moved by less than the pad's drift ([`Change::pad_drift`]:
+    /// what the pad's own cooling and that of the cables beside it make of its match; a joint beside the
+    /// pad may reflect more than that in both sweeps and still be only what it was), or that only slid
+    /// across the step: read in front of it, within
     /// [`CHANGE_DB`] of the baseline's echo it replaced ([`Change::pad_step_change_db`]). Such a change is
     /// reported at `info`, never above. Not when the far end vanished behind it ([`Change::blocks_far_end`]:
     /// it is the fault that blocks the line), nor when it reads [`PAD_OPEN_REFLECTION`] or more behind the
@@ -390,7 +392,7 @@ impl Change {
             && self.blocks_far_end.is_none()
             && (self.mag_c.max(self.base_level) < PAD_OPEN_REFLECTION || self.seen_behind)
             && self.pad_front.is_some_and(|g| {
-                g * self.mag_c.max(self.base_level) < self.pad_drift
+                g * (self.mag_c - self.base_level).abs() < self.pad_drift
                     || self.pad_step_change_db.is_some_and(|d| d.abs() < CHANGE_DB)
             })
     }
@@ -780,11 +782,11 @@ pub fn changes(inp: &Inputs, engine: &mut TraceEngine) -> Vec<Change> {
         .iter()
         .map(|e| (to_x_c(e.delay_s), e.magnitude))
         .collect();
-    // How far each cable's impedance moved beyond the model, for the pads' own drift.
-    let excess = if inp.same_state {
+    // How far each cable's impedance moved, for the pads' own drift.
+    let moved = if inp.same_state {
         Vec::new()
     } else {
-        impedance_excess(inp)
+        impedance_changes(inp)
     };
     // Calibration and shadowing, front to back: a joint that got worse dims everything behind it.
     let mut shadow = (0.0f64, 0.0f64);
@@ -793,8 +795,9 @@ pub fn changes(inp: &Inputs, engine: &mut TraceEngine) -> Vec<Change> {
         ch.zone = inp.zone(ch.x, ch.d_c, res_m, device_end_m);
         ch.at_device = device_end.is_some_and(|x_d| ch.x >= x_d - res_m);
         ch.device_drift = device_drift;
-        ch.pad_front = pad_front(inp.chain, ch.x, res_m);
-        ch.pad_drift = pad_drift_reflection(inp, &excess, ch.x, res_m);
+        let x_comp = inp.chain.position_of(ch.d_c, Which::Current, None);
+        ch.pad_front = pad_front(inp.chain, ch.x, x_comp, res_m);
+        ch.pad_drift = pad_drift_reflection(inp, &moved, ch.x, res_m);
         ch.pad_step_change_db = pad_step_change_db(inp, (&echoes_b, &echoes_c), ch, res_m);
         ch.steady = !inp.same_state && inp.chain.steady_to(ch.x, STEADY_CLEAR_CELLS * res_m);
         // Where compensation stopped at its cap, a sweep reads low by the loss it left undone.
@@ -892,9 +895,15 @@ fn pad_at(chain: &ChainView, x: f64, res_m: f64) -> Option<(usize, (f64, f64, f6
 }
 
 /// [`Change::pad_front`] for an echo at as-built `x` (m), with a resolution cell of `res_m`: at an
-/// attenuator's loss step ([`pad_step`]), 1 in front of it and 10^(-A/20) behind it.
-fn pad_front(chain: &ChainView, x: f64, res_m: f64) -> Option<f64> {
-    pad_step(chain, x, res_m).map(|(mid, _, behind)| if x >= mid { behind } else { 1.0 })
+/// attenuator's loss step ([`pad_step`]), 1 where its strength was compensated as in front of the step and
+/// 10^(-A/20) where as behind it. The sweep's analysis compensated the echo at `x_comp`, its delay's place
+/// on the analysis' own map (`chain`: the line file's model anchored on the baseline's joints), which may
+/// lie some millimetres from `x`, its place on the aligned map: the side of the step its strength was read
+/// on follows `x_comp`. (A joint's echo 13 mm in front of a 7 dB pad's step on the aligned map lay behind
+/// it on the analysis' map, was lifted by the pad's 14 dB round trip and read as 0.093 in front of the
+/// step, a minor contact on a healthy cooldown: the generator's `healthy:23000205` of seed 23.)
+fn pad_front(chain: &ChainView, x: f64, x_comp: f64, res_m: f64) -> Option<f64> {
+    pad_step(chain, x, res_m).map(|(mid, _, behind)| if x_comp >= mid { behind } else { 1.0 })
 }
 
 /// [`Change::pad_step_change_db`] for the echo of `ch`, with a resolution cell of `res_m`, from each sweep's
@@ -927,6 +936,8 @@ fn pad_step_change_db(
                 && !c.iter().any(|&(xc, _)| (xc - xb).abs() <= res_m / 3.0)
         })
         .max_by(|p, q| p.1.total_cmp(&q.1))?;
+    // Read in front of the step as its strength was compensated ([`pad_front`]).
+    let behind = ch.pad_front.unwrap_or(behind);
     Some(db(ch.mag_c * behind) - db(front) - inp.fit.expected_change_db(xb))
 }
 
@@ -934,17 +945,18 @@ fn pad_step_change_db(
 /// stainless 304 0.300 %; NIST cryogenic material property fits, as compiled in DOMAIN.md section 4).
 pub const CONDUCTOR_CONTRACTION: f64 = 0.003;
 
-/// For each segment of the chain, how far its cable's impedance moved between the sweeps beyond what the
-/// line file's model says, as a fraction (0 for every other segment, and where the state did not change).
+/// For each segment of the chain, how far its cable's impedance moved between the sweeps, as a fraction (0
+/// for every other segment, and for a cable at one temperature in both).
 ///
 /// A coax's impedance goes as 1 / sqrt(er) and its delay per metre as sqrt(er) (Pozar, Microwave
 /// Engineering, 4th ed., section 2.2): of a change of electrical length by a factor `s`, all but the
 /// conductors' contraction ([`CONDUCTOR_CONTRACTION`]) is the dielectric's, and the impedance moves by as
-/// much with its sign turned. A cable whose delay the landmarks pinned (`constrained` in the alignment)
-/// shows its own; one they did not is given the line's: the ratio of the dielectric's change the pinned
-/// cables show to the model's for them, delay-weighted (the generator's `healthy:13000020` shows 1.8
-/// to 2.0 times the model's change on every pinned cable, docs/accuracy.md).
-fn impedance_excess(inp: &Inputs) -> Vec<f64> {
+/// much with its sign turned ([`dielectric_change`]). A cable whose delay the landmarks pinned
+/// (`constrained` in the alignment) shows its own change; one they did not is given the model's, scaled by
+/// the line's ratio: what the pinned cables show over what the model says for them, delay-weighted (the
+/// generator's `healthy:13000020` shows 1.8 to 2.0 times the model's change on every pinned cable,
+/// docs/accuracy.md).
+fn impedance_changes(inp: &Inputs) -> Vec<f64> {
     let model = &inp.chain.segments;
     let fitted = &inp.fit.chain.segments;
     let pinned = &inp.fit.report.segments;
@@ -967,37 +979,35 @@ fn impedance_excess(inp: &Inputs) -> Vec<f64> {
     (0..model.len())
         .map(|k| {
             if !cable(k) {
-                return 0.0;
-            }
-            let own = if is_pinned(k) {
+                0.0
+            } else if is_pinned(k) {
                 dielectric(&fitted[k])
             } else {
                 line_ratio * dielectric(&model[k])
-            };
-            (own - dielectric(&model[k])).abs()
+            }
         })
         .collect()
 }
 
 /// The fractional change of a cable's impedance (and of its dielectric's sqrt(er)) that a change of its
 /// electrical length by a factor `s` across a cooldown implies, by magnitude: all of it but the conductors'
-/// contraction ([`impedance_excess`]).
+/// contraction ([`impedance_changes`]).
 fn dielectric_change(s: f64) -> f64 {
     (s - 1.0).abs() + CONDUCTOR_CONTRACTION
 }
 
-/// [`Change::pad_drift`] at as-built `x` (m), with a resolution cell of `res_m`, given each segment's
-/// [`impedance_excess`]: at an attenuator's loss step, the bound of [`PAD_DRIFT_REFLECTION`] for the pad's
-/// resistors and the model's own cooling of the cables either side, plus the steps the pad's fixed 50 ohm
-/// makes with them where their impedance moved further than the model says. Each step reflects half that
-/// fraction; the one behind the pad is seen through the pad's round trip. Elsewhere
-/// [`PAD_DRIFT_REFLECTION`].
-fn pad_drift_reflection(inp: &Inputs, excess: &[f64], x: f64, res_m: f64) -> f64 {
+/// [`Change::pad_drift`] at as-built `x` (m), with a resolution cell of `res_m`, given how far each
+/// segment's impedance moved ([`impedance_changes`]): at an attenuator's loss step, the bound of
+/// [`PAD_DRIFT_REFLECTION`] for the pad's resistors, plus the steps the pad's fixed 50 ohm makes with the
+/// cables either side of it where their impedance moved. Each step reflects half that fraction
+/// (|dZ| / (2 Z0), circuit theory); the one behind the pad is seen through the pad's round trip.
+/// Elsewhere [`PAD_DRIFT_REFLECTION`].
+fn pad_drift_reflection(inp: &Inputs, moved: &[f64], x: f64, res_m: f64) -> f64 {
     let segs = &inp.chain.segments;
     let Some((k, (_, _, behind))) = pad_at(inp.chain, x, res_m) else {
         return PAD_DRIFT_REFLECTION;
     };
-    let side = |i: Option<usize>| i.and_then(|i| excess.get(i)).map_or(0.0, |e| 0.5 * e);
+    let side = |i: Option<usize>| i.and_then(|i| moved.get(i)).map_or(0.0, |e| 0.5 * e);
     let front = side((0..k).rev().find(|&i| segs[i].kind == SegmentKind::Cable));
     let back = side((k + 1..segs.len()).find(|&i| segs[i].kind == SegmentKind::Cable));
     PAD_DRIFT_REFLECTION + front + back * behind
@@ -1383,8 +1393,38 @@ fn flank_changes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
     let knots: Vec<[f64; 3]> = (0..n.div_ceil(FLANK_STRIDE) + 1)
         .map(|k| knot((k * FLANK_STRIDE).min(n.saturating_sub(1))))
         .collect();
-    // Per bin: (rise dB, amplitude excess).
-    let mut rise: Vec<Option<(f64, f64)>> = vec![None; n];
+    // Near an attenuator's loss step each trace holds the compensation of its piece, which may straddle
+    // the step and lend one side the other's gain, one way in one sweep and the other way in the other:
+    // there each is read with the compensation of its own place on the analysis' map, as events are.
+    // Within a cell of a step the gain of a place is the step's, on its side, to within the loss of a few
+    // centimetres of cable: worked out once per step, side and sweep.
+    let steps: Vec<(f64, [[f64; 2]; 2])> = inp
+        .chain
+        .segments
+        .iter()
+        .filter(|s| s.kind == SegmentKind::Attenuator && s.loss[1].a_flat > 0.0)
+        .map(|s| {
+            let mid = 0.5 * (s.start_m + s.end_m);
+            let quarter = 0.25 * (s.end_m - s.start_m);
+            // Each side a quarter of the body from the step: at the step itself, rounding decides the side.
+            let sides = |a: &SweepAnalysis, which: Which| {
+                [mid - quarter, mid + quarter].map(|x| a.level_gain(inp.chain, x, which))
+            };
+            (mid, [sides(b, Which::Baseline), sides(c, Which::Current)])
+        })
+        .collect();
+    let own_gain = |a: &SweepAnalysis, d: f64, which: Which| {
+        let x_a = inp.chain.position_of(d, which, None);
+        let reach = res_s * super::place::speed_at(inp.chain, x_a, which) + PAD_STEP_M;
+        steps
+            .iter()
+            .find(|(mid, _)| (x_a - mid).abs() <= reach)
+            .map_or(1.0, |(mid, g)| {
+                g[which as usize][usize::from(x_a >= *mid)] / a.gain_at(d)
+            })
+    };
+    // Per bin: (rise dB, amplitude excess, the current trace's reading factor).
+    let mut rise: Vec<Option<(f64, f64, f64)>> = vec![None; n];
     for (i, &m_c) in c.mag.iter().enumerate() {
         let d_c = i as f64 * c.dt;
         if d_c >= ALIAS_EDGE * alias {
@@ -1406,10 +1446,13 @@ fn flank_changes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
             break;
         }
         let b_max = b.mag[lo..=hi].iter().fold(0.0f64, |a, &v| a.max(v));
-        let level_b = b_max.max(NOISE_SIGMAS * b.sigma_at(d_b));
+        let level_b =
+            (b_max * own_gain(b, d_b, Which::Baseline)).max(NOISE_SIGMAS * b.sigma_at(d_b));
+        let k_c = own_gain(c, d_c, Which::Current);
+        let m_c = m_c * k_c;
         let r = db(m_c) - db(level_b) - cal;
         if r >= FLANK_RISE_DB {
-            rise[i] = Some((r, m_c - level_b * 10f64.powf(cal / 20.0)));
+            rise[i] = Some((r, m_c - level_b * 10f64.powf(cal / 20.0), k_c));
         }
     }
     let mut out = Vec::new();
@@ -1423,12 +1466,13 @@ fn flank_changes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
         while k < rise.len() && rise[k].is_some() {
             k += 1;
         }
-        let Some((i, (rise_db, _))) = (start..k)
+        let Some((i, (rise_db, _, k_c))) = (start..k)
             .filter_map(|i| rise[i].map(|r| (i, r)))
             .max_by(|p, q| p.1 .1.total_cmp(&q.1 .1))
         else {
             continue;
         };
+        let m_c = c.mag[i] * k_c;
         let d_c = i as f64 * c.dt;
         let near = have
             .iter()
@@ -1448,16 +1492,16 @@ fn flank_changes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
         let x = fit.chain.position_of(d_c, Which::Current, None);
         let d_b = fit.chain.delay_to(x, Which::Baseline, None);
         let hb = b.h(d_b);
-        let base_level = (db(c.mag[i]) - rise_db - fit.expected_change_db(x)).max(-400.0);
+        let base_level = (db(m_c) - rise_db - fit.expected_change_db(x)).max(-400.0);
         let base_level = 10f64.powf(base_level / 20.0);
         out.push(Change {
             x,
             d_c,
-            mag_c: c.mag[i],
-            gamma_c: c.h(d_c),
+            mag_c: m_c,
+            gamma_c: c.h(d_c) * k_c,
             base: Some((base_level, hb)),
             base_level,
-            raw_change_db: db(c.mag[i]) - db(base_level),
+            raw_change_db: db(m_c) - db(base_level),
             expected_db: (0.0, 0.0),
             excess_db: 0.0,
             phase_deg: 0.0,

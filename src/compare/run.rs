@@ -1043,7 +1043,7 @@ fn judge_changes(
             f.severity = Severity::Info;
             f.explanation.push_str(
                 " (at the attenuator's resistive element: read in front of its loss, within what its cooling \
-                 makes of its match, as its resistors' values move)",
+                 makes of its match, as its resistors' values and the impedance of the cables beside it move)",
             );
         }
         if at_end && (moved || kind_flip) {
