@@ -1601,10 +1601,10 @@ mod tests {
         assert!(ch.within_pad_drift(false), "{ch:?}");
         // In one state the pad does not drift: judged as any echo.
         assert!(!ch.within_pad_drift(true));
-        // What would reflect PAD_DRIFT_REFLECTION or more in front of the step is not the pad's drift.
+        // What moved by PAD_DRIFT_REFLECTION or more in front of the step is not the pad's drift.
         ch.pad_front = Some(0.1);
         assert!(!ch.within_pad_drift(false));
-        // Unless the cables beside the pad moved further than the model says and widened its bound.
+        // Unless the cables beside the pad moved on cooling far enough to widen its bound.
         ch.pad_drift = 0.05;
         assert!(ch.within_pad_drift(false));
         ch.pad_drift = PAD_DRIFT_REFLECTION;
