@@ -292,6 +292,22 @@ fn healthy_cooldowns_found_out_of_sample_raise_nothing_above_info() {
     report("healthy cooldowns with a finding above info", &bad);
 }
 
+/// A cold -> cold repeat found out of sample (seed 41000103 of `--seed 41`), raised by the first version of
+/// the flank reading at an attenuator's step: near a 15 dB pad's loss step it took each sweep's
+/// compensation on the side of the step that sweep's own map put the place on, and the two maps put them
+/// on either side: a rise of the pad's round trip, a minor finding with the states given. Both sweeps are now read on the current sweep's side
+/// (`difference::flank_changes`).
+#[test]
+fn a_repeat_found_out_of_sample_raises_nothing_above_info() {
+    let e = scenario::score::evaluate(41_000_103, Case::Repeat);
+    let bad: Vec<String> = [false, true]
+        .into_iter()
+        .filter(|&given| e.false_alarm(given))
+        .map(|given| case_line(&e, given))
+        .collect();
+    report("a cold -> cold repeat with a finding above info", &bad);
+}
+
 /// Healthy generated cooldowns swept through an amplifier in front of the line: the whole reflection scaled
 /// by a round-trip gain of 36 dB warm and 40 dB cold, tilted by 1 and 1.5 dB across the band, so |S11|
 /// reads well above 1 and the sweeps return more power than they were sent. The gain's change is a level change of the whole trace, which the alignment finds

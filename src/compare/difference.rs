@@ -1413,14 +1413,22 @@ fn flank_changes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
             (mid, [sides(b, Which::Baseline), sides(c, Which::Current)])
         })
         .collect();
-    let own_gain = |a: &SweepAnalysis, d: f64, which: Which| {
-        let x_a = inp.chain.position_of(d, which, None);
-        let reach = res_s * super::place::speed_at(inp.chain, x_a, which) + PAD_STEP_M;
+    // The factors that read the current trace at current delay `d_c` and the baseline's at `d_b` with that
+    // compensation, both on the side of the step the current sweep's place is on: one side for both, or
+    // the two sweeps' maps could put them on either side and read a rise of the pad's whole round trip (a
+    // cold -> cold repeat, `repeat:41000103` of seed 41).
+    let own_gains = |d_c: f64, d_b: f64| {
+        let x_a = inp.chain.position_of(d_c, Which::Current, None);
+        let reach = res_s * super::place::speed_at(inp.chain, x_a, Which::Current) + PAD_STEP_M;
         steps
             .iter()
             .find(|(mid, _)| (x_a - mid).abs() <= reach)
-            .map_or(1.0, |(mid, g)| {
-                g[which as usize][usize::from(x_a >= *mid)] / a.gain_at(d)
+            .map_or((1.0, 1.0), |(mid, g)| {
+                let side = usize::from(x_a >= *mid);
+                (
+                    g[Which::Current as usize][side] / c.gain_at(d_c),
+                    g[Which::Baseline as usize][side] / b.gain_at(d_b),
+                )
             })
     };
     // Per bin: (rise dB, amplitude excess, the current trace's reading factor).
@@ -1446,9 +1454,8 @@ fn flank_changes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
             break;
         }
         let b_max = b.mag[lo..=hi].iter().fold(0.0f64, |a, &v| a.max(v));
-        let level_b =
-            (b_max * own_gain(b, d_b, Which::Baseline)).max(NOISE_SIGMAS * b.sigma_at(d_b));
-        let k_c = own_gain(c, d_c, Which::Current);
+        let (k_c, k_b) = own_gains(d_c, d_b);
+        let level_b = (b_max * k_b).max(NOISE_SIGMAS * b.sigma_at(d_b));
         let m_c = m_c * k_c;
         let r = db(m_c) - db(level_b) - cal;
         if r >= FLANK_RISE_DB {
