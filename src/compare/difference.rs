@@ -1418,6 +1418,10 @@ fn flank_changes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
     // the two sweeps' maps could put them on either side and read a rise of the pad's whole round trip (a
     // cold -> cold repeat, `repeat:41000103` of seed 41).
     let own_gains = |d_c: f64, d_b: f64| {
+        // A line without attenuators reads every bin as its piece holds it: no place to work out.
+        if steps.is_empty() {
+            return (1.0, 1.0);
+        }
         let x_a = inp.chain.position_of(d_c, Which::Current, None);
         let reach = res_s * super::place::speed_at(inp.chain, x_a, Which::Current) + PAD_STEP_M;
         steps
