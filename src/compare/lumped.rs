@@ -345,19 +345,22 @@ impl<'a> Turner<'a> {
         for (r, &s) in rot.iter_mut().zip(sizes) {
             *r = exact(s);
         }
-        for (c, (fb, gb)) in self
+        out.resize(self.g.len(), Complex64::new(0.0, 0.0));
+        for (c, ((fb, gb), ob)) in self
             .f
             .chunks(TURN_ANCHOR)
             .zip(self.g.chunks(TURN_ANCHOR))
+            .zip(out.chunks_mut(TURN_ANCHOR))
             .enumerate()
         {
-            // The steps leading to this block's points after its first.
-            let steps = &which[c * TURN_ANCHOR..c * TURN_ANCHOR + gb.len() - 1];
+            // The steps leading to this block's points after its first (`which` holds the step after
+            // each point but the last).
+            let steps = &which[c * TURN_ANCHOR..];
             let mut ph = exact(fb[0]);
-            out.push(gb[0] * ph);
-            for (&gk, &w) in gb[1..].iter().zip(steps) {
-                ph *= rot[w as usize];
-                out.push(gk * ph);
+            ob[0] = gb[0] * ph;
+            for ((o, &gk), &w) in ob[1..].iter_mut().zip(&gb[1..]).zip(steps) {
+                ph *= rot[usize::from(w) % TURN_STEP_SIZES];
+                *o = gk * ph;
             }
         }
     }
