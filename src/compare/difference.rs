@@ -721,6 +721,17 @@ pub fn changes(inp: &Inputs, engine: &mut TraceEngine) -> Vec<Change> {
         let x = to_x_b(eb.delay_s);
         let d_c = fit.chain.delay_to(x, Which::Current, None);
         let hc = c.h(d_c);
+        // The current sweep stronger there than this echo was, within a cell of an echo of its own that
+        // is paired with a neighbour of this one (within two cells): what it shows there is that pair's
+        // echo, read on a map a fraction of a cell off, and judged as that pair; a lone echo of the
+        // baseline says only whether the reflection there fell.
+        let neighbours_pair = pairs.iter().any(|&(i, j)| {
+            (c.events[j].delay_s - d_c).abs() < FLANK_CLEARANCE_CELLS * res_s
+                && (b.events[i].delay_s - eb.delay_s).abs() < 2.0 * FLANK_CLEARANCE_CELLS * res_s
+        });
+        if hc.norm() > eb.magnitude && neighbours_pair {
+            continue;
+        }
         let mag_c = hc.norm().max(NOISE_SIGMAS * c.sigma_at(d_c));
         out.push(Change {
             x,
@@ -1103,9 +1114,10 @@ const JOINT_PROBE_STEPS: i32 = 4;
 /// there plus what it moves by within the alignment's tolerance (a misalignment's residue): a relative
 /// complex change of [`VECTOR_CHANGE`] or more, at the step where it is largest, is a change, the same rule
 /// as a paired echo's in one state. Places within [`FLANK_CLEARANCE_CELLS`] of an echo already counted as a
-/// change are left to that echo. Across a change of state the two responses do not compare so closely
-/// (what the compensation leaves of the dispersion turns them), and only the connectors of the line's
-/// steady part are probed (see [`Change::steady`]).
+/// change, or of an open or short far end that was one in both sweeps, are left to that echo. Across a
+/// change of state the two responses do not compare so closely (what the compensation leaves of the
+/// dispersion turns them), and only the connectors of the line's steady part are probed (see
+/// [`Change::steady`]).
 fn joint_probes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
     if !inp.chain.as_built {
         return Vec::new();
@@ -1152,10 +1164,12 @@ fn joint_probes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
         let Some((diff, d_c, d_b, g, gc, gb)) = best else {
             continue;
         };
-        if have
-            .iter()
-            .any(|h| (h.d_c - d_c).abs() < FLANK_CLEARANCE_CELLS * res_s && h.changed(true))
-        {
+        // A place within a cell of an open or short far end that was one in both sweeps reads that
+        // termination's echo, which is judged as the far end (`Change::was_total`): its slope is so steep
+        // that a misplacement of a fraction of a cell reads as a change of the joint in front of it.
+        if have.iter().any(|h| {
+            (h.d_c - d_c).abs() < FLANK_CLEARANCE_CELLS * res_s && (h.changed(true) || h.was_total)
+        }) {
             continue;
         }
         let x = fit.chain.position_of(d_c, Which::Current, None);

@@ -659,6 +659,10 @@ pub const MODEL_RATIO_FACTOR: f64 = 1.857_142_857_142_857;
 /// ratio lies more than [`OPEN_MARGIN`] standard uncertainties outside what every hypothesis allows, no
 /// state explains the far echo's change: the termination's own joint changed (a series resistance or a
 /// partly open pin there reshapes the echo), and the signature no longer votes. Its note says so.
+/// Otherwise a change of state's interval is widened up to the model's (never past 1: cooling never raises
+/// a conductor's loss), where the model's ratio lies above the materials' own bound: a line of cupronickel,
+/// or one mostly at room temperature, loses nearly as much cold as warm, and its far echo's ratio near 1
+/// is no sign of one state.
 pub fn check_loss_ratio(signatures: &mut [Signature], cold_over_warm: f64) {
     if !(cold_over_warm.is_finite() && cold_over_warm > 0.0) {
         return;
@@ -668,12 +672,13 @@ pub fn check_loss_ratio(signatures: &mut [Signature], cold_over_warm: f64) {
             cold_over_warm / MODEL_RATIO_FACTOR,
             cold_over_warm * MODEL_RATIO_FACTOR,
         );
-        let w2c = (
-            lo.max(LOSS_RATIO_WARM_TO_COLD.0),
-            hi.min(LOSS_RATIO_WARM_TO_COLD.1),
-        );
+        // Cooling never raises a conductor's loss; a line whose conductors barely change (cupronickel) or
+        // that stays mostly at room temperature keeps a ratio near 1, above the materials' own bound,
+        // as far as its model (and the model's error) allows.
+        let top = LOSS_RATIO_WARM_TO_COLD.1.max(hi.min(1.0));
+        let w2c = (lo.max(LOSS_RATIO_WARM_TO_COLD.0), hi.min(top));
         let c2w = (
-            (1.0 / hi).max(1.0 / LOSS_RATIO_WARM_TO_COLD.1),
+            (1.0 / hi).max(1.0 / top),
             (1.0 / lo).min(1.0 / LOSS_RATIO_WARM_TO_COLD.0),
         );
         let model_misfit = |(a, b): (f64, f64)| {
@@ -687,7 +692,20 @@ pub fn check_loss_ratio(signatures: &mut [Signature], cold_over_warm: f64) {
             .into_iter()
             .map(model_misfit)
             .fold(f64::INFINITY, f64::min);
-        if least > OPEN_MARGIN {
+        if least <= OPEN_MARGIN {
+            // A change of state is read against the materials' bounds, widened to the model's ratio.
+            let (q, sq) = (s.value, s.sigma);
+            for m in s.misfit.iter_mut() {
+                let wide = match m.0 {
+                    Hypothesis::WarmCold => outside(q, (LOSS_RATIO_WARM_TO_COLD.0, top), sq),
+                    Hypothesis::ColdWarm => {
+                        outside(q, (1.0 / top, 1.0 / LOSS_RATIO_WARM_TO_COLD.0), sq)
+                    }
+                    _ => continue,
+                };
+                m.1 = m.1.min(wide);
+            }
+        } else {
             for m in s.misfit.iter_mut() {
                 m.1 = 0.0;
             }
@@ -920,13 +938,49 @@ mod tests {
 
     #[test]
     fn a_loss_ratio_the_model_allows_keeps_its_vote() {
-        // 2.0 lies inside a warm-up's 0.75-2.58 for the same model; a cooldown's 0.5 inside 0.39-0.92.
-        for v in [2.0, 0.5, 1.0] {
-            let mut s = vec![loss_ratio(v, 0.04)];
-            let before = s[0].misfit.clone();
-            check_loss_ratio(&mut s, 0.72);
-            assert_eq!(s[0].misfit, before, "{v}");
-            assert!(s[0].note.is_empty());
-        }
+        // A cooldown's 0.5 lies inside 0.39-1 for the same model (1.86 x 0.72 is past 1): its vote stands.
+        let mut s = vec![loss_ratio(0.5, 0.04)];
+        let before = s[0].misfit.clone();
+        check_loss_ratio(&mut s, 0.72);
+        assert_eq!(s[0].misfit, before);
+        assert!(s[0].note.is_empty());
+        // 2.0 lies inside a warm-up's 0.75-2.58: it votes, against a cooldown from 1 (25 sigma, not the
+        // materials' 27 from 0.92).
+        let mut s = vec![loss_ratio(2.0, 0.04)];
+        check_loss_ratio(&mut s, 0.72);
+        assert!(s[0].note.is_empty());
+        let w2c = s[0].misfit[0];
+        assert_eq!(w2c.0, Hypothesis::WarmCold);
+        assert!((w2c.1 - 25.0).abs() < 1e-9, "{w2c:?}");
+    }
+
+    #[test]
+    fn a_cooldown_reaches_up_to_the_models_ratio_never_past_one() {
+        // Out-of-sample seed 43000121: copper at room temperature and cupronickel at 50 K; the model says
+        // cold loses 98 % of warm (x 1.86 is past 1), the far echo lost 98.7 % +/- 0.036 %: a cooldown
+        // allows it (0.53-1) as one state does, so the signature no longer outvotes the electrical length.
+        let mut s = vec![loss_ratio(0.987, 0.00036)];
+        check_loss_ratio(&mut s, 0.98);
+        let misfit = |h: Hypothesis| s[0].misfit.iter().find(|m| m.0 == h).unwrap().1;
+        assert_eq!(misfit(Hypothesis::WarmCold), 0.0);
+        // Never past 1: a cooldown that raised the loss by 2 % is no cooldown.
+        let mut s = vec![loss_ratio(1.02, 0.001)];
+        check_loss_ratio(&mut s, 0.98);
+        let w2c = s[0]
+            .misfit
+            .iter()
+            .find(|m| m.0 == Hypothesis::WarmCold)
+            .unwrap()
+            .1;
+        assert!((w2c - 20.0).abs() < 1e-9, "{w2c}");
+        // A copper line's model (cold loses 30 % of warm; x 1.86 = 0.56) keeps the materials' 0.92.
+        let mut s = vec![loss_ratio(0.987, 0.00036)];
+        let before = s[0].misfit.clone();
+        check_loss_ratio(&mut s, 0.3);
+        assert_eq!(s[0].misfit, before);
+        // The 72 % model of the tests above: x 1.86 = 1.34, so a cooldown reaches 1.
+        let mut s = vec![loss_ratio(1.0, 0.04)];
+        check_loss_ratio(&mut s, 0.72);
+        assert_eq!(s[0].misfit[0], (Hypothesis::WarmCold, 0.0));
     }
 }
