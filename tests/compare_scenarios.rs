@@ -246,7 +246,8 @@ fn in_one_state_a_contact_beside_a_stronger_echo_is_found_at_its_own_joint() {
 
 /// Healthy cooldowns found out of sample (seeds 11000154, 11000382, 11000076 of `--seed 11`; 7000102 of
 /// `--seed 7`; 11000497 and 1000170 of `--seed 11` and `--seed 1`; 13000020 of `--seed 13`; 23000205 and
-/// 23000001 of `--seed 23`). Each once raised a finding above info:
+/// 23000001 of `--seed 23`; 43000121, 21000353 and 59000330 of `--seed 43`, `--seed 21` and `--seed 59`).
+/// Each once raised a finding above info:
 /// - 11000154, 11000382, 11000076: the delay scale rested on one echo down the line (a connector either
 ///   side of an attenuator), which read -0.3 % to -1 % and settled the states as a warm-up at 6 to 39 sigma;
 ///   one echo that nothing checks is now known to a quarter of a cell, and the states stay open;
@@ -306,8 +307,8 @@ fn healthy_cooldowns_found_out_of_sample_raise_nothing_above_info() {
 /// A cold -> cold repeat found out of sample (seed 41000103 of `--seed 41`), raised by the first version of
 /// the flank reading at an attenuator's step: near a 15 dB pad's loss step it took each sweep's
 /// compensation on the side of the step that sweep's own map put the place on, and the two maps put them
-/// on either side: a rise of the pad's round trip, a minor finding with the states given. Both sweeps are now read on the current sweep's side
-/// (`difference::flank_changes`).
+/// on either side: a rise of the pad's round trip, a minor finding with the states given. Both sweeps are
+/// now read on the current sweep's side (`difference::flank_changes`).
 #[test]
 fn a_repeat_found_out_of_sample_raises_nothing_above_info() {
     let e = scenario::score::evaluate(41_000_103, Case::Repeat);

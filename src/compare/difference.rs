@@ -725,11 +725,14 @@ pub fn changes(inp: &Inputs, engine: &mut TraceEngine) -> Vec<Change> {
         // is paired with a neighbour of this one (within two cells): what it shows there is that pair's
         // echo, read on a map a fraction of a cell off, and judged as that pair; a lone echo of the
         // baseline says only whether the reflection there fell.
-        let neighbours_pair = pairs.iter().any(|&(i, j)| {
-            (c.events[j].delay_s - d_c).abs() < FLANK_CLEARANCE_CELLS * res_s
-                && (b.events[i].delay_s - eb.delay_s).abs() < 2.0 * FLANK_CLEARANCE_CELLS * res_s
-        });
-        if hc.norm() > eb.magnitude && neighbours_pair {
+        let neighbours_pair = || {
+            pairs.iter().any(|&(i, j)| {
+                (c.events[j].delay_s - d_c).abs() < FLANK_CLEARANCE_CELLS * res_s
+                    && (b.events[i].delay_s - eb.delay_s).abs()
+                        < 2.0 * FLANK_CLEARANCE_CELLS * res_s
+            })
+        };
+        if hc.norm() > eb.magnitude && neighbours_pair() {
             continue;
         }
         let mag_c = hc.norm().max(NOISE_SIGMAS * c.sigma_at(d_c));
