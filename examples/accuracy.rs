@@ -12,6 +12,8 @@
 //! worst cases of each kind to list (default 6), `--cases F` a new file with one line per case (what happened,
 //! states inferred and given), to set two builds side by side.
 
+#[path = "common/dump.rs"]
+mod dump;
 #[path = "../tests/scenario/mod.rs"]
 mod scenario;
 
@@ -144,7 +146,7 @@ fn show(case: Case, seed: u64, dump: Option<&std::path::Path>) {
     }
     if let Ok((b, c)) = s.sweeps() {
         if let Some(dir) = dump {
-            if let Err(e) = dump_case(dir, s, &b, &c) {
+            if let Err(e) = dump::dump_case(dir, &s.nominal_text, &b, &c) {
                 let _ = writeln!(o, "--dump {}: {e}", dir.display());
             }
         }
@@ -159,22 +161,6 @@ fn show(case: Case, seed: u64, dump: Option<&std::path::Path>) {
 }
 
 /// Write the nominal line file and both sweeps into the new folder `dir` (never over an existing one).
-fn dump_case(
-    dir: &std::path::Path,
-    s: &scenario::Scenario,
-    b: &coldtrace::network::Network,
-    c: &coldtrace::network::Network,
-) -> Result<(), String> {
-    std::fs::create_dir(dir).map_err(|e| e.to_string())?;
-    std::fs::write(dir.join("line.toml"), &s.nominal_text).map_err(|e| e.to_string())?;
-    let opts = coldtrace::touchstone::WriteOptions::default();
-    for (name, n) in [("baseline.s1p", b), ("current.s1p", c)] {
-        let text = coldtrace::touchstone::write(n, &opts).map_err(|e| e.to_string())?;
-        std::fs::write(dir.join(name), text).map_err(|e| e.to_string())?;
-    }
-    Ok(())
-}
-
 fn replay(e: &Evaluated) -> String {
     format!("`{}:{}`", e.scenario.case.name(), e.scenario.seed)
 }

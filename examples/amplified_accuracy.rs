@@ -15,6 +15,8 @@
 //! - `ripple`: the same as `flat` with a ripple of 0.5 dB of period 700 MHz whose phase moves by 1.3 rad on
 //!   cooling (a standing wave between the amplifier and a cable), which the comparator does not model.
 
+#[path = "common/dump.rs"]
+mod dump;
 #[path = "../tests/scenario/mod.rs"]
 mod scenario;
 #[path = "common/section.rs"]
@@ -24,8 +26,9 @@ use coldtrace::compare::CompareReport;
 use scenario::{Case, Scenario};
 use std::f64::consts::PI;
 
-const USAGE: &str =
-    "usage: amplified_accuracy [--healthy N] [--seed S] [--into FILE.md] | --show SEED:SHAPE";
+const USAGE: &str = "usage: amplified_accuracy [--healthy N] [--seed S] [--into FILE.md] | --show SEED:SHAPE \
+                     [--declared] [--dump NEW_DIR]  (--declared: the line file declares the gain; --dump writes \
+                     line.toml, baseline.s1p and current.s1p, as swept through the gain, for the command line)";
 
 /// The heading of the section this program writes.
 const SECTION: &str = "## Amplified lines (gain in the path)";
@@ -109,6 +112,8 @@ fn main() {
     let mut seed = 9u64;
     let mut into: Option<String> = None;
     let mut show: Option<(u64, Shape)> = None;
+    let mut declared = false;
+    let mut dump: Option<std::path::PathBuf> = None;
     let mut it = std::env::args().skip(1);
     while let Some(flag) = it.next() {
         let mut val = || {
@@ -121,6 +126,8 @@ fn main() {
             "--healthy" => healthy = val().parse().expect("--healthy takes a count"),
             "--seed" => seed = val().parse().expect("--seed takes a number"),
             "--into" => into = Some(val()),
+            "--declared" => declared = true,
+            "--dump" => dump = Some(val().into()),
             "--show" => {
                 let v = val();
                 let (s, k) = v.split_once(':').unwrap_or((&v, "flat"));
@@ -140,8 +147,21 @@ fn main() {
         }
     }
     if let Some((s, shape)) = show {
-        let (sc, shows, r) = run(s, shape, true, false);
+        let (sc, shows, r) = run(s, shape, true, declared);
         println!("{}", sc.describe());
+        if let Some(dir) = dump {
+            let mut line = sc.nominal_text.clone();
+            if declared {
+                line = format!("gain_in_path = true\n{line}");
+            }
+            let swept = sc.sweeps().and_then(|(b, c)| {
+                let (b, c) = (through(b, shape, true), through(c, shape, false));
+                dump::dump_case(&dir, &line, &b, &c)
+            });
+            if let Err(e) = swept {
+                println!("--dump {}: {e}", dir.display());
+            }
+        }
         println!("  the amplifier shows in the data (more power returned than sent): {shows}");
         match r {
             Ok(r) => println!("{}", coldtrace::compare::text::render_compare(&r, true)),
@@ -159,7 +179,8 @@ fn main() {
          and the gain's change is fitted as a level change (docs/method.md, \"Gain in the path\"). On a line \
          matched well enough that even 40 dB of gain returns less, the power does not tell that an amplifier is \
          there; those lines are counted apart (the gain hidden), and the amplifier shows there only where both \
-         sweeps show every joint of the line file they see, two at least, at 0.1 or more, or where the line \
+         sweeps show every joint of the line file they see (all but one of three or more), two at least, at \
+         0.1 or more, or where the line \
          file declares it (`gain_in_path = true`, docs/line-file.md): the last column runs the hidden-gain \
          lines again with that declaration.\n\n"
     ));

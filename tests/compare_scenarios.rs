@@ -10,6 +10,7 @@
 
 mod scenario;
 
+use coldtrace::compare::Severity;
 use scenario::score::{evaluate_all, Evaluated};
 use scenario::{Case, Scenario, LENGTH_ERROR_M};
 use std::sync::OnceLock;
@@ -368,19 +369,73 @@ fn a_line_file_that_declares_the_gain_has_its_sweeps_read_through_it() {
     );
 }
 
+/// A line whose pad of 7 dB sits within a resolution cell of the joints either side of it (seed 17000123
+/// of `amplified_accuracy --seed 17`), matched so well that neither sweep through the gain returns more
+/// power than a passive line may. The compensation steps by the pad's loss between the two joints, so the
+/// echo read at the nearer one is the other's in one sweep and its own in the other: read as a passive
+/// line, it rose 22 dB, a critical open, for the gain's 4 dB. Every other joint the sweeps show reads at a
+/// component's level in both; that is the gain, though one joint reads low. A minor contact is left at the
+/// pad, as where the line file declares the gain (docs/accuracy.md, "Amplified lines").
+#[test]
+fn joints_lifted_by_a_hidden_gain_show_it_though_one_reads_low() {
+    let bad = through_a_gain(&[17_000_123], false, false, false, Severity::Minor);
+    report(
+        "a healthy cooldown through a hidden gain, one joint read low",
+        &bad,
+    );
+}
+
+/// A line of two joints about a 5 dB pad within a cell of each other, read through a band-limited gain
+/// that the line file declares (seed 17000056 of `amplified_accuracy --seed 17`): each sweep's scale was
+/// set by its own joints, whose median moved 16 dB between the sweeps where the gain moved 4, and what was
+/// left was more than the alignment takes for a level change: a critical unknown echo at the pad. The
+/// current sweep's scale is now the baseline's times the change the joints both show agree on. A minor
+/// finding is left there: the joints set the scale at a good joint's few per cent, and this line's read
+/// lower, so what changed at the pad reads several times its size (docs/accuracy.md, "Amplified lines").
+#[test]
+fn a_pairs_gain_change_is_read_from_the_joints_both_sweeps_show() {
+    let bad = through_a_gain(&[17_000_056], false, true, true, Severity::Minor);
+    report(
+        "a healthy cooldown through a declared band-limited gain",
+        &bad,
+    );
+}
+
 /// Each healthy cooldown of `seeds` swept through a round-trip gain of 36 dB warm and 40 dB cold, tilted by
 /// 1 and 1.5 dB across the band; the sweeps return more power than a passive line when `shows`, and no more
 /// otherwise; the line file declares the gain when `declared`. Whatever is wrong with the comparisons, one
 /// line each.
 fn through_an_amplifier(seeds: &[u64], shows: bool, declared: bool) -> Vec<String> {
-    let through =
-        |n, gain_db: f64, tilt_db: f64| scenario::through_gain(n, |_, u| gain_db + tilt_db * u);
+    through_a_gain(seeds, shows, declared, false, Severity::Info)
+}
+
+/// [`through_an_amplifier`], the gain band-limited when `band`: rolled off outside the middle 60 % of the
+/// band (an eighth-order edge) whose width grows 5 % on cooling (as `amplified_accuracy`'s `band` shape),
+/// and findings up to `allowed` let pass.
+fn through_a_gain(
+    seeds: &[u64],
+    shows: bool,
+    declared: bool,
+    band: bool,
+    allowed: Severity,
+) -> Vec<String> {
+    let through = |n, gain_db: f64, tilt_db: f64, width: f64| {
+        scenario::through_gain(n, |_, u| {
+            let x = (u - 0.5) / (0.3 * width);
+            gain_db + tilt_db * u
+                - if band {
+                    10.0 * (1.0 + x.powi(8)).log10()
+                } else {
+                    0.0
+                }
+        })
+    };
     let mut bad = Vec::new();
     for &seed in seeds {
         let mut s = Scenario::generate(seed, Case::Healthy);
         s.nominal.gain_in_path = declared;
         let (b, c) = s.sweeps().unwrap();
-        let (b, c) = (through(b, 36.0, -1.0), through(c, 40.0, -1.5));
+        let (b, c) = (through(b, 36.0, -1.0, 1.0), through(c, 40.0, -1.5, 1.05));
         let power_db =
             |n: &coldtrace::Network| coldtrace::compare::sweep::returned_power_db(&n.s11());
         assert_eq!(
@@ -391,7 +446,17 @@ fn through_an_amplifier(seeds: &[u64], shows: bool, declared: bool) -> Vec<Strin
         );
         for given in [true, false] {
             let r = s.compare(&b, &c, given).unwrap();
-            let alarms = scenario::score::alarm_lines(&r);
+            let alarms: Vec<String> = r
+                .findings
+                .iter()
+                .filter(|f| f.severity > allowed)
+                .map(|f| {
+                    format!(
+                        "{:?} {:?} at {:.3} m",
+                        f.severity, f.kind, f.place.distance_m
+                    )
+                })
+                .collect();
             if !alarms.is_empty() {
                 bad.push(format!(
                     "  seed {seed}, states given {given}: {}",

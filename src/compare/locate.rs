@@ -13,7 +13,8 @@ use super::report::*;
 use super::run::plot_data;
 use super::severity::Severity;
 use super::sweep::{
-    analyse_through, band_centre, db, no_line_file, shows_gain, sized, AnalysisConfig, Sweep,
+    analyse_through, band_centre, db, no_line_file, shows_gain, sized, AnalysisConfig, PathGain,
+    Sweep,
 };
 use super::CompareError;
 use crate::transform::TraceEngine;
@@ -41,7 +42,15 @@ pub fn locate_in(
     let f = &sweep.network.freqs_hz;
     let chain = sized(chain, &[f]);
     let amplified = chain.gain_in_path || shows_gain(&sweep)?;
-    let mut a = analyse_through(&sweep, &chain, cfg, Which::Current, engine, amplified, None)?;
+    let mut a = analyse_through(
+        &sweep,
+        &chain,
+        cfg,
+        Which::Current,
+        engine,
+        PathGain::found(amplified),
+        None,
+    )?;
     // Positions in the line file's terms: its joints pinned where the sweep shows them.
     let anchors = super::anchor::find(&chain, &a, Which::Current);
     let chain = if anchors.is_empty() {
@@ -57,7 +66,7 @@ pub fn locate_in(
                 cfg,
                 Which::Current,
                 engine,
-                amplified,
+                PathGain::found(amplified),
                 Some(&a),
             )?;
         }

@@ -31,7 +31,7 @@ use super::place::{place, position_sigma, speed_at, where_text};
 use super::report::*;
 use super::severity::{mismatch_loss_db, Severity};
 use super::states::Hypothesis;
-use super::sweep::{analyse_through, band_centre, db, no_line_file, shows_gain, sized};
+use super::sweep::{analyse_through, band_centre, db, no_line_file, shows_gain, sized, PathGain};
 pub use super::sweep::{AnalysisConfig, Sweep};
 use super::CompareError;
 use crate::transform::TraceEngine;
@@ -89,7 +89,7 @@ pub fn analyse_pair(
                    which: Which,
                    engine: &mut TraceEngine,
                    amplified: bool| {
-        analyse_through(sweep, chain, cfg, which, engine, amplified, None)
+        super::sweep::analyse_found(sweep, chain, cfg, which, engine, amplified)
     };
     let mut b = analyse(baseline, &chain, Which::Baseline, engine, amplified)?;
     // The line file's joints pinned where the baseline shows them, and the baseline analysed again on them.
@@ -113,7 +113,7 @@ pub fn analyse_pair(
                 cfg,
                 Which::Baseline,
                 engine,
-                amplified,
+                PathGain::found(amplified),
                 Some(&b),
             )?;
         }
@@ -128,6 +128,23 @@ pub fn analyse_pair(
         amplified = true;
         b = analyse(baseline, &chain, Which::Baseline, engine, amplified)?;
         c = analyse(current, &chain, Which::Current, engine, amplified)?;
+    }
+    // Behind an amplifier, each sweep's own scale rests on echoes that may move between the sweeps (joints
+    // within a cell of each other, a pad's step): the current sweep is scaled as the baseline is, times the
+    // gain's change that the joints both show agree on.
+    if let Some(gain) = amplified.then(|| pair_gain(&b, &c, &chain)).flatten() {
+        c = analyse_through(
+            current,
+            &chain,
+            cfg,
+            Which::Current,
+            engine,
+            PathGain::Known {
+                gain,
+                scale_known: b.scale_known,
+            },
+            None,
+        )?;
     }
     let mut far = FarEnds {
         baseline: far_end::find(&b, &chain, Which::Baseline, engine)?,
@@ -184,12 +201,62 @@ pub fn analyse_pair(
 pub const LIFTED_JOINT_REFLECTION: f64 = super::difference::COMPONENT_REFLECTION;
 
 /// Whether sweep `a` (analysed as a passive line's on `chain` in state `which`) shows every joint of the
-/// line file it sees, at least [`super::sweep::MIN_SCALE_JOINTS`] of them, at [`LIFTED_JOINT_REFLECTION`]
-/// or more. When both sweeps of a pair do, an amplifier lies in the path, though neither returns more power
+/// line file it sees (all but one where it sees more than two: [`super::sweep::joint_floor`]), at least
+/// [`super::sweep::MIN_SCALE_JOINTS`] of them, at [`LIFTED_JOINT_REFLECTION`] or more. When both sweeps of a pair do, an amplifier lies in the path, though neither returns more power
 /// than a passive line may (a well-matched line). One bad joint, or a few, leave the best ones where they
 /// were.
 fn joints_lifted(a: &SweepAnalysis, chain: &ChainView, which: Which) -> bool {
-    super::sweep::weakest_joint(a, chain, which).is_some_and(|m| m >= LIFTED_JOINT_REFLECTION)
+    super::sweep::joint_floor(a, chain, which).is_some_and(|m| m >= LIFTED_JOINT_REFLECTION)
+}
+
+/// Least signal-to-noise ratio (amplitude) of a joint's echo, in both sweeps, for its change to count
+/// towards the gain's change between them ([`pair_gain`]): 20 dB (common practice, no source).
+pub const PAIR_GAIN_JOINT_SNR: f64 = 10.0;
+
+/// How far apart, dB, the two sweeps' own scales may leave the joints they both show (the median change)
+/// before the current sweep's scale is set from the baseline's ([`pair_gain`]): half of what the
+/// alignment takes in as a level change (`align::MAX_LANDMARK_AMPLITUDE_DB`), so that the fitted level is
+/// left to what the landmarks and the loss calibration share.
+pub const PAIR_SCALE_DISAGREEMENT_DB: f64 = 0.5 * super::align::MAX_LANDMARK_AMPLITUDE_DB;
+
+/// How close to the joints' median change, dB, most of them must lie for it to be the gain's
+/// ([`pair_gain`]): as far as a component's own echo may move on cooling
+/// ([`super::difference::COMPONENT_CHANGE_DB`]).
+pub const PAIR_GAIN_AGREEMENT_DB: f64 = super::difference::COMPONENT_CHANGE_DB;
+
+/// The round-trip gain (linear) in the current sweep's path, set by the baseline's, where the two sweeps'
+/// own scales disagree: the baseline's gain times the median change, as swept, of the line file's joints
+/// that both sweeps show clear of the ends and the compensation's cap, [`PAIR_GAIN_JOINT_SNR`] over the
+/// noise in each ([`super::sweep::joint_level_pairs`]), at least [`super::sweep::MIN_SCALE_JOINTS`] of
+/// them. A healthy joint keeps its reflection through a cooldown (the compensation takes the cables' loss
+/// change out), so what they share is the gain's change, and a changed joint or two are outvoted. `None`
+/// where a sweep was read without gain, too few joints show, no more than half of them lie within
+/// [`PAIR_GAIN_AGREEMENT_DB`] of their median change, or the sweeps' own scales leave the joints within
+/// [`PAIR_SCALE_DISAGREEMENT_DB`] of each other (the alignment's level fit takes that).
+fn pair_gain(b: &SweepAnalysis, c: &SweepAnalysis, chain: &ChainView) -> Option<f64> {
+    b.path_gain_db?;
+    let gc = c.path_gain_db?;
+    let mut change: Vec<f64> = super::sweep::joint_level_pairs(b, c, chain)
+        .into_iter()
+        .filter(|p| p.3 >= PAIR_GAIN_JOINT_SNR)
+        .map(|(_, mb, mc, _)| db(mc / mb.max(1e-300)))
+        .collect();
+    if change.len() < super::sweep::MIN_SCALE_JOINTS {
+        return None;
+    }
+    let scaled = crate::numeric::median(&mut change);
+    // Most of the joints must share the change: under a map that puts the current sweep's joints where
+    // they are not (a wrong pair of states), each reads whatever lies there and they scatter.
+    let agree = change
+        .iter()
+        .filter(|c| (*c - scaled).abs() <= PAIR_GAIN_AGREEMENT_DB)
+        .count();
+    if 2 * agree <= change.len() {
+        return None;
+    }
+    // As swept, each joint changed by its scaled change plus the scales' difference: the baseline's gain
+    // plus the joints' median change as swept is the current sweep's own gain plus their scaled median.
+    (scaled.abs() > PAIR_SCALE_DISAGREEMENT_DB).then(|| 10f64.powf((gc + scaled) / 20.0))
 }
 
 /// Bounds of each segment's delay scale under hypothesis `h` (across a change of state,

@@ -51,7 +51,27 @@ pub fn analyse(
     engine: &mut TraceEngine,
 ) -> Result<SweepAnalysis, CompareError> {
     let amplified = chain.gain_in_path || shows_gain(sweep)?;
-    analyse_through(sweep, chain, cfg, which, engine, amplified, None)
+    analyse_found(sweep, chain, cfg, which, engine, amplified)
+}
+
+/// [`analyse_through`] afresh, the gain (where `amplified`) found from the sweep itself.
+pub fn analyse_found(
+    sweep: &Sweep,
+    chain: &ChainView,
+    cfg: &AnalysisConfig,
+    which: Which,
+    engine: &mut TraceEngine,
+    amplified: bool,
+) -> Result<SweepAnalysis, CompareError> {
+    analyse_through(
+        sweep,
+        chain,
+        cfg,
+        which,
+        engine,
+        PathGain::found(amplified),
+        None,
+    )
 }
 
 /// Power a passive line may return, band-averaged, over what it is sent, dB: at most all of it (0 dB). A
@@ -99,16 +119,17 @@ pub fn gain_scale_unknown(capped: usize) -> Warning {
 pub const GAIN_SCALE_UNKNOWN_NOTE: &str =
     " (the amplifier in the path leaves the reflection's size unknown: the cost is not known)";
 
-/// [`analyse`], told whether an amplifier lies in the sweep's path (`amplified`: this sweep or the other of
-/// its pair returned more power than it was sent; the same amplifier is in both), and given an earlier
-/// analysis of the same sweep whose compensated pieces it may take ([`SweepAnalysis::again`]).
+/// [`analyse`], told whether an amplifier lies in the sweep's path and what sets its gain (`gain`: this
+/// sweep or the other of its pair returned more power than it was sent, the same amplifier being in both,
+/// or the line file declares it; the gain found from this sweep alone or known from the pair), and given an
+/// earlier analysis of the same sweep whose compensated pieces it may take ([`SweepAnalysis::again`]).
 pub fn analyse_through(
     sweep: &Sweep,
     chain: &ChainView,
     cfg: &AnalysisConfig,
     which: Which,
     engine: &mut TraceEngine,
-    amplified: bool,
+    gain: PathGain,
     prior: Option<&SweepAnalysis>,
 ) -> Result<SweepAnalysis, CompareError> {
     let mut s = s11_of(sweep)?;
@@ -118,17 +139,67 @@ pub fn analyse_through(
     let run = |s: &[Complex64], engine: &mut TraceEngine| {
         SweepAnalysis::again(f, s, &cfg.window, t_end, chain, which, engine, prior)
     };
-    if !amplified {
-        return run(&s, engine);
+    let amplified = match gain {
+        PathGain::None => return run(&s, engine),
+        PathGain::FromSweep => None,
+        PathGain::Known { gain, scale_known } => Some((gain.max(1e-300), scale_known)),
+    };
+    let (a, path_gain) = match amplified {
+        // The gain known from elsewhere (the other sweep of a pair): taken out as it is.
+        Some((g, known)) => {
+            for x in &mut s {
+                *x /= g;
+            }
+            let mut a = run(&s, engine)?;
+            a.scale_known = known;
+            (a, g)
+        }
+        None => scale_down(&mut s, chain, which, |s, e| run(s, e), engine)?,
+    };
+    Ok(with_gain_warning(a, path_gain, sweep, chain))
+}
+
+/// How much gain a sweep's analysis takes out before reading it as a passive line's.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum PathGain {
+    /// No amplifier in the path: the sweep is read as it is.
+    None,
+    /// An amplifier in the path, whose gain the sweep itself sets (its largest reflection, its open or short
+    /// end, or its joints: [`analyse_through`]).
+    FromSweep,
+    /// An amplifier in the path whose round-trip amplitude gain (linear) is known from elsewhere (the other
+    /// sweep of a pair, `run::pair_gain`), and whether that sets the reflections' size.
+    Known { gain: f64, scale_known: bool },
+}
+
+impl PathGain {
+    /// [`PathGain::FromSweep`] when `amplified`, else [`PathGain::None`].
+    pub fn found(amplified: bool) -> PathGain {
+        if amplified {
+            PathGain::FromSweep
+        } else {
+            PathGain::None
+        }
     }
+}
+
+/// The gain in a sweep's path taken out of `s` by the sweep alone, `run` analysing the scaled sweep: the
+/// analysis of what is left and the gain (linear) taken out.
+fn scale_down(
+    s: &mut [Complex64],
+    chain: &ChainView,
+    which: Which,
+    run: impl Fn(&[Complex64], &mut TraceEngine) -> Result<SweepAnalysis, CompareError>,
+    engine: &mut TraceEngine,
+) -> Result<(SweepAnalysis, f64), CompareError> {
     // Gain in the path (an amplifier in front of the line): a passive line reflects at most all, so the
     // sweep is scaled down until its largest reflection reads 1. The gain found is a lower bound of the
     // amplifier's: reflections read no smaller than they are, and costs read from them are upper bounds.
     let mut path_gain = s.iter().map(|g| g.norm()).fold(0.0, f64::max).max(1e-300);
-    for g in &mut s {
+    for g in s.iter_mut() {
         *g /= path_gain;
     }
-    let mut a = run(&s, engine)?;
+    let mut a = run(s, engine)?;
     // What sets the scale: an open or short end that the line file gives, when its echo stands clear of the
     // compensation's cap (scaled down further until it reads all); else the joints (until their typical
     // echo reads as a joint's); else nothing. The largest reflection is the end's only on a line that loses
@@ -141,13 +212,24 @@ pub fn analyse_through(
         },
     };
     if extra > 1.0 {
-        for g in &mut s {
+        for g in s.iter_mut() {
             *g /= extra;
         }
         path_gain *= extra;
-        a = run(&s, engine)?;
+        a = run(s, engine)?;
     }
     a.scale_known = known;
+    Ok((a, path_gain))
+}
+
+/// Analysis `a` of `sweep` with `path_gain` (linear) taken out: the gain recorded and the `gain-in-path`
+/// warning added.
+fn with_gain_warning(
+    mut a: SweepAnalysis,
+    path_gain: f64,
+    sweep: &Sweep,
+    chain: &ChainView,
+) -> SweepAnalysis {
     a.path_gain_db = Some(db(path_gain));
     a.warnings.push(Warning::new(
         "gain-in-path",
@@ -161,13 +243,14 @@ pub fn analyse_through(
                 "the line file says so: gain_in_path = true"
             } else {
                 "a sweep of it returns more power than it was sent, at some frequency or over the band, or \
-                 every joint of the line file both sweeps show reflects as no passive joint does"
+                 every joint of the line file both sweeps show (all but one of three or more) reflects as no \
+                 passive joint does"
             },
             db(path_gain)
         ),
         "give the amplifier's gain and match in its own sweep, or sweep the passive line without it",
     ));
-    Ok(a)
+    a
 }
 
 /// Typical reflection of a good joint of the line, for setting the scale of a sweep taken through gain:
@@ -207,14 +290,20 @@ pub fn joint_level(a: &SweepAnalysis, chain: &ChainView, which: Which) -> Option
 }
 
 /// The weakest of the line file's joints as sweep `a` (analysed on `chain` in state `which`) shows them
-/// (as [`joint_level`] picks them), when it shows at least [`MIN_SCALE_JOINTS`]; `None` on a line of
-/// unknown construction or with fewer joints seen.
-pub fn weakest_joint(a: &SweepAnalysis, chain: &ChainView, which: Which) -> Option<f64> {
+/// (as [`joint_level`] picks them), when it shows at least [`MIN_SCALE_JOINTS`]; with more than that, the
+/// weakest but one (two joints within a resolution cell of each other, about a pad's step of the
+/// compensation, may read one another's echo, one of them low). `None` on a line of unknown construction
+/// or with fewer joints seen.
+pub fn joint_floor(a: &SweepAnalysis, chain: &ChainView, which: Which) -> Option<f64> {
     if !chain.as_built {
         return None;
     }
-    let (levels, _) = joint_levels(a, chain, which);
-    (levels.len() >= MIN_SCALE_JOINTS).then(|| levels.iter().copied().fold(f64::INFINITY, f64::min))
+    let (mut levels, _) = joint_levels(a, chain, which);
+    if levels.len() < MIN_SCALE_JOINTS {
+        return None;
+    }
+    levels.sort_by(f64::total_cmp);
+    Some(levels[usize::from(levels.len() > MIN_SCALE_JOINTS)])
 }
 
 /// For each connector of the line file clear of the reference plane and of the visible end by more than a
@@ -225,35 +314,49 @@ fn joint_levels<'a>(
     chain: &'a ChainView,
     which: Which,
 ) -> (Vec<f64>, impl Fn(f64) -> bool + 'a) {
-    use super::chain::SegmentKind;
-    let end = chain.visible_end_m();
-    let f_top = a.freqs.last().copied().unwrap_or(0.0);
-    // Clear of the reference plane and the visible end by a cell, and not behind so much loss that the
-    // compensation stopped at its cap (such an echo reads low by what it left undone).
-    let clear = move |x: f64| {
-        let cell = a.resolution_s * super::place::speed_at(chain, x, which);
-        x >= 1.5 * cell
-            && x <= end - cell
-            && super::difference::cap_shortfall_db(chain, x, f_top, which) <= 0.0
-    };
-    let levels: Vec<f64> = chain
+    let levels = joints(chain)
+        .filter_map(|x| joint_echo(a, chain, which, x))
+        .map(|e| e.magnitude)
+        .collect();
+    (levels, move |x| joint_clear(a, chain, which, x))
+}
+
+/// The middles of the line file's connectors, from the port on.
+fn joints(chain: &ChainView) -> impl Iterator<Item = f64> + '_ {
+    chain
         .segments
         .iter()
-        .filter(|s| s.kind == SegmentKind::Connector)
-        .filter_map(|s| {
-            let x = 0.5 * (s.start_m + s.end_m);
-            if !clear(x) {
-                return None;
-            }
-            let cell = a.resolution_s * super::place::speed_at(chain, x, which);
-            a.events
-                .iter()
-                .filter(|e| (chain.position_of(e.delay_s, which, None) - x).abs() <= cell)
-                .map(|e| e.magnitude)
-                .fold(None, |m: Option<f64>, v| Some(m.map_or(v, |m| m.max(v))))
-        })
-        .collect();
-    (levels, clear)
+        .filter(|s| s.kind == super::chain::SegmentKind::Connector)
+        .map(|s| 0.5 * (s.start_m + s.end_m))
+}
+
+/// Whether place `x` (as-built m) is clear of the reference plane and the visible end by a resolution cell
+/// of sweep `a` (`which` state), and not behind so much loss that the compensation stopped at its cap
+/// (such an echo reads low by what it left undone).
+fn joint_clear(a: &SweepAnalysis, chain: &ChainView, which: Which, x: f64) -> bool {
+    let cell = a.resolution_s * super::place::speed_at(chain, x, which);
+    let f_top = a.freqs.last().copied().unwrap_or(0.0);
+    x >= 1.5 * cell
+        && x <= chain.visible_end_m() - cell
+        && super::difference::cap_shortfall_db(chain, x, f_top, which) <= 0.0
+}
+
+/// The strongest echo of sweep `a` (`which` state) within a resolution cell of the joint at `x`, when the
+/// place is clear ([`joint_clear`]).
+fn joint_echo<'a>(
+    a: &'a SweepAnalysis,
+    chain: &ChainView,
+    which: Which,
+    x: f64,
+) -> Option<&'a super::detect::Peak> {
+    if !joint_clear(a, chain, which, x) {
+        return None;
+    }
+    let cell = a.resolution_s * super::place::speed_at(chain, x, which);
+    a.events
+        .iter()
+        .filter(|e| (chain.position_of(e.delay_s, which, None) - x).abs() <= cell)
+        .max_by(|p, q| p.magnitude.total_cmp(&q.magnitude))
 }
 
 /// The strength of the open or short that the line file says ends the visible line, as sweep `a` (analysed
@@ -365,4 +468,27 @@ pub fn band_centre(freqs: &[f64]) -> f64 {
 /// An amplitude in dB, 20 log10 |a| (floored at -400 dB).
 pub fn db(a: f64) -> f64 {
     20.0 * a.max(1e-20).log10()
+}
+
+/// For each connector of the line file that both sweeps show clear of the reference plane, the visible end
+/// and the compensation's cap (as [`joint_level`] picks them), its place and its echo's strength in each:
+/// (as-built position m, baseline magnitude, current magnitude, the weaker echo's signal-to-noise ratio).
+pub fn joint_level_pairs(
+    b: &SweepAnalysis,
+    c: &SweepAnalysis,
+    chain: &ChainView,
+) -> Vec<(f64, f64, f64, f64)> {
+    if !chain.as_built {
+        return Vec::new();
+    }
+    joints(chain)
+        .filter_map(|x| {
+            let eb = joint_echo(b, chain, Which::Baseline, x)?;
+            let ec = joint_echo(c, chain, Which::Current, x)?;
+            let snr = b
+                .snr(eb.magnitude, eb.delay_s)
+                .min(c.snr(ec.magnitude, ec.delay_s));
+            Some((x, eb.magnitude, ec.magnitude, snr))
+        })
+        .collect()
 }
