@@ -202,9 +202,9 @@ pub const LIFTED_JOINT_REFLECTION: f64 = super::difference::COMPONENT_REFLECTION
 
 /// Whether sweep `a` (analysed as a passive line's on `chain` in state `which`) shows every joint of the
 /// line file it sees (all but one where it sees more than two: [`super::sweep::joint_floor`]), at least
-/// [`super::sweep::MIN_SCALE_JOINTS`] of them, at [`LIFTED_JOINT_REFLECTION`] or more. When both sweeps of a pair do, an amplifier lies in the path, though neither returns more power
-/// than a passive line may (a well-matched line). One bad joint, or a few, leave the best ones where they
-/// were.
+/// [`super::sweep::MIN_SCALE_JOINTS`] of them, at [`LIFTED_JOINT_REFLECTION`] or more. When both sweeps
+/// of a pair do, an amplifier lies in the path, though neither returns more power than a passive line may
+/// (a well-matched line). One bad joint, or a few, leave the best ones where they were.
 fn joints_lifted(a: &SweepAnalysis, chain: &ChainView, which: Which) -> bool {
     super::sweep::joint_floor(a, chain, which).is_some_and(|m| m >= LIFTED_JOINT_REFLECTION)
 }
@@ -234,6 +234,7 @@ pub const PAIR_GAIN_AGREEMENT_DB: f64 = super::difference::COMPONENT_CHANGE_DB;
 /// [`PAIR_GAIN_AGREEMENT_DB`] of their median change, or the sweeps' own scales leave the joints within
 /// [`PAIR_SCALE_DISAGREEMENT_DB`] of each other (the alignment's level fit takes that).
 fn pair_gain(b: &SweepAnalysis, c: &SweepAnalysis, chain: &ChainView) -> Option<f64> {
+    // Both sweeps read through gain; the current's own gain is the one corrected.
     b.path_gain_db?;
     let gc = c.path_gain_db?;
     let mut change: Vec<f64> = super::sweep::joint_level_pairs(b, c, chain)

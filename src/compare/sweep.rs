@@ -139,12 +139,12 @@ pub fn analyse_through(
     let run = |s: &[Complex64], engine: &mut TraceEngine| {
         SweepAnalysis::again(f, s, &cfg.window, t_end, chain, which, engine, prior)
     };
-    let amplified = match gain {
+    let known = match gain {
         PathGain::None => return run(&s, engine),
         PathGain::FromSweep => None,
         PathGain::Known { gain, scale_known } => Some((gain.max(1e-300), scale_known)),
     };
-    let (a, path_gain) = match amplified {
+    let (a, path_gain) = match known {
         // The gain known from elsewhere (the other sweep of a pair): taken out as it is.
         Some((g, known)) => {
             for x in &mut s {
