@@ -227,8 +227,9 @@ pub const PAIR_GAIN_AGREEMENT_DB: f64 = super::difference::COMPONENT_CHANGE_DB;
 /// The round-trip gain (linear) in the current sweep's path, set by the baseline's, where the two sweeps'
 /// own scales disagree: the baseline's gain times the median change, as swept, of the line file's joints
 /// that both sweeps show clear of the ends and the compensation's cap, [`PAIR_GAIN_JOINT_SNR`] over the
-/// noise in each ([`super::sweep::joint_level_pairs`]), at least [`super::sweep::MIN_SCALE_JOINTS`] of
-/// them. A healthy joint keeps its reflection through a cooldown (the compensation takes the cables' loss
+/// noise in each ([`super::sweep::joint_level_pairs`]), at least three of them
+/// ([`super::align::MIN_LEVEL_LANDMARKS`], as for a level the alignment fits: a majority can outvote one).
+/// A healthy joint keeps its reflection through a cooldown (the compensation takes the cables' loss
 /// change out), so what they share is the gain's change, and a changed joint or two are outvoted. `None`
 /// where a sweep was read without gain, too few joints show, no more than half of them lie within
 /// [`PAIR_GAIN_AGREEMENT_DB`] of their median change, or the sweeps' own scales leave the joints within
@@ -242,7 +243,7 @@ fn pair_gain(b: &SweepAnalysis, c: &SweepAnalysis, chain: &ChainView) -> Option<
         .filter(|p| p.3 >= PAIR_GAIN_JOINT_SNR)
         .map(|(_, mb, mc, _)| db(mc / mb.max(1e-300)))
         .collect();
-    if change.len() < super::sweep::MIN_SCALE_JOINTS {
+    if change.len() < super::align::MIN_LEVEL_LANDMARKS {
         return None;
     }
     let scaled = crate::numeric::median(&mut change);
