@@ -160,7 +160,6 @@ fn show(case: Case, seed: u64, dump: Option<&std::path::Path>) {
     emit(&o);
 }
 
-/// Write the nominal line file and both sweeps into the new folder `dir` (never over an existing one).
 fn replay(e: &Evaluated) -> String {
     format!("`{}:{}`", e.scenario.case.name(), e.scenario.seed)
 }

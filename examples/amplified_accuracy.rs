@@ -180,9 +180,8 @@ fn main() {
          matched well enough that even 40 dB of gain returns less, the power does not tell that an amplifier is \
          there; those lines are counted apart (the gain hidden), and the amplifier shows there only where both \
          sweeps show every joint of the line file they see (all but one of three or more), two at least, at \
-         0.1 or more, or where the line \
-         file declares it (`gain_in_path = true`, docs/line-file.md): the last column runs the hidden-gain \
-         lines again with that declaration.\n\n"
+         0.1 or more, or where the line file declares it (`gain_in_path = true`, docs/line-file.md): the last \
+         column runs the hidden-gain lines again with that declaration.\n\n"
     ));
     out.push_str(
         "| gain | lines whose sweeps return more power than a passive line (3 dB) | false alarms among them, states given | \
