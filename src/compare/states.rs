@@ -959,19 +959,20 @@ mod tests {
         // Out-of-sample seed 43000121: copper at room temperature and cupronickel at 50 K; the model says
         // cold loses 98 % of warm (x 1.86 is past 1), the far echo lost 98.7 % +/- 0.036 %: a cooldown
         // allows it (0.53-1) as one state does, so the signature no longer outvotes the electrical length.
+        let cooldown_misfit = |s: &[Signature]| {
+            s[0].misfit
+                .iter()
+                .find(|m| m.0 == Hypothesis::WarmCold)
+                .unwrap()
+                .1
+        };
         let mut s = vec![loss_ratio(0.987, 0.00036)];
         check_loss_ratio(&mut s, 0.98);
-        let misfit = |h: Hypothesis| s[0].misfit.iter().find(|m| m.0 == h).unwrap().1;
-        assert_eq!(misfit(Hypothesis::WarmCold), 0.0);
+        assert_eq!(cooldown_misfit(&s), 0.0);
         // Never past 1: a cooldown that raised the loss by 2 % is no cooldown.
         let mut s = vec![loss_ratio(1.02, 0.001)];
         check_loss_ratio(&mut s, 0.98);
-        let w2c = s[0]
-            .misfit
-            .iter()
-            .find(|m| m.0 == Hypothesis::WarmCold)
-            .unwrap()
-            .1;
+        let w2c = cooldown_misfit(&s);
         assert!((w2c - 20.0).abs() < 1e-9, "{w2c}");
         // A copper line's model (cold loses 30 % of warm; x 1.86 = 0.56) keeps the materials' 0.92.
         let mut s = vec![loss_ratio(0.987, 0.00036)];
