@@ -189,6 +189,20 @@ fn gate_agrees_with_plain_direct_sums() {
                 );
             }
         }
+        // Every few bins over the whole sweep, as a local reflection reads a long one: the same values, and
+        // no bin past the sweep's last.
+        for (first, stride, count) in [(3usize, 7usize, 30usize), (0, 1, 5), (20, 13, 1000)] {
+            let part = source.gate_every(&plan, first, stride, count).unwrap();
+            let expect: Vec<usize> = (first..x.len()).step_by(stride).take(count).collect();
+            assert_eq!(part.len(), expect.len(), "{first}, {stride}, {count}");
+            for (&k, v) in expect.iter().zip(&part) {
+                assert!(
+                    (v - fast[k]).norm() <= 1e-12 * scale,
+                    "bin {k} (every {stride} from {first}): {v} vs {}",
+                    fast[k]
+                );
+            }
+        }
     }
 }
 

@@ -8,7 +8,7 @@
 
 use super::chain::{ghz_basis, ChainView, Which};
 use super::detect::{find_events, noise_sigma, LobeShape, Peak};
-use super::lumped::{fit_all, ModelFit};
+use super::lumped::{fit_all, ModelFit, MAX_FIT_POINTS};
 use super::CompareError;
 use crate::transform::{
     bandpass::BandPassSpectrum, czt::phasors, gate::GateSource, uniform_grid, GatePlan, Grid,
@@ -41,6 +41,40 @@ pub const FIT_BAND_EDGE: f64 = 0.08;
 pub fn fit_band(n: usize) -> std::ops::Range<usize> {
     let skip = ((n as f64) * FIT_BAND_EDGE) as usize;
     skip..n.saturating_sub(skip).max(skip + 1).min(n)
+}
+
+/// Most frequencies a local reflection ([`SweepAnalysis::local_reflection`]) is read at: twice what a
+/// lumped fit uses ([`MAX_FIT_POINTS`]). The gated reflection of one echo is smooth over many bins (a gate
+/// of 2 [`GATE_HALF_WIDTH_CELLS`] resolution cells spans a fraction of the record, so its spectrum varies
+/// over several bins' worth of the inverse), and what is read from it, a fit, a mean level, a loss law, is
+/// read as well from a few hundred of its bins as from all of a long sweep's.
+pub const LOCAL_REFLECTION_POINTS: usize = 2 * MAX_FIT_POINTS;
+
+/// The bins of a sweep of `n` points a local reflection is read at: the inner band ([`fit_band`]) every
+/// `stride` bins from its first, at most [`LOCAL_REFLECTION_POINTS`] of them.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct LocalBins {
+    pub first: usize,
+    pub stride: usize,
+    pub count: usize,
+}
+
+impl LocalBins {
+    /// The sweep's bin of the `k`-th value.
+    pub fn bin(&self, k: usize) -> usize {
+        self.first + k * self.stride
+    }
+}
+
+/// [`LocalBins`] for a sweep of `n` points.
+pub fn local_bins(n: usize) -> LocalBins {
+    let band = fit_band(n);
+    let stride = band.len().div_ceil(LOCAL_REFLECTION_POINTS).max(1);
+    LocalBins {
+        first: band.start,
+        stride,
+        count: band.len().div_ceil(stride),
+    }
 }
 
 /// The echo gates' plan from `start` to `stop` (round-trip s): the default shape, [`ECHO_GATE_PADDING`].
@@ -433,8 +467,9 @@ impl SweepAnalysis {
     }
 
     /// The local reflection of an event at delay `d` (as-built position `x`), versus frequency, on the inner
-    /// part of the band ([`fit_band`]): gated, moved to the event's plane and compensated for `chain`'s
-    /// modelled loss and dispersion in sweep `which`. Returns (frequencies, Gamma_loc).
+    /// part of the band ([`fit_band`]) read every few bins ([`local_bins`]): gated, moved to the event's
+    /// plane and compensated for `chain`'s modelled loss and dispersion in sweep `which`. Returns
+    /// (frequencies, Gamma_loc).
     pub fn local_reflection(
         &self,
         d: f64,
@@ -447,8 +482,8 @@ impl SweepAnalysis {
     }
 
     /// The first `points` values of [`Self::local_reflection`] (the bottom of its band; all of it for
-    /// `usize::MAX`). Fewer points than the band holds are gated by direct sums: for a few points far less
-    /// work than the transforms, and the same values to rounding.
+    /// `usize::MAX`). Every value is gated by a direct sum over the gate's samples at its own bin: the same
+    /// values as the transforms give, to rounding, for the bins read only.
     pub fn local_reflection_low(
         &self,
         d: f64,
@@ -465,36 +500,25 @@ impl SweepAnalysis {
         let start = (d - half).clamp(0.0, (self.alias_free_s - width).max(0.0));
         let stop = (start + width).min(self.alias_free_s);
         let n = self.freqs.len();
-        let band = fit_band(n);
-        let (range, gated) = if points >= band.len() {
-            (
-                band.clone(),
-                self.echo_gate(start, stop, engine)?[band].to_vec(),
-            )
-        } else {
-            let r = band.start..band.start + points;
-            let g = self
-                .gate_source(engine)?
-                .gate_bins(&echo_gate_plan(start, stop), r.clone())
-                .map_err(CompareError::Transform)?;
-            (r, g)
-        };
-        let f: Vec<f64> = self.freqs[range.clone()].to_vec();
+        let bins = local_bins(n);
+        let count = bins.count.min(points);
+        let gated = self
+            .gate_source(engine)?
+            .gate_every(&echo_gate_plan(start, stop), bins.first, bins.stride, count)
+            .map_err(CompareError::Transform)?;
+        let f: Vec<f64> = (0..count).map(|k| self.freqs[bins.bin(k)]).collect();
         let comp = if chain.compensates() {
-            chain.compensation_over(
-                &chain.loss_model_to(x, which),
-                &self.ghz[range.clone()],
-                MAX_COMPENSATION,
-            )
+            let ghz: Vec<(f64, f64)> = (0..count).map(|k| self.ghz[bins.bin(k)]).collect();
+            chain.compensation_over(&chain.loss_model_to(x, which), &ghz, MAX_COMPENSATION)
         } else {
             vec![Complex64::new(1.0, 0.0); f.len()]
         };
-        // The move to the event's plane, e^{+j 2 pi f d}, on the uniform grid.
+        // The move to the event's plane, e^{+j 2 pi f d}, on the uniform grid read every `stride` bins.
         let df = (self.freqs[n - 1] - self.freqs[0]) / (n - 1).max(1) as f64;
         let g: Vec<Complex64> = gated
             .iter()
             .zip(&comp)
-            .zip(phasors(f[0], df, d))
+            .zip(phasors(f[0], df * bins.stride as f64, d))
             .map(|((v, c), p)| v * c * p)
             .collect();
         Ok((f, g))

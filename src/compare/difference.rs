@@ -1351,12 +1351,12 @@ fn echo_spectrum(inp: &Inputs, ch: &Change, engine: &mut TraceEngine) -> Option<
     let (f, g) = c
         .local_reflection(ch.d_c, ch.x, inp.chain, Which::Current, engine)
         .ok()?;
-    let skip = super::analysis::fit_band(c.freqs.len()).start;
+    let bins = super::analysis::local_bins(c.freqs.len());
     Some(
         f.iter()
             .zip(&g)
             .enumerate()
-            .map(|(k, (&fk, gk))| (fk, c.window_w[skip + k] * gk.norm()))
+            .map(|(k, (&fk, gk))| (fk, c.window_w[bins.bin(k)] * gk.norm()))
             .collect(),
     )
 }

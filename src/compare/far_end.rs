@@ -9,7 +9,7 @@
 //! own plane (see `analysis`), so an open reads near +1 and a short near -1 at the bottom of the band, less
 //! the line's loss.
 
-use super::analysis::{fit_band, SweepAnalysis, GATE_HALF_WIDTH_CELLS};
+use super::analysis::{fit_band, local_bins, SweepAnalysis, GATE_HALF_WIDTH_CELLS};
 use super::chain::{ChainView, LossModel, Which};
 use super::CompareError;
 use crate::line::Load;
@@ -150,7 +150,7 @@ pub fn find(
     // Several candidates are ranked on the bottom of the band alone, gated there by direct sums; only the
     // one chosen is gated whole.
     let chosen = if candidates.len() > 1 {
-        let points = n_bottom(fit_band(a.freqs.len()).len());
+        let points = n_bottom(local_bins(a.freqs.len()).count);
         let mut best: Option<(f64, usize)> = None;
         for &i in &candidates {
             let e = a.events[i];

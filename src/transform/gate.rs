@@ -188,34 +188,90 @@ impl GateSource {
         plan: &GatePlan,
         bins: std::ops::Range<usize>,
     ) -> Result<Vec<Complex64>, TransformError> {
+        let bins = bins.start.min(self.points)..bins.end.min(self.points);
+        self.gate_every(plan, bins.start, 1, bins.len())
+    }
+
+    /// [`Self::gate`]'s values at the `count` bins `first`, `first + stride`, ... (those below the sweep's
+    /// point count), by direct sums over the gate's samples, as [`Self::gate_bins`]: a gated sweep read on
+    /// a coarser grid than it was measured on costs the gate's samples times the bins read, where the
+    /// transforms cost the padded record's length times its logarithm, twice.
+    pub fn gate_every(
+        &self,
+        plan: &GatePlan,
+        first: usize,
+        stride: usize,
+        count: usize,
+    ) -> Result<Vec<Complex64>, TransformError> {
         let (weights, _) = self.samples(plan)?;
         let len = self.time.len();
-        let bins = bins.start.min(self.points)..bins.end.min(self.points);
-        let at = |time: &dyn Fn(usize) -> Complex64| -> Vec<Complex64> {
-            let mut out = vec![Complex64::new(0.0, 0.0); bins.len()];
-            for &(m, w) in &weights {
-                let x = time(m) * w;
-                // e^{-j 2 pi k m / len} from k = bins.start on, one rotation per bin.
-                let step = cis_cycles(-(m as f64) / len as f64);
-                let mut ph = cis_cycles(-(((bins.start * m) % len) as f64) / len as f64);
-                for o in out.iter_mut() {
-                    *o += x * ph;
-                    ph *= step;
-                }
-            }
-            let s = 1.0 / len as f64;
-            out.iter_mut().for_each(|o| *o *= s);
-            out
+        let stride = stride.max(1);
+        let count = if first >= self.points {
+            0
+        } else {
+            count.min((self.points - 1 - first) / stride + 1)
         };
-        let mut gated = at(&|m| self.time[m]);
-        if plan.correct_edges {
-            let unit_gated = at(&|m| self.unit_time(plan, m));
-            let centre = 0.5 * (plan.start_s + plan.stop_s);
-            for ((g, k), ug) in gated.iter_mut().zip(bins.clone()).zip(&unit_gated) {
-                *g *= cis_cycles(-(k as f64) * self.step_hz * centre) / ug;
+        // Each bin's value is a polynomial in its rotation z_k = e^{-j 2 pi k / len} over the gate's
+        // consecutive samples m = m0, m0 + 1, ...: sum_i x_{m0+i} z_k^i, times z_k^{m0}. Horner's rule from
+        // the last sample down, every bin at once (a multiply-add per bin and sample, bins side by side in
+        // separate real and imaginary arrays so that the pass vectorises), the sweep's samples and the unit
+        // reflection's together.
+        let (m0, m1) = match (weights.first(), weights.last()) {
+            (Some(a), Some(b)) => (a.0, b.0),
+            _ => return Ok(vec![Complex64::new(0.0, 0.0); count]),
+        };
+        let bin = |i: usize| first + i * stride;
+        let z: Vec<Complex64> = (0..count)
+            .map(|i| cis_cycles(-((bin(i) % len) as f64) / len as f64))
+            .collect();
+        let (zr, zi): (Vec<f64>, Vec<f64>) = z.iter().map(|v| (v.re, v.im)).unzip();
+        let edges = plan.correct_edges;
+        let mut w_at = vec![0.0; m1 - m0 + 1];
+        for &(m, w) in &weights {
+            w_at[m - m0] = w;
+        }
+        let (mut ar, mut ai) = (vec![0.0; count], vec![0.0; count]);
+        let (mut ur, mut ui) = (vec![0.0; count], vec![0.0; count]);
+        for m in (m0..=m1).rev() {
+            let w = w_at[m - m0];
+            let x = self.time[m] * w;
+            let u = if edges {
+                self.unit_time(plan, m) * w
+            } else {
+                Complex64::new(0.0, 0.0)
+            };
+            horner_step(&mut ar, &mut ai, &zr, &zi, x);
+            if edges {
+                horner_step(&mut ur, &mut ui, &zr, &zi, u);
             }
         }
-        Ok(gated)
+        let s = 1.0 / len as f64;
+        let centre = 0.5 * (plan.start_s + plan.stop_s);
+        Ok((0..count)
+            .map(|i| {
+                let k = bin(i);
+                // z_k^{m0} exactly, and the normalisation.
+                let lead = cis_cycles(-(((k * m0) % len) as f64) / len as f64) * s;
+                let g = Complex64::new(ar[i], ai[i]) * lead;
+                if edges {
+                    let ug = Complex64::new(ur[i], ui[i]) * lead;
+                    g * cis_cycles(-(k as f64) * self.step_hz * centre) / ug
+                } else {
+                    g
+                }
+            })
+            .collect())
+    }
+}
+
+/// One step of Horner's rule at every bin: a_i <- a_i z_i + x, the complex numbers in separate real and
+/// imaginary arrays.
+#[inline]
+fn horner_step(ar: &mut [f64], ai: &mut [f64], zr: &[f64], zi: &[f64], x: Complex64) {
+    for (((r, i), &a), &b) in ar.iter_mut().zip(ai.iter_mut()).zip(zr).zip(zi) {
+        let (pr, pi) = (*r * a - *i * b, *r * b + *i * a);
+        *r = pr + x.re;
+        *i = pi + x.im;
     }
 }
 
