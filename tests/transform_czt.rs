@@ -70,6 +70,38 @@ fn chirp_z_equals_direct_sum_over_random_sizes() {
 }
 
 #[test]
+fn direct_sum_equals_the_naive_sum() {
+    // The lanes and anchors of `direct_sum` (every length from 1 to 300, so every remainder of the lanes
+    // and of the 64-point blocks, and a long sweep) against e^{+j 2 pi (f0 + k df) t} summed point by point.
+    use coldtrace::transform::czt::direct_sum;
+    let mut rng = SplitMix64(0x5EED_0004);
+    for n in (1..300).chain([10001]) {
+        let x: Vec<Complex64> = (0..n).map(|_| rng.complex()).collect();
+        let (f0, df, t) = (
+            rng.uniform() * 5e9,
+            1e6 + rng.uniform() * 5e7,
+            rng.uniform() * 2e-7,
+        );
+        let want: Complex64 = x
+            .iter()
+            .enumerate()
+            .map(|(k, v)| {
+                v * Complex64::from_polar(
+                    1.0,
+                    2.0 * std::f64::consts::PI * ((f0 + k as f64 * df) * t).fract(),
+                )
+            })
+            .sum();
+        let scale: f64 = x.iter().map(|v| v.norm()).sum();
+        let got = direct_sum(&x, f0, df, t);
+        assert!(
+            (got - want).norm() / scale < 1e-12,
+            "n {n}: {got} vs {want}"
+        );
+    }
+}
+
+#[test]
 fn chirp_z_large_sweep_equals_direct_sum() {
     // A 10001-point sweep zoomed to 4096 bins, checked on every 64th output.
     let mut rng = SplitMix64(0x5EED_0002);

@@ -55,54 +55,23 @@ impl BandPassSpectrum {
     /// `[g, g', g'']` for `g(t) = h(t) e^{-j 2 pi f_c t}` (so |g| = |h|), in one O(N) pass over the
     /// [`super::czt::phasors`]. Sub-bin peak refinement steps on these (Newton on |h|^2).
     pub fn eval_derivatives(&self, t: f64) -> [Complex64; 3] {
-        use super::czt::DIRECT_ANCHOR;
-        /// Independent recurrences carried side by side (a single one waits on each product's latency).
-        const LANES: usize = 4;
+        use super::czt::{turned, TURN_LANES};
         let n = self.weighted.len();
         let fc = self.start_hz + 0.5 * (n.saturating_sub(1)) as f64 * self.step_hz;
         let two_pi = 2.0 * std::f64::consts::PI;
         // With z_k = x_k e^{j 2 pi f_k t} and w_k = 2 pi (f_k - f_c): g = sum z, g' = j sum w z and
         // g'' = -sum w^2 z (d/dt multiplies by j w each time), before the carrier is taken out.
         let (w0, dw) = (two_pi * (self.start_hz - fc), two_pi * self.step_hz);
-        let rot = cis_cycles(self.step_hz * t);
-        let mut rot_lanes = Complex64::new(1.0, 0.0);
-        for _ in 0..LANES {
-            rot_lanes *= rot;
-        }
         let zero = Complex64::new(0.0, 0.0);
-        let (mut s0, mut s1, mut s2) = ([zero; LANES], [zero; LANES], [zero; LANES]);
-        for (b, block) in self.weighted.chunks(DIRECT_ANCHOR).enumerate() {
-            let k0 = b * DIRECT_ANCHOR;
-            // The block's first phasor exactly (as `phasors` re-anchors), the lanes' from it.
-            let mut ph = [cis_cycles((self.start_hz + k0 as f64 * self.step_hz) * t); LANES];
-            for r in 1..LANES {
-                ph[r] = ph[r - 1] * rot;
-            }
-            let lanes = block.chunks_exact(LANES);
-            let rest = lanes.remainder();
-            for (j, xs) in lanes.enumerate() {
-                for r in 0..LANES {
-                    let k = k0 + j * LANES + r;
-                    let w = w0 + k as f64 * dw;
-                    let z = xs[r] * ph[r];
-                    let wz = z * w;
-                    s0[r] += z;
-                    s1[r] += wz;
-                    s2[r] += wz * w;
-                    ph[r] *= rot_lanes;
-                }
-            }
-            let k_rest = k0 + block.len() - rest.len();
-            for (r, x) in rest.iter().enumerate() {
-                let w = w0 + (k_rest + r) as f64 * dw;
-                let z = x * ph[r];
-                let wz = z * w;
-                s0[r] += z;
-                s1[r] += wz;
-                s2[r] += wz * w;
-            }
-        }
-        let sum = |s: [Complex64; LANES]| (s[0] + s[1]) + (s[2] + s[3]);
+        let (mut s0, mut s1, mut s2) = ([zero; TURN_LANES], [zero; TURN_LANES], [zero; TURN_LANES]);
+        turned(&self.weighted, self.start_hz, self.step_hz, t, |r, k, z| {
+            let w = w0 + k as f64 * dw;
+            let wz = z * w;
+            s0[r] += z;
+            s1[r] += wz;
+            s2[r] += wz * w;
+        });
+        let sum = |s: [Complex64; TURN_LANES]| (s[0] + s[1]) + (s[2] + s[3]);
         let (a, b, c) = (sum(s0), sum(s1), sum(s2));
         let carrier = cis_cycles(-fc * t);
         [

@@ -37,9 +37,54 @@ pub fn phasors(f0: f64, df: f64, t: f64) -> impl Iterator<Item = Complex64> {
     })
 }
 
-/// The sum `sum_k x_k e^{+j 2 pi (f0 + k df) t}` at one time `t`, in O(N), with the [`phasors`].
+/// Independent phasor recurrences [`turned`] carries side by side: one alone waits on each product's
+/// latency.
+pub const TURN_LANES: usize = 4;
+
+/// Calls `visit(lane, k, x_k e^{+j 2 pi (f0 + k df) t})` for every k, in order within each lane: the
+/// phasors as [`phasors`] makes them (anchored exactly at every [`DIRECT_ANCHOR`]-th point), carried in
+/// [`TURN_LANES`] recurrences side by side, each stepping by e^{+j 2 pi TURN_LANES df t}; lane `k %
+/// TURN_LANES` takes point k. The same phasors to a few roundings.
+#[inline(always)]
+pub fn turned(
+    x: &[Complex64],
+    f0: f64,
+    df: f64,
+    t: f64,
+    mut visit: impl FnMut(usize, usize, Complex64),
+) {
+    const { assert!(DIRECT_ANCHOR % TURN_LANES == 0) };
+    let rot = cis_cycles(df * t);
+    let mut rot_lanes = Complex64::new(1.0, 0.0);
+    for _ in 0..TURN_LANES {
+        rot_lanes *= rot;
+    }
+    for (b, block) in x.chunks(DIRECT_ANCHOR).enumerate() {
+        let k0 = b * DIRECT_ANCHOR;
+        let mut ph = [cis_cycles((f0 + k0 as f64 * df) * t); TURN_LANES];
+        for r in 1..TURN_LANES {
+            ph[r] = ph[r - 1] * rot;
+        }
+        let lanes = block.chunks_exact(TURN_LANES);
+        let rest = lanes.remainder();
+        for (j, xs) in lanes.enumerate() {
+            for r in 0..TURN_LANES {
+                visit(r, k0 + j * TURN_LANES + r, xs[r] * ph[r]);
+                ph[r] *= rot_lanes;
+            }
+        }
+        let k_rest = k0 + block.len() - rest.len();
+        for (r, xk) in rest.iter().enumerate() {
+            visit(r, k_rest + r, xk * ph[r]);
+        }
+    }
+}
+
+/// The sum `sum_k x_k e^{+j 2 pi (f0 + k df) t}` at one time `t`, in O(N), with the phasors of [`turned`].
 pub fn direct_sum(x: &[Complex64], f0: f64, df: f64, t: f64) -> Complex64 {
-    x.iter().zip(phasors(f0, df, t)).map(|(z, p)| z * p).sum()
+    let mut s = [Complex64::new(0.0, 0.0); TURN_LANES];
+    turned(x, f0, df, t, |r, _, z| s[r] += z);
+    (s[0] + s[1]) + (s[2] + s[3])
 }
 
 /// e^{+j 2 pi cycles}, with the phase reduced to [0, 1) cycles first.
