@@ -139,3 +139,22 @@ fn the_table_has_compares_columns_ranks_without_gaps_and_a_sentence_each() {
         .collect();
     assert!(along.windows(2).all(|w| w[0] <= w[1]), "{along:?}");
 }
+
+#[test]
+fn a_short_where_the_line_file_designs_an_open_is_never_its_echo() {
+    // The test chain ends in a designed open; a short a few millimetres before it reflects as strongly, at
+    // the same place to within the resolution. The nominal line's echo there is the open the file names,
+    // so the short is an anomaly, and a critical one (an open or a short cuts the line).
+    let dir = tempfile::tempdir().unwrap();
+    let shorted = sweep(dir.path(), "shorted.s1p", &["second cable@0.995m:short"]);
+    let v: serde_json::Value =
+        serde_json::from_str(&stdout(&locate(&shorted, &["--json"]))).unwrap();
+    let events = v["events"].as_array().unwrap();
+    let short = events
+        .iter()
+        .find(|e| e["kind"] == "short")
+        .unwrap_or_else(|| panic!("no short among {events:#?}"));
+    assert_eq!(short["expected"], false, "{short:#}");
+    assert_eq!(short["severity"], "critical", "{short:#}");
+    assert_eq!(short["rank"], 1, "{short:#}");
+}

@@ -3,7 +3,7 @@
 //! and reported), and run [`compare`](super::compare) or [`locate`](mod@super::locate).
 
 use super::chain::{ChainView, Which};
-use super::locate::{locate_in, mark_expected, rank_events};
+use super::locate::{expected_echoes, locate_in, mark_expected, rank_events};
 use super::report::{CompareReport, LocateReport, StateReport};
 use super::run::{compare_in, Detail};
 use super::severity::Severity;
@@ -560,7 +560,7 @@ pub fn locate_network(
         }
         match crate::line::simulate(l, &sim) {
             Ok(nominal_net) => {
-                let nominal = locate_in(
+                let nominal = expected_echoes(
                     Sweep {
                         name: "nominal",
                         network: &nominal_net,
@@ -568,10 +568,9 @@ pub fn locate_network(
                     },
                     &chain,
                     analysis,
-                    false,
                     &mut engine,
                 )?;
-                mark_expected(&mut report.events, &nominal.events, report.resolution_m);
+                mark_expected(&mut report.events, &nominal, report.resolution_m);
             }
             Err(e) => report.warnings.push(Warning::new(
                 "expected-echoes-unknown",

@@ -2,10 +2,10 @@
 //!
 //! With a line file, the echoes the line is built to give (its connectors' small mismatches, its designed
 //! open or short far end) are told apart from anomalies by locating the nominal line, simulated without
-//! faults over the same band and in the same state ([`mark_expected`]; the grid in `job::locate_network`);
-//! anomalies are ranked as `compare`
-//! ranks findings ([`rank_events`]).
+//! faults over the same band and in the same state ([`expected_echoes`], [`mark_expected`]; the grid in
+//! `job::locate_network`); anomalies are ranked as `compare` ranks findings ([`rank_events`]).
 
+use super::analysis::SweepAnalysis;
 use super::chain::{ChainView, Which};
 use super::explain::*;
 use super::place::{place, position_sigma, speed_at, where_text};
@@ -17,6 +17,7 @@ use super::sweep::{
     Sweep,
 };
 use super::CompareError;
+use crate::line::Load;
 use crate::transform::TraceEngine;
 
 /// List every discontinuity one sweep shows, explained (`locate`).
@@ -30,8 +31,8 @@ pub fn locate(
 
 /// [`locate`] on `engine`'s transform plans and window coefficients (one engine for a sweep's state check,
 /// its location and its nominal line's: the result does not depend on what the engine already holds).
-/// Without `evidence`, the events carry no evidence curves (the nominal line's, which only
-/// [`mark_expected`] reads).
+/// Without `evidence`, the events carry no evidence curves (for a caller that reads only their places,
+/// kinds and costs).
 pub fn locate_in(
     sweep: Sweep,
     chain: &ChainView,
@@ -40,38 +41,7 @@ pub fn locate_in(
     engine: &mut TraceEngine,
 ) -> Result<LocateReport, CompareError> {
     let f = &sweep.network.freqs_hz;
-    let chain = sized(chain, &[f]);
-    let amplified = chain.gain_in_path || shows_gain(&sweep)?;
-    let mut a = analyse_through(
-        &sweep,
-        &chain,
-        cfg,
-        Which::Current,
-        engine,
-        PathGain::found(amplified),
-        None,
-    )?;
-    // Positions in the line file's terms: its joints pinned where the sweep shows them.
-    let anchors = super::anchor::find(&chain, &a, Which::Current);
-    let chain = if anchors.is_empty() {
-        chain
-    } else {
-        let anchored = super::anchor::anchored(&chain, &anchors, Which::Current);
-        if super::anchor::worth_reanalysing(&anchors, a.resolution_s) {
-            // The anchors move delays, not losses: the pieces' compensations are the first analysis' (the
-            // same result as a fresh analysis, bit for bit; `SweepAnalysis::again`).
-            a = analyse_through(
-                &sweep,
-                &anchored,
-                cfg,
-                Which::Current,
-                engine,
-                PathGain::found(amplified),
-                Some(&a),
-            )?;
-        }
-        anchored
-    };
+    let (a, chain) = analysed(&sweep, chain, cfg, engine)?;
     let f_ref = cfg.reference_hz.unwrap_or_else(|| band_centre(f));
     let f_c = band_centre(f);
     let mut warnings = a.warnings.clone();
@@ -194,6 +164,111 @@ pub fn locate_in(
     })
 }
 
+/// The sweep analysed on `chain`, and `chain` with its joints pinned where the sweep shows them (the
+/// positions in the line file's terms): the analysis again on the pinned chain where they moved enough.
+fn analysed(
+    sweep: &Sweep,
+    chain: &ChainView,
+    cfg: &AnalysisConfig,
+    engine: &mut TraceEngine,
+) -> Result<(SweepAnalysis, ChainView), CompareError> {
+    let chain = sized(chain, &[&sweep.network.freqs_hz]);
+    let amplified = chain.gain_in_path || shows_gain(sweep)?;
+    let mut a = analyse_through(
+        sweep,
+        &chain,
+        cfg,
+        Which::Current,
+        engine,
+        PathGain::found(amplified),
+        None,
+    )?;
+    let anchors = super::anchor::find(&chain, &a, Which::Current);
+    if anchors.is_empty() {
+        return Ok((a, chain));
+    }
+    let anchored = super::anchor::anchored(&chain, &anchors, Which::Current);
+    if super::anchor::worth_reanalysing(&anchors, a.resolution_s) {
+        // The anchors move delays, not losses: the pieces' compensations are the first analysis' (the
+        // same result as a fresh analysis, bit for bit; `SweepAnalysis::again`).
+        a = analyse_through(
+            sweep,
+            &anchored,
+            cfg,
+            Which::Current,
+            engine,
+            PathGain::found(amplified),
+            Some(&a),
+        )?;
+    }
+    Ok((a, anchored))
+}
+
+/// An echo the line file expects: one event of its nominal line's simulated sweep ([`expected_echoes`]).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct ExpectedEcho {
+    /// As-built distance from the port, m.
+    pub distance_m: f64,
+    /// Its 95 % interval's half-width, m.
+    pub uncertainty_m: f64,
+    /// Its loss-compensated reflection, dB.
+    pub reflection_db: f64,
+    /// The open or short the line file ends in, for the echo of that end; `None` for every other echo.
+    pub termination: Option<FaultKind>,
+}
+
+/// The echoes the nominal line's simulated sweep shows, located as [`locate_in`] locates a sweep's events
+/// but without their lumped fits: where and how strong each is, from its peak, and which one is the open
+/// or short the line file ends in (read from the file, the echo nearest the visible end within its
+/// interval or a resolution cell). That is all [`mark_expected`] reads; the fits, two thirds of locating a
+/// line of six echoes, would only move each place by a fraction of a cell and name kinds the file states.
+pub fn expected_echoes(
+    sweep: Sweep,
+    chain: &ChainView,
+    cfg: &AnalysisConfig,
+    engine: &mut TraceEngine,
+) -> Result<Vec<ExpectedEcho>, CompareError> {
+    let (a, chain) = analysed(&sweep, chain, cfg, engine)?;
+    let end = chain.visible_end_m();
+    let load = chain.first_blocking().and_then(|i| chain.segments[i].load);
+    let end_kind = match load {
+        Some(Load::Open) => Some(FaultKind::Open),
+        Some(Load::Short) => Some(FaultKind::Short),
+        _ => None,
+    };
+    let mut echoes: Vec<ExpectedEcho> = a
+        .events
+        .iter()
+        .map(|e| {
+            let x = chain.position_of(e.delay_s, Which::Current, None);
+            let res_m = a.resolution_s * speed_at(&chain, x, Which::Current);
+            let snr = a.snr(e.magnitude, e.delay_s);
+            let sigma_x = position_sigma(res_m, snr, 0.0, f64::NAN, x, chain.as_built);
+            ExpectedEcho {
+                distance_m: x,
+                uncertainty_m: 2.0 * sigma_x,
+                reflection_db: db(e.magnitude),
+                termination: None,
+            }
+        })
+        .collect();
+    if let Some(kind) = end_kind {
+        let res_m = a.resolution_s * speed_at(&chain, end, Which::Current);
+        let nearest = echoes
+            .iter_mut()
+            .filter(|n| (n.distance_m - end).abs() <= n.uncertainty_m.max(res_m))
+            .min_by(|p, q| {
+                (p.distance_m - end)
+                    .abs()
+                    .total_cmp(&(q.distance_m - end).abs())
+            });
+        if let Some(n) = nearest {
+            n.termination = Some(kind);
+        }
+    }
+    Ok(echoes)
+}
+
 /// How much stronger than the nominal line's own echo at the same place an event may read and still be the
 /// echo the line file expects, dB: a connector's mismatch differs from pair to pair and from mating to
 /// mating by a few dB (common practice, no source). A fault at a joint that reads within it cannot be told
@@ -205,13 +280,13 @@ pub const EXPECTED_MARGIN_DB: f64 = 6.0;
 /// `resolution_m`), at most [`EXPECTED_MARGIN_DB`] weaker, and not an open where the nominal line has a
 /// short (its designed termination) or the reverse. Expected events become `info`: their cost is the
 /// design's, not a fault's.
-pub fn mark_expected(events: &mut [Event], nominal: &[Event], resolution_m: f64) {
+pub fn mark_expected(events: &mut [Event], nominal: &[ExpectedEcho], resolution_m: f64) {
     for e in events.iter_mut() {
         let twin = nominal
             .iter()
             .filter(|n| {
                 let tol = e.uncertainty_m.max(n.uncertainty_m).max(resolution_m);
-                (n.place.distance_m - e.place.distance_m).abs() <= tol
+                (n.distance_m - e.place.distance_m).abs() <= tol
             })
             .max_by(|a, b| a.reflection_db.total_cmp(&b.reflection_db));
         let Some(n) = twin else { continue };
@@ -219,8 +294,9 @@ pub fn mark_expected(events: &mut [Event], nominal: &[Event], resolution_m: f64)
         // An open where the design has a short, or a short where it has an open, is never the design;
         // a termination that reads weaker than designed (shadowed by a fault before it) still is.
         let terminations = [FaultKind::Open, FaultKind::Short];
-        let swapped =
-            terminations.contains(&n.kind) && terminations.contains(&e.kind) && n.kind != e.kind;
+        let swapped = n
+            .termination
+            .is_some_and(|k| terminations.contains(&e.kind) && k != e.kind);
         if !swapped && e.reflection_db <= n.reflection_db + EXPECTED_MARGIN_DB {
             e.expected = true;
             e.severity = Severity::Info;
