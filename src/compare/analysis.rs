@@ -536,19 +536,24 @@ impl SweepAnalysis {
     }
 
     /// The sweep gated from `start` to `stop` (round-trip s) with the echo gates' shape and padding
-    /// ([`ECHO_GATE_PADDING`]), edge-corrected; the sweep's time response is transformed once for all its
+    /// ([`ECHO_GATE_PADDING`]), edge-corrected, read at the local reflections' bins ([`local_bins`]): each
+    /// value a direct sum over the gate's samples, the sweep's time response transformed once for all its
     /// gates.
-    pub fn echo_gate(
+    pub fn echo_gate_local(
         &self,
         start: f64,
         stop: f64,
         engine: &mut TraceEngine,
     ) -> Result<Vec<Complex64>, CompareError> {
-        Ok(self
-            .gate_source(engine)?
-            .gate(&echo_gate_plan(start, stop), engine.cache())
-            .map_err(CompareError::Transform)?
-            .values)
+        let bins = local_bins(self.freqs.len());
+        self.gate_source(engine)?
+            .gate_every(
+                &echo_gate_plan(start, stop),
+                bins.first,
+                bins.stride,
+                bins.count,
+            )
+            .map_err(CompareError::Transform)
     }
 
     /// Lumped-model fits of a local reflection (from [`Self::local_reflection`]), best first.

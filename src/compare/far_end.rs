@@ -9,7 +9,7 @@
 //! own plane (see `analysis`), so an open reads near +1 and a short near -1 at the bottom of the band, less
 //! the line's loss.
 
-use super::analysis::{fit_band, local_bins, SweepAnalysis, GATE_HALF_WIDTH_CELLS};
+use super::analysis::{local_bins, SweepAnalysis, GATE_HALF_WIDTH_CELLS};
 use super::chain::{ChainView, LossModel, Which};
 use super::CompareError;
 use crate::line::Load;
@@ -297,8 +297,8 @@ pub const LAG_SEARCH_CELLS: f64 = 1.0;
 ///
 /// Both raw sweeps are gated with one gate, from [`GATE_HALF_WIDTH_CELLS`] before the earlier echo to as far
 /// behind the later one (the gate a single echo is read through, widened by the move), on the inner band
-/// ([`fit_band`]: [`super::analysis::FIT_BAND_EDGE`] dropped at each edge, where the gate's edge correction
-/// leaves the most error), and the lag is the maximum of the magnitude of their cross-correlation
+/// ([`super::analysis::FIT_BAND_EDGE`] dropped at each edge, where the gate's edge correction leaves the
+/// most error) read every few bins as a local reflection is ([`local_bins`]), and the lag is the maximum of the magnitude of their cross-correlation
 /// `|sum_k Gc(f_k) conj(Gb(f_k)) e^{+j 2 pi f_k tau}|` within [`LAG_SEARCH_CELLS`] of `tc - tb`, placed by a
 /// grid of a sixty-fourth of a cell and three rounds of a three-point parabola.
 ///
@@ -333,15 +333,18 @@ pub fn echo_lag(
     if stop <= start {
         return Ok(None);
     }
-    let gb = b.echo_gate(start, stop, engine)?;
-    let gc = c.echo_gate(start, stop, engine)?;
-    let range = fit_band(b.freqs.len());
+    // Both gated at the local reflections' bins (the inner band every few bins): the cross-correlation
+    // summed over them is the whole band's, with copies of it a record's length over the stride apart, far
+    // beyond the gate's span.
+    let gb = b.echo_gate_local(start, stop, engine)?;
+    let gc = c.echo_gate_local(start, stop, engine)?;
+    let bins = local_bins(b.freqs.len());
     // Frequencies relative to the first kept one: a common phase factor leaves the magnitude alone and the
     // products stay small.
     // The grid is uniform (every sweep analysed is): the sum is evaluated by recurrence.
-    let (f0, f1) = (b.freqs[range.start], b.freqs[range.end - 1]);
-    let df = (f1 - f0) / (range.len() - 1).max(1) as f64;
-    let terms: Vec<Complex64> = range.map(|k| gc[k] * gb[k].conj()).collect();
+    let (f0, f1) = (b.freqs[bins.bin(0)], b.freqs[bins.bin(bins.count - 1)]);
+    let df = (f1 - f0) / (bins.count - 1).max(1) as f64;
+    let terms: Vec<Complex64> = gc.iter().zip(&gb).map(|(c, b)| c * b.conj()).collect();
     let corr = |tau: f64| -> f64 { direct_sum(&terms, 0.0, df, tau).norm() };
     let guess = tc - tb;
     let span = LAG_SEARCH_CELLS * res;
