@@ -11,8 +11,10 @@ use super::detect::{find_events, noise_sigma, LobeShape, Peak};
 use super::lumped::{fit_all, ModelFit, MAX_FIT_POINTS};
 use super::CompareError;
 use crate::transform::{
-    bandpass::BandPassSpectrum, czt::phasors, gate::GateSource, uniform_grid, GatePlan, Grid,
-    TraceEngine, Window,
+    bandpass::BandPassSpectrum,
+    czt::{phasors, turned},
+    gate::GateSource,
+    uniform_grid, GatePlan, Grid, TraceEngine, Window,
 };
 use crate::Warning;
 use num_complex::Complex64;
@@ -358,13 +360,10 @@ impl SweepAnalysis {
                     continue;
                 }
                 let t_s = p.bins.0 as f64 * dt;
-                let shifted: Vec<Complex64> = p
-                    .spectrum
-                    .weighted
-                    .iter()
-                    .zip(phasors(0.0, grid.step_hz, t_s))
-                    .map(|(x, turn)| x * turn)
-                    .collect();
+                let mut shifted = Vec::with_capacity(p.spectrum.weighted.len());
+                turned(&p.spectrum.weighted, 0.0, grid.step_hz, t_s, |_, _, z| {
+                    shifted.push(z)
+                });
                 let h = engine.cache().apply(&plan, &shifted);
                 // |h| needs no carrier e^{+j 2 pi f0 t}: it has unit modulus. (As the root of the squared
                 // modulus: a trace's values are far from over- and underflow, where `hypot` earns its cost.)

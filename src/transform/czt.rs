@@ -41,7 +41,7 @@ pub fn phasors(f0: f64, df: f64, t: f64) -> impl Iterator<Item = Complex64> {
 /// latency.
 pub const TURN_LANES: usize = 4;
 
-/// Calls `visit(lane, k, x_k e^{+j 2 pi (f0 + k df) t})` for every k, in order within each lane: the
+/// Calls `visit(lane, k, x_k e^{+j 2 pi (f0 + k df) t})` for every k, in increasing k: the
 /// phasors as [`phasors`] makes them (anchored exactly at every [`DIRECT_ANCHOR`]-th point), carried in
 /// [`TURN_LANES`] recurrences side by side, each stepping by e^{+j 2 pi TURN_LANES df t}; lane `k %
 /// TURN_LANES` takes point k. The same phasors to a few roundings.
@@ -78,6 +78,29 @@ pub fn turned(
             visit(r, k_rest + r, xk * ph[r]);
         }
     }
+}
+
+/// W^{k^2/2} = e^{+j 2 pi a k^2 / 2} for k = 0..len: each the one before times e^{+j 2 pi a (k - 1/2)}, that
+/// step itself carried by e^{+j 2 pi a} (the phase's first and second differences), both taken exactly at
+/// every [`DIRECT_ANCHOR`]-th point, so that a chirp costs two sines and cosines per anchor, not one per
+/// point; the phase reduced to a cycle where it is taken exactly, as [`cis_cycles`] does.
+fn chirp(len: usize, a: f64) -> Vec<Complex64> {
+    let second = cis_cycles(a);
+    let mut out = Vec::with_capacity(len);
+    let (mut c, mut step) = (Complex64::new(1.0, 0.0), Complex64::new(1.0, 0.0));
+    for k in 0..len {
+        let kf = k as f64;
+        if k % DIRECT_ANCHOR == 0 {
+            // The exact value and the step to the next point, e^{+j 2 pi a (k + 1/2)}.
+            c = cis_cycles(0.5 * a * kf * kf);
+            step = cis_cycles(a * (kf + 0.5));
+        } else {
+            c *= step;
+            step *= second;
+        }
+        out.push(c);
+    }
+    out
 }
 
 /// The sum `sum_k x_k e^{+j 2 pi (f0 + k df) t}` at one time `t`, in O(N), with the phasors of [`turned`].
@@ -166,13 +189,7 @@ impl ChirpZ {
             fwd.len(),
             fwd.fft_direction()
         );
-        // W^{k^2/2} = e^{+j 2 pi df_dt k^2 / 2}, worked out once for every k the plan uses.
-        let chirp: Vec<Complex64> = (0..n.max(m))
-            .map(|k| {
-                let k = k as f64;
-                cis_cycles(0.5 * df_dt * k * k)
-            })
-            .collect();
+        let chirp = chirp(n.max(m), df_dt);
         // A^i = e^{+j 2 pi df_t0 i} (exactly 1 for a transform from t0 = 0, as `cis_cycles(0)` gives it).
         let start = |i: usize| {
             if df_t0 == 0.0 {
