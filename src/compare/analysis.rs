@@ -46,10 +46,11 @@ pub fn fit_band(n: usize) -> std::ops::Range<usize> {
 }
 
 /// Most frequencies a local reflection ([`SweepAnalysis::local_reflection`]) is read at: twice what a
-/// lumped fit uses ([`MAX_FIT_POINTS`]). The gated reflection of one echo is smooth over many bins (a gate
-/// of 2 [`GATE_HALF_WIDTH_CELLS`] resolution cells spans a fraction of the record, so its spectrum varies
-/// over several bins' worth of the inverse), and what is read from it, a fit, a mean level, a loss law, is
-/// read as well from a few hundred of its bins as from all of a long sweep's.
+/// lumped fit uses ([`MAX_FIT_POINTS`]). A gate 2 [`GATE_HALF_WIDTH_CELLS`] resolution cells wide leaves a
+/// spectrum that varies over about the inverse of its width, 1/(5 w) of the band for a window w bins wide at
+/// -6 dB (a twelfth for kaiser:9), so what is read from it, a fit, a mean level, a loss law, reads the same
+/// from a few hundred of its bins as from every bin of a long sweep (docs/method.md, "Explanation: lumped
+/// models").
 pub const LOCAL_REFLECTION_POINTS: usize = 2 * MAX_FIT_POINTS;
 
 /// The bins of a sweep of `n` points a local reflection is read at: the inner band ([`fit_band`]) every

@@ -53,7 +53,7 @@ impl BandPassSpectrum {
 
     /// h(t) and its first two time derivatives with the carrier at the band's centre taken out:
     /// `[g, g', g'']` for `g(t) = h(t) e^{-j 2 pi f_c t}` (so |g| = |h|), in one O(N) pass over the
-    /// [`super::czt::phasors`]. Sub-bin peak refinement steps on these (Newton on |h|^2).
+    /// phasors of [`super::czt::turned`]. Sub-bin peak refinement steps on these (Newton on |h|^2).
     pub fn eval_derivatives(&self, t: f64) -> [Complex64; 3] {
         use super::czt::{turned, TURN_LANES};
         let n = self.weighted.len();

@@ -84,7 +84,7 @@ pub fn turned(
 /// step itself carried by e^{+j 2 pi a} (the phase's first and second differences), both taken exactly at
 /// every [`DIRECT_ANCHOR`]-th point, so that a chirp costs two sines and cosines per anchor, not one per
 /// point; the phase reduced to a cycle where it is taken exactly, as [`cis_cycles`] does.
-fn chirp(len: usize, a: f64) -> Vec<Complex64> {
+fn chirp_phasors(len: usize, a: f64) -> Vec<Complex64> {
     let second = cis_cycles(a);
     let mut out = Vec::with_capacity(len);
     let (mut c, mut step) = (Complex64::new(1.0, 0.0), Complex64::new(1.0, 0.0));
@@ -189,7 +189,8 @@ impl ChirpZ {
             fwd.len(),
             fwd.fft_direction()
         );
-        let chirp = chirp(n.max(m), df_dt);
+        // W^{k^2/2} = e^{+j 2 pi df_dt k^2 / 2}, worked out once for every k the plan uses.
+        let chirp = chirp_phasors(n.max(m), df_dt);
         // A^i = e^{+j 2 pi df_t0 i} (exactly 1 for a transform from t0 = 0, as `cis_cycles(0)` gives it).
         let start = |i: usize| {
             if df_t0 == 0.0 {

@@ -221,10 +221,12 @@ impl GateSource {
             _ => return Ok(vec![Complex64::new(0.0, 0.0); count]),
         };
         let bin = |i: usize| first + i * stride;
-        let z: Vec<Complex64> = (0..count)
-            .map(|i| cis_cycles(-((bin(i) % len) as f64) / len as f64))
-            .collect();
-        let (zr, zi): (Vec<f64>, Vec<f64>) = z.iter().map(|v| (v.re, v.im)).unzip();
+        let (zr, zi): (Vec<f64>, Vec<f64>) = (0..count)
+            .map(|i| {
+                let z = cis_cycles(-((bin(i) % len) as f64) / len as f64);
+                (z.re, z.im)
+            })
+            .unzip();
         let edges = plan.correct_edges;
         let mut w_at = vec![0.0; m1 - m0 + 1];
         for &(m, w) in &weights {
