@@ -220,8 +220,9 @@ pub struct ExpectedEcho {
 /// The echoes the nominal line's simulated sweep shows, located as [`locate_in`] locates a sweep's events
 /// but without their lumped fits: where and how strong each is, from its peak, and which one is the open
 /// or short the line file ends in (read from the file, the echo nearest the visible end within its
-/// interval or a resolution cell). That is all [`mark_expected`] reads; the fits, two thirds of locating a
-/// line of six echoes, would only move each place by a fraction of a cell and name kinds the file states.
+/// interval or a resolution cell). That is all [`mark_expected`] reads; the fits, about 60 % of locating
+/// the demo line's six nominal echoes, would only move each place by a fraction of a cell and name kinds
+/// the file states.
 pub fn expected_echoes(
     sweep: Sweep,
     chain: &ChainView,
