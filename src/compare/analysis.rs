@@ -501,11 +501,8 @@ impl SweepAnalysis {
         let stop = (start + width).min(self.alias_free_s);
         let n = self.freqs.len();
         let bins = local_bins(n);
-        let count = bins.count.min(points);
-        let gated = self
-            .gate_source(engine)?
-            .gate_every(&echo_gate_plan(start, stop), bins.first, bins.stride, count)
-            .map_err(CompareError::Transform)?;
+        let gated = self.echo_gate_local(start, stop, points, engine)?;
+        let count = gated.len();
         let f: Vec<f64> = (0..count).map(|k| self.freqs[bins.bin(k)]).collect();
         let comp = if chain.compensates() {
             let ghz: Vec<(f64, f64)> = (0..count).map(|k| self.ghz[bins.bin(k)]).collect();
@@ -536,23 +533,20 @@ impl SweepAnalysis {
     }
 
     /// The sweep gated from `start` to `stop` (round-trip s) with the echo gates' shape and padding
-    /// ([`ECHO_GATE_PADDING`]), edge-corrected, read at the local reflections' bins ([`local_bins`]): each
-    /// value a direct sum over the gate's samples, the sweep's time response transformed once for all its
-    /// gates.
+    /// ([`ECHO_GATE_PADDING`]), edge-corrected, read at the first `points` of the local reflections' bins
+    /// ([`local_bins`]; all of them for `usize::MAX`): each value a direct sum over the gate's samples, the
+    /// sweep's time response transformed once for all its gates.
     pub fn echo_gate_local(
         &self,
         start: f64,
         stop: f64,
+        points: usize,
         engine: &mut TraceEngine,
     ) -> Result<Vec<Complex64>, CompareError> {
         let bins = local_bins(self.freqs.len());
+        let count = bins.count.min(points);
         self.gate_source(engine)?
-            .gate_every(
-                &echo_gate_plan(start, stop),
-                bins.first,
-                bins.stride,
-                bins.count,
-            )
+            .gate_every(&echo_gate_plan(start, stop), bins.first, bins.stride, count)
             .map_err(CompareError::Transform)
     }
 

@@ -298,9 +298,10 @@ pub const LAG_SEARCH_CELLS: f64 = 1.0;
 /// Both raw sweeps are gated with one gate, from [`GATE_HALF_WIDTH_CELLS`] before the earlier echo to as far
 /// behind the later one (the gate a single echo is read through, widened by the move), on the inner band
 /// ([`super::analysis::FIT_BAND_EDGE`] dropped at each edge, where the gate's edge correction leaves the
-/// most error) read every few bins as a local reflection is ([`local_bins`]), and the lag is the maximum of the magnitude of their cross-correlation
-/// `|sum_k Gc(f_k) conj(Gb(f_k)) e^{+j 2 pi f_k tau}|` within [`LAG_SEARCH_CELLS`] of `tc - tb`, placed by a
-/// grid of a sixty-fourth of a cell and three rounds of a three-point parabola.
+/// most error) read every few bins as a local reflection is ([`local_bins`]), and the lag is the maximum
+/// of the magnitude of their cross-correlation `|sum_k Gc(f_k) conj(Gb(f_k)) e^{+j 2 pi f_k tau}|` within
+/// [`LAG_SEARCH_CELLS`] of `tc - tb`, placed by a grid of a sixty-fourth of a cell and three rounds of a
+/// three-point parabola.
 ///
 /// Why this reading: what lies in front of the far end (a connector's or a switch's echo a cell or so in
 /// front of the termination) is the same in both sweeps, and one gate weighs it alike in both, where a gate
@@ -336,8 +337,8 @@ pub fn echo_lag(
     // Both gated at the local reflections' bins (the inner band every few bins): the cross-correlation
     // summed over them is the whole band's, with copies of it a record's length over the stride apart, far
     // beyond the gate's span.
-    let gb = b.echo_gate_local(start, stop, engine)?;
-    let gc = c.echo_gate_local(start, stop, engine)?;
+    let gb = b.echo_gate_local(start, stop, usize::MAX, engine)?;
+    let gc = c.echo_gate_local(start, stop, usize::MAX, engine)?;
     let bins = local_bins(b.freqs.len());
     // Frequencies relative to the first kept one: a common phase factor leaves the magnitude alone and the
     // products stay small.
