@@ -173,6 +173,10 @@ pub const PIECE_MAX_M: f64 = 0.05;
 /// so at most 0.75 dB is left undone or overdone at its ends, and less lower in the band; event levels are
 /// then rescaled to their own position (common practice, no source).
 pub const PIECE_MAX_DB: f64 = 1.5;
+/// Frequencies, evenly spread over the band from its first to its last, at which the growth of the
+/// compensation is checked for piece boundaries: the loss grows fastest at the top of the band until the cap
+/// stops it there, then fastest at the highest frequency not yet capped.
+pub const PIECE_PROBES: usize = 9;
 
 impl SweepAnalysis {
     /// Analyse S11 `s11` on `freqs` up to round-trip delay `t_max` (clipped to the alias-free time), with
@@ -238,24 +242,43 @@ impl SweepAnalysis {
         // The frequencies as the loss models take them, for every piece's compensation.
         let ghz: Vec<(f64, f64)> = freqs.iter().map(|&f| ghz_basis(f)).collect();
 
-        // Piece boundaries: where the modelled round-trip loss at the top of the band has grown by
-        // PIECE_MAX_DB since the piece began, checked at PIECE_MAX_M steps and at every segment end.
-        let f_top = freqs[freqs.len() - 1];
+        // Piece boundaries: where the compensation a place needs has grown by PIECE_MAX_DB at some frequency
+        // of the band since the piece began, checked at PIECE_MAX_M steps and at every segment end. The
+        // compensation applied is the modelled round-trip loss up to the cap: once the top of the band is
+        // capped, the lower frequencies still grow, and a piece that stopped there would leave a reflection
+        // further on short of its capped compensation by all the loss in between (behind a 17 dB pad and
+        // warm niobium-titanium, 12 dB short at the band centre, where the comparator reckons with none).
+        // No pieces once the whole band is capped.
+        let cap_db = 20.0 * MAX_COMPENSATION.log10();
+        let probes: [f64; PIECE_PROBES] = std::array::from_fn(|k| {
+            freqs[0] + (freqs[freqs.len() - 1] - freqs[0]) * k as f64 / (PIECE_PROBES - 1) as f64
+        });
+        let applied = |x: f64| probes.map(|f| chain.loss_to_db(x, f, which).min(cap_db));
         let mut xs = vec![0.0];
         if chain.compensates() {
-            let mut last_db = 0.0;
-            for seg in &chain.segments {
+            let mut last = applied(0.0);
+            'segments: for seg in &chain.segments {
                 if seg.start_m >= chain.visible_end_m() {
                     break;
                 }
                 let n = ((seg.end_m - seg.start_m) / PIECE_MAX_M).ceil().max(1.0) as usize;
                 for k in 1..=n {
+                    if last[0] >= cap_db {
+                        break 'segments;
+                    }
                     let x = seg.start_m + (seg.end_m - seg.start_m) * k as f64 / n as f64;
-                    let l = chain.loss_to_db(x, f_top, which);
-                    // Past the compensation cap every piece would get the same gain: no more pieces.
-                    if l - last_db > PIECE_MAX_DB && last_db < 20.0 * MAX_COMPENSATION.log10() {
+                    // A line's loss grows with frequency, and grows fastest at the top of the band: until
+                    // the top is capped, it alone decides.
+                    let top = chain.loss_to_db(x, probes[PIECE_PROBES - 1], which);
+                    let grew = if top < cap_db {
+                        top - last[PIECE_PROBES - 1] > PIECE_MAX_DB
+                    } else {
+                        let now = applied(x);
+                        now.iter().zip(&last).any(|(a, b)| a - b > PIECE_MAX_DB)
+                    };
+                    if grew {
                         xs.push(x);
-                        last_db = l;
+                        last = applied(x);
                     }
                 }
             }
