@@ -1129,6 +1129,7 @@ fn joint_probes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
     let res_s = b.resolution_s.max(c.resolution_s);
     let alias = c.alias_free_s.min(b.alias_free_s);
     let end = inp.chain.visible_end_m();
+    let step_gains = StepGains::new(inp);
     let mut out = Vec::new();
     for seg in inp
         .chain
@@ -1150,21 +1151,23 @@ fn joint_probes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
             continue;
         }
         let shift = local_shift(inp, d0);
-        // The step where the two responses differ most: (|difference|, d_c, d_b, gain, current, baseline).
-        let mut best: Option<(f64, f64, f64, f64, Complex64, Complex64)> = None;
+        // The step where the two responses differ most: (|difference|, d_c, d_b, baseline's factor: the
+        // calibration's gain and the reading at the current's side of a pad's step, current, baseline).
+        let mut best: Option<(f64, f64, f64, [f64; 2], Complex64, Complex64)> = None;
         for k in -JOINT_PROBE_STEPS..=JOINT_PROBE_STEPS {
             let d_c = d0 + res_s * JOINT_PROBE_CELLS * k as f64 / JOINT_PROBE_STEPS as f64;
             let x = fit.chain.position_of(d_c, Which::Current, None);
             let d_b = fit.chain.delay_to(x, Which::Baseline, None) - shift;
+            let (k_c, k_b) = step_gains.factors(inp, d_c, d_b);
             let g = 10f64.powf(fit.expected_change_db(x) / 20.0);
-            let (gc, gb) = (c.h(d_c), b.h(d_b) * g);
+            let (gc, gb) = (c.h(d_c) * k_c, b.h(d_b) * (g * k_b));
             let diff = (gc - gb).norm();
-            let noise = NOISE_SIGMAS * c.sigma_at(d_c).hypot(g * b.sigma_at(d_b));
+            let noise = NOISE_SIGMAS * (k_c * c.sigma_at(d_c)).hypot(g * k_b * b.sigma_at(d_b));
             if diff >= noise && best.map_or(true, |p| diff > p.0) {
-                best = Some((diff, d_c, d_b, g, gc, gb));
+                best = Some((diff, d_c, d_b, [g, k_b], gc, gb));
             }
         }
-        let Some((diff, d_c, d_b, g, gc, gb)) = best else {
+        let Some((diff, d_c, d_b, [g, k_b], gc, gb)) = best else {
             continue;
         };
         // A place within a cell of an open or short far end that was one in both sweeps reads that
@@ -1177,7 +1180,7 @@ fn joint_probes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
         }
         let x = fit.chain.position_of(d_c, Which::Current, None);
         let tol = inp.tolerance_s(x);
-        let moved = 0.5 * g * (b.h(d_b + tol) - b.h(d_b - tol)).norm();
+        let moved = 0.5 * g * k_b * (b.h(d_b + tol) - b.h(d_b - tol)).norm();
         let ratio = diff / (gb.norm() + moved) / VECTOR_CHANGE;
         if ratio < 1.0 {
             continue;
@@ -1387,6 +1390,67 @@ const FLANK_STRIDE: usize = 4;
 /// own rather than that echo's change (which the pairing judges).
 pub const FLANK_CLEARANCE_CELLS: f64 = 1.0;
 
+/// Near an attenuator's loss step each trace holds the compensation of its piece, which may straddle the
+/// step and lend one side the other's gain, one way in one sweep and the other way in the other (the
+/// baseline's pieces follow its anchored joints, the current's the model): there each is read with the
+/// compensation of its own place on the analysis' map, as events are. Within a cell of a step the gain of a
+/// place is the step's, on its side, to within the loss of a few centimetres of cable: worked out once per
+/// step, side and sweep.
+struct StepGains {
+    /// Each step's middle (as built, m) and the level gains a quarter of its body either side of it,
+    /// `[baseline, current][front, back]`.
+    steps: Vec<(f64, [[f64; 2]; 2])>,
+}
+
+impl StepGains {
+    fn new(inp: &Inputs) -> Self {
+        let (b, c) = (inp.b, inp.c);
+        let steps = inp
+            .chain
+            .segments
+            .iter()
+            .filter(|s| s.kind == SegmentKind::Attenuator && s.loss[1].a_flat > 0.0)
+            .map(|s| {
+                let mid = 0.5 * (s.start_m + s.end_m);
+                let quarter = 0.25 * (s.end_m - s.start_m);
+                // Each side a quarter of the body from the step: at the step itself, rounding decides the
+                // side.
+                let sides = |a: &SweepAnalysis, which: Which| {
+                    [mid - quarter, mid + quarter].map(|x| a.level_gain(inp.chain, x, which))
+                };
+                (mid, [sides(b, Which::Baseline), sides(c, Which::Current)])
+            })
+            .collect();
+        StepGains { steps }
+    }
+
+    /// The factors that read the current trace at current delay `d_c` and the baseline's at `d_b` with that
+    /// compensation, both on the side of the step the current sweep's place is on: one side for both, or
+    /// the two sweeps' maps could put them on either side and read a rise or a fall of the pad's whole
+    /// round trip (cold -> cold repeats: `repeat:41000103` of seed 41, `repeat:125000375` of seed 125).
+    /// (1, 1) away from every step.
+    fn factors(&self, inp: &Inputs, d_c: f64, d_b: f64) -> (f64, f64) {
+        // A line without attenuators reads every bin as its piece holds it: no place to work out.
+        if self.steps.is_empty() {
+            return (1.0, 1.0);
+        }
+        let (b, c) = (inp.b, inp.c);
+        let res_s = b.resolution_s.max(c.resolution_s);
+        let x_a = inp.chain.position_of(d_c, Which::Current, None);
+        let reach = res_s * super::place::speed_at(inp.chain, x_a, Which::Current) + PAD_STEP_M;
+        self.steps
+            .iter()
+            .find(|(mid, _)| (x_a - mid).abs() <= reach)
+            .map_or((1.0, 1.0), |(mid, g)| {
+                let side = usize::from(x_a >= *mid);
+                (
+                    g[Which::Current as usize][side] / c.gain_at(d_c),
+                    g[Which::Baseline as usize][side] / b.gain_at(d_b),
+                )
+            })
+    }
+}
+
 /// Rises of the current trace over the baseline's where no echo was paired: on every bin of the current
 /// trace, its strength against the strongest the baseline shows within the alignment's tolerance there,
 /// less the calibration. Each stretch rising by [`FLANK_RISE_DB`] or more, at least [`FLANK_CLEARANCE_CELLS`]
@@ -1410,48 +1474,8 @@ fn flank_changes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
     let knots: Vec<[f64; 3]> = (0..n.div_ceil(FLANK_STRIDE) + 1)
         .map(|k| knot((k * FLANK_STRIDE).min(n.saturating_sub(1))))
         .collect();
-    // Near an attenuator's loss step each trace holds the compensation of its piece, which may straddle
-    // the step and lend one side the other's gain, one way in one sweep and the other way in the other:
-    // there each is read with the compensation of its own place on the analysis' map, as events are.
-    // Within a cell of a step the gain of a place is the step's, on its side, to within the loss of a few
-    // centimetres of cable: worked out once per step, side and sweep.
-    let steps: Vec<(f64, [[f64; 2]; 2])> = inp
-        .chain
-        .segments
-        .iter()
-        .filter(|s| s.kind == SegmentKind::Attenuator && s.loss[1].a_flat > 0.0)
-        .map(|s| {
-            let mid = 0.5 * (s.start_m + s.end_m);
-            let quarter = 0.25 * (s.end_m - s.start_m);
-            // Each side a quarter of the body from the step: at the step itself, rounding decides the side.
-            let sides = |a: &SweepAnalysis, which: Which| {
-                [mid - quarter, mid + quarter].map(|x| a.level_gain(inp.chain, x, which))
-            };
-            (mid, [sides(b, Which::Baseline), sides(c, Which::Current)])
-        })
-        .collect();
-    // The factors that read the current trace at current delay `d_c` and the baseline's at `d_b` with that
-    // compensation, both on the side of the step the current sweep's place is on: one side for both, or
-    // the two sweeps' maps could put them on either side and read a rise of the pad's whole round trip (a
-    // cold -> cold repeat, `repeat:41000103` of seed 41).
-    let own_gains = |d_c: f64, d_b: f64| {
-        // A line without attenuators reads every bin as its piece holds it: no place to work out.
-        if steps.is_empty() {
-            return (1.0, 1.0);
-        }
-        let x_a = inp.chain.position_of(d_c, Which::Current, None);
-        let reach = res_s * super::place::speed_at(inp.chain, x_a, Which::Current) + PAD_STEP_M;
-        steps
-            .iter()
-            .find(|(mid, _)| (x_a - mid).abs() <= reach)
-            .map_or((1.0, 1.0), |(mid, g)| {
-                let side = usize::from(x_a >= *mid);
-                (
-                    g[Which::Current as usize][side] / c.gain_at(d_c),
-                    g[Which::Baseline as usize][side] / b.gain_at(d_b),
-                )
-            })
-    };
+    let step_gains = StepGains::new(inp);
+    let own_gains = |d_c: f64, d_b: f64| step_gains.factors(inp, d_c, d_b);
     // Per bin: (rise dB, amplitude excess, the current trace's reading factor).
     let mut rise: Vec<Option<(f64, f64, f64)>> = vec![None; n];
     for (i, &m_c) in c.mag.iter().enumerate() {
