@@ -291,7 +291,13 @@ fn in_one_state_a_contact_beside_a_stronger_echo_is_found_at_its_own_joint() {
 ///   the last one, short of the capped gain the comparator reckons with by up to 12 dB at the band centre,
 ///   so the baseline's echo read low and the cold one rose past every bound: a critical contact at the far
 ///   joint, a major step at a device end, a minor contact. Pieces now follow the compensation up the
-///   band until all of it is capped (`analysis::PIECE_PROBES`).
+///   band until all of it is capped (`analysis::PIECE_PROBES`);
+/// - 139000254 (`--seed 139`, states given): a line whose cold dielectric changed 1.87 times as far as the
+///   model's; its landmark at an 11 dB pad paired the pad's front port with its back, and the front port's
+///   cold drift, an echo new to the cold sweep, lay 24 mm in front of the pad on the aligned map and behind
+///   the pad's step on the analysis' map, where it had been compensated: lifted by the pad's 22 dB round
+///   trip, a critical discontinuity of 0.7. A new echo whose two places straddle a pad's step is read at the
+///   lesser compensation (`difference::straddled_rise`).
 #[test]
 fn healthy_cooldowns_found_out_of_sample_raise_nothing_above_info() {
     let mut bad = Vec::new();
@@ -311,6 +317,7 @@ fn healthy_cooldowns_found_out_of_sample_raise_nothing_above_info() {
         113_000_069,
         121_000_250,
         61_000_297,
+        139_000_254,
     ] {
         let e = scenario::score::evaluate(seed, Case::Healthy);
         for given in [false, true] {

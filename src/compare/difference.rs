@@ -764,9 +764,10 @@ pub fn changes(inp: &Inputs, engine: &mut TraceEngine) -> Vec<Change> {
             steady: false,
         });
     }
-    let flanks = flank_changes(inp, &out);
+    let step_gains = StepGains::new(inp);
+    let flanks = flank_changes(inp, &out, &step_gains);
     out.extend(flanks);
-    let probes = joint_probes(inp, &out);
+    let probes = joint_probes(inp, &out, &step_gains);
     out.extend(probes);
     out.sort_by(|p, q| p.x.total_cmp(&q.x));
     // Where the line file's device (not an open or short) ends the visible line.
@@ -811,6 +812,9 @@ pub fn changes(inp: &Inputs, engine: &mut TraceEngine) -> Vec<Change> {
         ch.device_drift = device_drift;
         let x_comp = inp.chain.position_of(ch.d_c, Which::Current, None);
         ch.pad_front = pad_front(inp.chain, ch.x, x_comp, res_m);
+        if ch.pad_front.is_none() {
+            straddled_rise(inp, ch, x_comp);
+        }
         ch.pad_drift = pad_drift_reflection(inp, &moved, ch.x, res_m);
         ch.pad_step_change_db = pad_step_change_db(inp, (&echoes_b, &echoes_c), ch, res_m);
         ch.steady = !inp.same_state && inp.chain.steady_to(ch.x, STEADY_CLEAR_CELLS * res_m);
@@ -884,6 +888,37 @@ pub fn changes(inp: &Inputs, engine: &mut TraceEngine) -> Vec<Change> {
     }
     seen_behind_pads(inp, &mut out, res_s);
     out
+}
+
+/// A rise read across a pad the two maps disagree on: where an attenuator's loss step lies between an echo's
+/// place on the aligned map (`ch.x`) and its delay's place on the analysis' own map (`x_comp`, where its
+/// strength was compensated), farther from the step than [`pad_step`] reaches, its strength is known only to
+/// within the pad's round trip. A new echo's rise is then read at the lesser of the two places' compensations: on
+/// a line whose cold dielectric moved far from the model's, a pad's front port lay behind the step on the
+/// analysis' map and 24 mm in front of the pad on the aligned one (its landmark paired with the pad's back
+/// port), and the port's cold drift, lifted by the pad's 22 dB round trip, read as a critical discontinuity
+/// of 0.7 (`healthy:139000254` of seed 139, states given).
+fn straddled_rise(inp: &Inputs, ch: &mut Change, x_comp: f64) {
+    let (lo, hi) = (ch.x.min(x_comp), ch.x.max(x_comp));
+    let straddled = inp.chain.segments.iter().any(|s| {
+        let mid = 0.5 * (s.start_m + s.end_m);
+        s.kind == SegmentKind::Attenuator && s.loss[1].a_flat > 0.0 && lo < mid && mid <= hi
+    });
+    // A paired echo's two strengths were compensated as at one place, and their change holds there; a new
+    // one's baseline was read where the aligned map puts it.
+    if !straddled || ch.base.is_some() || ch.raw_change_db <= 0.0 {
+        return;
+    }
+    let k = inp.c.level_gain(inp.chain, ch.x, Which::Current)
+        / inp
+            .c
+            .level_gain(inp.chain, x_comp, Which::Current)
+            .max(f64::MIN_POSITIVE);
+    if k < 1.0 {
+        ch.mag_c *= k;
+        ch.gamma_c *= k;
+        ch.raw_change_db = (db(ch.mag_c) - db(ch.base_level)).max(0.0);
+    }
 }
 
 /// The attenuator whose loss step lies within [`PAD_STEP_CELLS`] and [`PAD_STEP_M`] of as-built `x` (m), with
@@ -1121,7 +1156,7 @@ const JOINT_PROBE_STEPS: i32 = 4;
 /// change of state the two responses do not compare so closely (what the compensation leaves of the
 /// dispersion turns them), and only the connectors of the line's steady part are probed (see
 /// [`Change::steady`]).
-fn joint_probes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
+fn joint_probes(inp: &Inputs, have: &[Change], step_gains: &StepGains) -> Vec<Change> {
     if !inp.chain.as_built {
         return Vec::new();
     }
@@ -1129,7 +1164,6 @@ fn joint_probes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
     let res_s = b.resolution_s.max(c.resolution_s);
     let alias = c.alias_free_s.min(b.alias_free_s);
     let end = inp.chain.visible_end_m();
-    let step_gains = StepGains::new(inp);
     let mut out = Vec::new();
     for seg in inp
         .chain
@@ -1456,7 +1490,7 @@ impl StepGains {
 /// less the calibration. Each stretch rising by [`FLANK_RISE_DB`] or more, at least [`FLANK_CLEARANCE_CELLS`]
 /// from every echo in `have`, gives one change, placed where the current trace exceeds the baseline's the
 /// most (the new reflection's own strength, in amplitude).
-fn flank_changes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
+fn flank_changes(inp: &Inputs, have: &[Change], step_gains: &StepGains) -> Vec<Change> {
     let (b, c, fit) = (inp.b, inp.c, inp.fit);
     let res_s = b.resolution_s.max(c.resolution_s);
     let alias = c.alias_free_s.min(b.alias_free_s);
@@ -1474,7 +1508,6 @@ fn flank_changes(inp: &Inputs, have: &[Change]) -> Vec<Change> {
     let knots: Vec<[f64; 3]> = (0..n.div_ceil(FLANK_STRIDE) + 1)
         .map(|k| knot((k * FLANK_STRIDE).min(n.saturating_sub(1))))
         .collect();
-    let step_gains = StepGains::new(inp);
     let own_gains = |d_c: f64, d_b: f64| step_gains.factors(inp, d_c, d_b);
     // Per bin: (rise dB, amplitude excess, the current trace's reading factor).
     let mut rise: Vec<Option<(f64, f64, f64)>> = vec![None; n];
