@@ -169,9 +169,10 @@ pub fn lobe_shape(window: &Window, bandwidth_hz: f64) -> (LobeShape, f64) {
 
 /// Step at which the growth of the modelled loss is checked along a segment, m.
 pub const PIECE_MAX_M: f64 = 0.05;
-/// Round-trip loss (at the top of the band) across one piece, dB. Each piece is compensated to its middle,
-/// so at most 0.75 dB is left undone or overdone at its ends, and less lower in the band; event levels are
-/// then rescaled to their own position (common practice, no source).
+/// Growth of the compensation applied (the round-trip loss up to the cap) across one piece at any frequency
+/// of the band, dB: at the top of the band until the cap stops it there, lower in the band after. Each
+/// piece is compensated to its middle, so at most 0.75 dB is left undone or overdone at its ends; event
+/// levels are then rescaled to their own position (common practice, no source).
 pub const PIECE_MAX_DB: f64 = 1.5;
 /// Frequencies, evenly spread over the band from its first to its last, at which the growth of the
 /// compensation is checked for piece boundaries: the loss grows fastest at the top of the band until the cap

@@ -890,14 +890,14 @@ pub fn changes(inp: &Inputs, engine: &mut TraceEngine) -> Vec<Change> {
     out
 }
 
-/// A rise read across a pad the two maps disagree on: where an attenuator's loss step lies between an echo's
-/// place on the aligned map (`ch.x`) and its delay's place on the analysis' own map (`x_comp`, where its
-/// strength was compensated), farther from the step than [`pad_step`] reaches, its strength is known only to
-/// within the pad's round trip. A new echo's rise is then read at the lesser of the two places' compensations: on
-/// a line whose cold dielectric moved far from the model's, a pad's front port lay behind the step on the
-/// analysis' map and 24 mm in front of the pad on the aligned one (its landmark paired with the pad's back
-/// port), and the port's cold drift, lifted by the pad's 22 dB round trip, read as a critical discontinuity
-/// of 0.7 (`healthy:139000254` of seed 139, states given).
+/// A rise read across a pad the two maps disagree on: where an attenuator's loss step lies between an
+/// echo's place on the aligned map (`ch.x`) and its delay's place on the analysis' own map (`x_comp`, where
+/// its strength was compensated), farther from the step than [`pad_step`] reaches, its strength is known only
+/// to within the pad's round trip. A new echo's rise is then read at the lesser of the two places'
+/// compensations: on a line whose cold dielectric moved far from the model's, a pad's front port lay behind
+/// the step on the analysis' map and 24 mm in front of the pad on the aligned one (its landmark paired with
+/// the pad's back port), and the port's cold drift, lifted by the pad's 22 dB round trip, read as a critical
+/// discontinuity of 0.7 (`healthy:139000254` of seed 139, states given).
 fn straddled_rise(inp: &Inputs, ch: &mut Change, x_comp: f64) {
     let (lo, hi) = (ch.x.min(x_comp), ch.x.max(x_comp));
     let straddled = inp.chain.segments.iter().any(|s| {
